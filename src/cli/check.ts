@@ -1,0 +1,39 @@
+import { deriveFacts } from "../core/facts.js";
+import { loadScenario } from "../io/scenario.js";
+import { fmt, printJson, SAFETY, type Io } from "./shared.js";
+
+export function checkCommand(io: Io, scenario: string): number {
+  const loaded = loadScenario(scenario);
+  const plan = loaded.plan;
+  const f = deriveFacts(plan);
+  const cal = loaded.inputs.find((i) => i.role === "calibration");
+  if (io.json) {
+    printJson(io, { ok: true, scenario, name: plan.name, facts: f, calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments } : null, warnings: f.warnings });
+    return 0;
+  }
+  const lines: string[] = [];
+  lines.push(`scenario   ${scenario}${plan.name ? `  (${plan.name})` : ""}`);
+  lines.push(`elements   ${f.elements} (${f.enabledElements} enabled)${plan.lattice ? `, ${plan.lattice.kind} lattice ${plan.lattice.columns} × ${plan.lattice.rows}` : ", element list"}`);
+  lines.push(`beams      ${f.beams} × ${f.frequencies} frequenc${f.frequencies === 1 ? "y" : "ies"} = ${f.words} words, ${f.tableBytes} bytes in table.bin (${plan.word.bytes} byte(s)/word)`);
+  lines.push(`phase      ${plan.phaseBits} bits, LSB ${fmt(f.lsbDeg, 4)}°${plan.phaseStates ? ", measured states" : ""}`);
+  lines.push(`attenuator ${plan.attenBits} bits × ${plan.attenStepDb} dB = ${fmt(f.attenRangeDb, 2)} dB range${plan.attenStates ? ", measured states" : ""}`);
+  lines.push(`taper      ${plan.taper.kind}${"sidelobeDb" in plan.taper ? ` ${plan.taper.sidelobeDb} dB` : ""}${"nbar" in plan.taper ? `, n̄ = ${plan.taper.nbar}` : ""}`);
+  lines.push(`aperture   D = ${fmt(f.apertureM * 1000, 2)} mm (largest dimension)`);
+  if (cal) lines.push(`calibration ${cal.ref} (sha256 ${cal.file.sha256.slice(0, 12)}…)${cal.comments.length ? `: ${cal.comments.join(" | ")}` : ""}`);
+  for (const pf of f.perFrequency) {
+    lines.push("");
+    lines.push(`at ${(pf.frequencyHz / 1e9).toPrecision(6)} GHz: λ = ${fmt(pf.wavelengthM * 1000, 4)} mm`);
+    if (pf.dxLambda !== null) lines.push(`  spacing          dx = ${fmt(pf.dxLambda, 4)} λ, dy = ${fmt(pf.dyLambda, 4)} λ`);
+    if (pf.scanLimitXDeg !== null) lines.push(`  grating-free scan ±${fmt(pf.scanLimitXDeg, 1)}° along x (az plane), ±${fmt(pf.scanLimitYDeg, 1)}° along y (el plane)`);
+    lines.push(`  far field        2D²/λ = ${fmt(pf.farFieldM, 3)} m`);
+    lines.push(`  G_ref            ${fmt(pf.gRefDb, 3)} dB; ${pf.clipped} element(s) clipped`);
+  }
+  if (f.warnings.length) {
+    lines.push("");
+    for (const w of f.warnings) lines.push(`warning: ${w}`);
+  }
+  lines.push("");
+  lines.push(SAFETY);
+  io.stdout(lines.join("\n") + "\n");
+  return 0;
+}

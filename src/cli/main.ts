@@ -1,0 +1,84 @@
+/**
+ * The command line. The only place that turns typed errors into messages and exit
+ * codes: 0 success, 1 a check found a problem, 2 bad input or usage.
+ */
+import yargs from "yargs";
+import { InputError, formatProblem } from "../core/errors.js";
+import { buildCommand } from "./build.js";
+import { checkCommand } from "./check.js";
+import { initCommand } from "./init.js";
+import { defaultIo } from "./shared.js";
+import { availableParallelism } from "node:os";
+import { toolVersion } from "../io/version.js";
+
+class UsageError extends Error {}
+
+/** Exit code a command reports through this, so that handlers can return 0/1. */
+export async function main(argv: string[]): Promise<number> {
+  let code = 0;
+  const json = argv.includes("--json");
+  const io = defaultIo(json);
+  const run = (fn: () => number | Promise<number>) => async () => {
+    code = await fn();
+  };
+  const parser = yargs(argv)
+    .scriptName("steercode")
+    .usage("$0 <command> [options]\n\nBeam tables for phased-array firmware.")
+    .option("json", { type: "boolean", default: false, describe: "print one JSON document on stdout instead of prose" })
+    .command({
+      command: "init [dir]",
+      describe: "write a ready demo scenario (invented data)",
+      builder: (y) => y.positional("dir", { type: "string", default: "steercode-demo" }),
+      handler: (a) => run(() => initCommand(io, String(a.dir)))(),
+    })
+    .command({
+      command: "check <scenario>",
+      describe: "validate a scenario; print derived facts and warnings",
+      builder: (y) => y.positional("scenario", { type: "string", demandOption: true }),
+      handler: (a) => run(() => checkCommand(io, String(a.scenario)))(),
+    })
+    .command({
+      command: "build <scenario>",
+      describe: "write the beam tables (and beams.csv unless --no-analysis)",
+      builder: (y) =>
+        y
+          .positional("scenario", { type: "string", demandOption: true })
+          .option("o", { alias: "out", type: "string", describe: "output folder", default: "steercode-build" })
+          .option("jobs", { type: "number", default: availableParallelism(), describe: "worker threads for the analysis" })
+          .option("analysis", { type: "boolean", default: true, describe: "write beams.csv (--no-analysis: tables only)" }),
+      handler: (a) =>
+        run(() => {
+          const jobs = Number(a.jobs);
+          if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(a.jobs)}`);
+          return buildCommand(io, { scenario: String(a.scenario), out: String(a.o), jobs, analysis: a.analysis !== false });
+        })(),
+    })
+    .demandCommand(1, "expected a command: init, check, build, sweep, diff, verify or report")
+    .strict()
+    .version(toolVersion())
+    .help()
+    .exitProcess(false)
+    .fail((msg, err) => {
+      if (err) throw err;
+      throw new UsageError(msg);
+    });
+  try {
+    await parser.parseAsync();
+    return code;
+  } catch (e) {
+    if (e instanceof InputError) {
+      if (json) process.stdout.write(JSON.stringify({ ok: false, problems: e.problems, messages: e.problems.map(formatProblem) }, null, 2) + "\n");
+      process.stderr.write(e.problems.map((p) => `steercode: ${formatProblem(p)}`).join("\n") + "\n");
+      return 2;
+    }
+    if (e instanceof UsageError) {
+      if (json) process.stdout.write(JSON.stringify({ ok: false, problems: [{ message: e.message }] }, null, 2) + "\n");
+      process.stderr.write(`steercode: ${e.message}\nsee: steercode --help\n`);
+      return 2;
+    }
+    const msg = e instanceof Error ? e.message : String(e);
+    process.stderr.write(`steercode: internal error: ${msg}\n`);
+    if (process.env.STEERCODE_DEBUG && e instanceof Error) process.stderr.write(String(e.stack) + "\n");
+    return 3;
+  }
+}

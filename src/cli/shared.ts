@@ -1,0 +1,58 @@
+/** What every command shares: output (prose or one JSON document), progress, safety text. */
+import { styleText } from "node:util";
+import cliProgress from "cli-progress";
+import { stableJson } from "../io/build.js";
+
+export const SAFETY = [
+  "RF safety: a steered transmit beam concentrates RF power. Keep people outside the",
+  "exposure limits that apply to you (e.g. your national RF exposure rules) along every",
+  "beam in the table; verify new tables at low power or on receive first; defer to local",
+  "codes and licensed practice.",
+].join("\n");
+
+export interface Io {
+  json: boolean;
+  stdout: (s: string) => void;
+  stderr: (s: string) => void;
+  stderrIsTty: boolean;
+}
+
+export function defaultIo(json: boolean): Io {
+  return {
+    json,
+    stdout: (s) => process.stdout.write(s),
+    stderr: (s) => process.stderr.write(s),
+    stderrIsTty: !!process.stderr.isTTY,
+  };
+}
+
+export function printJson(io: Io, doc: unknown): void {
+  io.stdout(stableJson(doc, null, 2) + "\n");
+}
+
+export function warn(io: Io, text: string): string {
+  return io.stderrIsTty ? styleText("yellow", text, { stream: process.stderr }) : text;
+}
+
+/** A progress bar on stderr, only when stderr is a TTY. */
+export function progress(io: Io, label: string): { update: (done: number, total: number) => void; stop: () => void } {
+  if (!io.stderrIsTty) return { update: () => {}, stop: () => {} };
+  const bar = new cliProgress.SingleBar({ format: `${label} {bar} {percentage}% | {value}/{total} beams | {eta}s`, stream: process.stderr, hideCursor: true, clearOnComplete: true }, cliProgress.Presets.shades_classic);
+  let started = false;
+  return {
+    update(done, total) {
+      if (!started) {
+        bar.start(total, 0);
+        started = true;
+      }
+      bar.update(done);
+    },
+    stop() {
+      if (started) bar.stop();
+    },
+  };
+}
+
+export function fmt(x: number | null, digits = 2): string {
+  return x === null || !Number.isFinite(x) ? "n/a" : x.toFixed(digits);
+}

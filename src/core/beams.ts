@@ -1,0 +1,116 @@
+/**
+ * Beam-pointing sets: az/el, u/v and θ/φ grids and explicit lists. Beam order
+ * (interface contract): the second axis named is the outer loop, the first the
+ * inner one, both ascending.
+ */
+import { D } from "./exact.js";
+import { exactAzEl, exactThetaPhi, exactUv, type ExactDirection, uvToAzElDeg } from "./geometry.js";
+
+export type BeamKind = "azel" | "uv" | "thetaphi";
+
+/** A grid axis as exact decimal strings: values from + i·step, i = 0 … count−1. */
+export interface AxisSpec {
+  from: string;
+  step: string;
+  count: number;
+}
+
+export type BeamSpec =
+  | { kind: BeamKind; grid: true; inner: AxisSpec; outer: AxisSpec }
+  | { kind: "azel" | "uv"; grid: false; a: string[]; b: string[] };
+
+export interface BeamSet {
+  spec: BeamSpec;
+  count: number;
+  u: Float64Array;
+  v: Float64Array;
+  w: Float64Array;
+  azDeg: Float64Array;
+  elDeg: Float64Array;
+}
+
+/** Number of grid values from `from` to `to` inclusive in `step`s (exact). */
+export function axisCount(from: string, to: string, step: string): number {
+  const span = new D(to).minus(from);
+  return span.div(step).plus("1e-30").floor().toNumber() + 1;
+}
+
+export function axisValue(a: AxisSpec, i: number): string {
+  return new D(a.from).plus(new D(a.step).times(i)).toString();
+}
+
+/** The (first, second) coordinate of beam i as exact decimal strings. */
+export function beamCoordinates(spec: BeamSpec, i: number): [string, string] {
+  if (!spec.grid) return [spec.a[i]!, spec.b[i]!];
+  const n = spec.inner.count;
+  return [axisValue(spec.inner, i % n), axisValue(spec.outer, Math.floor(i / n))];
+}
+
+export function beamCount(spec: BeamSpec): number {
+  return spec.grid ? spec.inner.count * spec.outer.count : spec.a.length;
+}
+
+/** Exact direction of beam i (decimal), for boundary decisions. */
+export function exactBeamDirection(spec: BeamSpec, i: number): ExactDirection {
+  const [a, b] = beamCoordinates(spec, i);
+  switch (spec.kind) {
+    case "azel":
+      return exactAzEl(new D(a), new D(b));
+    case "uv":
+      return exactUv(new D(a), new D(b));
+    case "thetaphi":
+      return exactThetaPhi(new D(a), new D(b));
+  }
+}
+
+/** Float64 directions of every beam. Returns the index of the first beam outside visible space, or -1. */
+export function makeBeamSet(spec: BeamSpec): { set: BeamSet; invisible: number[] } {
+  const count = beamCount(spec);
+  const set: BeamSet = {
+    spec,
+    count,
+    u: new Float64Array(count),
+    v: new Float64Array(count),
+    w: new Float64Array(count),
+    azDeg: new Float64Array(count),
+    elDeg: new Float64Array(count),
+  };
+  const invisible: number[] = [];
+  for (let i = 0; i < count; i++) {
+    const [as, bs] = beamCoordinates(spec, i);
+    const a = Number(as);
+    const b = Number(bs);
+    let u: number, v: number, w: number;
+    if (spec.kind === "azel") {
+      const az = (a * Math.PI) / 180;
+      const el = (b * Math.PI) / 180;
+      u = Math.cos(el) * Math.sin(az);
+      v = Math.sin(el);
+      w = Math.cos(el) * Math.cos(az);
+      if (Math.abs(a) > 90 || Math.abs(b) > 90) invisible.push(i);
+      set.azDeg[i] = a;
+      set.elDeg[i] = b;
+    } else {
+      if (spec.kind === "uv") {
+        u = a;
+        v = b;
+      } else {
+        const t = (a * Math.PI) / 180;
+        const p = (b * Math.PI) / 180;
+        u = Math.sin(t) * Math.cos(p);
+        v = Math.sin(t) * Math.sin(p);
+        if (a < 0 || a > 90) invisible.push(i);
+      }
+      const s = 1 - u * u - v * v;
+      if (s < -1e-12) invisible.push(i);
+      w = s > 0 ? Math.sqrt(s) : 0;
+      const ae = uvToAzElDeg(u, v);
+      set.azDeg[i] = ae.azDeg;
+      set.elDeg[i] = ae.elDeg;
+    }
+    set.u[i] = u;
+    set.v[i] = v;
+    set.w[i] = w;
+  }
+  return { set, invisible };
+}

@@ -1,0 +1,105 @@
+/** Derived facts an engineer wants before a range session (`steercode check`). */
+import { gratingFreeScanDeg, gratingLobeVisible, reciprocalVectors } from "./geometry.js";
+import { enabledCount, type Plan } from "./plan.js";
+import { prepareFrequency } from "./quantize/prepare.js";
+import { SPEED_OF_LIGHT } from "./units.js";
+
+export interface FrequencyFacts {
+  frequencyHz: number;
+  wavelengthM: number;
+  /** Lattice pitches in wavelengths (null for element lists). */
+  dxLambda: number | null;
+  dyLambda: number | null;
+  /** Widest grating-lobe-free scan from broadside (θ, deg) along x (az plane) and y (el plane). */
+  scanLimitXDeg: number | null;
+  scanLimitYDeg: number | null;
+  farFieldM: number;
+  gRefDb: number;
+  clipped: number;
+  /** Beams that put a grating lobe into visible space. */
+  gratingBeams: number[];
+}
+
+export interface Facts {
+  elements: number;
+  enabledElements: number;
+  beams: number;
+  frequencies: number;
+  words: number;
+  tableBytes: number;
+  apertureM: number;
+  lsbDeg: number;
+  attenRangeDb: number;
+  perFrequency: FrequencyFacts[];
+  warnings: string[];
+}
+
+/** Largest aperture dimension D: the lattice's outer size along its diagonal, or the largest element separation. */
+export function apertureSizeM(plan: Plan): number {
+  if (plan.lattice) {
+    const l = plan.lattice;
+    const wx = (l.columns + (l.rows > 1 ? l.offset : 0)) * l.dx;
+    const wy = l.rows * l.dy;
+    return Math.hypot(wx, wy);
+  }
+  const e = plan.elements;
+  let best = 0;
+  for (let i = 0; i < e.count; i++)
+    for (let j = i + 1; j < e.count; j++) best = Math.max(best, Math.hypot(e.x[i]! - e.x[j]!, e.y[i]! - e.y[j]!, e.z[i]! - e.z[j]!));
+  return best;
+}
+
+export function deriveFacts(plan: Plan): Facts {
+  const D = apertureSizeM(plan);
+  const warnings: string[] = [];
+  const perFrequency: FrequencyFacts[] = plan.frequenciesHz.map((f, fi) => {
+    const lambda = SPEED_OF_LIGHT / f;
+    const prep = prepareFrequency(plan, fi);
+    let gratingBeams: number[] = [];
+    let sx: number | null = null;
+    let sy: number | null = null;
+    if (plan.lattice) {
+      const g = reciprocalVectors(plan.lattice, lambda);
+      sx = gratingFreeScanDeg(g, 0);
+      sy = gratingFreeScanDeg(g, Math.PI / 2);
+      for (let b = 0; b < plan.beams.count; b++) if (gratingLobeVisible(plan.beams.u[b]!, plan.beams.v[b]!, g)) gratingBeams.push(b);
+    }
+    return {
+      frequencyHz: f,
+      wavelengthM: lambda,
+      dxLambda: plan.lattice ? plan.lattice.dx / lambda : null,
+      dyLambda: plan.lattice ? plan.lattice.dy / lambda : null,
+      scanLimitXDeg: sx,
+      scanLimitYDeg: sy,
+      farFieldM: (2 * D * D) / lambda,
+      gRefDb: prep.gRefDb,
+      clipped: prep.clipped,
+      gratingBeams,
+    };
+  });
+  for (const pf of perFrequency) {
+    const fGHz = (pf.frequencyHz / 1e9).toPrecision(6);
+    if (pf.gratingBeams.length)
+      warnings.push(`${fGHz} GHz: ${pf.gratingBeams.length} of ${plan.beams.count} beams put a grating lobe into visible space (first: beam ${pf.gratingBeams[0]}); their psl_db will sit near 0 dB`);
+    if (pf.clipped)
+      warnings.push(`${fGHz} GHz: ${pf.clipped} element(s) need more attenuation than the attenuator's ${((2 ** plan.attenBits - 1) * plan.attenStepDb).toFixed(2)} dB range; their codes are clipped to the last step`);
+  }
+  if (!plan.lattice && plan.elements.count > 1) warnings.push("element list: grating-lobe limits are not computed for arbitrary geometries");
+  if (plan.attenBits === 0 && plan.taper.kind !== "uniform") warnings.push("no attenuator: the taper cannot be applied; every tapered element is clipped");
+  const disabled = plan.elements.count - enabledCount(plan);
+  if (disabled) warnings.push(`${disabled} element(s) disabled: they get the off word and take no part in G_ref or the analysis`);
+  const words = plan.frequenciesHz.length * plan.beams.count * plan.elements.count;
+  return {
+    elements: plan.elements.count,
+    enabledElements: enabledCount(plan),
+    beams: plan.beams.count,
+    frequencies: plan.frequenciesHz.length,
+    words,
+    tableBytes: words * plan.word.bytes,
+    apertureM: D,
+    lsbDeg: 360 / 2 ** plan.phaseBits,
+    attenRangeDb: (2 ** plan.attenBits - 1) * plan.attenStepDb,
+    perFrequency,
+    warnings,
+  };
+}

@@ -1,0 +1,67 @@
+/**
+ * The resolved build description: everything the engine needs, in SI units and
+ * typed arrays, with exact decimal strings kept beside the floats for boundary
+ * decisions. A Plan is structured-clone safe, so it can be sent to workers.
+ */
+import type { BeamSet } from "./beams.js";
+import type { Elements, LatticeSpec } from "./geometry.js";
+import type { TaperSpec } from "./taper/index.js";
+import type { WordLayout } from "./words.js";
+
+export type OutputKind = "csv" | "bin" | "c" | "mem" | "json";
+export const OUTPUT_KINDS: readonly OutputKind[] = ["csv", "bin", "c", "mem", "json"];
+
+export interface Calibration {
+  /** c_n, degrees */
+  phaseDeg: Float64Array;
+  /** g_n, dB */
+  gainDb: Float64Array;
+  phaseExact: string[];
+  gainExact: string[];
+}
+
+/**
+ * A measured state table, flattened: value[e·states + s] when perElement, else value[s].
+ * Phase shifter: primary = phase (deg) of each phase code, secondary = gain change (dB).
+ * Attenuator: primary = attenuation (dB) of each code, secondary = phase change (deg).
+ */
+export interface StateTable {
+  states: number;
+  perElement: boolean;
+  primary: Float64Array;
+  secondary: Float64Array;
+}
+
+export interface QuantizerSpec {
+  method: "nearest" | "randomized";
+  seed: number;
+}
+
+export interface Plan {
+  name: string;
+  frequenciesHz: number[];
+  /** Exact frequencies in Hz, decimal strings. */
+  frequenciesExact: string[];
+  elements: Elements;
+  lattice: LatticeSpec | null;
+  beams: BeamSet;
+  taper: TaperSpec;
+  /** a_n, peak 1 */
+  amplitude: Float64Array;
+  cal: Calibration;
+  phaseBits: number;
+  attenBits: number;
+  attenStepDb: number;
+  attenStepExact: string;
+  phaseStates: StateTable | null;
+  attenStates: StateTable | null;
+  quantizer: QuantizerSpec;
+  word: WordLayout;
+  outputs: OutputKind[];
+}
+
+export function enabledCount(plan: Plan): number {
+  let n = 0;
+  for (const e of plan.elements.enabled) n += e;
+  return n;
+}

@@ -1,0 +1,14 @@
+/** Quantizer registry: picks the strategy for a plan (method, and measured states when given). */
+import type { Plan } from "../plan.js";
+import type { Quantizer } from "./contract.js";
+import { nearestQuantizer } from "./nearest.js";
+import { randomizedQuantizer } from "./randomized.js";
+import { measuredStatesQuantizer } from "./states.js";
+import { prepareFrequency, type FrequencyPrep } from "./prepare.js";
+
+export function makeQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = prepareFrequency(plan, fi)): Quantizer {
+  if (plan.phaseStates || plan.attenStates) return measuredStatesQuantizer(plan, fi, prep);
+  return plan.quantizer.method === "randomized" ? randomizedQuantizer(plan, fi, prep) : nearestQuantizer(plan, fi, prep);
+}
+export { allocBeamCodes, type BeamCodes, type Quantizer } from "./contract.js";
+export { prepareFrequency, type FrequencyPrep } from "./prepare.js";

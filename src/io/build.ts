@@ -1,0 +1,159 @@
+/**
+ * `build`: scenario → staged output folder → tables, analysis, manifest → rename
+ * into place. The input files are copied into `inputs/` so that `verify` can
+ * recompute the tables from the folder alone, on any machine.
+ */
+import { copyFileSync, mkdirSync, writeFileSync } from "node:fs";
+import { join } from "node:path";
+import { configure } from "safe-stable-stringify";
+import { runTables, type FrequencySummary } from "../core/engine.js";
+import { enabledCount, type Plan } from "../core/plan.js";
+import type { LoadedScenario, InputRole } from "./scenario.js";
+import { StagedDir } from "./outdir.js";
+import { makeWriters, TABLE_FILES, wordsToBytes } from "./tables.js";
+import type { FileDigest } from "./hashed.js";
+import { toolVersion } from "./version.js";
+import { crc32 } from "node:zlib";
+import { D } from "../core/exact.js";
+
+export const stableJson = configure({ deterministic: true, strict: true, bigint: false, circularValue: Error });
+
+export const INPUT_COPY: Record<InputRole, string> = {
+  elements: "inputs/elements.csv",
+  calibration: "inputs/calibration.csv",
+  beams: "inputs/beams.csv",
+  phaseStates: "inputs/phase-states.csv",
+  attenStates: "inputs/atten-states.csv",
+};
+export const SCENARIO_COPY = "inputs/scenario.json";
+
+export interface ManifestFile {
+  bytes: number;
+  sha256: string;
+  crc32?: string;
+}
+
+export interface Manifest {
+  format: "steercode-manifest/1";
+  tool: { name: "steercode"; version: string };
+  name: string;
+  scenario: { source: string; copy: string; sha256: string };
+  inputs: { role: InputRole; ref: string; copy: string; sha256: string; comments: string[] }[];
+  calibration: { ref: string; sha256: string; comments: string[] } | null;
+  counts: { frequencies: number; beams: number; elements: number; enabledElements: number; words: number };
+  frequenciesHz: string[];
+  layout: { bits: number; bytes: number; off: number; fields: { name: string; shift: number; width: number; value?: number }[] };
+  phaseShifter: { bits: number; lsbDeg: number; measuredStates: boolean };
+  attenuator: { bits: number; stepDb: number; rangeDb: number; measuredStates: boolean };
+  taper: Plan["taper"];
+  quantizer: { method: string; seed: number | null };
+  perFrequency: { frequencyHz: string; gRefDb: number; gRefElement: number; clipped: number }[];
+  analysis: boolean;
+  files: Record<string, ManifestFile>;
+  extra?: Record<string, unknown>;
+}
+
+export function hex32(x: number): string {
+  return "0x" + (x >>> 0).toString(16).toUpperCase().padStart(8, "0");
+}
+
+export function frequencyText(plan: Plan): string[] {
+  return plan.frequenciesExact.map((f) => new D(f).toFixed());
+}
+
+export interface BuildOptions {
+  analysis: boolean;
+  onProgress?: (done: number, total: number) => void;
+  /** Extra files (name → contents) written into the folder before the manifest. */
+  extraFiles?: (tmpDir: string, plan: Plan) => Promise<Record<string, FileDigest>> | Record<string, FileDigest>;
+}
+
+export interface BuildResult {
+  dir: string;
+  manifest: Manifest;
+  perFrequency: FrequencySummary[];
+}
+
+export function makeManifest(loaded: LoadedScenario, scenarioSource: string, perFrequency: FrequencySummary[], files: Record<string, ManifestFile>, analysis: boolean): Manifest {
+  const plan = loaded.plan;
+  const cal = loaded.inputs.find((i) => i.role === "calibration");
+  const ft = frequencyText(plan);
+  return {
+    format: "steercode-manifest/1",
+    tool: { name: "steercode", version: toolVersion() },
+    name: plan.name,
+    scenario: { source: scenarioSource, copy: SCENARIO_COPY, sha256: loaded.scenario.sha256 },
+    inputs: loaded.inputs.map((i) => ({ role: i.role, ref: i.ref, copy: INPUT_COPY[i.role], sha256: i.file.sha256, comments: i.comments })),
+    calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments } : null,
+    counts: {
+      frequencies: plan.frequenciesHz.length,
+      beams: plan.beams.count,
+      elements: plan.elements.count,
+      enabledElements: enabledCount(plan),
+      words: plan.frequenciesHz.length * plan.beams.count * plan.elements.count,
+    },
+    frequenciesHz: ft,
+    layout: { bits: plan.word.bits, bytes: plan.word.bytes, off: plan.word.off, fields: plan.word.fields },
+    phaseShifter: { bits: plan.phaseBits, lsbDeg: 360 / 2 ** plan.phaseBits, measuredStates: !!plan.phaseStates },
+    attenuator: { bits: plan.attenBits, stepDb: plan.attenStepDb, rangeDb: (2 ** plan.attenBits - 1) * plan.attenStepDb, measuredStates: !!plan.attenStates },
+    taper: plan.taper,
+    quantizer: { method: plan.quantizer.method, seed: plan.quantizer.method === "randomized" ? plan.quantizer.seed : null },
+    perFrequency: perFrequency.map((p, i) => ({ frequencyHz: ft[i]!, gRefDb: p.gRefDb, gRefElement: p.gRefElement >= 0 ? plan.elements.ids[p.gRefElement]! : -1, clipped: p.clipped })),
+    analysis,
+    files,
+  };
+}
+
+export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
+  const plan = loaded.plan;
+  const stage = new StagedDir(outDir);
+  try {
+    const tmp = stage.tmp;
+    mkdirSync(join(tmp, "inputs"));
+    copyFileSync(loaded.scenario.path, join(tmp, SCENARIO_COPY));
+    for (const i of loaded.inputs) writeFileSync(join(tmp, INPUT_COPY[i.role]), i.file.bytes);
+    const ft = frequencyText(plan);
+    const writers = makeWriters(tmp, { plan, frequencyText: ft });
+    const total = plan.frequenciesHz.length * plan.beams.count;
+    const perFrequency = runTables(plan, (fi, b, words, codes) => {
+      for (const w of writers) w.beam(fi, b, words, codes);
+    }, opts.onProgress ? (d) => { if (d % 64 === 0 || d === total) opts.onProgress!(d, total); } : undefined);
+    const files: Record<string, ManifestFile> = {};
+    const bin = writers.find((w) => w.file === TABLE_FILES.bin);
+    let binCrc: number | null = null;
+    if (bin) {
+      const d = bin.end();
+      binCrc = d.crc32;
+      files[bin.file] = { bytes: d.bytes, sha256: d.sha256, crc32: hex32(d.crc32) };
+    }
+    for (const w of writers) {
+      if (w === bin) continue;
+      if ("crc32OfBin" in w) (w as { crc32OfBin: number | null }).crc32OfBin = binCrc ?? crcOfWords(plan);
+      const d = w.end();
+      files[w.file] = { bytes: d.bytes, sha256: d.sha256 };
+    }
+    if (opts.extraFiles) {
+      const extra = await opts.extraFiles(tmp, plan);
+      for (const [k, d] of Object.entries(extra)) files[k] = { bytes: d.bytes, sha256: d.sha256 };
+    }
+    for (const i of loaded.inputs) files[INPUT_COPY[i.role]] = { bytes: i.file.bytes.length, sha256: i.file.sha256 };
+    files[SCENARIO_COPY] = { bytes: loaded.scenario.bytes.length, sha256: loaded.scenario.sha256 };
+    const manifest = makeManifest(loaded, loaded.scenario.name.split(/[\\/]/).pop() ?? "scenario.json", perFrequency, files, opts.analysis);
+    writeFileSync(join(tmp, "manifest.json"), stableJson(manifest, null, 2) + "\n", { flag: "wx" });
+    stage.commit();
+    return { dir: outDir, manifest, perFrequency };
+  } catch (e) {
+    stage.abort();
+    throw e;
+  }
+}
+
+/** CRC-32 of the table.bin bytes when table.bin itself is not an output (for table.h's #define). */
+function crcOfWords(plan: Plan): number {
+  // Recompute the words stream; cheap next to writing text outputs.
+  let crc = 0;
+  runTables(plan, (_fi, _b, words) => {
+    crc = crc32(wordsToBytes(words, plan.word.bytes), crc);
+  });
+  return crc >>> 0;
+}

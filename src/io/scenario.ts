@@ -1,0 +1,500 @@
+/**
+ * Scenario loading: JSON → schema → quantities, files and cross-checks → Plan.
+ * Every problem is collected and reported at once (InputError), each naming the
+ * file and the JSON pointer or CSV line.
+ */
+import { dirname, isAbsolute, resolve } from "node:path";
+import { axisCount, makeBeamSet, type AxisSpec, type BeamSpec } from "../core/beams.js";
+import { InputError, type Problem } from "../core/errors.js";
+import { D } from "../core/exact.js";
+import { emptyElements, latticeElements, type Elements, type LatticeSpec } from "../core/geometry.js";
+import { OUTPUT_KINDS, type Calibration, type OutputKind, type Plan, type QuantizerSpec, type StateTable } from "../core/plan.js";
+import { makeTaper, type TaperSpec } from "../core/taper/index.js";
+import { C_EXACT, parseQuantity, type QuantityKind } from "../core/units.js";
+import { checkLayout, wordBytes, type WordLayout } from "../core/words.js";
+import { numberCell, readCsv, type CsvTable } from "./csv.js";
+import { readInput, type InputFile } from "./files.js";
+import { validateScenarioJson } from "./schema.js";
+
+export type InputRole = "elements" | "calibration" | "beams" | "phaseStates" | "attenStates";
+
+export interface ScenarioInput {
+  role: InputRole;
+  /** The name as written in the scenario. */
+  ref: string;
+  file: InputFile;
+  comments: string[];
+}
+
+export interface LoadedScenario {
+  plan: Plan;
+  scenario: InputFile;
+  doc: Record<string, unknown>;
+  inputs: ScenarioInput[];
+  warnings: string[];
+}
+
+export interface LoadOptions {
+  /** Map a file reference in the scenario to a path (verify uses the copies in a build folder). */
+  resolveRef?: (ref: string) => string;
+  /** Display name for the scenario file (defaults to the path given). */
+  displayName?: string;
+}
+
+/** Most beams one table may hold, and most bytes one table.bin may take. */
+export const MAX_BEAMS = 1 << 20;
+export const MAX_TABLE_BYTES = 2 ** 32;
+const DEFAULT_SEED = 1;
+
+function jsonPosition(text: string, err: unknown): { line: number; column: number } | null {
+  const m = /position (\d+)/.exec(String((err as Error).message));
+  if (!m) return null;
+  const pos = Number(m[1]);
+  const before = text.slice(0, pos);
+  const line = before.split("\n").length;
+  return { line, column: pos - before.lastIndexOf("\n") };
+}
+
+export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenario {
+  const display = opts.displayName ?? path;
+  const problems: Problem[] = [];
+  const scenario = readInput(path, display, problems);
+  if (!scenario) throw new InputError(problems);
+  let doc: unknown;
+  try {
+    doc = JSON.parse(scenario.text);
+  } catch (e) {
+    const pos = jsonPosition(scenario.text, e);
+    throw new InputError({ file: display, ...(pos ? { line: pos.line } : {}), message: `not valid JSON (${String((e as Error).message).replace(/^.*?:\s*/, "")})${pos ? ` at column ${pos.column}` : ""}` });
+  }
+  if (typeof doc !== "object" || doc === null || Array.isArray(doc)) throw new InputError({ file: display, pointer: "", message: "expected a JSON object (a steercode-scenario/1 document)" });
+  const schemaProblems = validateScenarioJson(doc, display);
+  const d = doc as Record<string, any>;
+  const arr = (d.array ?? {}) as Record<string, unknown>;
+  if (typeof d.array === "object" && d.array !== null && !Array.isArray(d.array)) {
+    const hasL = arr.lattice !== undefined;
+    const hasE = arr.elements !== undefined;
+    if (hasL === hasE) schemaProblems.push({ file: display, pointer: "/array", message: hasL ? 'give either "lattice" or "elements", not both' : 'expected "lattice" (a rectangular or triangular lattice) or "elements" (an elements.csv file)' });
+  }
+  if (schemaProblems.length) throw new InputError(schemaProblems);
+  return new Loader(path, display, scenario, d, opts).load();
+}
+
+class Loader {
+  private readonly problems: Problem[] = [];
+  private readonly warnings: string[] = [];
+  private readonly inputs: ScenarioInput[] = [];
+  private readonly dir: string;
+  constructor(
+    private readonly path: string,
+    private readonly display: string,
+    private readonly scenario: InputFile,
+    private readonly d: Record<string, any>,
+    private readonly opts: LoadOptions,
+  ) {
+    this.dir = dirname(path);
+  }
+
+  private problem(pointer: string, message: string): void {
+    this.problems.push({ file: this.display, pointer, message });
+  }
+
+  private quantity(raw: unknown, kind: QuantityKind, pointer: string, rule?: (v: number) => string | null) {
+    const r = parseQuantity(raw, kind);
+    if (!r.ok) {
+      this.problem(pointer, `expected ${r.expected}, got ${JSON.stringify(raw)}`);
+      return null;
+    }
+    const msg = rule?.(r.q.value) ?? null;
+    if (msg) {
+      this.problem(pointer, `${msg}, got ${JSON.stringify(raw)}`);
+      return null;
+    }
+    return r.q;
+  }
+
+  private file(ref: string, role: InputRole, pointer: string): CsvTable | null {
+    const path = this.opts.resolveRef ? this.opts.resolveRef(ref) : isAbsolute(ref) ? ref : resolve(this.dir, ref);
+    const f = readInput(path, ref, this.problems, pointer);
+    if (!f) return null;
+    const shapes = {
+      elements: { required: [["element", "x_m", "y_m"]], optional: ["z_m", "device", "channel", "enabled"] },
+      calibration: { required: [["element", "phase_offset_deg", "gain_offset_db"]], optional: [] },
+      beams: { required: [["az_deg", "el_deg"], ["u", "v"]], optional: ["beam"] },
+      phaseStates: { required: [["code", "phase_deg", "gain_db"]], optional: ["element"] },
+      attenStates: { required: [["code", "atten_db", "phase_deg"]], optional: ["element"] },
+    } as const;
+    const shape = shapes[role];
+    const t = readCsv(f, { required: shape.required.map((s) => [...s]), optional: [...shape.optional] }, this.problems);
+    if (t) this.inputs.push({ role, ref, file: f, comments: t.comments });
+    return t;
+  }
+
+  load(): LoadedScenario {
+    const d = this.d;
+    // ---- frequencies
+    const fRaw: unknown[] = Array.isArray(d.frequency) ? d.frequency : [d.frequency];
+    const freqs: { value: number; exact: string }[] = [];
+    fRaw.forEach((raw, i) => {
+      const q = this.quantity(raw, "frequency", Array.isArray(d.frequency) ? `/frequency/${i}` : "/frequency", (v) => (v > 0 ? null : "expected a frequency > 0"));
+      if (q) freqs.push({ value: q.value, exact: q.exact.toString() });
+    });
+    const seenF = new Set<string>();
+    freqs.forEach((f, i) => {
+      const k = new D(f.exact).toString();
+      if (seenF.has(k)) this.problem(`/frequency/${i}`, `frequency ${f.exact} Hz is listed twice`);
+      seenF.add(k);
+    });
+    const lowest = freqs.length ? freqs.reduce((a, b) => (b.value < a.value ? b : a)) : null;
+    const lambdaMin = lowest ? C_EXACT.div(lowest.exact) : null;
+
+    // ---- geometry
+    const { elements, lattice } = this.geometry(lambdaMin);
+
+    // ---- beams
+    const beams = this.beams();
+
+    // ---- hardware
+    const phaseBits: number = d.phaseShifter.bits;
+    const att = d.attenuator as { bits: number; step: unknown; states?: string } | undefined;
+    let attenBits = 0;
+    let attenStepDb = 1;
+    let attenStepExact = "1";
+    if (att) {
+      attenBits = att.bits;
+      const q = this.quantity(att.step, "level", "/attenuator/step", (v) => (v > 0 ? null : "expected an attenuator step > 0 dB"));
+      if (q) {
+        attenStepDb = q.value;
+        attenStepExact = q.exact.toString();
+      }
+    }
+    const taper = this.taper();
+    const cal = this.calibration(elements);
+    const phaseStates = d.phaseShifter.states ? this.states(d.phaseShifter.states, "phaseStates", "/phaseShifter/states", 2 ** phaseBits, elements) : null;
+    const attenStates = att?.states ? this.states(att.states, "attenStates", "/attenuator/states", 2 ** attenBits, elements) : null;
+    const quantizer: QuantizerSpec = { method: d.quantizer?.method ?? "nearest", seed: d.quantizer?.seed ?? DEFAULT_SEED };
+    if (quantizer.method === "randomized" && (phaseStates || attenStates))
+      this.problem("/quantizer/method", 'expected "nearest" with measured state tables (the randomized quantizer works on ideal phase steps)');
+    const word: WordLayout = { bits: d.word.bits, bytes: wordBytes(d.word.bits), off: d.word.off ?? 0, fields: d.word.fields };
+    for (const p of checkLayout(word, phaseBits, attenBits, "/word")) this.problems.push({ file: this.display, ...p });
+    const outputs: OutputKind[] = d.outputs ? OUTPUT_KINDS.filter((k) => (d.outputs as string[]).includes(k)) : [...OUTPUT_KINDS];
+
+    // ---- sizes
+    if (beams && elements) {
+      const words = freqs.length * beams.count * elements.count;
+      const bytes = words * word.bytes;
+      if (bytes > MAX_TABLE_BYTES) this.problem("/beams", `the table would hold ${words} words (${bytes} bytes); expected at most ${MAX_TABLE_BYTES} bytes: use fewer beams, elements or frequencies`);
+    }
+    if (elements && !elements.enabled.some((e) => e === 1)) this.problem("/array/disabled", "every element is disabled; expected at least one enabled element");
+
+    if (this.problems.length || !elements || !beams || !taper || !cal) throw new InputError(this.problems);
+    const amplitude = makeTaper(taper).amplitudes({ elements, lattice });
+    amplitude.forEach((a, i) => {
+      if (!(a > 0)) this.problem("/taper", `the taper gives element ${elements.ids[i]} amplitude ${a}; expected > 0 (try a larger nbar or a milder sidelobe level)`);
+    });
+    if (this.problems.length) throw new InputError(this.problems);
+    const plan: Plan = {
+      name: typeof d.name === "string" ? d.name : "",
+      frequenciesHz: freqs.map((f) => f.value),
+      frequenciesExact: freqs.map((f) => f.exact),
+      elements,
+      lattice,
+      beams,
+      taper,
+      amplitude,
+      cal,
+      phaseBits,
+      attenBits,
+      attenStepDb,
+      attenStepExact,
+      phaseStates,
+      attenStates,
+      quantizer,
+      word,
+      outputs,
+    };
+    return { plan, scenario: this.scenario, doc: d, inputs: this.inputs, warnings: this.warnings };
+  }
+
+  private geometry(lambdaMin: InstanceType<typeof D> | null): { elements: Elements | null; lattice: LatticeSpec | null } {
+    const a = this.d.array as Record<string, any>;
+    let elements: Elements | null = null;
+    let lattice: LatticeSpec | null = null;
+    if (a.lattice) {
+      const l = a.lattice as Record<string, any>;
+      const pitch = (key: "dx" | "dy") => {
+        const q = this.quantity(l[key], "length", `/array/lattice/${key}`, (v) => (v > 0 ? null : "expected a spacing > 0"));
+        if (!q) return null;
+        if (q.inLambda) {
+          if (!lambdaMin) return null;
+          return q.exact.times(lambdaMin);
+        }
+        return q.exact;
+      };
+      const dx = pitch("dx");
+      const dy = pitch("dy");
+      const offset: number = l.kind === "triangular" ? (l.offset ?? 0.5) : 0;
+      if (l.kind === "rectangular" && l.offset !== undefined && l.offset !== 0) this.problem("/array/lattice/offset", 'an offset needs kind "triangular"; expected no offset (or 0) for a rectangular lattice');
+      if (l.columns * l.rows > 65536) this.problem("/array/lattice", `${l.columns}×${l.rows} = ${l.columns * l.rows} elements; expected at most 65536`);
+      if (dx && dy && !this.problems.length) {
+        lattice = { kind: l.kind, columns: l.columns, rows: l.rows, dxExact: dx.toString(), dyExact: dy.toString(), dx: dx.toNumber(), dy: dy.toNumber(), offset, offsetExact: String(offset) };
+        elements = latticeElements(lattice);
+      }
+    } else if (typeof a.elements === "string") {
+      elements = this.elementList(a.elements);
+    }
+    if (elements && Array.isArray(a.disabled)) {
+      const index = new Map<number, number>();
+      elements.ids.forEach((id, i) => index.set(id, i));
+      (a.disabled as number[]).forEach((id, k) => {
+        const i = index.get(id);
+        if (i === undefined) this.problem(`/array/disabled/${k}`, `no element ${id} in the array (ids ${elements!.ids[0]} … ${elements!.ids[elements!.count - 1]})`);
+        else elements!.enabled[i] = 0;
+      });
+    }
+    return { elements, lattice };
+  }
+
+  private elementList(ref: string): Elements | null {
+    const t = this.file(ref, "elements", "/array/elements");
+    if (!t) return null;
+    const before = this.problems.length;
+    const rows: { id: number; x: string; y: string; z: string; device: string; channel: string; enabled: number; line: number }[] = [];
+    const seen = new Map<number, number>();
+    for (const r of t.rows) {
+      const id = numberCell(t, r, "element", this.problems, { integer: true, min: 0 });
+      const x = numberCell(t, r, "x_m", this.problems);
+      const y = numberCell(t, r, "y_m", this.problems);
+      const z = t.header.includes("z_m") ? numberCell(t, r, "z_m", this.problems) : { text: "0", value: 0 };
+      let enabled = 1;
+      const en = r.cells.get("enabled");
+      if (en !== undefined) {
+        const v = en.toLowerCase();
+        if (["1", "true", "yes", "y", "on"].includes(v)) enabled = 1;
+        else if (["0", "false", "no", "n", "off"].includes(v)) enabled = 0;
+        else this.problems.push({ file: t.file, line: r.line, column: "enabled", message: `expected 1/0, true/false or yes/no, got "${en}"` });
+      }
+      if (!id || !x || !y || !z) continue;
+      const prev = seen.get(id.value);
+      if (prev !== undefined) {
+        this.problems.push({ file: t.file, line: r.line, column: "element", message: `element ${id.value} is listed twice (also on line ${prev})` });
+        continue;
+      }
+      seen.set(id.value, r.line);
+      rows.push({ id: id.value, x: x.text, y: y.text, z: z.text, device: r.cells.get("device") ?? "", channel: r.cells.get("channel") ?? "", enabled, line: r.line });
+    }
+    if (this.problems.length > before) return null;
+    if (rows.length > 65536) {
+      this.problems.push({ file: t.file, message: `${rows.length} elements; expected at most 65536` });
+      return null;
+    }
+    rows.sort((a, b) => a.id - b.id);
+    const el = emptyElements(rows.length);
+    rows.forEach((r, i) => {
+      el.ids[i] = r.id;
+      el.exactX[i] = new D(r.x).toString();
+      el.exactY[i] = new D(r.y).toString();
+      el.exactZ[i] = new D(r.z).toString();
+      el.x[i] = Number(r.x);
+      el.y[i] = Number(r.y);
+      el.z[i] = Number(r.z);
+      el.enabled[i] = r.enabled;
+    });
+    if (t.header.includes("device")) el.device = rows.map((r) => r.device);
+    if (t.header.includes("channel")) el.channel = rows.map((r) => r.channel);
+    for (let i = 0; i < rows.length; i++)
+      for (let j = i + 1; j < Math.min(rows.length, i + 1 + 4096) && j < rows.length; j++)
+        if (el.x[i] === el.x[j] && el.y[i] === el.y[j] && el.z[i] === el.z[j]) {
+          this.problems.push({ file: t.file, line: rows[j]!.line, message: `element ${rows[j]!.id} sits at the same position as element ${rows[i]!.id}` });
+          return null;
+        }
+    return el;
+  }
+
+  private axis(raw: { from: number; to: number; step: number }, pointer: string, limits: [number, number]): AxisSpec | null {
+    let ok = true;
+    for (const key of ["from", "to"] as const) {
+      if (raw[key] < limits[0] || raw[key] > limits[1]) {
+        this.problem(`${pointer}/${key}`, `expected a value from ${limits[0]} to ${limits[1]} (visible space), got ${raw[key]}`);
+        ok = false;
+      }
+    }
+    if (raw.to < raw.from) {
+      this.problem(pointer, `"to" (${raw.to}) is below "from" (${raw.from}); expected from ≤ to`);
+      ok = false;
+    }
+    if (!ok) return null;
+    const from = new D(raw.from).toString();
+    const step = new D(raw.step).toString();
+    const count = axisCount(from, new D(raw.to).toString(), step);
+    if (raw.to > raw.from && raw.step > raw.to - raw.from) {
+      this.problem(`${pointer}/step`, `step ${raw.step} is larger than the span ${raw.to - raw.from}; the grid would hold only "from". Expected a step ≤ ${raw.to - raw.from} (or from = to for one value)`);
+      return null;
+    }
+    if (count > MAX_BEAMS) {
+      this.problem(`${pointer}/step`, `step ${raw.step} gives ${count} values; expected at most ${MAX_BEAMS} beams in a table`);
+      return null;
+    }
+    return { from, step, count };
+  }
+
+  private beams() {
+    const b = this.d.beams as Record<string, any>;
+    let spec: BeamSpec | null = null;
+    if (b.kind === "list") {
+      const t = this.file(b.file, "beams", "/beams/file");
+      if (!t) return null;
+      const azel = t.header.includes("az_deg");
+      const [ca, cb] = azel ? ["az_deg", "el_deg"] : ["u", "v"];
+      const a: string[] = [];
+      const bb: string[] = [];
+      const before = this.problems.length;
+      for (const r of t.rows) {
+        const x = numberCell(t, r, ca!, this.problems);
+        const y = numberCell(t, r, cb!, this.problems);
+        if (!x || !y) continue;
+        const outside = azel ? Math.abs(x.value) > 90 || Math.abs(y.value) > 90 : x.value * x.value + y.value * y.value > 1;
+        if (outside) this.problems.push({ file: t.file, line: r.line, message: `beam (${ca}=${x.text}, ${cb}=${y.text}) is outside visible space; expected ${azel ? "|az|, |el| ≤ 90" : "u² + v² ≤ 1"}` });
+        a.push(new D(x.text).toString());
+        bb.push(new D(y.text).toString());
+      }
+      if (this.problems.length > before) return null;
+      if (a.length > MAX_BEAMS) {
+        this.problems.push({ file: t.file, message: `${a.length} beams; expected at most ${MAX_BEAMS}` });
+        return null;
+      }
+      spec = { kind: azel ? "azel" : "uv", grid: false, a, b: bb };
+    } else {
+      const [k1, k2, l1, l2]: [string, string, [number, number], [number, number]] =
+        b.kind === "azel" ? ["az", "el", [-90, 90], [-90, 90]] : b.kind === "uv" ? ["u", "v", [-1, 1], [-1, 1]] : ["theta", "phi", [0, 90], [-360, 360]];
+      const inner = this.axis(b[k1], `/beams/${k1}`, l1);
+      const outer = this.axis(b[k2], `/beams/${k2}`, l2);
+      if (!inner || !outer) return null;
+      if (inner.count * outer.count > MAX_BEAMS) {
+        this.problem("/beams", `${inner.count}×${outer.count} = ${inner.count * outer.count} beams; expected at most ${MAX_BEAMS}`);
+        return null;
+      }
+      spec = { kind: b.kind, grid: true, inner, outer };
+    }
+    const { set, invisible } = makeBeamSet(spec);
+    if (invisible.length) {
+      const show = invisible.slice(0, 5).map((i) => `beam ${i} (u=${set.u[i]!.toFixed(4)}, v=${set.v[i]!.toFixed(4)})`);
+      this.problem("/beams", `${invisible.length} beam(s) outside visible space (u² + v² > 1): ${show.join(", ")}${invisible.length > 5 ? ", …" : ""}; expected every beam inside the unit circle`);
+      return null;
+    }
+    return set;
+  }
+
+  private taper(): TaperSpec | null {
+    const t = this.d.taper as Record<string, any> | undefined;
+    if (!t || t.kind === "uniform") return { kind: "uniform" };
+    const sll = this.quantity(t.sidelobe, "level", "/taper/sidelobe", (v) => (v < 0 ? (v < -120 ? "expected a sidelobe level above -120 dB" : null) : 'expected a negative sidelobe level in dB such as "-30 dB"'));
+    if (!sll) return null;
+    if (t.kind === "taylor") return { kind: "taylor", sidelobeDb: sll.value, nbar: t.nbar };
+    return { kind: "chebyshev", sidelobeDb: sll.value };
+  }
+
+  private coverage(t: CsvTable, elements: Elements, ids: (number | null)[], what: string): void {
+    const known = new Set(elements.ids);
+    const seen = new Map<number, number>();
+    t.rows.forEach((r, k) => {
+      const id = ids[k];
+      if (id === null || id === undefined) return;
+      if (!known.has(id)) this.problems.push({ file: t.file, line: r.line, column: "element", message: `element ${id} is not in the array (${what} must cover exactly the array's elements)` });
+      const prev = seen.get(id);
+      if (prev !== undefined) this.problems.push({ file: t.file, line: r.line, column: "element", message: `element ${id} is listed twice (also on line ${prev})` });
+      else seen.set(id, r.line);
+    });
+    const missing = Array.from(elements.ids).filter((id) => !seen.has(id));
+    if (missing.length) this.problems.push({ file: t.file, message: `missing ${missing.length} element(s): ${compactIds(missing)}; expected a row for every element of the array` });
+  }
+
+  private calibration(elements: Elements | null): Calibration | null {
+    const n = elements?.count ?? 0;
+    const cal: Calibration = { phaseDeg: new Float64Array(n), gainDb: new Float64Array(n), phaseExact: new Array<string>(n).fill("0"), gainExact: new Array<string>(n).fill("0") };
+    const ref = this.d.calibration as string | undefined;
+    if (!ref) return elements ? cal : null;
+    const t = this.file(ref, "calibration", "/calibration");
+    if (!t || !elements) return null;
+    const before = this.problems.length;
+    const index = new Map<number, number>();
+    elements.ids.forEach((id, i) => index.set(id, i));
+    const ids: (number | null)[] = [];
+    for (const r of t.rows) {
+      const id = numberCell(t, r, "element", this.problems, { integer: true, min: 0 });
+      const ph = numberCell(t, r, "phase_offset_deg", this.problems);
+      const g = numberCell(t, r, "gain_offset_db", this.problems);
+      ids.push(id ? id.value : null);
+      if (ph && Math.abs(ph.value) > 1e6) this.problems.push({ file: t.file, line: r.line, column: "phase_offset_deg", message: `expected a phase offset within ±1e6 degrees, got "${ph.text}"` });
+      if (g && Math.abs(g.value) > 200) this.problems.push({ file: t.file, line: r.line, column: "gain_offset_db", message: `expected a gain offset within ±200 dB, got "${g.text}"` });
+      const i = id ? index.get(id.value) : undefined;
+      if (i === undefined || !ph || !g) continue;
+      cal.phaseDeg[i] = ph.value;
+      cal.gainDb[i] = g.value;
+      cal.phaseExact[i] = new D(ph.text).toString();
+      cal.gainExact[i] = new D(g.text).toString();
+    }
+    this.coverage(t, elements, ids, "a calibration file");
+    return this.problems.length > before ? null : cal;
+  }
+
+  private states(ref: string, role: "phaseStates" | "attenStates", pointer: string, states: number, elements: Elements | null): StateTable | null {
+    const t = this.file(ref, role, pointer);
+    if (!t || !elements) return null;
+    const before = this.problems.length;
+    const perElement = t.header.includes("element");
+    const [c1, c2] = role === "phaseStates" ? ["phase_deg", "gain_db"] : ["atten_db", "phase_deg"];
+    const n = perElement ? elements.count : 1;
+    const primary = new Float64Array(n * states).fill(NaN);
+    const secondary = new Float64Array(n * states).fill(NaN);
+    const index = new Map<number, number>();
+    elements.ids.forEach((id, i) => index.set(id, i));
+    const seen = new Map<string, number>();
+    for (const r of t.rows) {
+      const code = numberCell(t, r, "code", this.problems, { integer: true, min: 0 });
+      const a = numberCell(t, r, c1!, this.problems);
+      const b = numberCell(t, r, c2!, this.problems);
+      const el = perElement ? numberCell(t, r, "element", this.problems, { integer: true, min: 0 }) : { text: "", value: 0 };
+      if (!code || !a || !b || !el) continue;
+      if (code.value >= states) {
+        this.problems.push({ file: t.file, line: r.line, column: "code", message: `code ${code.value} does not exist on a ${Math.log2(states)}-bit part; expected 0 … ${states - 1}` });
+        continue;
+      }
+      if (role === "attenStates" && a.value < -1) this.problems.push({ file: t.file, line: r.line, column: "atten_db", message: `expected an attenuation ≥ 0 dB (gain shows as a small negative value at most), got "${a.text}"` });
+      const i = perElement ? index.get(el.value) : 0;
+      if (i === undefined) {
+        this.problems.push({ file: t.file, line: r.line, column: "element", message: `element ${el.value} is not in the array` });
+        continue;
+      }
+      const key = `${el.value}/${code.value}`;
+      const prev = seen.get(key);
+      if (prev !== undefined) {
+        this.problems.push({ file: t.file, line: r.line, message: `${perElement ? `element ${el.value} ` : ""}code ${code.value} is listed twice (also on line ${prev})` });
+        continue;
+      }
+      seen.set(key, r.line);
+      primary[i * states + code.value] = a.value;
+      secondary[i * states + code.value] = b.value;
+    }
+    if (this.problems.length === before) {
+      const missing: string[] = [];
+      for (let i = 0; i < n; i++)
+        for (let s = 0; s < states; s++)
+          if (Number.isNaN(primary[i * states + s]!)) missing.push(perElement ? `element ${elements.ids[i]} code ${s}` : `code ${s}`);
+      if (missing.length) this.problems.push({ file: t.file, message: `missing ${missing.length} state(s): ${missing.slice(0, 6).join(", ")}${missing.length > 6 ? ", …" : ""}; expected every code 0 … ${states - 1}${perElement ? " for every element" : ""}` });
+    }
+    return this.problems.length > before ? null : { states, perElement, primary, secondary };
+  }
+}
+
+export function compactIds(ids: number[]): string {
+  const parts: string[] = [];
+  let i = 0;
+  while (i < ids.length && parts.length < 8) {
+    let j = i;
+    while (j + 1 < ids.length && ids[j + 1] === ids[j]! + 1) j++;
+    parts.push(j > i ? `${ids[i]}–${ids[j]}` : String(ids[i]));
+    i = j + 1;
+  }
+  return parts.join(", ") + (i < ids.length ? ", …" : "");
+}
