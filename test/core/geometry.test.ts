@@ -1,0 +1,54 @@
+import { describe, expect, it } from "vitest";
+import { gratingFreeScanDeg, reciprocalVectors, gratingLobeVisible, angleBetweenDeg, azElToUvw } from "../../src/core/geometry.js";
+import { deriveFacts } from "../../src/core/facts.js";
+import { crc32 } from "node:zlib";
+import { baseScenario, load } from "../helpers.js";
+
+describe("grating lobes", () => {
+  it("rectangular lattice: grating-free scan satisfies d/λ < 1/(1 + |sin θ|) (Mailloux, Phased Array Antenna Handbook, ch. 1; from memory)", () => {
+    for (const dl of [0.5, 0.55, 0.6, 0.7, 0.8, 0.95]) {
+      const g = reciprocalVectors({ dx: dl, dy: 0.5, offset: 0 }, 1);
+      const theta = gratingFreeScanDeg(g, 0);
+      const expected = dl <= 0.5 ? 90 : (Math.asin(1 / dl - 1) * 180) / Math.PI;
+      expect(Math.abs(theta - expected)).toBeLessThan(1e-3); // bisection in sin θ; asin is steep near 90°
+    }
+  });
+
+  it("triangular lattice (offset ½): the lobe nearest broadside sits at |g| = λ/(dx·dy)·hypot(dy, dx/2)", () => {
+    // common practice: reciprocal lattice of a1 = (dx,0), a2 = (dx/2, dy)
+    const g = reciprocalVectors({ dx: 1, dy: 0.8, offset: 0.5 }, 1);
+    const nearest = Math.min(Math.hypot(g[0], g[1]), Math.hypot(g[2], g[3]), Math.hypot(g[0] + g[2], g[1] + g[3]), Math.hypot(g[0] - g[2], g[1] - g[3]));
+    expect(nearest).toBeCloseTo(Math.hypot(0.8, 0.5) / 0.8, 12);
+    expect(gratingLobeVisible(0, 0, g)).toBe(false);
+  });
+
+  it("check warns for beams that put a grating lobe into visible space", () => {
+    const L = load(baseScenario({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "0.7 lambda", dy: "0.5 lambda" } }, beams: { kind: "uv", u: { from: 0, to: 0.6, step: 0.3 }, v: { from: 0, to: 0, step: 1 } } }));
+    const f = deriveFacts(L.plan);
+    // d/λ = 0.7: lobe at u0 − 1/0.7 = u0 − 1.4286 is visible once u0 > 0.4286 → only the beam at u = 0.6
+    expect(f.perFrequency[0]!.gratingBeams).toEqual([2]);
+    expect(f.warnings.join("\n")).toMatch(/grating lobe/);
+  });
+});
+
+describe("facts", () => {
+  it("far-field distance 2D²/λ (common practice) with D the aperture diagonal", () => {
+    const L = load(baseScenario({ frequency: "10 GHz", array: { lattice: { kind: "rectangular", columns: 8, rows: 6, dx: "15 mm", dy: "20 mm" } } }));
+    const f = deriveFacts(L.plan);
+    const D = Math.hypot(8 * 0.015, 6 * 0.02);
+    expect(f.perFrequency[0]!.farFieldM).toBeCloseTo((2 * D * D) / (299792458 / 10e9), 12);
+    expect(f.tableBytes).toBe(3 * 48 * 2);
+  });
+
+  it("angle between directions is accurate at micro-degrees", () => {
+    const a = azElToUvw(10, 5);
+    const b = azElToUvw(10 + 1e-6, 5);
+    expect(angleBetweenDeg(a, b)).toBeCloseTo(1e-6 * Math.cos((5 * Math.PI) / 180), 12);
+  });
+});
+
+describe("CRC-32", () => {
+  it('check value of ASCII "123456789" is 0xCBF43926 (CRC catalogue, CRC-32/ISO-HDLC)', () => {
+    expect(crc32("123456789") >>> 0).toBe(0xcbf43926);
+  });
+});

@@ -1,0 +1,6 @@
+// The CLI tests run the compiled command (bin/steercode.js → dist/); compile once first.
+import { execFileSync } from "node:child_process";
+
+export default function setup(): void {
+  execFileSync("npx", ["tsc", "-p", "tsconfig.build.json"], { stdio: "inherit" });
+}
