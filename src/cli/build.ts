@@ -3,6 +3,8 @@ import { runBuild } from "../io/build.js";
 import { loadScenario } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
 import { fmt, printJson, progress, SAFETY, warn, type Io } from "./shared.js";
+import type { Distribution } from "../core/pattern/summary.js";
+import type { Theory } from "../core/theory.js";
 
 export interface BuildArgs {
   scenario: string;
@@ -18,13 +20,13 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
   const bar = progress(io, "build");
   let result;
   try {
-    result = await runBuild(loaded, args.out, { analysis: args.analysis, onProgress: bar.update });
+    result = await runBuild(loaded, args.out, { analysis: args.analysis, jobs: args.jobs, onProgress: bar.update });
   } finally {
     bar.stop();
   }
   const m = result.manifest;
   if (io.json) {
-    printJson(io, { ok: true, dir: args.out, manifest: m, warnings: facts.warnings });
+    printJson(io, { ok: true, dir: args.out, manifest: m, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, theory: result.theory, warnings: facts.warnings, safety: SAFETY });
     return 0;
   }
   const lines = [
@@ -34,8 +36,50 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
       .map(([k, f]) => `  ${k.padEnd(12)} ${String(f.bytes).padStart(10)} bytes  sha256 ${f.sha256.slice(0, 16)}…${f.crc32 ? `  crc32 ${f.crc32}` : ""}`),
     ...m.perFrequency.map((p) => `  ${(Number(p.frequencyHz) / 1e9).toPrecision(6)} GHz: G_ref ${fmt(p.gRefDb, 3)} dB (element ${p.gRefElement}), ${p.clipped} clipped`),
   ];
+  if (result.summary) lines.push("", ...summaryLines(result.summary, m.counts.beams, m.frequenciesHz), "", ...theoryLines(result.theory));
   for (const w of facts.warnings) lines.push(warn(io, `warning: ${w}`));
   lines.push("", SAFETY);
   io.stdout(lines.join("\n") + "\n");
   return 0;
+}
+
+const SHOWN: [string, string, number][] = [
+  ["pointing_error_deg", "pointing error (deg)", 5],
+  ["psl_db", "PSL realized (dB)", 2],
+  ["sll_rise_db", "sidelobe rise (dB)", 2],
+  ["gain_loss_db", "gain loss (dB)", 3],
+  ["rms_phase_error_deg", "rms phase error (deg)", 3],
+  ["rms_amp_error_db", "rms amp error (dB)", 3],
+];
+
+function where(index: number, beams: number, freqs: string[]): string {
+  const fi = Math.floor(index / beams);
+  return `beam ${index % beams}${freqs.length > 1 ? ` @ ${(Number(freqs[fi]) / 1e9).toPrecision(6)} GHz` : ""}`;
+}
+
+export function worstBeams(s: Record<string, Distribution>, beams: number, freqs: string[]): Record<string, { frequencyHz: string; beam: number; value: number }> {
+  const out: Record<string, { frequencyHz: string; beam: number; value: number }> = {};
+  for (const [k, d] of Object.entries(s)) if (d.worst >= 0) out[k] = { frequencyHz: freqs[Math.floor(d.worst / beams)]!, beam: d.worst % beams, value: d.max };
+  return out;
+}
+
+export function summaryLines(s: Record<string, Distribution>, beams: number, freqs: string[]): string[] {
+  const lines = [`${"over every beam".padEnd(24)} ${"median".padStart(10)} ${"p95".padStart(10)} ${"max".padStart(10)}  worst`];
+  for (const [key, label, d] of SHOWN) {
+    const x = s[key];
+    if (!x) continue;
+    lines.push(`${label.padEnd(24)} ${fmt(x.median, d).padStart(10)} ${fmt(x.p95, d).padStart(10)} ${fmt(x.max, d).padStart(10)}  ${x.worst >= 0 ? where(x.worst, beams, freqs) : "n/a"}`);
+  }
+  return lines;
+}
+
+export function theoryLines(t: Theory): string[] {
+  return [
+    "published estimates for this part:",
+    `  gain loss, phase quantisation  ${fmt(t.gainLossDb.value, 3)} dB   ${t.gainLossDb.formula}; ${t.gainLossDb.source}`,
+    `  rms phase error                ${fmt(t.rmsPhaseErrorDeg.value, 3)} deg  ${t.rmsPhaseErrorDeg.formula}; ${t.rmsPhaseErrorDeg.source}`,
+    `  rms amplitude error            ${fmt(t.rmsAmpErrorDb.value, 3)} dB   ${t.rmsAmpErrorDb.formula}; ${t.rmsAmpErrorDb.source}`,
+    `  random-error sidelobe floor    ${fmt(t.randomSidelobeFloorDb.value, 1)} dB   ${t.randomSidelobeFloorDb.formula}, η = ${fmt(t.taperEfficiency, 3)}; ${t.randomSidelobeFloorDb.source}`,
+    `  periodic quantisation lobe     ${fmt(t.quantizationLobeDb.value, 1)} dB   ${t.quantizationLobeDb.formula}; ${t.quantizationLobeDb.source} (only without calibration spread)`,
+  ];
 }

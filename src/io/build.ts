@@ -15,6 +15,13 @@ import type { FileDigest } from "./hashed.js";
 import { toolVersion } from "./version.js";
 import { crc32 } from "node:zlib";
 import { D } from "../core/exact.js";
+import { stringify } from "csv-stringify/sync";
+import { METRIC_COLUMNS, METRICS } from "../core/pattern/analyze.js";
+import { summarise, type Distribution } from "../core/pattern/summary.js";
+import { theoryFor, type Theory } from "../core/theory.js";
+import { startAnalysis } from "./analysis-pool.js";
+import { HashedFile } from "./hashed.js";
+import { fixed } from "./format.js";
 
 export const stableJson = configure({ deterministic: true, strict: true, bigint: false, circularValue: Error });
 
@@ -63,6 +70,9 @@ export function frequencyText(plan: Plan): string[] {
 
 export interface BuildOptions {
   analysis: boolean;
+  jobs?: number;
+  /** Test hook: make the analysis fail midway (fault-injection test). */
+  failAnalysisForTest?: boolean;
   onProgress?: (done: number, total: number) => void;
   /** Extra files (name → contents) written into the folder before the manifest. */
   extraFiles?: (tmpDir: string, plan: Plan) => Promise<Record<string, FileDigest>> | Record<string, FileDigest>;
@@ -72,6 +82,10 @@ export interface BuildResult {
   dir: string;
   manifest: Manifest;
   perFrequency: FrequencySummary[];
+  /** [frequency][beam][metric], METRIC_COLUMNS order; null with --no-analysis. */
+  metrics: Float64Array | null;
+  summary: Record<string, Distribution> | null;
+  theory: Theory;
 }
 
 export function makeManifest(loaded: LoadedScenario, scenarioSource: string, perFrequency: FrequencySummary[], files: Record<string, ManifestFile>, analysis: boolean): Manifest {
@@ -113,11 +127,14 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     copyFileSync(loaded.scenario.path, join(tmp, SCENARIO_COPY));
     for (const i of loaded.inputs) writeFileSync(join(tmp, INPUT_COPY[i.role]), i.file.bytes);
     const ft = frequencyText(plan);
-    const writers = makeWriters(tmp, { plan, frequencyText: ft });
     const total = plan.frequenciesHz.length * plan.beams.count;
+    const job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest }) : null;
+    // a rejected analysis is awaited below; keep Node from calling it unhandled meanwhile
+    job?.result.catch(() => {});
+    const writers = makeWriters(tmp, { plan, frequencyText: ft });
     const perFrequency = runTables(plan, (fi, b, words, codes) => {
       for (const w of writers) w.beam(fi, b, words, codes);
-    }, opts.onProgress ? (d) => { if (d % 64 === 0 || d === total) opts.onProgress!(d, total); } : undefined);
+    }, opts.onProgress && !job ? (d) => { if (d % 64 === 0 || d === total) opts.onProgress!(d, total); } : undefined);
     const files: Record<string, ManifestFile> = {};
     const bin = writers.find((w) => w.file === TABLE_FILES.bin);
     let binCrc: number | null = null;
@@ -132,6 +149,15 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
       const d = w.end();
       files[w.file] = { bytes: d.bytes, sha256: d.sha256 };
     }
+    let metrics: Float64Array | null = null;
+    let summary: Record<string, Distribution> | null = null;
+    if (job) {
+      metrics = await job.result;
+      const d = writeBeamsCsv(join(tmp, "beams.csv"), plan, ft, metrics);
+      files["beams.csv"] = { bytes: d.bytes, sha256: d.sha256 };
+      summary = summarise(metrics);
+    }
+    const theory = theoryFor(plan);
     if (opts.extraFiles) {
       const extra = await opts.extraFiles(tmp, plan);
       for (const [k, d] of Object.entries(extra)) files[k] = { bytes: d.bytes, sha256: d.sha256 };
@@ -139,9 +165,10 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     for (const i of loaded.inputs) files[INPUT_COPY[i.role]] = { bytes: i.file.bytes.length, sha256: i.file.sha256 };
     files[SCENARIO_COPY] = { bytes: loaded.scenario.bytes.length, sha256: loaded.scenario.sha256 };
     const manifest = makeManifest(loaded, loaded.scenario.name.split(/[\\/]/).pop() ?? "scenario.json", perFrequency, files, opts.analysis);
+    if (summary) manifest.extra = { summary, theory };
     writeFileSync(join(tmp, "manifest.json"), stableJson(manifest, null, 2) + "\n", { flag: "wx" });
     stage.commit();
-    return { dir: outDir, manifest, perFrequency };
+    return { dir: outDir, manifest, perFrequency, metrics, summary, theory };
   } catch (e) {
     stage.abort();
     throw e;
@@ -156,4 +183,28 @@ function crcOfWords(plan: Plan): number {
     crc = crc32(wordsToBytes(words, plan.word.bytes), crc);
   });
   return crc >>> 0;
+}
+
+export const BEAMS_COLUMNS = ["frequency_hz", "beam", "az_deg", "el_deg", "u", "v", ...METRIC_COLUMNS] as const;
+
+/** beams.csv: one row per (frequency, beam). A metric that does not exist (no sidelobe in visible space) is an empty cell. */
+export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: Float64Array): FileDigest {
+  const f = new HashedFile(path);
+  f.write(stringify([BEAMS_COLUMNS as unknown as string[]]));
+  const nb = plan.beams.count;
+  const digits = [9, 9, 7, 4, 4, 4, 5, 4, 4, 0];
+  for (let fi = 0; fi < ft.length; fi++) {
+    const rows: string[][] = [];
+    for (let b = 0; b < nb; b++) {
+      const o = (fi * nb + b) * METRICS;
+      const row = [ft[fi]!, String(b), fixed(plan.beams.azDeg[b]!, 6), fixed(plan.beams.elDeg[b]!, 6), fixed(plan.beams.u[b]!, 9), fixed(plan.beams.v[b]!, 9)];
+      for (let k = 0; k < METRICS; k++) {
+        const v = metrics[o + k]!;
+        row.push(Number.isFinite(v) ? fixed(v, digits[k]!) : "");
+      }
+      rows.push(row);
+    }
+    f.write(stringify(rows));
+  }
+  return f.close();
 }

@@ -1,0 +1,158 @@
+/**
+ * Per-beam analysis (beams.csv): ideal (tapered, unquantised) and realized (codes
+ * through the channel model, calibration included) patterns of every beam, and the
+ * metrics the interface contract defines.
+ */
+import { angleBetweenDeg, uvToW } from "../geometry.js";
+import type { Plan } from "../plan.js";
+import type { BeamCodes } from "../quantize/contract.js";
+import { prepareFrequency, type FrequencyPrep } from "../quantize/prepare.js";
+import { elementStates, type ElementStates } from "../quantize/states.js";
+import { SPEED_OF_LIGHT } from "../units.js";
+import { AfEvaluator } from "./evaluator.js";
+import { allocWindow, PatternGrid, type PowerWindow } from "./grid.js";
+import { LobeFinder } from "./lobes.js";
+
+export const METRIC_COLUMNS = [
+  "peak_u",
+  "peak_v",
+  "pointing_error_deg",
+  "psl_ideal_db",
+  "psl_db",
+  "sll_rise_db",
+  "gain_loss_db",
+  "rms_phase_error_deg",
+  "rms_amp_error_db",
+  "clipped",
+] as const;
+export const METRICS = METRIC_COLUMNS.length;
+export const M = Object.fromEntries(METRIC_COLUMNS.map((c, i) => [c, i])) as Record<(typeof METRIC_COLUMNS)[number], number>;
+
+const DEG = Math.PI / 180;
+
+export interface PatternDetail {
+  /** Sampled power window of the realized and ideal patterns, and the grid. */
+  realized: PowerWindow;
+  ideal: PowerWindow;
+  du: number;
+  dv: number;
+  /** Per-element phase error (deg) and amplitude error (dB), NaN for disabled. */
+  phaseErrorDeg: Float64Array;
+  ampErrorDb: Float64Array;
+}
+
+export class BeamAnalyzer {
+  readonly prep: FrequencyPrep;
+  readonly grid: PatternGrid;
+  private readonly evR: AfEvaluator;
+  private readonly evI: AfEvaluator;
+  private readonly finder: LobeFinder;
+  private readonly winR: PowerWindow;
+  private readonly winI: PowerWindow;
+  private readonly idealAmp: Float64Array;
+  private readonly zero: Float64Array;
+  private readonly states: ElementStates[] | null;
+  private readonly idealCache: Float64Array | null = null;
+  readonly phaseErr: Float64Array;
+  readonly ampErr: Float64Array;
+
+  constructor(private readonly plan: Plan, readonly fi: number) {
+    this.prep = prepareFrequency(plan, fi);
+    const el = plan.elements;
+    const k = (2 * Math.PI * plan.frequenciesHz[fi]!) / SPEED_OF_LIGHT;
+    this.grid = new PatternGrid(plan, fi);
+    this.evR = new AfEvaluator(el.x, el.y, el.z, k);
+    this.evI = new AfEvaluator(el.x, el.y, el.z, k);
+    this.finder = new LobeFinder(this.grid.cap);
+    this.winR = allocWindow(this.grid.cap);
+    this.winI = allocWindow(this.grid.cap);
+    const n = el.count;
+    const scale = Math.pow(10, this.prep.gRefDb / 20);
+    this.idealAmp = new Float64Array(n);
+    for (let i = 0; i < n; i++) this.idealAmp[i] = el.enabled[i] ? scale * plan.amplitude[i]! : 0;
+    this.zero = new Float64Array(n);
+    this.evI.wr.set(this.idealAmp);
+    this.evI.wi.fill(0);
+    this.states = plan.phaseStates || plan.attenStates ? Array.from({ length: n }, (_, e) => elementStates(plan, e)) : null;
+    this.phaseErr = new Float64Array(n);
+    this.ampErr = new Float64Array(n);
+  }
+
+  /** Realized de-steered weights of a beam from its codes; fills phaseErr/ampErr. */
+  private realized(b: number, codes: BeamCodes): void {
+    const plan = this.plan;
+    const { X, Y, Z, C, lsbDeg } = this.prep;
+    const u = plan.beams.u[b]!, v = plan.beams.v[b]!, w = plan.beams.w[b]!;
+    const el = plan.elements;
+    const wr = this.evR.wr, wi = this.evR.wi;
+    for (let i = 0; i < el.count; i++) {
+      if (!el.enabled[i]) {
+        wr[i] = 0;
+        wi[i] = 0;
+        this.phaseErr[i] = NaN;
+        this.ampErr[i] = NaN;
+        continue;
+      }
+      const t = X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!; // (φ − c)/LSB
+      const p = codes.phaseCode[i]!, q = codes.attenCode[i]!;
+      let errDeg: number, ampDb: number;
+      if (this.states) {
+        const s = this.states[i]!;
+        errDeg = (s.pAng[p]! + s.qAng[q]!) / DEG - t * lsbDeg;
+        ampDb = plan.cal.gainDb[i]! + 20 * Math.log10(s.pMag[p]! * s.qMag[q]!);
+      } else {
+        errDeg = (p - t) * lsbDeg;
+        ampDb = plan.cal.gainDb[i]! - q * plan.attenStepDb;
+      }
+      errDeg -= 360 * Math.round(errDeg / 360);
+      const amp = Math.pow(10, ampDb / 20);
+      wr[i] = amp * Math.cos(errDeg * DEG);
+      wi[i] = amp * Math.sin(errDeg * DEG);
+      this.phaseErr[i] = errDeg;
+      this.ampErr[i] = 20 * Math.log10(amp / this.idealAmp[i]!);
+    }
+  }
+
+  /** Analyse beam b with its codes; writes METRICS values into out[off …]. */
+  analyse(b: number, codes: BeamCodes, out: Float64Array, off: number): void {
+    const plan = this.plan;
+    const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
+    this.realized(b, codes);
+    const g = this.grid;
+    this.evR.setBeam(u0, v0, w0);
+    this.evI.setBeam(u0, v0, w0);
+    g.fill(this.evR.wr, this.evR.wi, u0, v0, w0, this.winR);
+    const r = this.finder.analyse(this.winR, this.evR, g.du, g.dv, u0, v0);
+    g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
+    const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0);
+    const pu = u0 + r.peakDu, pv = v0 + r.peakDv;
+    const pointing = angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) });
+    const pslR = 10 * Math.log10(r.sidelobePower / r.peakPower);
+    const pslI = 10 * Math.log10(id.sidelobePower / id.peakPower);
+    const fR = this.evR.power(0, 0);
+    const fI = this.evI.power(0, 0);
+    let sp = 0, sa = 0, n = 0;
+    for (let i = 0; i < plan.elements.count; i++) {
+      if (!plan.elements.enabled[i]) continue;
+      sp += this.phaseErr[i]! ** 2;
+      sa += this.ampErr[i]! ** 2;
+      n++;
+    }
+    out[off + M.peak_u] = pu;
+    out[off + M.peak_v] = pv;
+    out[off + M.pointing_error_deg] = pointing;
+    out[off + M.psl_ideal_db] = pslI;
+    out[off + M.psl_db] = pslR;
+    out[off + M.sll_rise_db] = pslR - pslI;
+    out[off + M.gain_loss_db] = -10 * Math.log10(fR / fI);
+    out[off + M.rms_phase_error_deg] = Math.sqrt(sp / n);
+    out[off + M.rms_amp_error_db] = Math.sqrt(sa / n);
+    out[off + M.clipped] = codes.clipped;
+  }
+
+  /** The sampled windows of the last analysed beam (for the report). */
+  detail(): PatternDetail {
+    const copy = (w: PowerWindow): PowerWindow => ({ ...w, p: w.p.slice(0, w.wm * w.wn), visible: w.visible.slice(0, w.wm * w.wn) });
+    return { realized: copy(this.winR), ideal: copy(this.winI), du: this.grid.du, dv: this.grid.dv, phaseErrorDeg: this.phaseErr.slice(), ampErrorDb: this.ampErr.slice() };
+  }
+}

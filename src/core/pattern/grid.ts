@@ -1,0 +1,192 @@
+/**
+ * Sampled |AF|² on a u-v grid around the beam direction, covering visible space.
+ * Lattices: a 2-D FFT of the de-steered weights embedded in a zero-padded grid
+ * (a triangular lattice with offset ½ embeds in a grid of half the column pitch);
+ * the grid is oversampled 4× against the aperture. Other geometries: a direct sum on
+ * a grid sized from the aperture, with per-element phasor tables built once.
+ */
+import type { Plan } from "../plan.js";
+import { SPEED_OF_LIGHT } from "../units.js";
+import { Fft2, nextPow2 } from "./fft.js";
+
+export const OVERSAMPLE = 4;
+
+export interface PowerWindow {
+  /** first offset index along u and v; cell (i, j) is Δu = (m0+i)·du, Δv = (n0+j)·dv */
+  m0: number;
+  n0: number;
+  wm: number;
+  wn: number;
+  p: Float64Array;
+  visible: Uint8Array;
+}
+
+export function allocWindow(cap: number): PowerWindow {
+  return { m0: 0, n0: 0, wm: 0, wn: 0, p: new Float64Array(cap), visible: new Uint8Array(cap) };
+}
+
+export class PatternGrid {
+  readonly du: number;
+  readonly dv: number;
+  readonly mode: "fft" | "direct";
+  readonly cap: number;
+  private readonly k: number;
+  // FFT mode
+  private readonly fft: Fft2 | null = null;
+  private readonly nx: number = 0;
+  private readonly ny: number = 0;
+  private readonly cell: Int32Array | null = null; // element → grid index
+  private readonly usedRows: number = 0;
+  private readonly re: Float64Array;
+  private readonly im: Float64Array;
+  // direct mode
+  private readonly mMax: number = 0;
+  private readonly nMax: number = 0;
+  private readonly exr: Float64Array | null = null;
+  private readonly exi: Float64Array | null = null;
+  private readonly eyr: Float64Array | null = null;
+  private readonly eyi: Float64Array | null = null;
+  private readonly planar: boolean;
+
+  constructor(private readonly plan: Plan, fi: number) {
+    const lambda = SPEED_OF_LIGHT / plan.frequenciesHz[fi]!;
+    this.k = (2 * Math.PI) / lambda;
+    const el = plan.elements;
+    this.planar = el.z.every((z) => z === 0);
+    const l = plan.lattice;
+    const embeddable = l && (l.offset === 0 || l.offset === 0.5);
+    if (l && embeddable) {
+      this.mode = "fft";
+      const tri = l.offset === 0.5 && l.rows > 1;
+      const px = tri ? l.dx / 2 : l.dx;
+      const gw = tri ? 2 * l.columns + 1 : l.columns;
+      // resolution λ/(OVERSAMPLE·aperture) in both embeddings (aperture = gw·px)
+      this.nx = nextPow2(OVERSAMPLE * gw);
+      this.ny = nextPow2(Math.max(OVERSAMPLE * l.rows, 1));
+      this.du = lambda / (px * this.nx);
+      this.dv = lambda / (l.dy * this.ny);
+      this.fft = new Fft2(this.nx, this.ny);
+      this.cell = new Int32Array(el.count);
+      for (let i = 0; i < el.count; i++) {
+        const r = el.row[i]!;
+        const c = el.column[i]!;
+        const gx = tri ? 2 * c + (r % 2) : c;
+        this.cell[i] = r * this.nx + gx;
+      }
+      this.usedRows = l.rows;
+      this.re = new Float64Array(this.nx * this.ny);
+      this.im = new Float64Array(this.nx * this.ny);
+    } else {
+      this.mode = "direct";
+      const span = (a: Float64Array) => {
+        let lo = Infinity, hi = -Infinity;
+        for (const v of a) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
+        return hi - lo;
+      };
+      const lx = span(el.x) + lambda / 2;
+      const ly = span(el.y) + lambda / 2;
+      this.du = lambda / (OVERSAMPLE * lx);
+      this.dv = lambda / (OVERSAMPLE * ly);
+      this.mMax = Math.ceil(2 / this.du) + 2;
+      this.nMax = Math.ceil(2 / this.dv) + 2;
+      const n = el.count;
+      const W = 2 * this.mMax + 1;
+      const H = 2 * this.nMax + 1;
+      this.exr = new Float64Array(W * n);
+      this.exi = new Float64Array(W * n);
+      this.eyr = new Float64Array(H * n);
+      this.eyi = new Float64Array(H * n);
+      for (let m = -this.mMax; m <= this.mMax; m++)
+        for (let i = 0; i < n; i++) {
+          const a = this.k * el.x[i]! * m * this.du;
+          this.exr[(m + this.mMax) * n + i] = Math.cos(a);
+          this.exi[(m + this.mMax) * n + i] = Math.sin(a);
+        }
+      for (let q = -this.nMax; q <= this.nMax; q++)
+        for (let i = 0; i < n; i++) {
+          const a = this.k * el.y[i]! * q * this.dv;
+          this.eyr[(q + this.nMax) * n + i] = Math.cos(a);
+          this.eyi[(q + this.nMax) * n + i] = Math.sin(a);
+        }
+      this.re = new Float64Array(0);
+      this.im = new Float64Array(0);
+    }
+    this.cap = (Math.ceil(2 / this.du) + 4) * (Math.ceil(2 / this.dv) + 4);
+  }
+
+  /** Offsets window covering visible space for beam (u0, v0), with a one-cell margin. */
+  private frame(u0: number, v0: number, win: PowerWindow): void {
+    win.m0 = Math.floor((-1 - u0) / this.du) - 1;
+    win.n0 = Math.floor((-1 - v0) / this.dv) - 1;
+    win.wm = Math.floor((1 - u0) / this.du) + 2 - win.m0;
+    win.wn = Math.floor((1 - v0) / this.dv) + 2 - win.n0;
+    for (let j = 0; j < win.wn; j++) {
+      const v = v0 + (win.n0 + j) * this.dv;
+      for (let i = 0; i < win.wm; i++) {
+        const u = u0 + (win.m0 + i) * this.du;
+        win.visible[j * win.wm + i] = u * u + v * v <= 1 ? 1 : 0;
+      }
+    }
+  }
+
+  /**
+   * Sample |F|² of de-steered weights (wr, wi) for beam (u0, v0, w0) into `win`.
+   * Non-planar arrays include the z term exactly (direct mode).
+   */
+  fill(wr: Float64Array, wi: Float64Array, u0: number, v0: number, w0: number, win: PowerWindow): void {
+    this.frame(u0, v0, win);
+    const el = this.plan.elements;
+    if (this.mode === "fft") {
+      const { re, im, nx, ny } = this;
+      re.fill(0);
+      im.fill(0);
+      const cell = this.cell!;
+      for (let i = 0; i < el.count; i++) {
+        re[cell[i]!] = wr[i]!;
+        im[cell[i]!] = wi[i]!;
+      }
+      this.fft!.transform(re, im, this.usedRows);
+      for (let j = 0; j < win.wn; j++) {
+        const n = (((win.n0 + j) % ny) + ny) % ny;
+        for (let i = 0; i < win.wm; i++) {
+          const m = (((win.m0 + i) % nx) + nx) % nx;
+          const a = n * nx + m;
+          win.p[j * win.wm + i] = re[a]! * re[a]! + im[a]! * im[a]!;
+        }
+      }
+      return;
+    }
+    const n = el.count;
+    const { exr, exi, eyr, eyi, mMax, nMax } = this;
+    for (let j = 0; j < win.wn; j++) {
+      const q = win.n0 + j;
+      const qo = (Math.max(-nMax, Math.min(nMax, q)) + nMax) * n;
+      const v = v0 + q * this.dv;
+      for (let i = 0; i < win.wm; i++) {
+        const m = win.m0 + i;
+        const mo = (Math.max(-mMax, Math.min(mMax, m)) + mMax) * n;
+        let dz = 0;
+        if (!this.planar) {
+          const u = u0 + m * this.du;
+          const s = 1 - u * u - v * v;
+          dz = (s > 0 ? Math.sqrt(s) : 0) - w0;
+        }
+        let sr = 0, si = 0;
+        for (let e = 0; e < n; e++) {
+          let er = exr![mo + e]! * eyr![qo + e]! - exi![mo + e]! * eyi![qo + e]!;
+          let ei = exr![mo + e]! * eyi![qo + e]! + exi![mo + e]! * eyr![qo + e]!;
+          if (dz !== 0) {
+            const t = this.k * el.z[e]! * dz;
+            const c = Math.cos(t), s = Math.sin(t);
+            const r2 = er * c - ei * s;
+            ei = er * s + ei * c;
+            er = r2;
+          }
+          sr += wr[e]! * er - wi[e]! * ei;
+          si += wr[e]! * ei + wi[e]! * er;
+        }
+        win.p[j * win.wm + i] = sr * sr + si * si;
+      }
+    }
+  }
+}

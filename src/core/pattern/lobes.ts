@@ -1,0 +1,176 @@
+/**
+ * Main lobe, peak and peak sidelobe of one pattern (interface contract, beams.csv):
+ * - the main lobe is the region around the peak nearest the commanded direction over
+ *   which |AF|² falls monotonically, out to the ring of nulls or troughs around it
+ *   (found by a monotone flood fill on the sampled grid);
+ * - the peak and the top sidelobe candidates are refined on the exact array factor
+ *   (Newton in u-v; sidelobes whose maximum lies past the horizon are maximised along
+ *   the horizon circle), so neither is limited by the grid;
+ * - PSL is the largest |AF|² over visible space (horizon included) outside the main lobe.
+ */
+import type { AfEvaluator } from "./evaluator.js";
+import type { PowerWindow } from "./grid.js";
+
+export interface LobeResult {
+  peakDu: number;
+  peakDv: number;
+  peakPower: number;
+  /** NaN when no visible point lies outside the main lobe (tiny arrays). */
+  sidelobePower: number;
+  sidelobeDu: number;
+  sidelobeDv: number;
+}
+
+const CANDIDATES = 6;
+
+export class LobeFinder {
+  private mask: Uint8Array;
+  private stack: Int32Array;
+  constructor(cap: number) {
+    this.mask = new Uint8Array(cap);
+    this.stack = new Int32Array(cap);
+  }
+
+  analyse(win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): LobeResult {
+    const { wm, wn, p, visible } = win;
+    // 1. grid peak nearest the commanded direction: hill-climb from Δ = 0
+    let i = -win.m0;
+    let j = -win.n0;
+    for (;;) {
+      let bi = i, bj = j, bp = p[j * wm + i]!;
+      for (let dj = -1; dj <= 1; dj++)
+        for (let di = -1; di <= 1; di++) {
+          const a = i + di, b = j + dj;
+          if (a < 0 || b < 0 || a >= wm || b >= wn) continue;
+          if (p[b * wm + a]! > bp) { bp = p[b * wm + a]!; bi = a; bj = b; }
+        }
+      if (bi === i && bj === j) break;
+      i = bi;
+      j = bj;
+    }
+    // 2. exact peak
+    const pk = refine(ev, (win.m0 + i) * du, (win.n0 + j) * dv, du, dv, null);
+    // 3. main lobe: monotone flood fill from the grid peak
+    const mask = this.mask;
+    mask.fill(0, 0, wm * wn);
+    const stack = this.stack;
+    let sp = 0;
+    stack[sp++] = j * wm + i;
+    mask[j * wm + i] = 1;
+    while (sp > 0) {
+      const c = stack[--sp]!;
+      const ci = c % wm;
+      const cj = (c - ci) / wm;
+      const pc = p[c]!;
+      for (let dj = -1; dj <= 1; dj++)
+        for (let di = -1; di <= 1; di++) {
+          const a = ci + di, b = cj + dj;
+          if (a < 0 || b < 0 || a >= wm || b >= wn) continue;
+          const q = b * wm + a;
+          if (mask[q] || p[q]! > pc) continue;
+          mask[q] = 1;
+          stack[sp++] = q;
+        }
+    }
+    // 4. sidelobe candidates: local maxima of visible cells outside the main lobe
+    const cand: number[] = [];
+    const candP: number[] = [];
+    for (let b = 0; b < wn; b++)
+      for (let a = 0; a < wm; a++) {
+        const q = b * wm + a;
+        if (!visible[q] || mask[q]) continue;
+        const pq = p[q]!;
+        let isMax = true;
+        for (let dj = -1; dj <= 1 && isMax; dj++)
+          for (let di = -1; di <= 1; di++) {
+            if (!di && !dj) continue;
+            const x = a + di, y = b + dj;
+            if (x < 0 || y < 0 || x >= wm || y >= wn) continue;
+            const r = y * wm + x;
+            if (visible[r] && !mask[r] && p[r]! > pq) { isMax = false; break; }
+          }
+        if (!isMax) continue;
+        // keep the CANDIDATES largest
+        if (cand.length < CANDIDATES) { cand.push(q); candP.push(pq); }
+        else {
+          let lo = 0;
+          for (let k = 1; k < cand.length; k++) if (candP[k]! < candP[lo]!) lo = k;
+          if (pq > candP[lo]!) { cand[lo] = q; candP[lo] = pq; }
+        }
+      }
+    let sl = NaN, sdu = NaN, sdv = NaN;
+    for (let k = 0; k < cand.length; k++) {
+      const q = cand[k]!;
+      const a = q % wm;
+      const b = (q - a) / wm;
+      const r = refine(ev, (win.m0 + a) * du, (win.n0 + b) * dv, du, dv, { u0, v0 });
+      // the refined point must stay outside the main lobe; otherwise keep the grid value
+      const ra = Math.round(r.du / du) - win.m0;
+      const rb = Math.round(r.dv / dv) - win.n0;
+      const inside = ra >= 0 && rb >= 0 && ra < wm && rb < wn && mask[rb * wm + ra] === 1;
+      let val = r.p, vu = r.du, vv = r.dv;
+      if (inside || !(r.p >= candP[k]!)) { val = candP[k]!; vu = (win.m0 + a) * du; vv = (win.n0 + b) * dv; }
+      if (!(val <= sl)) { sl = val; sdu = vu; sdv = vv; }
+    }
+    return { peakDu: pk.du, peakDv: pk.dv, peakPower: pk.p, sidelobePower: sl, sidelobeDu: sdu, sidelobeDv: sdv };
+  }
+}
+
+interface Refined { du: number; dv: number; p: number }
+
+/**
+ * Maximise |F|² from a grid point by damped Newton steps (at most one cell long).
+ * With `disc`, the point is kept in visible space: a maximum past the horizon is
+ * replaced by the maximum along the horizon circle near it (golden-section search).
+ */
+export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv: number, disc: { u0: number; v0: number } | null): Refined {
+  let du = du0, dv = dv0;
+  let p = ev.power(du, dv);
+  const inDisc = (a: number, b: number) => !disc || (disc.u0 + a) ** 2 + (disc.v0 + b) ** 2 <= 1;
+  let hitEdge = false;
+  for (let it = 0; it < 40; it++) {
+    const d = ev.derivs(du, dv);
+    p = d.p;
+    const det = d.puu * d.pvv - d.puv * d.puv;
+    let su: number, sv: number;
+    if (d.puu < 0 && det > 0) {
+      su = -(d.pvv * d.pu - d.puv * d.pv) / det;
+      sv = -(-d.puv * d.pu + d.puu * d.pv) / det;
+    } else {
+      const g = Math.hypot(d.pu / cu, d.pv / cv) || 1;
+      su = ((d.pu / cu) / g) * cu * 0.25;
+      sv = ((d.pv / cv) / g) * cv * 0.25;
+    }
+    const len = Math.hypot(su / cu, sv / cv);
+    if (len > 1) { su /= len; sv /= len; }
+    let accepted = false;
+    for (let h = 0; h < 12; h++) {
+      const nu = du + su, nv = dv + sv;
+      if (!inDisc(nu, nv)) { hitEdge = true; su /= 2; sv /= 2; continue; }
+      const np = ev.power(nu, nv);
+      if (np >= p) { du = nu; dv = nv; p = np; accepted = true; break; }
+      su /= 2;
+      sv /= 2;
+    }
+    if (!accepted || Math.hypot(su / cu, sv / cv) < 1e-10) break;
+  }
+  if (disc && hitEdge) {
+    // maximise along the horizon near the current point
+    const { u0, v0 } = disc;
+    const a0 = Math.atan2(v0 + dv, u0 + du);
+    const span = 3 * Math.max(cu, cv);
+    const at = (a: number) => ev.power(Math.cos(a) - u0, Math.sin(a) - v0);
+    let lo = a0 - span, hi = a0 + span;
+    const g = (Math.sqrt(5) - 1) / 2;
+    let x1 = hi - g * (hi - lo), x2 = lo + g * (hi - lo);
+    let f1 = at(x1), f2 = at(x2);
+    for (let it = 0; it < 60 && hi - lo > 1e-12; it++) {
+      if (f1 < f2) { lo = x1; x1 = x2; f1 = f2; x2 = lo + g * (hi - lo); f2 = at(x2); }
+      else { hi = x2; x2 = x1; f2 = f1; x1 = hi - g * (hi - lo); f1 = at(x1); }
+    }
+    const a = (lo + hi) / 2;
+    const pe = at(a);
+    if (pe > p) return { du: Math.cos(a) - u0, dv: Math.sin(a) - v0, p: pe };
+  }
+  return { du, dv, p };
+}

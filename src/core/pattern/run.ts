@@ -1,0 +1,23 @@
+/** Analyse a range of beams of one frequency: codes (same quantizer as the tables) → metrics. */
+import type { Plan } from "../plan.js";
+import { allocBeamCodes, makeQuantizer } from "../quantize/index.js";
+import { BeamAnalyzer, METRICS } from "./analyze.js";
+
+export interface AnalyzerCache {
+  fi: number;
+  analyzer: BeamAnalyzer;
+  quantizer: ReturnType<typeof makeQuantizer>;
+}
+
+export function analyseRange(plan: Plan, fi: number, from: number, to: number, out: Float64Array, cache: { c: AnalyzerCache | null }): void {
+  if (!cache.c || cache.c.fi !== fi) {
+    const analyzer = new BeamAnalyzer(plan, fi);
+    cache.c = { fi, analyzer, quantizer: makeQuantizer(plan, fi, analyzer.prep) };
+  }
+  const { analyzer, quantizer } = cache.c;
+  const codes = allocBeamCodes(plan.elements.count);
+  for (let b = from; b < to; b++) {
+    quantizer.beam(b, codes);
+    analyzer.analyse(b, codes, out, (b - from) * METRICS);
+  }
+}
