@@ -2,5 +2,5 @@
 import { execFileSync } from "node:child_process";
 
 export default function setup(): void {
-  execFileSync("npx", ["tsc", "-p", "tsconfig.build.json"], { stdio: "inherit" });
+  execFileSync("npm", ["run", "-s", "build"], { stdio: "inherit" });
 }

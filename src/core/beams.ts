@@ -76,10 +76,18 @@ export function makeBeamSet(spec: BeamSpec): { set: BeamSet; invisible: number[]
     elDeg: new Float64Array(count),
   };
   const invisible: number[] = [];
+  // float values of each axis once (exact decimal → nearest double)
+  const innerVals = spec.grid ? Array.from({ length: spec.inner.count }, (_, k) => Number(axisValue(spec.inner, k))) : null;
+  const outerVals = spec.grid ? Array.from({ length: spec.outer.count }, (_, k) => Number(axisValue(spec.outer, k))) : null;
   for (let i = 0; i < count; i++) {
-    const [as, bs] = beamCoordinates(spec, i);
-    const a = Number(as);
-    const b = Number(bs);
+    let a: number, b: number;
+    if (spec.grid) {
+      a = innerVals![i % spec.inner.count]!;
+      b = outerVals![Math.floor(i / spec.inner.count)]!;
+    } else {
+      a = Number(spec.a[i]);
+      b = Number(spec.b[i]);
+    }
     let u: number, v: number, w: number;
     if (spec.kind === "azel") {
       const az = (a * Math.PI) / 180;

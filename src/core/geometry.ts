@@ -24,10 +24,10 @@ export interface Elements {
   x: Float64Array;
   y: Float64Array;
   z: Float64Array;
-  /** Exact positions as decimal strings (metres), for boundary decisions. */
-  exactX: string[];
-  exactY: string[];
-  exactZ: string[];
+  /** Exact positions as decimal strings (metres), for boundary decisions; null on lattices (derived on demand). */
+  exactX: string[] | null;
+  exactY: string[] | null;
+  exactZ: string[] | null;
   enabled: Uint8Array;
   /** Lattice row/column of each element (-1 for element lists). */
   row: Int32Array;
@@ -36,40 +36,45 @@ export interface Elements {
   channel: string[] | null;
 }
 
-/** Row-major lattice (row outer, column inner), centred on its centroid. */
+/** Exact centroid of the uncentred lattice points (c + offset·(r mod 2))·dx, r·dy. */
+function latticeCentroid(l: LatticeSpec): [Dec, Dec] {
+  const C = l.columns, R = l.rows;
+  const sumCol = new D(C * (C - 1)).div(2).times(R).plus(new D(l.offsetExact).times(C).times(Math.floor(R / 2)));
+  return [sumCol.div(R * C).times(l.dxExact), new D(R - 1).div(2).times(l.dyExact)];
+}
+
+/** Exact position (metres) of lattice element i, as decimals. */
+export function latticeExactPosition(l: LatticeSpec, i: number): [Dec, Dec] {
+  const r = Math.floor(i / l.columns);
+  const c = i % l.columns;
+  const [mx, my] = latticeCentroid(l);
+  return [new D(c).plus(new D(l.offsetExact).times(r % 2)).times(l.dxExact).minus(mx), new D(r).times(l.dyExact).minus(my)];
+}
+
+/**
+ * Row-major lattice (row outer, column inner), centred on its centroid. Float
+ * positions are the exact decimal positions rounded once; the exact ones are
+ * derived on demand (latticeExactPosition) for boundary decisions.
+ */
 export function latticeElements(l: LatticeSpec): Elements {
   const n = l.columns * l.rows;
-  const dx = new D(l.dxExact);
-  const dy = new D(l.dyExact);
-  const off = new D(l.offsetExact);
-  const ex: Dec[] = [];
-  const ey: Dec[] = [];
-  let sx = new D(0);
-  let sy = new D(0);
-  for (let r = 0; r < l.rows; r++) {
-    for (let c = 0; c < l.columns; c++) {
-      const xc = new D(c).plus(off.times(r % 2)).times(dx);
-      const yc = new D(r).times(dy);
-      ex.push(xc);
-      ey.push(yc);
-      sx = sx.plus(xc);
-      sy = sy.plus(yc);
-    }
-  }
-  const mx = sx.div(n);
-  const my = sy.div(n);
+  const [mxD, myD] = latticeCentroid(l);
+  const dx = new D(l.dxExact), dy = new D(l.dyExact), off = new D(l.offsetExact);
+  // x depends on (column, row parity) only and y on the row only: compute each once
+  const xs: number[][] = [0, 1].map((odd) => Array.from({ length: l.columns }, (_, c) => new D(c).plus(off.times(odd)).times(dx).minus(mxD).toNumber()));
+  const ys = Array.from({ length: l.rows }, (_, r) => new D(r).times(dy).minus(myD).toNumber());
   const el = emptyElements(n);
+  el.exactX = null;
+  el.exactY = null;
+  el.exactZ = null;
   for (let i = 0; i < n; i++) {
-    const xs = ex[i]!.minus(mx);
-    const ys = ey[i]!.minus(my);
+    const r = Math.floor(i / l.columns);
+    const c = i % l.columns;
     el.ids[i] = i;
-    el.exactX[i] = xs.toString();
-    el.exactY[i] = ys.toString();
-    el.exactZ[i] = "0";
-    el.x[i] = xs.toNumber();
-    el.y[i] = ys.toNumber();
-    el.row[i] = Math.floor(i / l.columns);
-    el.column[i] = i % l.columns;
+    el.x[i] = xs[r % 2]![c]!;
+    el.y[i] = ys[r]!;
+    el.row[i] = r;
+    el.column[i] = c;
   }
   return el;
 }

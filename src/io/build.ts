@@ -121,6 +121,7 @@ export function makeManifest(loaded: LoadedScenario, scenarioSource: string, per
 export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
   const plan = loaded.plan;
   const stage = new StagedDir(outDir);
+  let job: ReturnType<typeof startAnalysis> | null = null;
   try {
     const tmp = stage.tmp;
     mkdirSync(join(tmp, "inputs"));
@@ -128,13 +129,11 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     for (const i of loaded.inputs) writeFileSync(join(tmp, INPUT_COPY[i.role]), i.file.bytes);
     const ft = frequencyText(plan);
     const total = plan.frequenciesHz.length * plan.beams.count;
-    const job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest }) : null;
-    // a rejected analysis is awaited below; keep Node from calling it unhandled meanwhile
-    job?.result.catch(() => {});
+    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest }) : null;
     const writers = makeWriters(tmp, { plan, frequencyText: ft });
     const perFrequency = runTables(plan, (fi, b, words, codes) => {
       for (const w of writers) w.beam(fi, b, words, codes);
-    }, opts.onProgress && !job ? (d) => { if (d % 64 === 0 || d === total) opts.onProgress!(d, total); } : undefined);
+    }, opts.onProgress && !job ? (d) => { if (d % 64 === 0 || d === total) opts.onProgress!(d, total); } : undefined, { commanded: plan.outputs.includes("csv") });
     const files: Record<string, ManifestFile> = {};
     const bin = writers.find((w) => w.file === TABLE_FILES.bin);
     let binCrc: number | null = null;
@@ -152,7 +151,8 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     let metrics: Float64Array | null = null;
     let summary: Record<string, Distribution> | null = null;
     if (job) {
-      metrics = await job.result;
+      opts.onProgress?.(0, total);
+      metrics = await job.finish();
       const d = writeBeamsCsv(join(tmp, "beams.csv"), plan, ft, metrics);
       files["beams.csv"] = { bytes: d.bytes, sha256: d.sha256 };
       summary = summarise(metrics);
@@ -170,6 +170,7 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     stage.commit();
     return { dir: outDir, manifest, perFrequency, metrics, summary, theory };
   } catch (e) {
+    job?.cancel();
     stage.abort();
     throw e;
   }

@@ -2,7 +2,8 @@
 export function fixed(x: number, digits: number): string {
   if (!Number.isFinite(x)) throw new Error(`non-finite value ${x} in an output`);
   const s = x.toFixed(digits);
-  return /^-0(\.0+)?$/.test(s) ? s.slice(1) : s;
+  // "-0.000000" (a tiny negative value) is written as "0.000000"
+  return s.charCodeAt(0) === 45 && /^-0(\.0+)?$/.test(s) ? s.slice(1) : s;
 }
 /** Shortest round-trip form, "-0" folded to "0"; NaN/∞ are rejected. */
 export function num(x: number): string {

@@ -290,11 +290,15 @@ class Loader {
     }
     rows.sort((a, b) => a.id - b.id);
     const el = emptyElements(rows.length);
+    const ex: string[] = [], ey: string[] = [], ez: string[] = [];
+    el.exactX = ex;
+    el.exactY = ey;
+    el.exactZ = ez;
     rows.forEach((r, i) => {
       el.ids[i] = r.id;
-      el.exactX[i] = new D(r.x).toString();
-      el.exactY[i] = new D(r.y).toString();
-      el.exactZ[i] = new D(r.z).toString();
+      ex.push(new D(r.x).toString());
+      ey.push(new D(r.y).toString());
+      ez.push(new D(r.z).toString());
       el.x[i] = Number(r.x);
       el.y[i] = Number(r.y);
       el.z[i] = Number(r.z);

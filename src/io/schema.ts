@@ -3,6 +3,7 @@
  * the JSON pointer, what was expected, and a did-you-mean for misspelt keys.
  */
 import { readFileSync } from "node:fs";
+import { createRequire } from "node:module";
 import { Ajv2020, type ErrorObject, type ValidateFunction } from "ajv/dist/2020.js";
 import type { Problem } from "../core/errors.js";
 
@@ -11,6 +12,13 @@ const schemaUrl = new URL("../../schemas/scenario.schema.json", import.meta.url)
 let validator: ValidateFunction | null = null;
 function scenarioValidator(): ValidateFunction {
   if (!validator) {
+    try {
+      // precompiled by scripts/compile-schema.mjs at build time (dist only)
+      validator = createRequire(import.meta.url)("./scenario-validate.cjs") as ValidateFunction;
+      return validator;
+    } catch {
+      /* running from source: compile below */
+    }
     const ajv = new Ajv2020({ allErrors: true, strict: true, allowUnionTypes: true, discriminator: true, verbose: true });
     validator = ajv.compile(JSON.parse(readFileSync(schemaUrl, "utf8")) as object);
   }

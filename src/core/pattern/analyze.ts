@@ -52,7 +52,8 @@ export class BeamAnalyzer {
   private readonly idealAmp: Float64Array;
   private readonly zero: Float64Array;
   private readonly states: ElementStates[] | null;
-  private readonly idealCache: Float64Array | null = null;
+  /** The ideal de-steered weights do not depend on the beam: on lattices their FFT is taken once. */
+  private readonly idealPeriodic: Float64Array | null = null;
   readonly phaseErr: Float64Array;
   readonly ampErr: Float64Array;
 
@@ -76,6 +77,7 @@ export class BeamAnalyzer {
     this.states = plan.phaseStates || plan.attenStates ? Array.from({ length: n }, (_, e) => elementStates(plan, e)) : null;
     this.phaseErr = new Float64Array(n);
     this.ampErr = new Float64Array(n);
+    if (this.grid.mode === "fft") this.idealPeriodic = this.grid.periodicPower(this.idealAmp, this.zero);
   }
 
   /** Realized de-steered weights of a beam from its codes; fills phaseErr/ampErr. */
@@ -123,7 +125,8 @@ export class BeamAnalyzer {
     this.evI.setBeam(u0, v0, w0);
     g.fill(this.evR.wr, this.evR.wi, u0, v0, w0, this.winR);
     const r = this.finder.analyse(this.winR, this.evR, g.du, g.dv, u0, v0);
-    g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
+    if (this.idealPeriodic) g.fillFromPeriodic(this.idealPeriodic, u0, v0, this.winI);
+    else g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
     const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0);
     const pu = u0 + r.peakDu, pv = v0 + r.peakDv;
     const pointing = angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) });

@@ -55,6 +55,10 @@ export class AfEvaluator {
   v0 = 0;
   w0 = 1;
   readonly out: PowerDerivs = { p: 0, pu: 0, pv: 0, puu: 0, pvv: 0, puv: 0 };
+  /** elements ordered by distinct-y group; group g spans order[groupStart[g] … groupStart[g+1]) */
+  private readonly order: Int32Array;
+  private readonly groupStart: Int32Array;
+  private readonly kx2: Float64Array;
 
   constructor(x: Float64Array, y: Float64Array, z: Float64Array, k: number) {
     this.n = x.length;
@@ -71,6 +75,15 @@ export class AfEvaluator {
     this.wr = new Float64Array(this.n);
     this.wi = new Float64Array(this.n);
     this.kScale = k;
+    const ng = this.dy.values.length;
+    const counts = new Int32Array(ng + 1);
+    for (let i = 0; i < this.n; i++) counts[this.dy.index[i]! + 1]!++;
+    for (let g = 0; g < ng; g++) counts[g + 1]! += counts[g]!;
+    this.groupStart = counts.slice();
+    const fillAt = counts.slice();
+    this.order = new Int32Array(this.n);
+    for (let i = 0; i < this.n; i++) this.order[fillAt[this.dy.index[i]!]!++] = i;
+    this.kx2 = Float64Array.from(this.kx, (v) => v * v);
   }
   private readonly kScale: number;
 
@@ -118,6 +131,23 @@ export class AfEvaluator {
       const s = 1 - u * u - v * v;
       dz = (s > 0 ? Math.sqrt(s) : 0) - this.w0;
     }
+    if (this.planar) {
+      const { order, groupStart } = this;
+      for (let g = 0; g + 1 < groupStart.length; g++) {
+        let sr = 0, si = 0;
+        for (let q = groupStart[g]!; q < groupStart[g + 1]!; q++) {
+          const i = order[q]!;
+          const a = xi[i]!;
+          sr += wr[i]! * cx[a]! - wi[i]! * sx[a]!;
+          si += wr[i]! * sx[a]! + wi[i]! * cx[a]!;
+        }
+        re += cy[g]! * sr - sy[g]! * si;
+        im += cy[g]! * si + sy[g]! * sr;
+      }
+      this.fOut[0] = re;
+      this.fOut[1] = im;
+      return this.fOut;
+    }
     for (let i = 0; i < this.n; i++) {
       const a = xi[i]!;
       const b = yi[i]!;
@@ -159,34 +189,46 @@ export class AfEvaluator {
       o.puv = (ppp - pxp - pyp + 2 * p0 - pxm - pym + pmm) / (2 * h * h);
       return o;
     }
+    // grouped by row: S0 = Σ w·ex, S1 = Σ X·w·ex, S2 = Σ X²·w·ex per distinct y, then
+    // F = Σ ey·S0, F_u = jΣ ey·S1, F_uu = −Σ ey·S2, F_v = jΣ Y·ey·S0, F_vv = −Σ Y²·ey·S0, F_uv = −Σ Y·ey·S1
     this.phasors(du, dv);
-    const { cx, sx, cy, sy, wr, wi, kx, ky } = this;
+    const { cx, sx, cy, sy, wr, wi, kx, kx2, order, groupStart } = this;
     const xi = this.dx.index;
-    const yi = this.dy.index;
+    const yv = this.dy.values;
+    const k = this.kScale;
     let fr = 0, fi = 0, fur = 0, fui = 0, fvr = 0, fvi = 0;
     let fuur = 0, fuui = 0, fvvr = 0, fvvi = 0, fuvr = 0, fuvi = 0;
-    for (let i = 0; i < this.n; i++) {
-      const a = xi[i]!;
-      const b = yi[i]!;
-      const er = cx[a]! * cy[b]! - sx[a]! * sy[b]!;
-      const ei = cx[a]! * sy[b]! + sx[a]! * cy[b]!;
-      const tr = wr[i]! * er - wi[i]! * ei;
-      const ti = wr[i]! * ei + wi[i]! * er;
-      const X = kx[i]!;
-      const Y = ky[i]!;
-      fr += tr;
-      fi += ti;
-      // ∂/∂u: × jX ; ∂²/∂u²: × −X²
-      fur -= X * ti;
-      fui += X * tr;
-      fvr -= Y * ti;
-      fvi += Y * tr;
-      fuur -= X * X * tr;
-      fuui -= X * X * ti;
-      fvvr -= Y * Y * tr;
-      fvvi -= Y * Y * ti;
-      fuvr -= X * Y * tr;
-      fuvi -= X * Y * ti;
+    for (let g = 0; g + 1 < groupStart.length; g++) {
+      let s0r = 0, s0i = 0, s1r = 0, s1i = 0, s2r = 0, s2i = 0;
+      for (let q = groupStart[g]!; q < groupStart[g + 1]!; q++) {
+        const i = order[q]!;
+        const a = xi[i]!;
+        const tr = wr[i]! * cx[a]! - wi[i]! * sx[a]!;
+        const ti = wr[i]! * sx[a]! + wi[i]! * cx[a]!;
+        s0r += tr;
+        s0i += ti;
+        s1r += kx[i]! * tr;
+        s1i += kx[i]! * ti;
+        s2r += kx2[i]! * tr;
+        s2i += kx2[i]! * ti;
+      }
+      const er = cy[g]!, ei = sy[g]!;
+      const Y = k * yv[g]!;
+      const a0r = er * s0r - ei * s0i, a0i = er * s0i + ei * s0r;
+      const a1r = er * s1r - ei * s1i, a1i = er * s1i + ei * s1r;
+      const a2r = er * s2r - ei * s2i, a2i = er * s2i + ei * s2r;
+      fr += a0r;
+      fi += a0i;
+      fur -= a1i;
+      fui += a1r;
+      fvr -= Y * a0i;
+      fvi += Y * a0r;
+      fuur -= a2r;
+      fuui -= a2i;
+      fvvr -= Y * Y * a0r;
+      fvvi -= Y * Y * a0i;
+      fuvr -= Y * a1r;
+      fuvi -= Y * a1i;
     }
     o.p = fr * fr + fi * fi;
     o.pu = 2 * (fr * fur + fi * fui);

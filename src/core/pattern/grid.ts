@@ -7,7 +7,7 @@
  */
 import type { Plan } from "../plan.js";
 import { SPEED_OF_LIGHT } from "../units.js";
-import { Fft2, nextPow2 } from "./fft.js";
+import { PowerFft2, nextPow2 } from "./fft.js";
 
 export const OVERSAMPLE = 4;
 
@@ -32,13 +32,10 @@ export class PatternGrid {
   readonly cap: number;
   private readonly k: number;
   // FFT mode
-  private readonly fft: Fft2 | null = null;
+  private readonly fft: PowerFft2 | null = null;
   private readonly nx: number = 0;
   private readonly ny: number = 0;
   private readonly cell: Int32Array | null = null; // element → grid index
-  private readonly usedRows: number = 0;
-  private readonly re: Float64Array;
-  private readonly im: Float64Array;
   // direct mode
   private readonly mMax: number = 0;
   private readonly nMax: number = 0;
@@ -65,7 +62,7 @@ export class PatternGrid {
       this.ny = nextPow2(Math.max(OVERSAMPLE * l.rows, 1));
       this.du = lambda / (px * this.nx);
       this.dv = lambda / (l.dy * this.ny);
-      this.fft = new Fft2(this.nx, this.ny);
+      this.fft = new PowerFft2(this.nx, this.ny, l.rows);
       this.cell = new Int32Array(el.count);
       for (let i = 0; i < el.count; i++) {
         const r = el.row[i]!;
@@ -73,9 +70,6 @@ export class PatternGrid {
         const gx = tri ? 2 * c + (r % 2) : c;
         this.cell[i] = r * this.nx + gx;
       }
-      this.usedRows = l.rows;
-      this.re = new Float64Array(this.nx * this.ny);
-      this.im = new Float64Array(this.nx * this.ny);
     } else {
       this.mode = "direct";
       const span = (a: Float64Array) => {
@@ -108,8 +102,6 @@ export class PatternGrid {
           this.eyr[(q + this.nMax) * n + i] = Math.cos(a);
           this.eyi[(q + this.nMax) * n + i] = Math.sin(a);
         }
-      this.re = new Float64Array(0);
-      this.im = new Float64Array(0);
     }
     this.cap = (Math.ceil(2 / this.du) + 4) * (Math.ceil(2 / this.dv) + 4);
   }
@@ -133,27 +125,37 @@ export class PatternGrid {
    * Sample |F|² of de-steered weights (wr, wi) for beam (u0, v0, w0) into `win`.
    * Non-planar arrays include the z term exactly (direct mode).
    */
+  /** FFT mode: |F|² on the whole periodic FFT grid, for weights that do not change from beam to beam. */
+  periodicPower(wr: Float64Array, wi: Float64Array): Float64Array {
+    if (this.mode !== "fft") throw new Error("periodicPower needs a lattice");
+    return this.fft!.run(this.cell!, wr, wi).slice();
+  }
+
+  private colIndex = new Int32Array(0);
+  /** Copy the window's cells out of a periodic FFT-grid power array. */
+  private gather(win: PowerWindow, src: Float64Array): void {
+    const { nx, ny } = this;
+    if (this.colIndex.length < win.wm) this.colIndex = new Int32Array(win.wm);
+    const col = this.colIndex;
+    for (let i = 0; i < win.wm; i++) col[i] = (((win.m0 + i) % nx) + nx) % nx;
+    for (let j = 0; j < win.wn; j++) {
+      const rowOff = ((((win.n0 + j) % ny) + ny) % ny) * nx;
+      const o = j * win.wm;
+      for (let i = 0; i < win.wm; i++) win.p[o + i] = src[rowOff + col[i]!]!;
+    }
+  }
+
+  /** FFT mode: fill the window of beam (u0, v0) from a periodicPower() array. */
+  fillFromPeriodic(power: Float64Array, u0: number, v0: number, win: PowerWindow): void {
+    this.frame(u0, v0, win);
+    this.gather(win, power);
+  }
+
   fill(wr: Float64Array, wi: Float64Array, u0: number, v0: number, w0: number, win: PowerWindow): void {
     this.frame(u0, v0, win);
     const el = this.plan.elements;
     if (this.mode === "fft") {
-      const { re, im, nx, ny } = this;
-      re.fill(0);
-      im.fill(0);
-      const cell = this.cell!;
-      for (let i = 0; i < el.count; i++) {
-        re[cell[i]!] = wr[i]!;
-        im[cell[i]!] = wi[i]!;
-      }
-      this.fft!.transform(re, im, this.usedRows);
-      for (let j = 0; j < win.wn; j++) {
-        const n = (((win.n0 + j) % ny) + ny) % ny;
-        for (let i = 0; i < win.wm; i++) {
-          const m = (((win.m0 + i) % nx) + nx) % nx;
-          const a = n * nx + m;
-          win.p[j * win.wm + i] = re[a]! * re[a]! + im[a]! * im[a]!;
-        }
-      }
+      this.gather(win, this.fft!.run(this.cell!, wr, wi));
       return;
     }
     const n = el.count;

@@ -6,9 +6,10 @@ import { randomizedQuantizer } from "./randomized.js";
 import { measuredStatesQuantizer } from "./states.js";
 import { prepareFrequency, type FrequencyPrep } from "./prepare.js";
 
-export function makeQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = prepareFrequency(plan, fi)): Quantizer {
+/** `commanded: false` skips ψ_n (phaseDeg), which only codes.csv needs. */
+export function makeQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = prepareFrequency(plan, fi), opts: { commanded?: boolean } = {}): Quantizer {
   if (plan.phaseStates || plan.attenStates) return measuredStatesQuantizer(plan, fi, prep);
-  return plan.quantizer.method === "randomized" ? randomizedQuantizer(plan, fi, prep) : nearestQuantizer(plan, fi, prep);
+  return plan.quantizer.method === "randomized" ? randomizedQuantizer(plan, fi, prep) : nearestQuantizer(plan, fi, prep, opts.commanded ?? true);
 }
 export { allocBeamCodes, type BeamCodes, type Quantizer } from "./contract.js";
 export { prepareFrequency, type FrequencyPrep } from "./prepare.js";

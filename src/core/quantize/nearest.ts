@@ -15,7 +15,7 @@ export function fillCommon(prep: FrequencyPrep, out: BeamCodes): void {
   out.clipped = prep.clipped;
 }
 
-export function nearestQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = prepareFrequency(plan, fi)): Quantizer {
+export function nearestQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = prepareFrequency(plan, fi), commanded = true): Quantizer {
   const { X, Y, Z, C, states, lsbDeg } = prep;
   const n = plan.elements.count;
   const mask = states - 1;
@@ -35,9 +35,13 @@ export function nearestQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = p
         const fl = Math.floor(r);
         const frac = r - fl;
         pc[i] = frac < EDGE || frac > 1 - EDGE ? exactPhaseCode(plan, fi, i, exact.get(b)) : fl & mask;
-        const wrapped = t - states * Math.floor(t / states);
-        pd[i] = (wrapped >= states ? 0 : wrapped) * lsbDeg;
       }
+      if (commanded)
+        for (let i = 0; i < n; i++) {
+          const t = X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!;
+          const wrapped = t - states * Math.floor(t / states);
+          pd[i] = (wrapped >= states ? 0 : wrapped) * lsbDeg;
+        }
       fillCommon(prep, out);
     },
   };

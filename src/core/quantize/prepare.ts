@@ -5,7 +5,7 @@
  */
 import { exactBeamDirection } from "../beams.js";
 import { D, type Dec, nearHalf, roundHalfUp } from "../exact.js";
-import type { ExactDirection } from "../geometry.js";
+import { latticeExactPosition, type ExactDirection } from "../geometry.js";
 import type { Plan } from "../plan.js";
 import { C_EXACT, SPEED_OF_LIGHT } from "../units.js";
 
@@ -103,7 +103,16 @@ export function exactAttenCode(plan: Plan, i: number, m: number): number {
 export function exactPhaseT(plan: Plan, fi: number, i: number, d: ExactDirection): Dec {
   const el = plan.elements;
   const states = new D(2).pow(plan.phaseBits);
-  const dot = new D(el.exactX[i]!).times(d.u).plus(new D(el.exactY[i]!).times(d.v)).plus(new D(el.exactZ[i]!).times(d.w));
+  let x: Dec, y: Dec, z: Dec;
+  if (el.exactX && el.exactY && el.exactZ) {
+    x = new D(el.exactX[i]!);
+    y = new D(el.exactY[i]!);
+    z = new D(el.exactZ[i]!);
+  } else if (plan.lattice) {
+    [x, y] = latticeExactPosition(plan.lattice, i);
+    z = new D(0);
+  } else throw new Error("element without an exact position");
+  const dot = x.times(d.u).plus(y.times(d.v)).plus(z.times(d.w));
   const phi = dot.times(plan.frequenciesExact[fi]!).div(C_EXACT).times(states).neg();
   return phi.minus(new D(plan.cal.phaseExact[i]!).times(states).div(360));
 }
