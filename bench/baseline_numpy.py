@@ -45,9 +45,11 @@ def main(path, out):
     sll = -float(t["sidelobe"].split()[0])
     a = np.outer(windows.taylor(N, nbar=t["nbar"], sll=sll), windows.taylor(M, nbar=t["nbar"], sll=sll))
     a /= a.max()
-    cal = np.genfromtxt(os.path.join(os.path.dirname(path), sc["calibration"]), delimiter=",", names=True, comments="#")
-    cph = np.deg2rad(cal["phase_offset_deg"]).reshape(N, M)
-    cg = cal["gain_offset_db"].reshape(N, M)
+    with open(os.path.join(os.path.dirname(path), sc["calibration"])) as fh:
+        rows_ = list(csv.DictReader(line for line in fh if not line.startswith("#")))
+    rows_.sort(key=lambda r: int(r["element"]))
+    cph = np.deg2rad(np.array([float(r["phase_offset_deg"]) for r in rows_])).reshape(N, M)
+    cg = np.array([float(r["gain_offset_db"]) for r in rows_]).reshape(N, M)
     B = sc["phaseShifter"]["bits"]
     lsb = 2 * np.pi / 2**B
     step = float(sc["attenuator"]["step"].split()[0])
@@ -105,7 +107,8 @@ def main(path, out):
             w0 = math.sqrt(max(0.0, 1 - u0 * u0 - v0 * v0))
             pw = math.sqrt(max(0.0, 1 - pu * pu - pv * pv))
             point = math.degrees(math.acos(min(1.0, u0 * pu + v0 * pv + w0 * pw)))
-            gl = -10 * np.log10(abs(wr.sum()) ** 2 / abs(wi.sum()) ** 2)
+            steer = np.exp(-1j * phi)  # evaluate both at the commanded direction
+            gl = -10 * np.log10(abs((wr * steer).sum()) ** 2 / abs((wi * steer).sum()) ** 2)
             err = np.angle(wr / wi)
             rows.append([z, e, pu, pv, point, psl_i, psl_r, psl_r - psl_i, gl, np.degrees(np.sqrt(np.mean(err**2))), np.sqrt(np.mean((20 * np.log10(np.abs(wr) / np.abs(wi))) ** 2))])
     with open(out, "w", newline="") as fh:

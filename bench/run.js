@@ -1,0 +1,153 @@
+// `npm run bench`: speed and memory of steercode against its targets and a numpy/scipy
+// baseline, in one run on this machine. Inputs are built before any timing starts;
+// each figure is the median of several runs. Results: bench/results.json and a
+// Markdown table on stdout (copied into README.md).
+import { spawnSync } from "node:child_process";
+import { mkdtempSync, writeFileSync, readFileSync, rmSync } from "node:fs";
+import { tmpdir, cpus, totalmem } from "node:os";
+import { join } from "node:path";
+import { parse } from "csv-parse/sync";
+
+const ROOT = new URL("..", import.meta.url).pathname;
+const BIN = join(ROOT, "bin", "steercode.js");
+const tmp = mkdtempSync(join(tmpdir(), "steercode-bench-"));
+const RUNS = Number(process.env.BENCH_RUNS ?? 3);
+const median = (a) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
+
+function rnd(seed) {
+  let s = seed >>> 0;
+  return () => {
+    s = (s + 0x6d2b79f5) >>> 0;
+    let t = s;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+function scenario(name, side, beams, outputs, withCal = true) {
+  const dir = join(tmp, name);
+  spawnSync("mkdir", ["-p", dir]);
+  const doc = {
+    format: "steercode-scenario/1",
+    name: `bench ${name} (invented)`,
+    frequency: "28 GHz",
+    array: { lattice: { kind: "rectangular", columns: side, rows: side, dx: "0.5 lambda", dy: "0.5 lambda" } },
+    beams,
+    phaseShifter: { bits: 6 },
+    attenuator: { bits: 6, step: "0.5 dB" },
+    taper: { kind: "taylor", sidelobe: "-30 dB", nbar: 4 },
+    word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 6 }, { name: "atten", shift: 8, width: 6 }] },
+    outputs,
+  };
+  if (withCal) {
+    const r = rnd(side * 7919);
+    const lines = ["# invented bench calibration", "element,phase_offset_deg,gain_offset_db"];
+    for (let i = 0; i < side * side; i++) lines.push(`${i},${(r() * 360 - 180).toFixed(2)},${((r() - 0.5) * 2).toFixed(3)}`);
+    writeFileSync(join(dir, "cal.csv"), lines.join("\n") + "\n");
+    doc.calibration = "cal.csv";
+  }
+  const p = join(dir, "scenario.json");
+  writeFileSync(p, JSON.stringify(doc, null, 2));
+  return p;
+}
+
+function timeCmd(cmd, args) {
+  const t = performance.now();
+  const r = spawnSync(cmd, args, { encoding: "utf8", maxBuffer: 1 << 26 });
+  if (r.status !== 0) throw new Error(`${cmd} ${args.join(" ")} failed: ${r.stderr}`);
+  return { ms: performance.now() - t, stdout: r.stdout };
+}
+
+function childBuild(s, out, analysis, jobs) {
+  const r = spawnSync(process.execPath, [join(ROOT, "bench", "child-build.js"), s, out, analysis ? "1" : "0", String(jobs)], { encoding: "utf8" });
+  if (r.status !== 0) throw new Error(r.stderr);
+  return JSON.parse(r.stdout);
+}
+
+const jobs = cpus().length;
+const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, memGiB: +(totalmem() / 2 ** 30).toFixed(1), node: process.version }, runs: RUNS };
+
+// ---- 1. codes-only build, 4096 elements × 4096 beams → table.bin
+{
+  const s = scenario("codes-64x64", 64, { kind: "uv", u: { from: -0.63, to: 0.63, step: 0.02 }, v: { from: -0.63, to: 0.63, step: 0.02 } }, ["bin"], false);
+  const out = join(tmp, "codes-out");
+  const inproc = [], cli = [];
+  let rss = 0, words = 0;
+  for (let i = 0; i < RUNS; i++) {
+    const c = childBuild(s, out, false, 1);
+    inproc.push(c.loadMs + c.buildMs);
+    rss = Math.max(rss, c.maxRssKb);
+    words = c.words;
+    rmSync(out, { recursive: true, force: true });
+    cli.push(timeCmd(process.execPath, [BIN, "build", s, "-o", out, "--no-analysis"]).ms);
+    rmSync(out, { recursive: true, force: true });
+  }
+  results.codesOnly = {
+    words,
+    buildMs: median(inproc),
+    wordsPerSecond: words / (median(inproc) / 1000),
+    cliWallMs: median(cli),
+    cliWordsPerSecond: words / (median(cli) / 1000),
+    peakRssMB: rss / 1024,
+    targets: { wordsPerSecond: 50e6, peakRssMB: 300 },
+  };
+}
+
+// ---- 2. full build with analysis vs the numpy/scipy baseline: 32×32, Taylor, calibration, 21×21 az/el
+{
+  const s = scenario("analysis-32x32", 32, { kind: "azel", az: { from: -50, to: 50, step: 5 }, el: { from: -50, to: 50, step: 5 } }, ["csv", "bin", "c", "mem", "json"]);
+  const out = join(tmp, "an-out");
+  const ours = [], base = [];
+  for (let i = 0; i < RUNS; i++) {
+    rmSync(out, { recursive: true, force: true });
+    ours.push(timeCmd(process.execPath, [BIN, "build", s, "-o", out, "--jobs", String(jobs)]).ms);
+    base.push(timeCmd("/usr/bin/python3", [join(ROOT, "bench", "baseline_numpy.py"), s, join(tmp, "baseline.csv")]).ms);
+  }
+  const a = parse(readFileSync(join(out, "beams.csv")), { columns: true });
+  const b = parse(readFileSync(join(tmp, "baseline.csv")), { columns: true });
+  const dPsl = a.map((r, i) => Math.abs(Number(r.psl_db) - Number(b[i].psl_db)));
+  const dPoint = a.map((r, i) => Math.abs(Number(r.pointing_error_deg) - Number(b[i].pointing_error_deg)));
+  results.analysis = {
+    beams: a.length,
+    elements: 1024,
+    steercodeWallMs: median(ours),
+    baselineWallMs: median(base),
+    ratio: median(ours) / median(base),
+    baselineVsSteercode: { pslAbsDiffDbMedian: median(dPsl), pslAbsDiffDbMax: Math.max(...dPsl), pointingAbsDiffDegMedian: median(dPoint), pointingAbsDiffDegMax: Math.max(...dPoint) },
+    note: "steercode writes every table format as well; the baseline computes codes and metrics only",
+  };
+}
+
+// ---- 3. scaling ladder: analysis cost per beam (tables to table.bin only)
+results.scaling = [];
+for (const side of [16, 32, 64]) {
+  for (const nb of [100, 441, 4096]) {
+    const n = Math.round(Math.sqrt(nb));
+    const step = 100 / (n - 1);
+    const s = scenario(`scale-${side}-${nb}`, side, { kind: "azel", az: { from: -50, to: 50, step: +step.toFixed(6) }, el: { from: -50, to: 50, step: +step.toFixed(6) } }, ["bin"]);
+    const out = join(tmp, `scale-out`);
+    rmSync(out, { recursive: true, force: true });
+    const c = childBuild(s, out, true, jobs);
+    const beams = Number(JSON.parse(readFileSync(join(out, "manifest.json"), "utf8")).counts.beams);
+    results.scaling.push({ elements: side * side, beams, buildMs: c.buildMs, msPerBeam: c.buildMs / beams, peakRssMB: c.maxRssKb / 1024 });
+    rmSync(out, { recursive: true, force: true });
+  }
+}
+
+writeFileSync(join(ROOT, "bench", "results.json"), JSON.stringify(results, null, 2) + "\n");
+const f = (x, d = 0) => Number(x).toFixed(d);
+const c = results.codesOnly, an = results.analysis;
+console.log(`machine: ${results.machine.cpus} × ${results.machine.model}, ${results.machine.memGiB} GiB, Node ${results.machine.node}; median of ${RUNS} runs\n`);
+console.log(`| benchmark | result | target |\n|---|---|---|`);
+console.log(`| codes-only build, 4096 elements × 4096 beams → table.bin (load + build, in process) | ${f(c.buildMs)} ms, ${f(c.wordsPerSecond / 1e6, 1)} M words/s | ≥ 50 M words/s |`);
+console.log(`| same, whole CLI process (node start-up included) | ${f(c.cliWallMs)} ms, ${f(c.cliWordsPerSecond / 1e6, 1)} M words/s | — |`);
+console.log(`| peak memory of that build | ${f(c.peakRssMB)} MB | < 300 MB |`);
+console.log(`| full build with analysis, 32×32, 441 beams, all outputs (CLI wall) | ${f(an.steercodeWallMs)} ms | ≤ baseline |`);
+console.log(`| numpy/scipy baseline, same scenario (wall) | ${f(an.baselineWallMs)} ms | — |`);
+console.log(`| ratio steercode / baseline | ${f(an.ratio, 2)} | ≤ 1 |`);
+console.log(`| baseline vs steercode: PSL |Δ| median / max | ${f(an.baselineVsSteercode.pslAbsDiffDbMedian, 3)} / ${f(an.baselineVsSteercode.pslAbsDiffDbMax, 3)} dB | — |`);
+console.log(`| baseline vs steercode: pointing |Δ| median / max | ${f(an.baselineVsSteercode.pointingAbsDiffDegMedian, 4)} / ${f(an.baselineVsSteercode.pointingAbsDiffDegMax, 4)} deg | — |`);
+console.log(`\n| elements | beams | build with analysis (ms) | ms / beam | peak RSS (MB) |\n|---|---|---|---|---|`);
+for (const r of results.scaling) console.log(`| ${r.elements} | ${r.beams} | ${f(r.buildMs)} | ${f(r.msPerBeam, 2)} | ${f(r.peakRssMB)} |`);
+rmSync(tmp, { recursive: true, force: true });
