@@ -1,9 +1,12 @@
 import { deriveFacts } from "../core/facts.js";
-import { runBuild } from "../io/build.js";
+import { runBuild, type Manifest } from "../io/build.js";
 import { loadScenario } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
 import { fmt, printJson, progress, SAFETY, warn, type Io } from "./shared.js";
 import type { Distribution } from "../core/pattern/summary.js";
+import { diffBuilds, type DiffResult } from "../io/diff.js";
+import { readManifest } from "../io/readbuild.js";
+import { diffLines, writeDiffFiles } from "./diff.js";
 import type { Theory } from "../core/theory.js";
 
 export interface BuildArgs {
@@ -11,22 +14,38 @@ export interface BuildArgs {
   out: string;
   jobs: number;
   analysis: boolean;
+  compare: string | null;
 }
 
 export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
   checkTarget(args.out);
+  if (args.compare) readManifest(args.compare);
   const loaded = loadScenario(args.scenario);
+  let diff: DiffResult | null = null;
   const facts = deriveFacts(loaded.plan);
   const bar = progress(io, "build");
   let result;
   try {
-    result = await runBuild(loaded, args.out, { analysis: args.analysis, jobs: args.jobs, onProgress: bar.update });
+    result = await runBuild(loaded, args.out, {
+      analysis: args.analysis,
+      jobs: args.jobs,
+      onProgress: bar.update,
+      ...(args.compare
+        ? {
+            extraFiles: (tmp: string, manifest: Manifest) => {
+              // the new tables are complete in the staged folder: compare them with the earlier build
+              diff = diffBuilds(args.compare!, tmp, manifest);
+              return writeDiffFiles(tmp, diff, args.compare!, args.out);
+            },
+          }
+        : {}),
+    });
   } finally {
     bar.stop();
   }
   const m = result.manifest;
   if (io.json) {
-    printJson(io, { ok: true, dir: args.out, manifest: m, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, theory: result.theory, warnings: facts.warnings, safety: SAFETY });
+    printJson(io, { ok: true, dir: args.out, manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffResult).identical, summary: (diff as DiffResult).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, theory: result.theory, warnings: facts.warnings, safety: SAFETY });
     return 0;
   }
   const lines = [
@@ -37,6 +56,7 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
     ...m.perFrequency.map((p) => `  ${(Number(p.frequencyHz) / 1e9).toPrecision(6)} GHz: G_ref ${fmt(p.gRefDb, 3)} dB (element ${p.gRefElement}), ${p.clipped} clipped`),
   ];
   if (result.summary) lines.push("", ...summaryLines(result.summary, m.counts.beams, m.frequenciesHz), "", ...theoryLines(result.theory));
+  if (diff) lines.push("", `compared with ${args.compare} (changes.csv, diff.json):`, ...diffLines(diff).map((l) => "  " + l));
   for (const w of facts.warnings) lines.push(warn(io, `warning: ${w}`));
   lines.push("", SAFETY);
   io.stdout(lines.join("\n") + "\n");

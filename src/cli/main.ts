@@ -7,6 +7,8 @@ import { InputError, formatProblem } from "../core/errors.js";
 import { buildCommand } from "./build.js";
 import { checkCommand } from "./check.js";
 import { initCommand } from "./init.js";
+import { diffCommand } from "./diff.js";
+import { verifyCommand } from "./verify.js";
 import { defaultIo } from "./shared.js";
 import { availableParallelism } from "node:os";
 import { toolVersion } from "../io/version.js";
@@ -45,13 +47,30 @@ export async function main(argv: string[]): Promise<number> {
           .positional("scenario", { type: "string", demandOption: true })
           .option("o", { alias: "out", type: "string", describe: "output folder", default: "steercode-build" })
           .option("jobs", { type: "number", default: availableParallelism(), describe: "worker threads for the analysis" })
-          .option("analysis", { type: "boolean", default: true, describe: "write beams.csv (--no-analysis: tables only)" }),
+          .option("analysis", { type: "boolean", default: true, describe: "write beams.csv (--no-analysis: tables only)" })
+          .option("compare", { type: "string", describe: "an earlier build: write its word-level changes (changes.csv, diff.json) beside the new one" }),
       handler: (a) =>
         run(() => {
           const jobs = Number(a.jobs);
           if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(a.jobs)}`);
-          return buildCommand(io, { scenario: String(a.scenario), out: String(a.o), jobs, analysis: a.analysis !== false });
+          return buildCommand(io, { scenario: String(a.scenario), out: String(a.o), jobs, analysis: a.analysis !== false, compare: a.compare === undefined ? null : String(a.compare) });
         })(),
+    })
+    .command({
+      command: "diff <dirA> <dirB>",
+      describe: "word-level changes between two builds (exit 1 when they differ)",
+      builder: (y) =>
+        y
+          .positional("dirA", { type: "string", demandOption: true })
+          .positional("dirB", { type: "string", demandOption: true })
+          .option("o", { alias: "out", type: "string", describe: "write changes.csv and diff.json into this folder" }),
+      handler: (a) => run(() => diffCommand(io, String(a.dirA), String(a.dirB), a.o === undefined ? undefined : String(a.o)))(),
+    })
+    .command({
+      command: "verify <dir>",
+      describe: "re-read a build and check it end to end (exit 1 on any mismatch)",
+      builder: (y) => y.positional("dir", { type: "string", demandOption: true }),
+      handler: (a) => run(() => verifyCommand(io, String(a.dir)))(),
     })
     .demandCommand(1, "expected a command: init, check, build, sweep, diff, verify or report")
     .strict()

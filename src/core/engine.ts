@@ -3,7 +3,7 @@
  * consumer one beam at a time through caller-owned, reused buffers.
  */
 import type { Plan } from "./plan.js";
-import { allocBeamCodes, makeQuantizer, prepareFrequency, type BeamCodes } from "./quantize/index.js";
+import { allocBeamCodes, makeQuantizer, prepareFrequency, type BeamCodes, type FrequencyPrep, type Quantizer } from "./quantize/index.js";
 import { packPlan } from "./words.js";
 
 export interface BeamSink {
@@ -64,26 +64,62 @@ export interface FrequencySummary {
   clipped: number;
 }
 
-/** Run every (frequency, beam) through the quantizer and packer. Beams from `first` to `last` (exclusive). */
-export function runTables(plan: Plan, sink: BeamSink, onBeam?: (done: number) => void, opts: { commanded?: boolean } = {}): FrequencySummary[] {
-  const n = plan.elements.count;
-  const codes = allocBeamCodes(n);
-  const words = new Uint32Array(n);
-  const packer = new BeamPacker(plan);
-  const out: FrequencySummary[] = [];
-  let done = 0;
-  for (let fi = 0; fi < plan.frequenciesHz.length; fi++) {
-    const prep = prepareFrequency(plan, fi);
-    const q = makeQuantizer(plan, fi, prep, { commanded: opts.commanded ?? true });
-    let clipped = 0;
-    for (let b = 0; b < plan.beams.count; b++) {
-      q.beam(b, codes);
-      clipped = Math.max(clipped, codes.clipped);
-      packer.pack(codes, words);
-      sink(fi, b, words, codes);
-      if (onBeam) onBeam(++done);
-    }
-    out.push({ gRefDb: prep.gRefDb, gRefElement: prep.gRefElement, clipped });
+/**
+ * Every (frequency, beam) through the quantizer and packer, in order, a slice at a
+ * time: `step(n)` does up to n beams and says whether it is finished, so that an
+ * async caller can yield between slices (signals are handled, progress is drawn).
+ */
+export class TableRun {
+  private readonly codes: BeamCodes;
+  private readonly words: Uint32Array;
+  private readonly packer: BeamPacker;
+  private fi = 0;
+  private b = 0;
+  private q: Quantizer | null = null;
+  private prep: FrequencyPrep | null = null;
+  private clipped = 0;
+  done = 0;
+  readonly summaries: FrequencySummary[] = [];
+  constructor(
+    private readonly plan: Plan,
+    private readonly sink: BeamSink,
+    private readonly commanded = true,
+  ) {
+    const n = plan.elements.count;
+    this.codes = allocBeamCodes(n);
+    this.words = new Uint32Array(n);
+    this.packer = new BeamPacker(plan);
   }
-  return out;
+  step(maxBeams: number): boolean {
+    const plan = this.plan;
+    let left = maxBeams;
+    while (this.fi < plan.frequenciesHz.length && left > 0) {
+      if (!this.q) {
+        this.prep = prepareFrequency(plan, this.fi);
+        this.q = makeQuantizer(plan, this.fi, this.prep, { commanded: this.commanded });
+        this.clipped = 0;
+      }
+      this.q.beam(this.b, this.codes);
+      this.clipped = Math.max(this.clipped, this.codes.clipped);
+      this.packer.pack(this.codes, this.words);
+      this.sink(this.fi, this.b, this.words, this.codes);
+      this.done++;
+      left--;
+      if (++this.b === plan.beams.count) {
+        this.summaries.push({ gRefDb: this.prep!.gRefDb, gRefElement: this.prep!.gRefElement, clipped: this.clipped });
+        this.fi++;
+        this.b = 0;
+        this.q = null;
+      }
+    }
+    return this.fi >= plan.frequenciesHz.length;
+  }
+}
+
+/** Run every (frequency, beam) through the quantizer and packer, synchronously. */
+export function runTables(plan: Plan, sink: BeamSink, onBeam?: (done: number) => void, opts: { commanded?: boolean } = {}): FrequencySummary[] {
+  const run = new TableRun(plan, sink, opts.commanded ?? true);
+  while (!run.step(64)) onBeam?.(run.done);
+  onBeam?.(run.done);
+  return run.summaries;
 }

@@ -90,7 +90,8 @@ export function radToDeg(rad: number): number {
 }
 /** Wrap degrees into [0, 360). */
 export function wrap360(deg: number): number {
-  const r = deg - 360 * Math.floor(deg / 360);
+  let r = deg - 360 * Math.floor(deg / 360);
+  if (r < 0) r += 360; // deg/360 can underflow to −0 for subnormal negative deg
   return r >= 360 ? 0 : r;
 }
 /** Wrap degrees into (-180, 180]. */

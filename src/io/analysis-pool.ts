@@ -7,6 +7,7 @@
  * failing worker rejects the whole analysis.
  */
 import { Worker } from "node:worker_threads";
+import { setImmediate as yieldNow } from "node:timers/promises";
 import type { Plan } from "../core/plan.js";
 import { METRICS } from "../core/pattern/analyze.js";
 import { analyseRange, type AnalyzerCache } from "../core/pattern/run.js";
@@ -24,14 +25,17 @@ function chunkCount(s: SharedAnalysis): number {
   return s.frequencies * Math.ceil(s.beams / CHUNK_BEAMS);
 }
 
-/** Claim and compute chunks until none are left; returns the number of beams done. */
-export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: number) => void, cache: { c: AnalyzerCache | null } = { c: null }): number {
+/** Claim and compute chunks until none are left (or `limit` chunks are done); returns the number of beams done. */
+export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: number) => void, cache: { c: AnalyzerCache | null } = { c: null }, limit = Infinity): number {
   const perF = Math.ceil(s.beams / CHUNK_BEAMS);
   const total = chunkCount(s);
   let done = 0;
-  for (;;) {
+  for (let k = 0; k < limit; k++) {
     const id = Atomics.add(s.counter, 0, 1);
-    if (id >= total) return done;
+    if (id >= total) {
+      Atomics.sub(s.counter, 0, 1);
+      return done;
+    }
     const fi = Math.floor(id / perF);
     const from = (id % perF) * CHUNK_BEAMS;
     const to = Math.min(s.beams, from + CHUNK_BEAMS);
@@ -39,6 +43,11 @@ export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: 
     done += to - from;
     onProgress?.(to - from);
   }
+  return done;
+}
+
+function finished(s: SharedAnalysis): boolean {
+  return Atomics.load(s.counter, 0) >= chunkCount(s);
 }
 
 export interface AnalysisJob {
@@ -48,9 +57,12 @@ export interface AnalysisJob {
   cancel(): void;
 }
 
-function workerUrl(): { url: URL; execArgv: string[] } {
-  const fromSource = import.meta.url.endsWith(".ts");
-  return { url: new URL(fromSource ? "./analysis-worker.ts" : "./analysis-worker.js", import.meta.url), execArgv: fromSource ? ["--import", "tsx"] : [] };
+/** The worker: compiled JS in dist; from source (tests), a bootstrap that registers tsx first. */
+function makeWorker(workerData: unknown): Worker {
+  if (!import.meta.url.endsWith(".ts")) return new Worker(new URL("./analysis-worker.js", import.meta.url), { workerData });
+  const target = new URL("./analysis-worker.ts", import.meta.url).href;
+  const boot = `import("tsx/esm/api").then((t) => { t.register(); return import(${JSON.stringify(target)}); });`;
+  return new Worker(boot, { eval: true, workerData });
 }
 
 export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean } = {}): AnalysisJob {
@@ -64,13 +76,12 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
     frequencies,
   };
   const nWorkers = Math.max(0, Math.min(jobs - 1, chunkCount(shared) - 1));
-  const { url, execArgv } = workerUrl();
   let done = 0;
   const tick = (n: number) => {
     done += n;
     onProgress?.(done, total);
   };
-  const workers = Array.from({ length: nWorkers }, () => new Worker(url, { workerData: { plan, shared, failForTest: !!opts.failForTest }, execArgv }));
+  const workers = Array.from({ length: nWorkers }, () => makeWorker({ plan, shared, failForTest: !!opts.failForTest }));
   const exits = workers.map(
     (w) =>
       new Promise<void>((resolve, reject) => {
@@ -94,7 +105,12 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
     async finish() {
       try {
         if (opts.failForTest && nWorkers === 0) throw new Error("injected analysis failure (test)");
-        drainChunks(plan, shared, tick);
+        // the calling thread takes chunks too, a few at a time, yielding between them
+        const cache: { c: AnalyzerCache | null } = { c: null };
+        while (!finished(shared)) {
+          drainChunks(plan, shared, tick, cache, 2);
+          await yieldNow();
+        }
         await all;
         return shared.metrics;
       } finally {

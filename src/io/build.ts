@@ -6,7 +6,8 @@
 import { copyFileSync, mkdirSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { configure } from "safe-stable-stringify";
-import { runTables, type FrequencySummary } from "../core/engine.js";
+import { runTables, TableRun, type FrequencySummary } from "../core/engine.js";
+import { setImmediate as yieldNow } from "node:timers/promises";
 import { enabledCount, type Plan } from "../core/plan.js";
 import type { LoadedScenario, InputRole } from "./scenario.js";
 import { StagedDir } from "./outdir.js";
@@ -48,6 +49,9 @@ export interface Manifest {
   inputs: { role: InputRole; ref: string; copy: string; sha256: string; comments: string[] }[];
   calibration: { ref: string; sha256: string; comments: string[] } | null;
   counts: { frequencies: number; beams: number; elements: number; enabledElements: number; words: number };
+  /** Element ids in table order; disabled ones listed apart. */
+  elementIds: number[];
+  disabledIds: number[];
   frequenciesHz: string[];
   layout: { bits: number; bytes: number; off: number; fields: { name: string; shift: number; width: number; value?: number }[] };
   phaseShifter: { bits: number; lsbDeg: number; measuredStates: boolean };
@@ -75,7 +79,7 @@ export interface BuildOptions {
   failAnalysisForTest?: boolean;
   onProgress?: (done: number, total: number) => void;
   /** Extra files (name → contents) written into the folder before the manifest. */
-  extraFiles?: (tmpDir: string, plan: Plan) => Promise<Record<string, FileDigest>> | Record<string, FileDigest>;
+  extraFiles?: (tmpDir: string, manifest: Manifest) => Promise<Record<string, FileDigest>> | Record<string, FileDigest>;
 }
 
 export interface BuildResult {
@@ -106,6 +110,8 @@ export function makeManifest(loaded: LoadedScenario, scenarioSource: string, per
       enabledElements: enabledCount(plan),
       words: plan.frequenciesHz.length * plan.beams.count * plan.elements.count,
     },
+    elementIds: Array.from(plan.elements.ids),
+    disabledIds: Array.from(plan.elements.ids).filter((_, i) => !plan.elements.enabled[i]),
     frequenciesHz: ft,
     layout: { bits: plan.word.bits, bytes: plan.word.bytes, off: plan.word.off, fields: plan.word.fields },
     phaseShifter: { bits: plan.phaseBits, lsbDeg: 360 / 2 ** plan.phaseBits, measuredStates: !!plan.phaseStates },
@@ -131,9 +137,16 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     const total = plan.frequenciesHz.length * plan.beams.count;
     job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest }) : null;
     const writers = makeWriters(tmp, { plan, frequencyText: ft });
-    const perFrequency = runTables(plan, (fi, b, words, codes) => {
+    const run = new TableRun(plan, (fi, b, words, codes) => {
       for (const w of writers) w.beam(fi, b, words, codes);
-    }, opts.onProgress && !job ? (d) => { if (d % 64 === 0 || d === total) opts.onProgress!(d, total); } : undefined, { commanded: plan.outputs.includes("csv") });
+    }, plan.outputs.includes("csv"));
+    // slices of ~a few ms, yielding in between so SIGINT/SIGTERM are handled promptly
+    const slice = Math.max(1, Math.floor(262144 / plan.elements.count));
+    while (!run.step(slice)) {
+      if (!job) opts.onProgress?.(run.done, total);
+      await yieldNow();
+    }
+    const perFrequency = run.summaries;
     const files: Record<string, ManifestFile> = {};
     const bin = writers.find((w) => w.file === TABLE_FILES.bin);
     let binCrc: number | null = null;
@@ -158,14 +171,14 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
       summary = summarise(metrics);
     }
     const theory = theoryFor(plan);
-    if (opts.extraFiles) {
-      const extra = await opts.extraFiles(tmp, plan);
-      for (const [k, d] of Object.entries(extra)) files[k] = { bytes: d.bytes, sha256: d.sha256 };
-    }
     for (const i of loaded.inputs) files[INPUT_COPY[i.role]] = { bytes: i.file.bytes.length, sha256: i.file.sha256 };
     files[SCENARIO_COPY] = { bytes: loaded.scenario.bytes.length, sha256: loaded.scenario.sha256 };
     const manifest = makeManifest(loaded, loaded.scenario.name.split(/[\\/]/).pop() ?? "scenario.json", perFrequency, files, opts.analysis);
     if (summary) manifest.extra = { summary, theory };
+    if (opts.extraFiles) {
+      const extra = await opts.extraFiles(tmp, manifest);
+      for (const [k, d] of Object.entries(extra)) files[k] = { bytes: d.bytes, sha256: d.sha256 };
+    }
     writeFileSync(join(tmp, "manifest.json"), stableJson(manifest, null, 2) + "\n", { flag: "wx" });
     stage.commit();
     return { dir: outDir, manifest, perFrequency, metrics, summary, theory };

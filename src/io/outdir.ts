@@ -60,6 +60,31 @@ function hookSignals(): void {
   process.on("exit", cleanupAll);
 }
 
+function alive(pid: number): boolean {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (e) {
+    return (e as NodeJS.ErrnoException).code === "EPERM";
+  }
+}
+
+/** Staging folders left by a process that was killed outright (SIGKILL, power loss) are removed. */
+function removeStale(abs: string): void {
+  const prefix = `.${basename(abs)}.steercode-`;
+  let names: string[] = [];
+  try {
+    names = readdirSync(dirname(abs));
+  } catch {
+    return;
+  }
+  for (const n of names) {
+    if (!n.startsWith(prefix)) continue;
+    const m = /steercode-(?:tmp|old)-(\d+)-\d+$/.exec(n);
+    if (m && !alive(Number(m[1]))) rmSync(join(dirname(abs), n), { recursive: true, force: true });
+  }
+}
+
 export class StagedDir {
   readonly tmp: string;
   private done = false;
@@ -67,6 +92,7 @@ export class StagedDir {
     checkTarget(target);
     hookSignals();
     const abs = resolve(target);
+    removeStale(abs);
     this.tmp = join(dirname(abs), `.${basename(abs)}.steercode-tmp-${process.pid}-${counter++}`);
     mkdirSync(this.tmp);
     live.add(this.tmp);

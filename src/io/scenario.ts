@@ -331,8 +331,9 @@ class Loader {
     const from = new D(raw.from).toString();
     const step = new D(raw.step).toString();
     const count = axisCount(from, new D(raw.to).toString(), step);
-    if (raw.to > raw.from && raw.step > raw.to - raw.from) {
-      this.problem(`${pointer}/step`, `step ${raw.step} is larger than the span ${raw.to - raw.from}; the grid would hold only "from". Expected a step ≤ ${raw.to - raw.from} (or from = to for one value)`);
+    const span = new D(raw.to).minus(raw.from);
+    if (span.gt(0) && new D(raw.step).gt(span)) {
+      this.problem(`${pointer}/step`, `step ${raw.step} is larger than the span ${span.toString()}; the grid would hold only "from". Expected a step ≤ ${span.toString()} (or from = to for one value)`);
       return null;
     }
     if (count > MAX_BEAMS) {

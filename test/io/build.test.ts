@@ -122,3 +122,16 @@ int main(void) {
     expect(readdirSync(t)).toEqual(["out"]);
   });
 });
+
+describe("analysis in workers", () => {
+  it("gives exactly the metrics of the in-process analysis", async () => {
+    const { loadScenario } = await import("../../src/io/scenario.js");
+    const { runBuild } = await import("../../src/io/build.js");
+    const t = tempDir();
+    const L = loadScenario(DEMO);
+    const a = await runBuild(L, join(t, "a"), { analysis: true, jobs: 1 });
+    const b = await runBuild(L, join(t, "b"), { analysis: true, jobs: 3 });
+    expect(Array.from(b.metrics!)).toEqual(Array.from(a.metrics!));
+    expect(readFileSync(join(t, "a", "beams.csv")).equals(readFileSync(join(t, "b", "beams.csv")))).toBe(true);
+  });
+});

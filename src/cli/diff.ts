@@ -1,0 +1,53 @@
+import { join } from "node:path";
+import { diffBuilds, writeChangesCsv, type DiffResult } from "../io/diff.js";
+import { StagedDir } from "../io/outdir.js";
+import { stableJson } from "../io/build.js";
+import { writeFileSync } from "node:fs";
+import { sha256 } from "../io/files.js";
+import { fmt, printJson, type Io } from "./shared.js";
+
+/** Write changes.csv and diff.json into `dir` (used by `diff -o` and `build --compare`). Returns file digests. */
+export function writeDiffFiles(dir: string, r: DiffResult, a: string, b: string) {
+  const csv = writeChangesCsv(join(dir, "changes.csv"), r);
+  const doc = { format: "steercode-diff/1", old: a, new: b, identical: r.identical, summary: r.summary, files: { "changes.csv": { bytes: csv.bytes, sha256: csv.sha256 } } };
+  const text = stableJson(doc, null, 2) + "\n";
+  writeFileSync(join(dir, "diff.json"), text);
+  return { "changes.csv": csv, "diff.json": { bytes: Buffer.byteLength(text), sha256: sha256(text), crc32: 0 } };
+}
+
+export function diffLines(r: DiffResult): string[] {
+  const s = r.summary;
+  const lines = [
+    r.identical ? `identical: all ${s.wordsCompared} words agree` : `${s.wordsChanged} of ${s.wordsCompared} words changed, in ${s.beamsTouched} beam(s) and ${s.elementsTouched} element(s)`,
+  ];
+  if (!r.identical) lines.push(`largest phase change ${s.largestPhaseChangeLsb} LSB, largest attenuation change ${s.largestAttenChangeSteps} step(s)`);
+  for (const g of s.gRefChangeDb) lines.push(`G_ref at ${g.frequencyHz} Hz: ${fmt(g.old, 3)} → ${fmt(g.new, 3)} dB`);
+  if (s.calibrationChanged) lines.push(`calibration: ${s.oldCalibration ?? "none"} → ${s.newCalibration ?? "none"}`);
+  return lines;
+}
+
+export function diffCommand(io: Io, a: string, b: string, out: string | undefined): number {
+  const r = diffBuilds(a, b);
+  if (out) {
+    const stage = new StagedDir(out);
+    try {
+      writeDiffFiles(stage.tmp, r, a, b);
+      stage.commit();
+    } catch (e) {
+      stage.abort();
+      throw e;
+    }
+  }
+  if (io.json) printJson(io, { identical: r.identical, summary: r.summary, changes: r.changes });
+  else {
+    const lines = diffLines(r);
+    const show = r.changes.slice(0, 20);
+    if (show.length) {
+      lines.push("", "frequency_hz  beam  element  old_word → new_word  phase  atten");
+      for (const c of show) lines.push(`${c.frequency_hz}  ${String(c.beam).padStart(4)}  ${String(c.element).padStart(7)}  ${String(c.old_word).padStart(8)} → ${String(c.new_word).padEnd(8)}  ${c.old_phase_code}→${c.new_phase_code}  ${c.old_atten_code}→${c.new_atten_code}`);
+      if (r.changes.length > show.length) lines.push(`… ${r.changes.length - show.length} more${out ? ` in ${join(out, "changes.csv")}` : " (-o DIR writes them all to changes.csv)"}`);
+    }
+    io.stdout(lines.join("\n") + "\n");
+  }
+  return r.identical ? 0 : 1;
+}

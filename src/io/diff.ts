@@ -1,0 +1,122 @@
+/**
+ * Word-level comparison of two builds (`steercode diff`, `build --compare`).
+ * Builds compare only when their layout, element set, frequencies and beam count
+ * agree; otherwise the reason is said plainly (exit 2).
+ */
+import { InputError } from "../core/errors.js";
+import { packPlan, unpackWord, type WordLayout } from "../core/words.js";
+import type { Manifest } from "./build.js";
+import { buildWords, readManifest } from "./readbuild.js";
+import { stableJson } from "./build.js";
+import { HashedFile, type FileDigest } from "./hashed.js";
+
+export interface Change {
+  frequency_hz: string;
+  beam: number;
+  element: number;
+  old_word: number;
+  new_word: number;
+  old_phase_code: number;
+  new_phase_code: number;
+  old_atten_code: number;
+  new_atten_code: number;
+}
+
+export interface DiffSummary {
+  wordsCompared: number;
+  wordsChanged: number;
+  beamsTouched: number;
+  elementsTouched: number;
+  largestPhaseChangeLsb: number;
+  largestAttenChangeSteps: number;
+  gRefChangeDb: { frequencyHz: string; old: number; new: number }[];
+  calibrationChanged: boolean;
+  oldCalibration: string | null;
+  newCalibration: string | null;
+}
+
+export interface DiffResult {
+  identical: boolean;
+  summary: DiffSummary;
+  changes: Change[];
+}
+
+function layoutKey(l: WordLayout): string {
+  return stableJson({ bits: l.bits, off: l.off, fields: l.fields.map((f) => ({ n: f.name, s: f.shift, w: f.width, v: f.value ?? null })) }) ?? "";
+}
+
+/** `manifestB` stands in for dirB's manifest.json while a build is still being staged. */
+export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest): DiffResult {
+  const a = readManifest(dirA);
+  const b = manifestB ?? readManifest(dirB);
+  const why: string[] = [];
+  if (layoutKey(a.layout) !== layoutKey(b.layout)) why.push("the word layouts differ (bits, off word or fields)");
+  if (a.counts.elements !== b.counts.elements) why.push(`the element counts differ (${a.counts.elements} vs ${b.counts.elements})`);
+  if (a.counts.beams !== b.counts.beams) why.push(`the beam counts differ (${a.counts.beams} vs ${b.counts.beams})`);
+  if (a.frequenciesHz.join(",") !== b.frequenciesHz.join(",")) why.push(`the frequencies differ (${a.frequenciesHz.join(", ")} Hz vs ${b.frequenciesHz.join(", ")} Hz)`);
+  const idsA = a.elementIds;
+  const idsB = b.elementIds;
+  if (!why.length && idsA.join(",") !== idsB.join(",")) why.push("the element ids differ");
+  if (why.length) throw new InputError({ file: `${dirA} vs ${dirB}`, message: `these builds cannot be compared word by word: ${why.join("; ")}` });
+  const wa = buildWords(dirA, a).words;
+  const wb = buildWords(dirB, b).words;
+  const E = a.counts.elements;
+  const B = a.counts.beams;
+  if (wa.length !== a.counts.words || wb.length !== b.counts.words)
+    throw new InputError({ file: wa.length !== a.counts.words ? dirA : dirB, message: "the table holds a different number of words than its manifest says; run steercode verify on it" });
+  const pp = packPlan(a.layout);
+  const states = 2 ** a.phaseShifter.bits;
+  const changes: Change[] = [];
+  const beams = new Set<number>();
+  const elems = new Set<number>();
+  let maxPhase = 0;
+  let maxAtten = 0;
+  for (let i = 0; i < wa.length; i++) {
+    if (wa[i] === wb[i]) continue;
+    const fi = Math.floor(i / (B * E));
+    const beam = Math.floor(i / E) % B;
+    const e = i % E;
+    const ua = unpackWord(pp, a.layout, wa[i]!);
+    const ub = unpackWord(pp, a.layout, wb[i]!);
+    const dp = Math.abs(ua.phaseCode - ub.phaseCode) % states;
+    maxPhase = Math.max(maxPhase, Math.min(dp, states - dp));
+    maxAtten = Math.max(maxAtten, Math.abs(ua.attenCode - ub.attenCode));
+    beams.add(fi * B + beam);
+    elems.add(e);
+    changes.push({ frequency_hz: a.frequenciesHz[fi]!, beam, element: idsA[e]!, old_word: wa[i]!, new_word: wb[i]!, old_phase_code: ua.phaseCode, new_phase_code: ub.phaseCode, old_atten_code: ua.attenCode, new_atten_code: ub.attenCode });
+  }
+  const gRefChangeDb = a.perFrequency
+    .map((p, i) => ({ frequencyHz: p.frequencyHz, old: p.gRefDb, new: b.perFrequency[i]?.gRefDb ?? NaN }))
+    .filter((g) => g.old !== g.new);
+  const summary: DiffSummary = {
+    wordsCompared: wa.length,
+    wordsChanged: changes.length,
+    beamsTouched: beams.size,
+    elementsTouched: elems.size,
+    largestPhaseChangeLsb: maxPhase,
+    largestAttenChangeSteps: maxAtten,
+    gRefChangeDb,
+    calibrationChanged: (a.calibration?.sha256 ?? null) !== (b.calibration?.sha256 ?? null),
+    oldCalibration: a.calibration ? `${a.calibration.ref} (sha256 ${a.calibration.sha256.slice(0, 12)}…)` : null,
+    newCalibration: b.calibration ? `${b.calibration.ref} (sha256 ${b.calibration.sha256.slice(0, 12)}…)` : null,
+  };
+  return { identical: changes.length === 0, summary, changes };
+}
+
+export const CHANGE_COLUMNS = ["frequency_hz", "beam", "element", "old_word", "new_word", "old_phase_code", "new_phase_code", "old_atten_code", "new_atten_code"] as const;
+
+/** changes.csv: one row per changed word; every cell is an integer or an exact decimal. */
+export function writeChangesCsv(path: string, r: DiffResult): FileDigest {
+  const f = new HashedFile(path);
+  f.write(CHANGE_COLUMNS.join(",") + "\n");
+  const lines: string[] = [];
+  for (const c of r.changes) {
+    lines.push(CHANGE_COLUMNS.map((k) => String(c[k])).join(","));
+    if (lines.length >= 4096) {
+      f.write(lines.join("\n") + "\n");
+      lines.length = 0;
+    }
+  }
+  if (lines.length) f.write(lines.join("\n") + "\n");
+  return f.close();
+}

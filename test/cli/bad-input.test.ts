@@ -1,0 +1,126 @@
+/**
+ * The bad-input corpus (issue: "never take bad input"): every case must exit 2 with a
+ * message that names the file and the field (JSON pointer) or the CSV line, write
+ * nothing (no output folder, no staging folder), and show no stack trace.
+ */
+import { existsSync, mkdirSync, readdirSync, writeFileSync } from "node:fs";
+import { join } from "node:path";
+import { describe, expect, it } from "vitest";
+import { baseScenario, cli, tempDir } from "../helpers.js";
+
+const CAL8 = "element,phase_offset_deg,gain_offset_db\n" + Array.from({ length: 8 }, (_, i) => `${i},0,0`).join("\n") + "\n";
+const ELS = (rows: string[]) => "element,x_m,y_m\n" + rows.join("\n") + "\n";
+const line8 = Array.from({ length: 8 }, (_, i) => `${i},${(i * 0.015).toFixed(3)},0`);
+
+interface Case {
+  name: string;
+  doc?: Record<string, unknown> | string;
+  files?: Record<string, string | Buffer>;
+  args?: (dir: string) => string[];
+  /** what the message must say: the file/field/line and what was expected */
+  expect: RegExp[];
+  prepare?: (dir: string) => void;
+}
+
+const B = baseScenario;
+const cases: Case[] = [
+  { name: "broken JSON", doc: '{ "format": "steercode-scenario/1", }', expect: [/scenario\.json, line 1: not valid JSON/] },
+  { name: "not an object", doc: "[1, 2]", expect: [/scenario\.json: \/: expected a JSON object/] },
+  { name: "wrong format", doc: B({ format: "steercode-scenario/9" }), expect: [/\/format: expected "steercode-scenario\/1"/] },
+  { name: "unknown key with a did-you-mean", doc: { ...B(), frequncy: "1 GHz" }, expect: [/\/: unknown key "frequncy"; did you mean "frequency"\?/] },
+  { name: "unknown lattice key", doc: B({ array: { lattice: { kind: "rectangular", colums: 8, rows: 1, dx: "1 cm", dy: "1 cm" } } }), expect: [/\/array\/lattice: unknown key "colums"; did you mean "columns"\?/] },
+  { name: "frequency with a bad unit", doc: B({ frequency: "28 GHZZ" }), expect: [/\/frequency: expected a frequency.*GHz.*got "28 GHZZ"/] },
+  { name: "negative frequency", doc: B({ frequency: "-28 GHz" }), expect: [/\/frequency: expected a frequency > 0/] },
+  { name: "zero frequency", doc: B({ frequency: 0 }), expect: [/\/frequency: expected a frequency > 0/] },
+  { name: "duplicate frequency", doc: B({ frequency: ["10 GHz", "10000 MHz"] }), expect: [/\/frequency\/1: frequency 10000000000 Hz is listed twice/] },
+  { name: "zero spacing", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "0 mm", dy: "5 mm" } } }), expect: [/\/array\/lattice\/dx: expected a spacing > 0/] },
+  { name: "negative spacing", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5 mm", dy: "-5 mm" } } }), expect: [/\/array\/lattice\/dy: expected a spacing > 0/] },
+  { name: "spacing in a unit that is not a length", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5 parsec", dy: "5 mm" } } }), expect: [/\/array\/lattice\/dx: expected a length/] },
+  { name: "zero columns", doc: B({ array: { lattice: { kind: "rectangular", columns: 0, rows: 1, dx: "5 mm", dy: "5 mm" } } }), expect: [/\/array\/lattice\/columns: expected a number >= 1/] },
+  { name: "fractional rows", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 2.5, dx: "5 mm", dy: "5 mm" } } }), expect: [/\/array\/lattice\/rows: expected integer/] },
+  { name: "lattice and elements both", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5 mm", dy: "5 mm" }, elements: "e.csv" } }), expect: [/\/array: give either "lattice" or "elements", not both/] },
+  { name: "phase bits 0", doc: B({ phaseShifter: { bits: 0 } }), expect: [/\/phaseShifter\/bits: expected a number >= 1/] },
+  { name: "phase bits 13", doc: B({ phaseShifter: { bits: 13 } }), expect: [/\/phaseShifter\/bits: expected a number <= 12/] },
+  { name: "attenuator bits 11", doc: B({ attenuator: { bits: 11, step: "0.5 dB" } }), expect: [/\/attenuator\/bits: expected a number <= 10/] },
+  { name: "zero attenuator step", doc: B({ attenuator: { bits: 6, step: "0 dB" } }), expect: [/\/attenuator\/step: expected an attenuator step > 0 dB/] },
+  { name: "negative attenuator step", doc: B({ attenuator: { bits: 6, step: "-0.5 dB" } }), expect: [/\/attenuator\/step: expected an attenuator step > 0 dB/] },
+  { name: "positive sidelobe level", doc: B({ taper: { kind: "chebyshev", sidelobe: "30 dB" } }), expect: [/\/taper\/sidelobe: expected a negative sidelobe level/] },
+  { name: "unknown taper", doc: B({ taper: { kind: "taylr", sidelobe: "-30 dB", nbar: 4 } }), expect: [/\/taper: unknown kind "taylr"; did you mean "taylor"\?/] },
+  { name: "Taylor without nbar", doc: B({ taper: { kind: "taylor", sidelobe: "-30 dB" } }), expect: [/\/taper: missing required key "nbar"/] },
+  { name: "grid step 0", doc: B({ beams: { kind: "azel", az: { from: -10, to: 10, step: 0 }, el: { from: 0, to: 0, step: 1 } } }), expect: [/\/beams\/az\/step: expected a number > 0/] },
+  { name: "grid step larger than the span", doc: B({ beams: { kind: "azel", az: { from: -10, to: 10, step: 500 }, el: { from: 0, to: 0, step: 1 } } }), expect: [/\/beams\/az\/step: step 500 is larger than the span 20/] },
+  { name: "grid to below from", doc: B({ beams: { kind: "azel", az: { from: 10, to: -10, step: 1 }, el: { from: 0, to: 0, step: 1 } } }), expect: [/\/beams\/az: "to" \(-10\) is below "from" \(10\)/] },
+  { name: "more beams than a table can hold", doc: B({ beams: { kind: "azel", az: { from: -90, to: 90, step: 0.0001 }, el: { from: 0, to: 0, step: 1 } } }), expect: [/\/beams\/az\/step: step 0.0001 gives 1800001 values; expected at most 1048576/] },
+  { name: "u-v beams outside visible space", doc: B({ beams: { kind: "uv", u: { from: 0.8, to: 0.9, step: 0.1 }, v: { from: 0.8, to: 0.8, step: 1 } } }), expect: [/\/beams: 2 beam\(s\) outside visible space/] },
+  { name: "azimuth past 90°", doc: B({ beams: { kind: "azel", az: { from: 80, to: 95, step: 5 }, el: { from: 0, to: 0, step: 1 } } }), expect: [/\/beams\/az\/to: expected a value from -90 to 90/] },
+  { name: "overlapping word fields", doc: B({ word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 8 }, { name: "atten", shift: 4, width: 8 }] } }), expect: [/\/word\/fields\/1: field "atten" overlaps field "phase"/] },
+  { name: "phase field too narrow", doc: B({ phaseShifter: { bits: 6 }, word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 4 }, { name: "atten", shift: 8, width: 8 }] } }), expect: [/\/word\/fields\/0\/width: field "phase" is 4 bits wide but the phase shifter has 6 bits/] },
+  { name: "field past the word", doc: B({ word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 8 }, { name: "atten", shift: 12, width: 8 }] } }), expect: [/\/word\/fields\/1: field "atten" \(bits 12…19\) runs past the 16-bit word/] },
+  { name: "off word too wide", doc: B({ word: { bits: 16, off: 70000, fields: [{ name: "phase", shift: 0, width: 8 }, { name: "atten", shift: 8, width: 8 }] } }), expect: [/\/word\/off: expected an off word that fits in 16 bits/] },
+  { name: "constant field without a value", doc: B({ word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 8 }, { name: "atten", shift: 8, width: 6 }, { name: "enable", shift: 15, width: 1 }] } }), expect: [/\/word\/fields\/2: constant field "enable" needs a "value"/] },
+  { name: "calibration file missing", doc: B({ calibration: "nope.csv" }), expect: [/nope\.csv: \/calibration: file not found/] },
+  { name: "calibration misses elements", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": "element,phase_offset_deg,gain_offset_db\n0,1,0\n1,2,0\n" }, expect: [/cal\.csv: missing 6 element\(s\): 2–7/] },
+  { name: "calibration row duplicated", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8 + "3,5,0\n" }, expect: [/cal\.csv, line 10, column element: element 3 is listed twice \(also on line 5\)/] },
+  { name: "calibration row for an unknown element", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8 + "99,5,0\n" }, expect: [/cal\.csv, line 10, column element: element 99 is not in the array/] },
+  { name: "calibration cell not a number", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8.replace("\n4,0,0", "\n4,12deg,0") }, expect: [/cal\.csv, line 6, column phase_offset_deg: expected a number, got "12deg"/] },
+  { name: "calibration with a wrong header", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": "id,phase,gain\n0,0,0\n" }, expect: [/cal\.csv, line 1, column id: unknown column "id"/] },
+  { name: "calibration file empty", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": "" }, expect: [/cal\.csv: expected a header row/] },
+  { name: "calibration not UTF-8", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": Buffer.from([0x65, 0x6c, 0xff, 0xfe, 0x0a]) }, expect: [/cal\.csv: \/calibration: expected UTF-8 text/] },
+  { name: "calibration with a ragged row", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8.replace("\n2,0,0", "\n2,0") }, expect: [/cal\.csv, line 4: expected 3 cells/] },
+  { name: "elements.csv: duplicated element", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS([...line8, "3,0.5,0"]) }, expect: [/el\.csv, line 10, column element: element 3 is listed twice/] },
+  { name: "elements.csv: x not a number", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["0,abc,0", ...line8.slice(1)]) }, expect: [/el\.csv, line 2, column x_m: expected a number, got "abc"/] },
+  { name: "elements.csv: enabled neither yes nor no", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": "element,x_m,y_m,enabled\n0,0,0,maybe\n1,0.01,0,1\n" }, expect: [/el\.csv, line 2, column enabled: expected 1\/0, true\/false or yes\/no, got "maybe"/] },
+  { name: "elements.csv: negative element id", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["-1,0,0", "1,0.01,0"]) }, expect: [/el\.csv, line 2, column element: expected a whole number ≥ 0, got "-1"/] },
+  { name: "elements.csv: two elements at one place", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["0,0,0", "1,0,0"]) }, expect: [/el\.csv, line 3: element 1 sits at the same position as element 0/] },
+  { name: "beam list missing", doc: B({ beams: { kind: "list", file: "beams.csv" } }), expect: [/beams\.csv: \/beams\/file: file not found/] },
+  { name: "beam list outside visible space", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "u,v\n0,0\n0.9,0.9\n" }, expect: [/beams\.csv, line 3: beam \(u=0\.9, v=0\.9\) is outside visible space/] },
+  { name: "beam list with only a header", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "az_deg,el_deg\n" }, expect: [/beams\.csv, line 1: expected data rows after the header/] },
+  { name: "beam list cell not a number", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "az_deg,el_deg\n10,x\n" }, expect: [/beams\.csv, line 2, column el_deg: expected a number, got "x"/] },
+  { name: "phase states: code past the part", doc: B({ phaseShifter: { bits: 2, states: "ps.csv" } }), files: { "ps.csv": "code,phase_deg,gain_db\n0,0,0\n1,90,0\n2,180,0\n3,270,0\n4,0,0\n" }, expect: [/ps\.csv, line 6, column code: code 4 does not exist on a 2-bit part/] },
+  { name: "phase states: a code missing", doc: B({ phaseShifter: { bits: 2, states: "ps.csv" } }), files: { "ps.csv": "code,phase_deg,gain_db\n0,0,0\n1,90,0\n3,270,0\n" }, expect: [/ps\.csv: missing 1 state\(s\): code 2/] },
+  { name: "atten states per element: an element missing", doc: B({ attenuator: { bits: 1, step: "1 dB", states: "as.csv" } }), files: { "as.csv": "element,code,atten_db,phase_deg\n" + Array.from({ length: 7 }, (_, e) => `${e},0,0,0\n${e},1,1,0`).join("\n") + "\n" }, expect: [/as\.csv: missing 2 state\(s\): element 7 code 0, element 7 code 1/] },
+  { name: "randomized quantizer with measured states", doc: B({ quantizer: { method: "randomized", seed: 1 }, phaseShifter: { bits: 2, states: "ps.csv" } }), files: { "ps.csv": "code,phase_deg,gain_db\n0,0,0\n1,90,0\n2,180,0\n3,270,0\n" }, expect: [/\/quantizer\/method: expected "nearest" with measured state tables/] },
+  { name: "unknown disabled element", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5 mm", dy: "5 mm" }, disabled: [3, 12] } }), expect: [/\/array\/disabled\/1: no element 12 in the array/] },
+  { name: "every element disabled", doc: B({ array: { lattice: { kind: "rectangular", columns: 2, rows: 1, dx: "5 mm", dy: "5 mm" }, disabled: [0, 1] } }), expect: [/\/array\/disabled: every element is disabled/] },
+  { name: "scenario file that does not exist", args: (d) => ["build", join(d, "missing.json"), "-o", join(d, "out")], expect: [/missing\.json: file not found/] },
+  {
+    name: "output folder that steercode did not write",
+    doc: B(),
+    prepare: (d) => { mkdirSync(join(d, "out")); writeFileSync(join(d, "out", "mine.txt"), "x"); },
+    expect: [/out: exists and was not written by steercode/],
+  },
+  { name: "unknown option", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--colour"], expect: [/Unknown argument: colour/] },
+  { name: "--jobs 0", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "0"], expect: [/--jobs: expected a whole number from 1 to 256, got 0/] },
+  { name: "verify on a folder that is not a build", args: (d) => ["verify", d], expect: [/manifest\.json: not found: expected a steercode build folder/] },
+];
+
+describe("bad input: exit 2, a message naming file and field or line, nothing written", () => {
+  it("the corpus holds at least 40 cases", () => expect(cases.length).toBeGreaterThanOrEqual(40));
+  for (const c of cases) {
+    it.concurrent(c.name, async () => {
+      const dir = tempDir("steercode-bad-");
+      for (const [n, t] of Object.entries(c.files ?? {})) writeFileSync(join(dir, n), t);
+      if (c.doc !== undefined) writeFileSync(join(dir, "scenario.json"), typeof c.doc === "string" ? c.doc : JSON.stringify(c.doc, null, 2));
+      c.prepare?.(dir);
+      const before = readdirSync(dir).sort();
+      const args = c.args ? c.args(dir) : ["build", join(dir, "scenario.json"), "-o", join(dir, "out")];
+      const r = cli(args);
+      expect(r.code, r.stderr).toBe(2);
+      for (const re of c.expect) expect(r.stderr).toMatch(re);
+      expect(r.stderr).not.toMatch(/\n\s+at .+:\d+:\d+/); // no stack trace
+      expect(r.stderr).not.toMatch(/internal error/);
+      expect(readdirSync(dir).sort()).toEqual(before); // nothing written, no staging folder left
+      if (!c.prepare) expect(existsSync(join(dir, "out"))).toBe(false);
+    });
+  }
+
+  it("--json reports the problems as one JSON document with exit 2", () => {
+    const dir = tempDir();
+    writeFileSync(join(dir, "scenario.json"), JSON.stringify(B({ phaseShifter: { bits: 0 }, attenuator: { bits: 6, step: "0 dB" } })));
+    const r = cli(["check", join(dir, "scenario.json"), "--json"]);
+    expect(r.code).toBe(2);
+    const doc = JSON.parse(r.stdout);
+    expect(doc.ok).toBe(false);
+    expect(doc.problems.map((p: { pointer: string }) => p.pointer)).toContain("/phaseShifter/bits");
+  });
+});

@@ -1,0 +1,153 @@
+import { spawn } from "node:child_process";
+import { cpSync, existsSync, readFileSync, readdirSync, writeFileSync } from "node:fs";
+import { join } from "node:path";
+import { describe, expect, it } from "vitest";
+import { parse } from "csv-parse/sync";
+import { BIN, cli, tempDir, writeScenario, baseScenario } from "../helpers.js";
+import { loadScenario } from "../../src/io/scenario.js";
+import { runBuild } from "../../src/io/build.js";
+
+const DEMO = join(import.meta.dirname, "..", "..", "fixtures", "demo");
+
+function editCal(path: string, ids: number[], dPhase: number, dGain: number): void {
+  const lines = readFileSync(path, "utf8").split("\n").map((l) => {
+    const m = /^(\d+),([-\d.]+),([-\d.]+)$/.exec(l);
+    if (!m || !ids.includes(Number(m[1]))) return l;
+    return `${m[1]},${(Number(m[2]) + dPhase).toFixed(2)},${(Number(m[3]) + dGain).toFixed(3)}`;
+  });
+  writeFileSync(path, lines.join("\n").replace("date: 2026-11-20", "date: 2026-11-27"));
+}
+
+describe("recalibration loop: build, change calibration, build --compare, diff, verify", () => {
+  const t = tempDir();
+  const demo = join(t, "demo");
+  cpSync(DEMO, demo, { recursive: true });
+  const b1 = join(t, "b1"), b2 = join(t, "b2");
+
+  it("finds exactly the words of the recalibrated elements", () => {
+    expect(cli(["build", join(demo, "scenario.json"), "-o", b1, "--no-analysis"]).code).toBe(0);
+    editCal(join(demo, "cal.csv"), [5, 6, 200], 7.5, 0);
+    const r = cli(["build", join(demo, "scenario.json"), "-o", b2, "--no-analysis", "--compare", b1, "--json"]);
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.stdout);
+    expect(doc.compare.identical).toBe(false);
+    expect(doc.compare.summary.elementsTouched).toBeLessThanOrEqual(3);
+    expect(doc.manifest.calibration.comments.join(" ")).toMatch(/2026-11-27/);
+    const changes = parse(readFileSync(join(b2, "changes.csv")), { columns: true }) as Record<string, string>[];
+    expect(changes.length).toBe(doc.compare.summary.wordsChanged);
+    expect(new Set(changes.map((c) => c.element))).toEqual(new Set(["5", "6", "200"]));
+    // 7.5° on a 6-bit shifter (LSB 5.625°) moves a code by 1 or 2 LSB
+    for (const c of changes) {
+      const d = (Number(c.old_phase_code) - Number(c.new_phase_code) + 64) % 64;
+      expect([1, 2]).toContain(d);
+      expect(c.old_atten_code).toBe(c.new_atten_code);
+    }
+  });
+
+  it("diff agrees with build --compare and exits 1; identical builds exit 0", () => {
+    const r = cli(["diff", b1, b2, "--json"]);
+    expect(r.code).toBe(1);
+    const doc = JSON.parse(r.stdout);
+    const csv = parse(readFileSync(join(b2, "changes.csv")), { columns: true }) as Record<string, string>[];
+    expect(doc.changes.length).toBe(csv.length);
+    expect(doc.changes[0].old_word).toBe(Number(csv[0]!.old_word));
+    expect(cli(["diff", b1, b1]).code).toBe(0);
+    const out = join(t, "d");
+    expect(cli(["diff", b1, b2, "-o", out]).code).toBe(1);
+    expect(readdirSync(out).sort()).toEqual(["changes.csv", "diff.json"]);
+  });
+
+  it("builds with different element sets cannot be compared (exit 2, said plainly)", () => {
+    const other = join(t, "other");
+    const s = writeScenario(baseScenario({ outputs: ["bin"] }));
+    expect(cli(["build", s, "-o", other, "--no-analysis"]).code).toBe(0);
+    const r = cli(["diff", b1, other]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/cannot be compared word by word: .*element counts differ \(256 vs 8\)/);
+  });
+
+  it("verify passes on a fresh build, also after the folder is copied elsewhere", () => {
+    expect(cli(["verify", b2]).code).toBe(0);
+    const copy = join(tempDir(), "moved");
+    cpSync(b2, copy, { recursive: true });
+    const r = cli(["verify", copy, "--json"]);
+    expect(r.code).toBe(0);
+    expect(JSON.parse(r.stdout).checks.some((c: { check: string }) => /recomputed/.test(c.check))).toBe(true);
+  });
+
+  it("verify names the first file and (frequency, beam, element) that disagree", () => {
+    const bad = join(tempDir(), "bad");
+    cpSync(b2, bad, { recursive: true });
+    const mem = readFileSync(join(bad, "table.mem"), "utf8").split("\n");
+    // word index 300 = beam 1, element 44 (256 elements a beam); +2 for the two comment lines
+    mem[302] = mem[302] === "0000" ? "0001" : "0000";
+    writeFileSync(join(bad, "table.mem"), mem.join("\n"));
+    const r = cli(["verify", bad, "--json"]);
+    expect(r.code).toBe(1);
+    const doc = JSON.parse(r.stdout);
+    expect(doc.firstMismatch).toMatchObject({ file: "table.mem", beam: 1, element: 44 });
+  });
+
+  it("verify catches a table that no longer matches its recorded inputs", () => {
+    const bad = join(tempDir(), "bad2");
+    cpSync(b2, bad, { recursive: true });
+    // edit the copied calibration and re-hash everything so only the recomputation can tell
+    const cal = join(bad, "inputs", "calibration.csv");
+    editCal(cal, [7], 90, 0);
+    const m = JSON.parse(readFileSync(join(bad, "manifest.json"), "utf8"));
+    const { createHash } = require("node:crypto") as typeof import("node:crypto");
+    m.files["inputs/calibration.csv"].sha256 = createHash("sha256").update(readFileSync(cal)).digest("hex");
+    m.files["inputs/calibration.csv"].bytes = readFileSync(cal).length;
+    writeFileSync(join(bad, "manifest.json"), JSON.stringify(m, null, 2));
+    const r = cli(["verify", bad, "--json"]);
+    expect(r.code).toBe(1);
+    const doc = JSON.parse(r.stdout);
+    expect(doc.checks.find((c: { check: string; ok: boolean }) => /recomputed/.test(c.check)).ok).toBe(false);
+    expect(doc.firstMismatch.element).toBe(7);
+  });
+});
+
+describe("faults: a build that dies midway leaves the previous output intact and nothing half-written", () => {
+  const big = () => {
+    const d = tempDir();
+    const s = writeScenario(baseScenario({
+      array: { lattice: { kind: "rectangular", columns: 64, rows: 64, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      beams: { kind: "uv", u: { from: -0.6, to: 0.6, step: 0.01 }, v: { from: -0.6, to: 0.6, step: 0.02 } },
+      phaseShifter: { bits: 6 },
+    }), {}, d);
+    return { d, s };
+  };
+  for (const sig of ["SIGINT", "SIGTERM"] as const) {
+    it(`${sig} during a real build`, async () => {
+      const { d, s } = big();
+      const out = join(d, "out");
+      // the previous output: a small but real build in the same folder
+      const small = writeScenario(baseScenario({ outputs: ["bin"] }), {}, join(d, "small"));
+      expect(cli(["build", small, "-o", out, "--no-analysis"]).code).toBe(0);
+      const before = readFileSync(join(out, "manifest.json"));
+      const child = spawn(process.execPath, [BIN, "build", s, "-o", out, "--no-analysis"], { stdio: "ignore" });
+      // wait until the staging folder exists, i.e. the build is under way
+      const t0 = Date.now();
+      while (!readdirSync(d).some((n) => n.includes("steercode-tmp")) && Date.now() - t0 < 20000) await new Promise((r) => setTimeout(r, 10));
+      expect(readdirSync(d).some((n) => n.includes("steercode-tmp"))).toBe(true);
+      child.kill(sig);
+      const code = await new Promise<number | null>((r) => child.on("exit", (c) => r(c)));
+      expect(code).toBe(sig === "SIGINT" ? 130 : 143);
+      expect(readFileSync(join(out, "manifest.json")).equals(before)).toBe(true);
+      expect(readdirSync(d).filter((n) => n.startsWith(".")).length).toBe(0);
+    });
+  }
+
+  it("a thrown error in an analysis worker aborts the build; the previous output stays", async () => {
+    const d = tempDir();
+    const s = writeScenario(baseScenario({ beams: { kind: "uv", u: { from: -0.5, to: 0.5, step: 0.05 }, v: { from: 0, to: 0, step: 1 } } }), {}, d);
+    const out = join(d, "out");
+    await runBuild(loadScenario(s), out, { analysis: true, jobs: 1 });
+    const before = readFileSync(join(out, "manifest.json"));
+    await expect(runBuild(loadScenario(s), out, { analysis: true, jobs: 2, failAnalysisForTest: true })).rejects.toThrow(/injected worker failure/);
+    await expect(runBuild(loadScenario(s), out, { analysis: true, jobs: 1, failAnalysisForTest: true })).rejects.toThrow(/injected analysis failure/);
+    expect(readFileSync(join(out, "manifest.json")).equals(before)).toBe(true);
+    expect(readdirSync(d).filter((n) => n.startsWith(".")).length).toBe(0);
+    expect(existsSync(join(out, "beams.csv"))).toBe(true);
+  });
+});
