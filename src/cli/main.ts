@@ -9,11 +9,12 @@ import { checkCommand } from "./check.js";
 import { initCommand } from "./init.js";
 import { diffCommand } from "./diff.js";
 import { verifyCommand } from "./verify.js";
+import { sweepCommand } from "./sweep.js";
+import { UsageError } from "./usage.js";
 import { defaultIo } from "./shared.js";
 import { availableParallelism } from "node:os";
 import { toolVersion } from "../io/version.js";
 
-class UsageError extends Error {}
 
 /** Exit code a command reports through this, so that handlers can return 0/1. */
 export async function main(argv: string[]): Promise<number> {
@@ -54,6 +55,24 @@ export async function main(argv: string[]): Promise<number> {
           const jobs = Number(a.jobs);
           if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(a.jobs)}`);
           return buildCommand(io, { scenario: String(a.scenario), out: String(a.o), jobs, analysis: a.analysis !== false, compare: a.compare === undefined ? null : String(a.compare) });
+        })(),
+    })
+    .command({
+      command: "sweep <scenario>",
+      describe: "bit-depth trade-off: the whole grid for every phase-bit depth and attenuator step",
+      builder: (y) =>
+        y
+          .positional("scenario", { type: "string", demandOption: true })
+          .option("phase-bits", { type: "string", default: "3..8", describe: "bit depths: a range 3..8 or a list 3,4,6" })
+          .option("atten-step", { type: "string", describe: "attenuator steps in dB, e.g. 0.25,0.5,1 (default: the scenario's)" })
+          .option("quantizer", { type: "string", describe: "nearest, randomized or both (nearest,randomized)" })
+          .option("o", { alias: "out", type: "string", default: "steercode-sweep", describe: "output folder" })
+          .option("jobs", { type: "number", default: availableParallelism(), describe: "threads for the analysis" }),
+      handler: (a) =>
+        run(() => {
+          const jobs = Number(a.jobs);
+          if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(a.jobs)}`);
+          return sweepCommand(io, { scenario: String(a.scenario), out: String(a.o), phaseBits: String(a["phase-bits"]), attenStep: a["atten-step"] === undefined ? null : String(a["atten-step"]), quantizer: a.quantizer === undefined ? null : String(a.quantizer), jobs });
         })(),
     })
     .command({

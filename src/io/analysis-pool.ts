@@ -14,21 +14,40 @@ import { analyseRange, type AnalyzerCache } from "../core/pattern/run.js";
 
 export const CHUNK_BEAMS = 8;
 
+/** A part to analyse the plan with (the sweep); the build uses the plan's own part. */
+export interface Variant {
+  phaseBits: number;
+  attenBits: number;
+  attenStepDb: number;
+  attenStepExact: string;
+  quantizer: Plan["quantizer"];
+}
+
 export interface SharedAnalysis {
   counter: Int32Array;
+  /** [variant][frequency][beam][metric] */
   metrics: Float64Array;
   beams: number;
   frequencies: number;
+  variants: Variant[] | null;
+  /** compute the ideal pattern too (false: realized only; psl_ideal/sll_rise left NaN) */
+  ideal: boolean;
 }
 
 function chunkCount(s: SharedAnalysis): number {
-  return s.frequencies * Math.ceil(s.beams / CHUNK_BEAMS);
+  return (s.variants?.length ?? 1) * s.frequencies * Math.ceil(s.beams / CHUNK_BEAMS);
+}
+
+export function variantPlan(plan: Plan, v: Variant | undefined): Plan {
+  return v ? { ...plan, ...v, phaseStates: plan.phaseStates, attenStates: plan.attenStates } : plan;
 }
 
 /** Claim and compute chunks until none are left (or `limit` chunks are done); returns the number of beams done. */
-export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: number) => void, cache: { c: AnalyzerCache | null } = { c: null }, limit = Infinity): number {
+export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: number) => void, cache: { c: AnalyzerCache | null; v?: number } = { c: null }, limit = Infinity): number {
   const perF = Math.ceil(s.beams / CHUNK_BEAMS);
+  const perV = perF * s.frequencies;
   const total = chunkCount(s);
+  const plans = new Map<number, Plan>();
   let done = 0;
   for (let k = 0; k < limit; k++) {
     const id = Atomics.add(s.counter, 0, 1);
@@ -36,10 +55,17 @@ export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: 
       Atomics.sub(s.counter, 0, 1);
       return done;
     }
-    const fi = Math.floor(id / perF);
+    const v = Math.floor(id / perV);
+    const fi = Math.floor((id % perV) / perF);
     const from = (id % perF) * CHUNK_BEAMS;
     const to = Math.min(s.beams, from + CHUNK_BEAMS);
-    analyseRange(plan, fi, from, to, s.metrics.subarray((fi * s.beams + from) * METRICS, (fi * s.beams + to) * METRICS), cache);
+    if (!plans.has(v)) plans.set(v, variantPlan(plan, s.variants?.[v]));
+    if (cache.v !== v) {
+      cache.c = null;
+      cache.v = v;
+    }
+    const base = (v * s.frequencies + fi) * s.beams;
+    analyseRange(plans.get(v)!, fi, from, to, s.metrics.subarray((base + from) * METRICS, (base + to) * METRICS), cache, s.ideal);
     done += to - from;
     onProgress?.(to - from);
   }
@@ -65,15 +91,17 @@ function makeWorker(workerData: unknown): Worker {
   return new Worker(boot, { eval: true, workerData });
 }
 
-export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean } = {}): AnalysisJob {
+export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean; variants?: Variant[]; ideal?: boolean } = {}): AnalysisJob {
   const beams = plan.beams.count;
   const frequencies = plan.frequenciesHz.length;
-  const total = beams * frequencies;
+  const total = beams * frequencies * (opts.variants?.length ?? 1);
   const shared: SharedAnalysis = {
     counter: new Int32Array(new SharedArrayBuffer(4)),
     metrics: new Float64Array(new SharedArrayBuffer(total * METRICS * 8)),
     beams,
     frequencies,
+    variants: opts.variants ?? null,
+    ideal: opts.ideal ?? true,
   };
   const nWorkers = Math.max(0, Math.min(jobs - 1, chunkCount(shared) - 1));
   let done = 0;
@@ -106,7 +134,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
       try {
         if (opts.failForTest && nWorkers === 0) throw new Error("injected analysis failure (test)");
         // the calling thread takes chunks too, a few at a time, yielding between them
-        const cache: { c: AnalyzerCache | null } = { c: null };
+        const cache: { c: AnalyzerCache | null; v?: number } = { c: null };
         while (!finished(shared)) {
           drainChunks(plan, shared, tick, cache, 2);
           await yieldNow();

@@ -115,8 +115,24 @@ export class BeamAnalyzer {
     }
   }
 
-  /** Analyse beam b with its codes; writes METRICS values into out[off …]. */
-  analyse(b: number, codes: BeamCodes, out: Float64Array, off: number): void {
+  /** PSL (dB) of the ideal tapered pattern of beam b; it does not depend on the quantizer or part. */
+  idealPsl(b: number): number {
+    const plan = this.plan;
+    const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
+    const g = this.grid;
+    this.evI.setBeam(u0, v0, w0);
+    if (this.idealPeriodic) g.fillFromPeriodic(this.idealPeriodic, u0, v0, this.winI);
+    else g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
+    const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0);
+    return 10 * Math.log10(id.sidelobePower / id.peakPower);
+  }
+
+  /**
+   * Analyse beam b with its codes; writes METRICS values into out[off …]. With
+   * `ideal: false` the ideal pattern is skipped (psl_ideal_db and sll_rise_db are NaN,
+   * to be filled from idealPsl by the caller, as the sweep does).
+   */
+  analyse(b: number, codes: BeamCodes, out: Float64Array, off: number, opts: { ideal?: boolean } = {}): void {
     const plan = this.plan;
     const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
     this.realized(b, codes);
@@ -125,13 +141,10 @@ export class BeamAnalyzer {
     this.evI.setBeam(u0, v0, w0);
     g.fill(this.evR.wr, this.evR.wi, u0, v0, w0, this.winR);
     const r = this.finder.analyse(this.winR, this.evR, g.du, g.dv, u0, v0);
-    if (this.idealPeriodic) g.fillFromPeriodic(this.idealPeriodic, u0, v0, this.winI);
-    else g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
-    const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0);
+    const pslI = opts.ideal === false ? NaN : this.idealPsl(b);
     const pu = u0 + r.peakDu, pv = v0 + r.peakDv;
     const pointing = angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) });
     const pslR = 10 * Math.log10(r.sidelobePower / r.peakPower);
-    const pslI = 10 * Math.log10(id.sidelobePower / id.peakPower);
     const fR = this.evR.power(0, 0);
     const fI = this.evI.power(0, 0);
     let sp = 0, sa = 0, n = 0;

@@ -9,7 +9,7 @@ export interface AnalyzerCache {
   quantizer: ReturnType<typeof makeQuantizer>;
 }
 
-export function analyseRange(plan: Plan, fi: number, from: number, to: number, out: Float64Array, cache: { c: AnalyzerCache | null }): void {
+export function analyseRange(plan: Plan, fi: number, from: number, to: number, out: Float64Array, cache: { c: AnalyzerCache | null }, ideal = true): void {
   if (!cache.c || cache.c.fi !== fi) {
     const analyzer = new BeamAnalyzer(plan, fi);
     cache.c = { fi, analyzer, quantizer: makeQuantizer(plan, fi, analyzer.prep) };
@@ -18,6 +18,6 @@ export function analyseRange(plan: Plan, fi: number, from: number, to: number, o
   const codes = allocBeamCodes(plan.elements.count);
   for (let b = from; b < to; b++) {
     quantizer.beam(b, codes);
-    analyzer.analyse(b, codes, out, (b - from) * METRICS);
+    analyzer.analyse(b, codes, out, (b - from) * METRICS, { ideal });
   }
 }
