@@ -10,6 +10,7 @@ import { initCommand } from "./init.js";
 import { diffCommand } from "./diff.js";
 import { verifyCommand } from "./verify.js";
 import { sweepCommand } from "./sweep.js";
+import { reportCommand } from "./report.js";
 import { UsageError } from "./usage.js";
 import { defaultIo } from "./shared.js";
 import { availableParallelism } from "node:os";
@@ -90,6 +91,22 @@ export async function main(argv: string[]): Promise<number> {
       describe: "re-read a build and check it end to end (exit 1 on any mismatch)",
       builder: (y) => y.positional("dir", { type: "string", demandOption: true }),
       handler: (a) => run(() => verifyCommand(io, String(a.dir)))(),
+    })
+    .command({
+      command: "report <dir>",
+      describe: "a self-contained HTML report of a build and/or sweep folder",
+      builder: (y) =>
+        y
+          .positional("dir", { type: "string", demandOption: true })
+          .option("o", { alias: "out", type: "string", describe: "report file (default: DIR/report.html)" })
+          .option("beam", { type: "number", describe: "beam to show (default: the one with the largest sidelobe rise)" })
+          .option("frequency", { type: "number", describe: "frequency index to show (default: that of the chosen beam, else 0)" }),
+      handler: (a) =>
+        run(() => {
+          for (const k of ["beam", "frequency"] as const)
+            if (a[k] !== undefined && (!Number.isInteger(a[k]) || (a[k] as number) < 0)) throw new UsageError(`--${k}: expected a whole number ≥ 0, got ${String(a[k])}`);
+          return reportCommand(io, { dir: String(a.dir), out: a.o === undefined ? null : String(a.o), beam: a.beam === undefined ? null : Number(a.beam), frequency: a.frequency === undefined ? null : Number(a.frequency) });
+        })(),
     })
     .demandCommand(1, "expected a command: init, check, build, sweep, diff, verify or report")
     .strict()

@@ -166,6 +166,36 @@ export class BeamAnalyzer {
     out[off + M.clipped] = codes.clipped;
   }
 
+  /**
+   * Principal-plane cuts through the beam direction of the last analysed beam:
+   * |AF|² (dB, relative to the realized peak) of the ideal and realized weights along
+   * u (v = v0) and along v (u = u0), over visible space, `n` points each.
+   */
+  cuts(n: number): { u: { x: number[]; ideal: number[]; realized: number[] }; v: { x: number[]; ideal: number[]; realized: number[] } } {
+    const { u0, v0 } = this.evR;
+    let peak = 0;
+    const mk = (axis: "u" | "v") => {
+      const other = axis === "u" ? v0 : u0;
+      const half = Math.sqrt(Math.max(0, 1 - other * other));
+      const x: number[] = [], ideal: number[] = [], realized: number[] = [];
+      for (let i = 0; i < n; i++) {
+        const t = -half + (2 * half * i) / (n - 1);
+        const du = axis === "u" ? t - u0 : 0;
+        const dv = axis === "v" ? t - v0 : 0;
+        x.push(t);
+        const pr = this.evR.power(du, dv);
+        const pi = this.evI.power(du, dv);
+        peak = Math.max(peak, pr, pi);
+        realized.push(pr);
+        ideal.push(pi);
+      }
+      return { x, ideal, realized };
+    };
+    const cu = mk("u"), cv = mk("v");
+    const db = (a: number[]) => a.map((p) => Math.max(-80, 10 * Math.log10(p / peak + 1e-30)));
+    return { u: { x: cu.x, ideal: db(cu.ideal), realized: db(cu.realized) }, v: { x: cv.x, ideal: db(cv.ideal), realized: db(cv.realized) } };
+  }
+
   /** The sampled windows of the last analysed beam (for the report). */
   detail(): PatternDetail {
     const copy = (w: PowerWindow): PowerWindow => ({ ...w, p: w.p.slice(0, w.wm * w.wn), visible: w.visible.slice(0, w.wm * w.wn) });
