@@ -44,6 +44,9 @@ export class AfEvaluator {
   private readonly ky: Float64Array;
   private readonly kz: Float64Array;
   readonly planar: boolean;
+  /** The pattern does not vary along u (one distinct x) or along v (one distinct y): a line array. */
+  readonly lockU: boolean;
+  readonly lockV: boolean;
   private readonly cx: Float64Array;
   private readonly sx: Float64Array;
   private readonly cy: Float64Array;
@@ -68,6 +71,8 @@ export class AfEvaluator {
     this.ky = Float64Array.from(y, (v) => k * v);
     this.kz = Float64Array.from(z, (v) => k * v);
     this.planar = z.every((v) => v === 0);
+    this.lockU = this.planar && this.dx.values.length === 1;
+    this.lockV = this.planar && this.dy.values.length === 1;
     this.cx = new Float64Array(this.dx.values.length);
     this.sx = new Float64Array(this.dx.values.length);
     this.cy = new Float64Array(this.dy.values.length);

@@ -54,8 +54,8 @@ export class LobeFinder {
       i = bi;
       j = bj;
     }
-    // 2. exact peak
-    const pk = refine(ev, (win.m0 + i) * du, (win.n0 + j) * dv, du, dv, null);
+    // 2. exact peak (a line array keeps the commanded value across its normal plane)
+    const pk = refine(ev, ev.lockU ? 0 : (win.m0 + i) * du, ev.lockV ? 0 : (win.n0 + j) * dv, du, dv, null);
     // 3. main lobe: monotone flood fill from the grid peak
     const mask = this.mask;
     mask.fill(0, 0, wm * wn);
@@ -141,7 +141,16 @@ export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv
   for (let it = 0; it < 40; it++) {
     const det = d.puu * d.pvv - d.puv * d.puv;
     let su: number, sv: number;
-    if (d.puu < 0 && det > 0) {
+    if (ev.lockU || ev.lockV) {
+      // a line array: its pattern is constant across the line's normal plane, so the
+      // peak stays at the commanded value of that coordinate and Newton runs in 1-D
+      const [g, hh, c] = ev.lockV ? [d.pu, d.puu, cu] : [d.pv, d.pvv, cv];
+      let s1 = hh < 0 ? -g / hh : Math.sign(g) * c * 0.25;
+      if (!Number.isFinite(s1)) s1 = 0;
+      su = ev.lockV ? s1 : 0;
+      sv = ev.lockV ? 0 : s1;
+      if (ev.lockU && ev.lockV) su = sv = 0;
+    } else if (d.puu < 0 && det > 0) {
       su = -(d.pvv * d.pu - d.puv * d.pv) / det;
       sv = -(-d.puv * d.pu + d.puu * d.pv) / det;
     } else {
