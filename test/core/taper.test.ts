@@ -89,3 +89,21 @@ describe("Dolph–Chebyshev taper", () => {
     });
   }
 });
+
+describe("scipy fixtures are current", () => {
+  it("regenerating them with Debian's python3-scipy gives the committed windows (CI installs it; not skipped)", async () => {
+    const { execFileSync } = await import("node:child_process");
+    const { tempDir } = await import("../helpers.js");
+    const out = tempDir();
+    try {
+      execFileSync("/usr/bin/python3", [join(FIX, "make_windows.py"), "--out", out], { stdio: "pipe" });
+    } catch (e) {
+      throw new Error(`could not run the scipy fixture runner (apt-get install python3-scipy): ${String((e as { stderr?: Buffer }).stderr ?? e)}`);
+    }
+    for (const { f, doc } of fixtures) {
+      const fresh = JSON.parse(readFileSync(join(out, f), "utf8")) as Fixture;
+      expect(fresh.meta.call).toBe(doc.meta.call);
+      fresh.window.forEach((v, i) => expect(v).toBeCloseTo(doc.window[i]!, 12));
+    }
+  });
+});
