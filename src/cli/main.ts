@@ -4,13 +4,6 @@
  */
 import yargs from "yargs";
 import { InputError, formatProblem } from "../core/errors.js";
-import { buildCommand } from "./build.js";
-import { checkCommand } from "./check.js";
-import { initCommand } from "./init.js";
-import { diffCommand } from "./diff.js";
-import { verifyCommand } from "./verify.js";
-import { sweepCommand } from "./sweep.js";
-import { reportCommand } from "./report.js";
 import { UsageError } from "./usage.js";
 import { defaultIo } from "./shared.js";
 import { availableParallelism } from "node:os";
@@ -33,13 +26,13 @@ export async function main(argv: string[]): Promise<number> {
       command: "init [dir]",
       describe: "write a ready demo scenario (invented data)",
       builder: (y) => y.positional("dir", { type: "string", default: "steercode-demo" }),
-      handler: (a) => run(() => initCommand(io, String(a.dir)))(),
+      handler: (a) => run(async () => (await import("./init.js")).initCommand(io, String(a.dir)))(),
     })
     .command({
       command: "check <scenario>",
       describe: "validate a scenario; print derived facts and warnings",
       builder: (y) => y.positional("scenario", { type: "string", demandOption: true }),
-      handler: (a) => run(() => checkCommand(io, String(a.scenario)))(),
+      handler: (a) => run(async () => (await import("./check.js")).checkCommand(io, String(a.scenario)))(),
     })
     .command({
       command: "build <scenario>",
@@ -52,10 +45,10 @@ export async function main(argv: string[]): Promise<number> {
           .option("analysis", { type: "boolean", default: true, describe: "write beams.csv (--no-analysis: tables only)" })
           .option("compare", { type: "string", describe: "an earlier build: write its word-level changes (changes.csv, diff.json) beside the new one" }),
       handler: (a) =>
-        run(() => {
+        run(async () => {
           const jobs = Number(a.jobs);
           if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(a.jobs)}`);
-          return buildCommand(io, { scenario: String(a.scenario), out: String(a.o), jobs, analysis: a.analysis !== false, compare: a.compare === undefined ? null : String(a.compare) });
+          return (await import("./build.js")).buildCommand(io, { scenario: String(a.scenario), out: String(a.o), jobs, analysis: a.analysis !== false, compare: a.compare === undefined ? null : String(a.compare) });
         })(),
     })
     .command({
@@ -70,10 +63,10 @@ export async function main(argv: string[]): Promise<number> {
           .option("o", { alias: "out", type: "string", default: "steercode-sweep", describe: "output folder" })
           .option("jobs", { type: "number", default: availableParallelism(), describe: "threads for the analysis" }),
       handler: (a) =>
-        run(() => {
+        run(async () => {
           const jobs = Number(a.jobs);
           if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(a.jobs)}`);
-          return sweepCommand(io, { scenario: String(a.scenario), out: String(a.o), phaseBits: String(a["phase-bits"]), attenStep: a["atten-step"] === undefined ? null : String(a["atten-step"]), quantizer: a.quantizer === undefined ? null : String(a.quantizer), jobs });
+          return (await import("./sweep.js")).sweepCommand(io, { scenario: String(a.scenario), out: String(a.o), phaseBits: String(a["phase-bits"]), attenStep: a["atten-step"] === undefined ? null : String(a["atten-step"]), quantizer: a.quantizer === undefined ? null : String(a.quantizer), jobs });
         })(),
     })
     .command({
@@ -84,13 +77,13 @@ export async function main(argv: string[]): Promise<number> {
           .positional("dirA", { type: "string", demandOption: true })
           .positional("dirB", { type: "string", demandOption: true })
           .option("o", { alias: "out", type: "string", describe: "write changes.csv and diff.json into this folder" }),
-      handler: (a) => run(() => diffCommand(io, String(a.dirA), String(a.dirB), a.o === undefined ? undefined : String(a.o)))(),
+      handler: (a) => run(async () => (await import("./diff.js")).diffCommand(io, String(a.dirA), String(a.dirB), a.o === undefined ? undefined : String(a.o)))(),
     })
     .command({
       command: "verify <dir>",
       describe: "re-read a build and check it end to end (exit 1 on any mismatch)",
       builder: (y) => y.positional("dir", { type: "string", demandOption: true }),
-      handler: (a) => run(() => verifyCommand(io, String(a.dir)))(),
+      handler: (a) => run(async () => (await import("./verify.js")).verifyCommand(io, String(a.dir)))(),
     })
     .command({
       command: "report <dir>",
@@ -102,10 +95,10 @@ export async function main(argv: string[]): Promise<number> {
           .option("beam", { type: "number", describe: "beam to show (default: the one with the largest sidelobe rise)" })
           .option("frequency", { type: "number", describe: "frequency index to show (default: that of the chosen beam, else 0)" }),
       handler: (a) =>
-        run(() => {
+        run(async () => {
           for (const k of ["beam", "frequency"] as const)
             if (a[k] !== undefined && (!Number.isInteger(a[k]) || (a[k] as number) < 0)) throw new UsageError(`--${k}: expected a whole number ≥ 0, got ${String(a[k])}`);
-          return reportCommand(io, { dir: String(a.dir), out: a.o === undefined ? null : String(a.o), beam: a.beam === undefined ? null : Number(a.beam), frequency: a.frequency === undefined ? null : Number(a.frequency) });
+          return (await import("./report.js")).reportCommand(io, { dir: String(a.dir), out: a.o === undefined ? null : String(a.o), beam: a.beam === undefined ? null : Number(a.beam), frequency: a.frequency === undefined ? null : Number(a.frequency) });
         })(),
     })
     .demandCommand(1, "expected a command: init, check, build, sweep, diff, verify or report")

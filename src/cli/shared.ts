@@ -1,7 +1,7 @@
 /** What every command shares: output (prose or one JSON document), progress, safety text. */
 import { styleText } from "node:util";
-import cliProgress from "cli-progress";
-import { stableJson } from "../io/build.js";
+import { createRequire } from "node:module";
+import { stableJson } from "../io/json.js";
 
 export const SAFETY = [
   "RF safety: a steered transmit beam concentrates RF power. Keep people outside the",
@@ -37,6 +37,8 @@ export function warn(io: Io, text: string): string {
 /** A progress bar on stderr, only when stderr is a TTY. */
 export function progress(io: Io, label: string): { update: (done: number, total: number) => void; stop: () => void } {
   if (!io.stderrIsTty) return { update: () => {}, stop: () => {} };
+  // loaded only for a terminal: it is not needed (nor its start-up cost) otherwise
+  const cliProgress = createRequire(import.meta.url)("cli-progress") as typeof import("cli-progress");
   const bar = new cliProgress.SingleBar({ format: `${label} {bar} {percentage}% | {value}/{total} beams | {eta}s`, stream: process.stderr, hideCursor: true, clearOnComplete: true }, cliProgress.Presets.shades_classic);
   let started = false;
   return {

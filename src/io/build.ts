@@ -5,7 +5,6 @@
  */
 import { copyFileSync, mkdirSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
-import { configure } from "safe-stable-stringify";
 import { runTables, TableRun, type FrequencySummary } from "../core/engine.js";
 import { setImmediate as yieldNow } from "node:timers/promises";
 import { enabledCount, type Plan } from "../core/plan.js";
@@ -24,7 +23,8 @@ import { startAnalysis } from "./analysis-pool.js";
 import { HashedFile } from "./hashed.js";
 import { fixed } from "./format.js";
 
-export const stableJson = configure({ deterministic: true, strict: true, bigint: false, circularValue: Error });
+export { stableJson } from "./json.js";
+import { stableJson } from "./json.js";
 
 export const INPUT_COPY: Record<InputRole, string> = {
   elements: "inputs/elements.csv",

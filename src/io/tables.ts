@@ -7,7 +7,7 @@ import { join } from "node:path";
 import { stringify } from "csv-stringify/sync";
 import type { BeamCodes } from "../core/quantize/contract.js";
 import type { OutputKind, Plan } from "../core/plan.js";
-import { fixed, hexWord, num } from "./format.js";
+import { AsciiBuffer, hexWord, num } from "./format.js";
 import { HashedFile, type FileDigest } from "./hashed.js";
 
 export interface TableWriter {
@@ -88,13 +88,29 @@ class CodesCsvWriter implements TableWriter {
    * costs ~2 µs a row, which dominated large builds. The header still goes through
    * csv-stringify, and the tests read the file back with csv-parse.
    */
+  private readonly out = new AsciiBuffer(1 << 16);
   beam(fi: number, b: number, words: Uint32Array, codes: BeamCodes): void {
     const ids = this.ctx.plan.elements.ids;
-    const prefix = `${this.ctx.frequencyText[fi]!},${b},`;
-    const lines = new Array<string>(words.length);
-    for (let i = 0; i < words.length; i++)
-      lines[i] = `${prefix}${ids[i]!},${codes.phaseCode[i]!},${codes.attenCode[i]!},${words[i]!},${fixed(codes.phaseDeg[i]!, 6)},${fixed(codes.attenDb[i]!, 6)}`;
-    this.f.write(lines.join("\n") + "\n");
+    const prefix = Buffer.from(`${this.ctx.frequencyText[fi]!},${b},`, "latin1");
+    const n = words.length;
+    const o = this.out;
+    o.ensure(n * (prefix.length + 80));
+    for (let i = 0; i < n; i++) {
+      o.bytes(prefix);
+      o.uint(ids[i]!);
+      o.byte(44);
+      o.uint(codes.phaseCode[i]!);
+      o.byte(44);
+      o.uint(codes.attenCode[i]!);
+      o.byte(44);
+      o.uint(words[i]!);
+      o.byte(44);
+      o.fixed(codes.phaseDeg[i]!, 6);
+      o.byte(44);
+      o.fixed(codes.attenDb[i]!, 6);
+      o.byte(10);
+    }
+    this.f.write(o.take());
   }
   end(): FileDigest {
     return this.f.close();
@@ -115,10 +131,15 @@ class MemWriter implements TableWriter {
         `// address = (frequency * ${p.beams.count} + beam) * ${p.elements.count} + element\n`,
     );
   }
+  private readonly out = new AsciiBuffer(1 << 16);
   beam(_fi: number, _b: number, words: Uint32Array): void {
-    const lines = new Array<string>(words.length);
-    for (let i = 0; i < words.length; i++) lines[i] = hexWord(words[i]!, this.digits);
-    this.f.write(lines.join("\n") + "\n");
+    const o = this.out;
+    o.ensure(words.length * (this.digits + 1));
+    for (let i = 0; i < words.length; i++) {
+      o.hex(words[i]!, this.digits);
+      o.byte(10);
+    }
+    this.f.write(o.take());
   }
   end(): FileDigest {
     return this.f.close();
@@ -177,13 +198,22 @@ class CHeaderWriter implements TableWriter {
     }
     if (this.lastB >= 0) s += ",\n";
     this.lastB = b;
-    const parts = new Array<string>(words.length);
-    for (let i = 0; i < words.length; i++) parts[i] = `0x${hexWord(words[i]!, this.digits)}`;
-    const lines: string[] = [];
-    for (let i = 0; i < parts.length; i += 12) lines.push("      " + parts.slice(i, i + 12).join(", "));
-    s += `    { /* beam ${b} */\n${lines.join(",\n")}\n    }`;
-    this.f.write(s);
+    s += `    { /* beam ${b} */\n`;
+    // twelve words a line: "      0x003F, 0x0101, …"
+    const o = this.out;
+    o.ensure(s.length + words.length * (this.digits + 6) + 16 * Math.ceil(words.length / 12));
+    o.ascii(s);
+    for (let i = 0; i < words.length; i++) {
+      if (i % 12 === 0) o.ascii(i ? ",\n      " : "      ");
+      else o.ascii(", ");
+      o.byte(48);
+      o.byte(120);
+      o.hex(words[i]!, this.digits);
+    }
+    o.ascii("\n    }");
+    this.f.write(o.take());
   }
+  private readonly out = new AsciiBuffer(1 << 16);
   /** The CRC-32 of table.bin goes at the end: it is known only once every word is out. */
   crc32OfBin: number | null = null;
   end(): FileDigest {

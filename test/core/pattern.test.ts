@@ -28,7 +28,7 @@ function analyseAll(plan: Plan, fi = 0): Float64Array {
  * monotone flood from the peak nearest the commanded direction, then zoomed dense grids
  * (no derivatives, no FFT) around the peak and the top sidelobe.
  */
-function bruteForce(plan: Plan, b: number) {
+function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = "realized") {
   const el = plan.elements;
   const prep = prepareFrequency(plan, 0);
   const q = makeQuantizer(plan, 0, prep);
@@ -38,8 +38,15 @@ function bruteForce(plan: Plan, b: number) {
   const lsb = 360 / 2 ** plan.phaseBits;
   const wr: number[] = [], wi: number[] = [];
   for (let i = 0; i < el.count; i++) {
-    const amp = el.enabled[i] ? Math.pow(10, (plan.cal.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0;
-    const ph = ((plan.cal.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180;
+    let amp: number, ph: number;
+    if (which === "realized") {
+      amp = el.enabled[i] ? Math.pow(10, (plan.cal.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0;
+      ph = ((plan.cal.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180;
+    } else {
+      // ideal: a_n·exp(jφ_n), φ_n = −k r_n·d̂ (interface contract)
+      amp = el.enabled[i] ? plan.amplitude[i]! : 0;
+      ph = -k * (el.x[i]! * plan.beams.u[b]! + el.y[i]! * plan.beams.v[b]!);
+    }
     wr.push(amp * Math.cos(ph));
     wi.push(amp * Math.sin(ph));
   }
@@ -134,6 +141,8 @@ describe("pattern engine against a brute-force direct sum", () => {
         if (process.env.DEBUG_PSL) console.log(b, out[b * METRICS + M.psl_db], ref.pslDb, out[b * METRICS + M.pointing_error_deg], ref.pointingDeg);
         expect(Math.abs(out[b * METRICS + M.psl_db]! - ref.pslDb), `beam ${b} psl`).toBeLessThan(0.05);
         expect(Math.abs(out[b * METRICS + M.pointing_error_deg]! - ref.pointingDeg), `beam ${b} pointing`).toBeLessThan(0.001);
+        const refI = bruteForce(L.plan, b, "ideal");
+        expect(Math.abs(out[b * METRICS + M.psl_ideal_db]! - refI.pslDb), `beam ${b} ideal psl`).toBeLessThan(0.05);
       }
     });
   }

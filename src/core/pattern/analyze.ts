@@ -12,6 +12,7 @@ import { SPEED_OF_LIGHT } from "../units.js";
 import { AfEvaluator } from "./evaluator.js";
 import { allocWindow, PatternGrid, type PowerWindow } from "./grid.js";
 import { LobeFinder } from "./lobes.js";
+import { IdealLobes } from "./ideal-lobes.js";
 
 export const METRIC_COLUMNS = [
   "peak_u",
@@ -54,6 +55,7 @@ export class BeamAnalyzer {
   private readonly states: ElementStates[] | null;
   /** The ideal de-steered weights do not depend on the beam: on lattices their FFT is taken once. */
   private readonly idealPeriodic: Float64Array | null = null;
+  private idealLobes: IdealLobes | null = null;
   readonly phaseErr: Float64Array;
   readonly ampErr: Float64Array;
 
@@ -121,6 +123,10 @@ export class BeamAnalyzer {
     const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
     const g = this.grid;
     this.evI.setBeam(u0, v0, w0);
+    if (this.idealPeriodic && !this.evI.lockU && !this.evI.lockV) {
+      if (!this.idealLobes) this.idealLobes = new IdealLobes(this.idealPeriodic, g.fftSize[0], g.fftSize[1], g.du, g.dv, this.evI);
+      return 10 * Math.log10(this.idealLobes.sidelobePower(u0, v0) / this.idealLobes.peakPower);
+    }
     if (this.idealPeriodic) g.fillFromPeriodic(this.idealPeriodic, u0, v0, this.winI);
     else g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
     const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0);

@@ -125,6 +125,11 @@ export class PatternGrid {
    * Sample |F|² of de-steered weights (wr, wi) for beam (u0, v0, w0) into `win`.
    * Non-planar arrays include the z term exactly (direct mode).
    */
+  /** [nx, ny] of the FFT grid (FFT mode). */
+  get fftSize(): [number, number] {
+    return [this.nx, this.ny];
+  }
+
   /** FFT mode: |F|² on the whole periodic FFT grid, for weights that do not change from beam to beam. */
   periodicPower(wr: Float64Array, wi: Float64Array): Float64Array {
     if (this.mode !== "fft") throw new Error("periodicPower needs a lattice");
