@@ -119,7 +119,21 @@ const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, memGi
   };
 }
 
-// ---- 3. scaling ladder: analysis cost per beam (tables to table.bin only)
+// ---- 3. sweep of 6 bit depths × 3 attenuator steps vs one build, same 32×32 scenario
+{
+  const s = join(tmp, "analysis-32x32", "scenario.json");
+  const out = join(tmp, "sweep-out");
+  const sw = [], one = [];
+  for (let i = 0; i < RUNS; i++) {
+    rmSync(out, { recursive: true, force: true });
+    sw.push(timeCmd(process.execPath, [BIN, "sweep", s, "-o", out, "--phase-bits", "3..8", "--atten-step", "0.25,0.5,1", "--jobs", String(jobs)]).ms);
+    rmSync(join(tmp, "one"), { recursive: true, force: true });
+    one.push(timeCmd(process.execPath, [BIN, "build", s, "-o", join(tmp, "one"), "--jobs", String(jobs)]).ms);
+  }
+  results.sweep = { parts: 18, beams: 441, sweepWallMs: median(sw), buildWallMs: median(one), ratio: median(sw) / median(one), target: 6 };
+}
+
+// ---- 4. scaling ladder: analysis cost per beam (tables to table.bin only)
 results.scaling = [];
 for (const side of [16, 32, 64]) {
   for (const nb of [100, 441, 4096]) {
@@ -146,6 +160,7 @@ console.log(`| peak memory of that build | ${f(c.peakRssMB)} MB | < 300 MB |`);
 console.log(`| full build with analysis, 32×32, 441 beams, all outputs (CLI wall) | ${f(an.steercodeWallMs)} ms | ≤ baseline |`);
 console.log(`| numpy/scipy baseline, same scenario (wall) | ${f(an.baselineWallMs)} ms | — |`);
 console.log(`| ratio steercode / baseline | ${f(an.ratio, 2)} | ≤ 1 |`);
+console.log(`| sweep 6 bit depths × 3 steps (18 parts × 441 beams), CLI wall | ${f(results.sweep.sweepWallMs)} ms = ${f(results.sweep.ratio, 2)} × one build | ≤ 6 × |`);
 console.log(`| baseline vs steercode: PSL |Δ| median / max | ${f(an.baselineVsSteercode.pslAbsDiffDbMedian, 3)} / ${f(an.baselineVsSteercode.pslAbsDiffDbMax, 3)} dB | — |`);
 console.log(`| baseline vs steercode: pointing |Δ| median / max | ${f(an.baselineVsSteercode.pointingAbsDiffDegMedian, 4)} / ${f(an.baselineVsSteercode.pointingAbsDiffDegMax, 4)} deg | — |`);
 console.log(`\n| elements | beams | build with analysis (ms) | ms / beam | peak RSS (MB) |\n|---|---|---|---|---|`);

@@ -6,6 +6,7 @@ import { fmt, printJson, progress, SAFETY, warn, type Io } from "./shared.js";
 import type { Distribution } from "../core/pattern/summary.js";
 import { diffBuilds, type DiffResult } from "../io/diff.js";
 import { readManifest } from "../io/readbuild.js";
+import { WorkerPool } from "../io/analysis-pool.js";
 import { diffLines, writeDiffFiles } from "./diff.js";
 import type { Theory } from "../core/theory.js";
 
@@ -20,6 +21,16 @@ export interface BuildArgs {
 export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
   checkTarget(args.out);
   if (args.compare) readManifest(args.compare);
+  // start the analysis workers now: their start-up overlaps loading the scenario
+  const pool = new WorkerPool(args.analysis ? args.jobs - 1 : 0);
+  try {
+    return await buildWith(io, args, pool);
+  } finally {
+    pool.release();
+  }
+}
+
+async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<number> {
   const loaded = loadScenario(args.scenario);
   let diff: DiffResult | null = null;
   const facts = deriveFacts(loaded.plan);
@@ -29,6 +40,7 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
     result = await runBuild(loaded, args.out, {
       analysis: args.analysis,
       jobs: args.jobs,
+      pool,
       onProgress: bar.update,
       ...(args.compare
         ? {

@@ -84,14 +84,42 @@ export interface AnalysisJob {
 }
 
 /** The worker: compiled JS in dist; from source (tests), a bootstrap that registers tsx first. */
-function makeWorker(workerData: unknown): Worker {
-  if (!import.meta.url.endsWith(".ts")) return new Worker(new URL("./analysis-worker.js", import.meta.url), { workerData });
+function makeWorker(): Worker {
+  if (!import.meta.url.endsWith(".ts")) return new Worker(new URL("./analysis-worker.js", import.meta.url));
   const target = new URL("./analysis-worker.ts", import.meta.url).href;
   const boot = `import("tsx/esm/api").then((t) => { t.register(); return import(${JSON.stringify(target)}); });`;
-  return new Worker(boot, { eval: true, workerData });
+  return new Worker(boot, { eval: true });
 }
 
-export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean; variants?: Variant[]; ideal?: boolean } = {}): AnalysisJob {
+/**
+ * Workers started ahead of the job (before the scenario is even loaded), so their
+ * start-up overlaps the main thread's; each takes one job. Unused ones are stopped
+ * with release().
+ */
+export class WorkerPool {
+  private workers: Worker[];
+  constructor(n: number) {
+    // unref'd while idle: a pool that is never used cannot keep the process alive
+    this.workers = Array.from({ length: Math.max(0, n) }, () => {
+      const w = makeWorker();
+      w.unref();
+      return w;
+    });
+  }
+  take(n: number): Worker[] {
+    const got = this.workers.slice(0, n);
+    this.workers = this.workers.slice(n);
+    for (const w of got) w.ref();
+    while (got.length < n) got.push(makeWorker());
+    return got;
+  }
+  release(): void {
+    for (const w of this.workers) void w.terminate();
+    this.workers = [];
+  }
+}
+
+export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean; variants?: Variant[]; ideal?: boolean; pool?: WorkerPool } = {}): AnalysisJob {
   const beams = plan.beams.count;
   const frequencies = plan.frequenciesHz.length;
   const total = beams * frequencies * (opts.variants?.length ?? 1);
@@ -109,7 +137,10 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
     done += n;
     onProgress?.(done, total);
   };
-  const workers = Array.from({ length: nWorkers }, () => makeWorker({ plan, shared, failForTest: !!opts.failForTest }));
+  const pool = opts.pool ?? new WorkerPool(0);
+  const workers = pool.take(nWorkers);
+  pool.release();
+  for (const w of workers) w.postMessage({ plan, shared, failForTest: !!opts.failForTest });
   const exits = workers.map(
     (w) =>
       new Promise<void>((resolve, reject) => {

@@ -19,7 +19,7 @@ import { stringify } from "csv-stringify/sync";
 import { METRIC_COLUMNS, METRICS } from "../core/pattern/analyze.js";
 import { summarise, type Distribution } from "../core/pattern/summary.js";
 import { theoryFor, type Theory } from "../core/theory.js";
-import { startAnalysis } from "./analysis-pool.js";
+import { startAnalysis, type WorkerPool } from "./analysis-pool.js";
 import { HashedFile } from "./hashed.js";
 import { fixed } from "./format.js";
 
@@ -75,6 +75,8 @@ export function frequencyText(plan: Plan): string[] {
 export interface BuildOptions {
   analysis: boolean;
   jobs?: number;
+  /** Workers started early by the caller (see WorkerPool). */
+  pool?: WorkerPool;
   /** Test hook: make the analysis fail midway (fault-injection test). */
   failAnalysisForTest?: boolean;
   onProgress?: (done: number, total: number) => void;
@@ -135,7 +137,8 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     for (const i of loaded.inputs) writeFileSync(join(tmp, INPUT_COPY[i.role]), i.file.bytes);
     const ft = frequencyText(plan);
     const total = plan.frequenciesHz.length * plan.beams.count;
-    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest }) : null;
+    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}) }) : null;
+    if (!job) opts.pool?.release();
     const writers = makeWriters(tmp, { plan, frequencyText: ft });
     const run = new TableRun(plan, (fi, b, words, codes) => {
       for (const w of writers) w.beam(fi, b, words, codes);

@@ -122,6 +122,12 @@ export class AsciiBuffer {
     this.pos += this.buf.write(s, this.pos, "latin1");
   }
 
+  /** the bytes written so far, as a view valid until the next write; the writer starts over */
+  view(): Buffer {
+    const v = this.buf.subarray(0, this.pos);
+    this.pos = 0;
+    return v;
+  }
   /** the bytes written so far, as a fresh Buffer; the writer starts over */
   take(): Buffer {
     const out = Buffer.from(this.buf.subarray(0, this.pos));

@@ -30,6 +30,15 @@ export class HashedFile {
     this.pendingBytes += buf.length;
     if (this.pendingBytes >= CHUNK) this.flush();
   }
+  /** Write bytes the caller will reuse at once: hashed and written through now, never kept. */
+  writeTransient(buf: Buffer): void {
+    this.flush();
+    this.hash.update(buf);
+    this.crc = crc32(buf, this.crc);
+    this.size += buf.length;
+    let off = 0;
+    while (off < buf.length) off += writeSync(this.fd, buf, off, buf.length - off);
+  }
   private flush(): void {
     if (!this.pendingBytes) return;
     const all = this.pending.length === 1 ? this.pending[0]! : Buffer.concat(this.pending, this.pendingBytes);

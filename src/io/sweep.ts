@@ -7,7 +7,7 @@ import { METRICS } from "../core/pattern/analyze.js";
 import { BeamAnalyzer } from "../core/pattern/analyze.js";
 import { attenBitsFor, SWEEP_COLUMNS, sweepRow, type SweepRow, type SweepVariantSpec } from "../core/sweep.js";
 import { theoryFor } from "../core/theory.js";
-import { startAnalysis } from "./analysis-pool.js";
+import { startAnalysis, type WorkerPool } from "./analysis-pool.js";
 import { stableJson } from "./build.js";
 import { sha256 } from "./files.js";
 import { fixed } from "./format.js";
@@ -23,6 +23,7 @@ export interface SweepOptions {
   quantizers: ("nearest" | "randomized")[];
   jobs: number;
   onProgress?: (done: number, total: number) => void;
+  pool?: WorkerPool;
 }
 
 export interface SweepResult {
@@ -48,6 +49,7 @@ export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepO
   const stage = new StagedDir(outDir);
   const nb = plan.beams.count, nf = plan.frequenciesHz.length;
   const job = startAnalysis(plan, o.jobs, o.onProgress, {
+    ...(o.pool ? { pool: o.pool } : {}),
     ideal: false,
     variants: variants.map((v) => ({ phaseBits: v.phaseBits, attenBits: v.attenBits, attenStepDb: v.attenStepDb, attenStepExact: v.attenStepExact, quantizer: { method: v.quantizer, seed: plan.quantizer.seed } })),
   });

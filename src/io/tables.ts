@@ -110,7 +110,7 @@ class CodesCsvWriter implements TableWriter {
       o.fixed(codes.attenDb[i]!, 6);
       o.byte(10);
     }
-    this.f.write(o.take());
+    this.f.writeTransient(o.view());
   }
   end(): FileDigest {
     return this.f.close();
@@ -139,7 +139,7 @@ class MemWriter implements TableWriter {
       o.hex(words[i]!, this.digits);
       o.byte(10);
     }
-    this.f.write(o.take());
+    this.f.writeTransient(o.view());
   }
   end(): FileDigest {
     return this.f.close();
@@ -151,6 +151,9 @@ class MemWriter implements TableWriter {
  * exactly one translation unit emits its definition (so the header compiles clean
  * with -Wall -pedantic in any number of files).
  */
+const INDENT = Buffer.from("      ");
+const NEXT_LINE = Buffer.from(",\n      ");
+
 class CHeaderWriter implements TableWriter {
   readonly file = TABLE_FILES.c;
   private readonly f: HashedFile;
@@ -204,14 +207,17 @@ class CHeaderWriter implements TableWriter {
     o.ensure(s.length + words.length * (this.digits + 6) + 16 * Math.ceil(words.length / 12));
     o.ascii(s);
     for (let i = 0; i < words.length; i++) {
-      if (i % 12 === 0) o.ascii(i ? ",\n      " : "      ");
-      else o.ascii(", ");
+      if (i % 12 === 0) o.bytes(i ? NEXT_LINE : INDENT);
+      else {
+        o.byte(44);
+        o.byte(32);
+      }
       o.byte(48);
       o.byte(120);
       o.hex(words[i]!, this.digits);
     }
     o.ascii("\n    }");
-    this.f.write(o.take());
+    this.f.writeTransient(o.view());
   }
   private readonly out = new AsciiBuffer(1 << 16);
   /** The CRC-32 of table.bin goes at the end: it is known only once every word is out. */

@@ -58,6 +58,9 @@ export class BeamAnalyzer {
   private idealLobes: IdealLobes | null = null;
   readonly phaseErr: Float64Array;
   readonly ampErr: Float64Array;
+  /** per element: the attenuation code whose amplitude is in qAmp (ideal parts) */
+  private readonly lastQ: Int32Array;
+  private readonly qAmp: Float64Array;
 
   constructor(private readonly plan: Plan, readonly fi: number) {
     this.prep = prepareFrequency(plan, fi);
@@ -79,6 +82,8 @@ export class BeamAnalyzer {
     this.states = plan.phaseStates || plan.attenStates ? Array.from({ length: n }, (_, e) => elementStates(plan, e)) : null;
     this.phaseErr = new Float64Array(n);
     this.ampErr = new Float64Array(n);
+    this.lastQ = new Int32Array(n).fill(-1);
+    this.qAmp = new Float64Array(n);
     if (this.grid.mode === "fft") this.idealPeriodic = this.grid.periodicPower(this.idealAmp, this.zero);
   }
 
@@ -95,25 +100,31 @@ export class BeamAnalyzer {
         wi[i] = 0;
         this.phaseErr[i] = NaN;
         this.ampErr[i] = NaN;
+        this.lastQ[i] = -1;
         continue;
       }
       const t = X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!; // (φ − c)/LSB
       const p = codes.phaseCode[i]!, q = codes.attenCode[i]!;
-      let errDeg: number, ampDb: number;
+      let errDeg: number, amp: number;
       if (this.states) {
         const s = this.states[i]!;
         errDeg = (s.pAng[p]! + s.qAng[q]!) / DEG - t * lsbDeg;
-        ampDb = plan.cal.gainDb[i]! + 20 * Math.log10(s.pMag[p]! * s.qMag[q]!);
+        amp = Math.pow(10, plan.cal.gainDb[i]! / 20) * s.pMag[p]! * s.qMag[q]!;
+        this.ampErr[i] = 20 * Math.log10(amp / this.idealAmp[i]!);
       } else {
         errDeg = (p - t) * lsbDeg;
-        ampDb = plan.cal.gainDb[i]! - q * plan.attenStepDb;
+        // ideal parts: the amplitude depends on the attenuation code only
+        if (this.lastQ[i] !== q) {
+          this.lastQ[i] = q;
+          this.qAmp[i] = Math.pow(10, (plan.cal.gainDb[i]! - q * plan.attenStepDb) / 20);
+          this.ampErr[i] = 20 * Math.log10(this.qAmp[i]! / this.idealAmp[i]!);
+        }
+        amp = this.qAmp[i]!;
       }
       errDeg -= 360 * Math.round(errDeg / 360);
-      const amp = Math.pow(10, ampDb / 20);
       wr[i] = amp * Math.cos(errDeg * DEG);
       wi[i] = amp * Math.sin(errDeg * DEG);
       this.phaseErr[i] = errDeg;
-      this.ampErr[i] = 20 * Math.log10(amp / this.idealAmp[i]!);
     }
   }
 

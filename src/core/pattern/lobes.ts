@@ -55,7 +55,8 @@ export class LobeFinder {
       j = bj;
     }
     // 2. exact peak (a line array keeps the commanded value across its normal plane)
-    const pk = refine(ev, ev.lockU ? 0 : (win.m0 + i) * du, ev.lockV ? 0 : (win.n0 + j) * dv, du, dv, null);
+    const [oi, oj] = parabolic(p, wm, wn, i, j);
+    const pk = refine(ev, ev.lockU ? 0 : (win.m0 + i + oi) * du, ev.lockV ? 0 : (win.n0 + j + oj) * dv, du, dv, null);
     // 3. main lobe: monotone flood fill from the grid peak
     const mask = this.mask;
     mask.fill(0, 0, wm * wn);
@@ -86,15 +87,20 @@ export class LobeFinder {
         const q = b * wm + a;
         if (!visible[q] || mask[q]) continue;
         const pq = p[q]!;
+        // cheap rejection by the horizontal neighbours first (most cells fail here)
+        if (a > 0 && p[q - 1]! > pq && visible[q - 1] && !mask[q - 1]) continue;
+        if (a + 1 < wm && p[q + 1]! > pq && visible[q + 1] && !mask[q + 1]) continue;
         let isMax = true;
-        for (let dj = -1; dj <= 1 && isMax; dj++)
+        for (let dj = -1; dj <= 1 && isMax; dj += 2) {
+          const y = b + dj;
+          if (y < 0 || y >= wn) continue;
           for (let di = -1; di <= 1; di++) {
-            if (!di && !dj) continue;
-            const x = a + di, y = b + dj;
-            if (x < 0 || y < 0 || x >= wm || y >= wn) continue;
+            const x = a + di;
+            if (x < 0 || x >= wm) continue;
             const r = y * wm + x;
             if (visible[r] && !mask[r] && p[r]! > pq) { isMax = false; break; }
           }
+        }
         if (!isMax) continue;
         // keep the CANDIDATES largest
         if (cand.length < CANDIDATES) { cand.push(q); candP.push(pq); }
@@ -112,7 +118,10 @@ export class LobeFinder {
       if (candP[k]! < REFINE_WITHIN * bestGrid) continue;
       const a = q % wm;
       const b = (q - a) / wm;
-      const r = refine(ev, (win.m0 + a) * du, (win.n0 + b) * dv, du, dv, { u0, v0 });
+      const [oa, ob] = parabolic(p, wm, wn, a, b);
+      let su = (win.m0 + a + oa) * du, sv = (win.n0 + b + ob) * dv;
+      if ((u0 + su) ** 2 + (v0 + sv) ** 2 > 1) { su = (win.m0 + a) * du; sv = (win.n0 + b) * dv; }
+      const r = refine(ev, su, sv, du, dv, { u0, v0 });
       // the refined point must stay outside the main lobe; otherwise keep the grid value
       const ra = Math.round(r.du / du) - win.m0;
       const rb = Math.round(r.dv / dv) - win.n0;
@@ -126,6 +135,18 @@ export class LobeFinder {
 }
 
 interface Refined { du: number; dv: number; p: number }
+
+/** Sub-cell offset of a grid maximum from a parabola through log|AF|² of its neighbours (±½ cell). */
+function parabolic(p: Float64Array, wm: number, wn: number, a: number, b: number): [number, number] {
+  const at = (x: number, y: number) => (x < 0 || y < 0 || x >= wm || y >= wn ? NaN : Math.log(p[y * wm + x]! + 1e-300));
+  const fit = (l: number, c: number, r: number) => {
+    const den = l - 2 * c + r;
+    const o = den < 0 ? (0.5 * (l - r)) / den : 0;
+    return Number.isFinite(o) ? Math.max(-0.5, Math.min(0.5, o)) : 0;
+  };
+  const c = at(a, b);
+  return [fit(at(a - 1, b), c, at(a + 1, b)), fit(at(a, b - 1), c, at(a, b + 1))];
+}
 
 /**
  * Maximise |F|² from a grid point by damped Newton steps (at most one cell long).
