@@ -133,7 +133,24 @@ const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, memGi
   results.sweep = { parts: 18, beams: 441, sweepWallMs: median(sw), buildWallMs: median(one), ratio: median(sw) / median(one), target: 6 };
 }
 
-// ---- 4. scaling ladder: analysis cost per beam (tables to table.bin only)
+// ---- 4. bad input is refused quickly (whole CLI process, exit 2)
+{
+  const dir = join(tmp, "bad");
+  spawnSync("mkdir", ["-p", dir]);
+  writeFileSync(join(dir, "cal.csv"), "element,phase_offset_deg,gain_offset_db\n0,1,0\n0,2,0\n");
+  const p = join(dir, "scenario.json");
+  writeFileSync(p, JSON.stringify({ format: "steercode-scenario/1", frequency: "28 GHz", array: { lattice: { kind: "rectangular", columns: 64, rows: 64, dx: "0.5 lambda", dy: "0.5 lambda" } }, beams: { kind: "uv", u: { from: -0.6, to: 0.6, step: 0.02 }, v: { from: -0.6, to: 0.6, step: 0.02 } }, phaseShifter: { bits: 6 }, attenuator: { bits: 6, step: "0.5 dB" }, calibration: "cal.csv", word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 6 }, { name: "atten", shift: 8, width: 6 }] } }));
+  const ms = [];
+  for (let i = 0; i < RUNS; i++) {
+    const t = performance.now();
+    const r = spawnSync(process.execPath, [BIN, "build", p, "-o", join(dir, "out")], { encoding: "utf8" });
+    ms.push(performance.now() - t);
+    if (r.status !== 2) throw new Error("bad input was not refused with exit 2");
+  }
+  results.badInput = { case: "4096-element scenario, calibration with a duplicated row and 4095 missing elements", cliWallMs: median(ms), target: 1000 };
+}
+
+// ---- 5. scaling ladder: analysis cost per beam (tables to table.bin only)
 results.scaling = [];
 for (const side of [16, 32, 64]) {
   for (const nb of [100, 441, 4096]) {
@@ -161,6 +178,7 @@ console.log(`| full build with analysis, 32×32, 441 beams, all outputs (CLI wal
 console.log(`| numpy/scipy baseline, same scenario (wall) | ${f(an.baselineWallMs)} ms | — |`);
 console.log(`| ratio steercode / baseline | ${f(an.ratio, 2)} | ≤ 1 |`);
 console.log(`| sweep 6 bit depths × 3 steps (18 parts × 441 beams), CLI wall | ${f(results.sweep.sweepWallMs)} ms = ${f(results.sweep.ratio, 2)} × one build | ≤ 6 × |`);
+console.log(`| bad input refused (4096-element scenario, broken calibration), exit 2 | ${f(results.badInput.cliWallMs)} ms | < 1 s |`);
 console.log(`| baseline vs steercode: PSL |Δ| median / max | ${f(an.baselineVsSteercode.pslAbsDiffDbMedian, 3)} / ${f(an.baselineVsSteercode.pslAbsDiffDbMax, 3)} dB | — |`);
 console.log(`| baseline vs steercode: pointing |Δ| median / max | ${f(an.baselineVsSteercode.pointingAbsDiffDegMedian, 4)} / ${f(an.baselineVsSteercode.pointingAbsDiffDegMax, 4)} deg | — |`);
 console.log(`\n| elements | beams | build with analysis (ms) | ms / beam | peak RSS (MB) |\n|---|---|---|---|---|`);

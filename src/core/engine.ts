@@ -53,10 +53,6 @@ export class BeamPacker {
   }
 }
 
-/** Words of one beam from its codes: "off" for disabled elements. */
-export function packBeam(plan: Plan, codes: BeamCodes, words: Uint32Array): void {
-  new BeamPacker(plan).pack(codes, words);
-}
 
 export interface FrequencySummary {
   gRefDb: number;

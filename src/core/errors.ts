@@ -29,22 +29,3 @@ export class InputError extends Error {
     this.problems = list;
   }
 }
-
-/** Collects problems; throws them all at once. */
-export class ProblemList {
-  readonly items: Problem[] = [];
-  add(p: Problem): void {
-    this.items.push(p);
-  }
-  get empty(): boolean {
-    return this.items.length === 0;
-  }
-  throwIfAny(): void {
-    if (this.items.length) throw new InputError(this.items);
-  }
-}
-
-/** Escape one JSON-pointer token (RFC 6901). */
-export function pointerJoin(base: string, ...tokens: (string | number)[]): string {
-  return base + tokens.map((t) => "/" + String(t).replace(/~/g, "~0").replace(/\//g, "~1")).join("");
-}

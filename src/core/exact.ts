@@ -40,8 +40,3 @@ export function nearHalf(t: number): boolean {
   const f = t - Math.floor(t);
   return Math.abs(f - 0.5) < 1e-9;
 }
-/** Float64 test: is t within 1e-9 of an integer (a floor boundary)? */
-export function nearInteger(t: number): boolean {
-  const f = t - Math.floor(t);
-  return f < 1e-9 || f > 1 - 1e-9;
-}

@@ -110,11 +110,6 @@ export function azElToUvw(azDeg: number, elDeg: number): Direction {
   const el = (elDeg * Math.PI) / 180;
   return { u: Math.cos(el) * Math.sin(az), v: Math.sin(el), w: Math.cos(el) * Math.cos(az) };
 }
-export function thetaPhiToUvw(thetaDeg: number, phiDeg: number): Direction {
-  const t = (thetaDeg * Math.PI) / 180;
-  const p = (phiDeg * Math.PI) / 180;
-  return { u: Math.sin(t) * Math.cos(p), v: Math.sin(t) * Math.sin(p), w: Math.cos(t) };
-}
 /** w from (u, v) on the front hemisphere; 0 on or past the horizon. */
 export function uvToW(u: number, v: number): number {
   const s = 1 - u * u - v * v;

@@ -70,24 +70,6 @@ export function parseQuantity(raw: unknown, kind: QuantityKind): ParseResult {
   return { ok: true, q: { exact, value: exact.toNumber(), inLambda } };
 }
 
-export function wavelengthM(frequencyHz: number): number {
-  return SPEED_OF_LIGHT / frequencyHz;
-}
-export function dbToLinear(db: number): number {
-  return Math.pow(10, db / 20);
-}
-export function linearToDb(amplitude: number): number {
-  return 20 * Math.log10(amplitude);
-}
-export function powerToDb(power: number): number {
-  return 10 * Math.log10(power);
-}
-export function degToRad(deg: number): number {
-  return (deg * Math.PI) / 180;
-}
-export function radToDeg(rad: number): number {
-  return (rad * 180) / Math.PI;
-}
 /** Wrap degrees into [0, 360). */
 export function wrap360(deg: number): number {
   let r = deg - 360 * Math.floor(deg / 360);

@@ -181,6 +181,19 @@ describe("uniform line arrays (Balanis, Antenna Theory, ch. 6)", () => {
     });
   }
 
+  it("a Dolph–Chebyshev line array's engine PSL sits at its design level (Dolph, Proc. IRE 34, 1946)", () => {
+    for (const [N, sll] of [[16, -30], [25, -40]] as const) {
+      const L = load(baseScenario({
+        array: { lattice: { kind: "rectangular", columns: N, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" } },
+        taper: { kind: "chebyshev", sidelobe: `${sll} dB` },
+        beams: { kind: "uv", u: { from: -0.4, to: 0.4, step: 0.2 }, v: { from: 0, to: 0, step: 1 } },
+        phaseShifter: { bits: 6 },
+      }));
+      const out = analyseAll(L.plan);
+      for (let b = 0; b < L.plan.beams.count; b++) expect(Math.abs(out[b * METRICS + M.psl_ideal_db]! - sll)).toBeLessThan(0.05);
+    }
+  });
+
   it("first-null beamwidth 2·asin(λ/(N·d)) and half-power beamwidth ≈ 0.886·λ/(N·d) (from memory) on the exact pattern", () => {
     const N = 32;
     const k = 2 * Math.PI; // λ = 1

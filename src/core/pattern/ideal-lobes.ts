@@ -10,7 +10,7 @@
  * below the best visible one found, as in LobeFinder (4× oversampling scallops < 0.45 dB).
  */
 import type { AfEvaluator } from "./evaluator.js";
-import { refine } from "./lobes.js";
+import { floodMainLobe, hillClimb, refine } from "./lobes.js";
 
 const REFINE_WITHIN = 0.794;
 
@@ -40,36 +40,10 @@ export class IdealLobes {
       for (let i = 0; i < W; i++) p[j * W + i] = periodic[row + ((((i - this.M) % nx) + nx) % nx)]!;
     }
     // hill-climb from Δ = 0, then flood the main lobe
-    let ci = this.M, cj = this.N;
-    for (;;) {
-      let bi = ci, bj = cj;
-      for (let dj = -1; dj <= 1; dj++)
-        for (let di = -1; di <= 1; di++) {
-          const a = ci + di, b = cj + dj;
-          if (a >= 0 && b >= 0 && a < W && b < H && p[b * W + a]! > p[bj * W + bi]!) { bi = a; bj = b; }
-        }
-      if (bi === ci && bj === cj) break;
-      ci = bi;
-      cj = bj;
-    }
+    const top = hillClimb(p, W, H, this.M, this.N);
+    const ci = top % W, cj = (top - ci) / W;
     const main = (this.main = new Uint8Array(W * H));
-    const stack = new Int32Array(W * H);
-    let sp = 0;
-    stack[sp++] = cj * W + ci;
-    main[cj * W + ci] = 1;
-    while (sp > 0) {
-      const c = stack[--sp]!;
-      const x = c % W, y = (c - x) / W;
-      for (let dj = -1; dj <= 1; dj++)
-        for (let di = -1; di <= 1; di++) {
-          const a = x + di, b = y + dj;
-          if (a < 0 || b < 0 || a >= W || b >= H) continue;
-          const q = b * W + a;
-          if (main[q] || p[q]! > p[c]!) continue;
-          main[q] = 1;
-          stack[sp++] = q;
-        }
-    }
+    floodMainLobe(p, W, H, top, main, new Int32Array(W * H));
     this.peakPower = refine(ev, (ci - this.M) * du, (cj - this.N) * dv, du, dv, null).p;
     const cells: number[] = [];
     for (let b = 1; b < H - 1; b++)

@@ -21,6 +21,49 @@ export interface LobeResult {
   sidelobeDv: number;
 }
 
+/** Grid hill-climb (8 neighbours, strict ascent) from cell (i, j); returns the local maximum's index. */
+export function hillClimb(p: Float64Array, w: number, h: number, i: number, j: number): number {
+  for (;;) {
+    let bi = i, bj = j, bp = p[j * w + i]!;
+    for (let dj = -1; dj <= 1; dj++)
+      for (let di = -1; di <= 1; di++) {
+        const a = i + di, b = j + dj;
+        if (a < 0 || b < 0 || a >= w || b >= h) continue;
+        if (p[b * w + a]! > bp) { bp = p[b * w + a]!; bi = a; bj = b; }
+      }
+    if (bi === i && bj === j) return j * w + i;
+    i = bi;
+    j = bj;
+  }
+}
+
+/**
+ * The main lobe: every cell reachable from `start` through 8-neighbour steps on which
+ * |AF|² does not rise (the monotone fall out to the ring of nulls or troughs).
+ * Marks `mask` (cleared here); `stack` needs room for w·h cells.
+ */
+export function floodMainLobe(p: Float64Array, w: number, h: number, start: number, mask: Uint8Array, stack: Int32Array): void {
+  mask.fill(0, 0, w * h);
+  let sp = 0;
+  stack[sp++] = start;
+  mask[start] = 1;
+  while (sp > 0) {
+    const c = stack[--sp]!;
+    const ci = c % w;
+    const cj = (c - ci) / w;
+    const pc = p[c]!;
+    for (let dj = -1; dj <= 1; dj++)
+      for (let di = -1; di <= 1; di++) {
+        const a = ci + di, b = cj + dj;
+        if (a < 0 || b < 0 || a >= w || b >= h) continue;
+        const q = b * w + a;
+        if (mask[q] || p[q]! > pc) continue;
+        mask[q] = 1;
+        stack[sp++] = q;
+      }
+  }
+}
+
 const CANDIDATES = 6;
 /**
  * Only candidates whose grid value is within this factor of the best grid candidate
@@ -40,45 +83,15 @@ export class LobeFinder {
   analyse(win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): LobeResult {
     const { wm, wn, p, visible } = win;
     // 1. grid peak nearest the commanded direction: hill-climb from Δ = 0
-    let i = -win.m0;
-    let j = -win.n0;
-    for (;;) {
-      let bi = i, bj = j, bp = p[j * wm + i]!;
-      for (let dj = -1; dj <= 1; dj++)
-        for (let di = -1; di <= 1; di++) {
-          const a = i + di, b = j + dj;
-          if (a < 0 || b < 0 || a >= wm || b >= wn) continue;
-          if (p[b * wm + a]! > bp) { bp = p[b * wm + a]!; bi = a; bj = b; }
-        }
-      if (bi === i && bj === j) break;
-      i = bi;
-      j = bj;
-    }
+    const top = hillClimb(p, wm, wn, -win.m0, -win.n0);
+    const i = top % wm;
+    const j = (top - i) / wm;
     // 2. exact peak (a line array keeps the commanded value across its normal plane)
     const [oi, oj] = parabolic(p, wm, wn, i, j);
     const pk = refine(ev, ev.lockU ? 0 : (win.m0 + i + oi) * du, ev.lockV ? 0 : (win.n0 + j + oj) * dv, du, dv, null);
     // 3. main lobe: monotone flood fill from the grid peak
     const mask = this.mask;
-    mask.fill(0, 0, wm * wn);
-    const stack = this.stack;
-    let sp = 0;
-    stack[sp++] = j * wm + i;
-    mask[j * wm + i] = 1;
-    while (sp > 0) {
-      const c = stack[--sp]!;
-      const ci = c % wm;
-      const cj = (c - ci) / wm;
-      const pc = p[c]!;
-      for (let dj = -1; dj <= 1; dj++)
-        for (let di = -1; di <= 1; di++) {
-          const a = ci + di, b = cj + dj;
-          if (a < 0 || b < 0 || a >= wm || b >= wn) continue;
-          const q = b * wm + a;
-          if (mask[q] || p[q]! > pc) continue;
-          mask[q] = 1;
-          stack[sp++] = q;
-        }
-    }
+    floodMainLobe(p, wm, wn, top, mask, this.stack);
     // 4. sidelobe candidates: local maxima of visible cells outside the main lobe
     const cand: number[] = [];
     const candP: number[] = [];

@@ -3,7 +3,7 @@
  * 1e-9 LSB of a boundary are re-decided in exact decimal arithmetic.
  */
 import { allocBeamCodes, type BeamCodes, type Quantizer } from "./contract.js";
-import { ExactDirectionCache, exactPhaseCode, prepareFrequency, type FrequencyPrep } from "./prepare.js";
+import { commandedDeg, ExactDirectionCache, exactPhaseCode, prepareFrequency, type FrequencyPrep } from "./prepare.js";
 import type { Plan } from "../plan.js";
 
 const EDGE = 1e-9;
@@ -38,9 +38,7 @@ export function nearestQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = p
       }
       if (commanded)
         for (let i = 0; i < n; i++) {
-          const t = X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!;
-          const wrapped = t - states * Math.floor(t / states);
-          pd[i] = (wrapped >= states ? 0 : wrapped) * lsbDeg;
+          pd[i] = commandedDeg(X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!, states, lsbDeg);
         }
       fillCommon(prep, out);
     },

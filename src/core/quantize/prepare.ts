@@ -138,3 +138,9 @@ export function exactPhaseCode(plan: Plan, fi: number, i: number, d: ExactDirect
   const states = 2 ** plan.phaseBits;
   return ((p % states) + states) % states;
 }
+
+/** ψ in degrees, [0, 360), from t = (φ − c)/LSB (unwrapped, in LSB units). */
+export function commandedDeg(t: number, states: number, lsbDeg: number): number {
+  const wrapped = t - states * Math.floor(t / states);
+  return (wrapped >= states ? 0 : wrapped) * lsbDeg;
+}

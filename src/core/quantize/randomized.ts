@@ -7,7 +7,7 @@
  */
 import type { BeamCodes, Quantizer } from "./contract.js";
 import { fillCommon } from "./nearest.js";
-import { prepareFrequency, type FrequencyPrep } from "./prepare.js";
+import { commandedDeg, prepareFrequency, type FrequencyPrep } from "./prepare.js";
 import type { Plan } from "../plan.js";
 
 /** splitmix32-style hash of three integers into a 32-bit state. */
@@ -52,8 +52,7 @@ export function randomizedQuantizer(plan: Plan, fi: number, prep: FrequencyPrep 
         const fl = Math.floor(t);
         const up = rnd() < t - fl ? 1 : 0;
         out.phaseCode[i] = (fl + up) & mask;
-        const wrapped = t - states * Math.floor(t / states);
-        out.phaseDeg[i] = (wrapped >= states ? 0 : wrapped) * lsbDeg;
+        out.phaseDeg[i] = commandedDeg(t, states, lsbDeg);
       }
       fillCommon(prep, out);
     },

@@ -16,7 +16,7 @@
  */
 import type { Plan, StateTable } from "../plan.js";
 import type { BeamCodes, Quantizer } from "./contract.js";
-import { prepareFrequency, type FrequencyPrep } from "./prepare.js";
+import { commandedDeg, prepareFrequency, type FrequencyPrep } from "./prepare.js";
 
 const TWO_PI = 2 * Math.PI;
 const DEG = Math.PI / 180;
@@ -212,9 +212,7 @@ export function measuredStatesQuantizer(plan: Plan, fi: number, prep: FrequencyP
       const w = beams.w[b]!;
       for (let i = 0; i < n; i++) {
         const t = X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!;
-        const wrapped0 = t - states * Math.floor(t / states);
-        const wrapped = wrapped0 >= states ? 0 : wrapped0;
-        const psiDeg = wrapped * lsbDeg;
+        const psiDeg = commandedDeg(t, states, lsbDeg);
         out.phaseDeg[i] = psiDeg;
         const r = searches[i]!.nearest(psiDeg * DEG);
         out.phaseCode[i] = r.p;
