@@ -125,9 +125,11 @@ class Loader {
       attenStates: { required: [["code", "atten_db", "phase_deg"]], optional: ["element"] },
     } as const;
     const shape = shapes[role];
+    const before = this.problems.length;
     const t = readCsv(f, { required: shape.required.map((s) => [...s]), optional: [...shape.optional] }, this.problems);
     if (t) this.inputs.push({ role, ref, file: f, comments: t.comments });
-    return t;
+    // a file with bad rows is reported, not used: nothing downstream sees half of it
+    return this.problems.length > before ? null : t;
   }
 
   load(): LoadedScenario {
@@ -185,7 +187,7 @@ class Loader {
       const bytes = words * word.bytes;
       if (bytes > MAX_TABLE_BYTES) this.problem("/beams", `the table would hold ${words} words (${bytes} bytes); expected at most ${MAX_TABLE_BYTES} bytes: use fewer beams, elements or frequencies`);
     }
-    if (elements && !elements.enabled.some((e) => e === 1)) this.problem("/array/disabled", "every element is disabled; expected at least one enabled element");
+    if (elements && elements.count > 0 && !elements.enabled.some((e) => e === 1)) this.problem(this.d.array.elements ? "/array/elements" : "/array/disabled", "every element is disabled; expected at least one enabled element");
 
     if (this.problems.length || !elements || !beams || !taper || !cal) throw new InputError(this.problems);
     const amplitude = makeTaper(taper).amplitudes({ elements, lattice });

@@ -19,6 +19,8 @@ interface Case {
   args?: (dir: string) => string[];
   /** what the message must say: the file/field/line and what was expected */
   expect: RegExp[];
+  /** what it must not say (no follow-on errors from a file that was already refused) */
+  notExpect?: RegExp[];
   prepare?: (dir: string) => void;
 }
 
@@ -68,6 +70,7 @@ const cases: Case[] = [
   { name: "calibration not UTF-8", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": Buffer.from([0x65, 0x6c, 0xff, 0xfe, 0x0a]) }, expect: [/cal\.csv: \/calibration: expected UTF-8 text/] },
   { name: "calibration with a ragged row", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8.replace("\n2,0,0", "\n2,0") }, expect: [/cal\.csv, line 4: expected 3 cells/] },
   { name: "elements.csv: duplicated element", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS([...line8, "3,0.5,0"]) }, expect: [/el\.csv, line 10, column element: element 3 is listed twice/] },
+  { name: "elements.csv: ragged rows, and no follow-on errors", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": "element,x_m,y_m,z_m\n0,0,0\n1,0.01,0\n" }, expect: [/el\.csv, line 2: expected 4 cells/, /el\.csv, line 3: expected 4 cells/], notExpect: [/disabled/, /taper/] },
   { name: "elements.csv: x not a number", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["0,abc,0", ...line8.slice(1)]) }, expect: [/el\.csv, line 2, column x_m: expected a number, got "abc"/] },
   { name: "elements.csv: enabled neither yes nor no", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": "element,x_m,y_m,enabled\n0,0,0,maybe\n1,0.01,0,1\n" }, expect: [/el\.csv, line 2, column enabled: expected 1\/0, true\/false or yes\/no, got "maybe"/] },
   { name: "elements.csv: negative element id", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["-1,0,0", "1,0.01,0"]) }, expect: [/el\.csv, line 2, column element: expected a whole number ≥ 0, got "-1"/] },
@@ -107,6 +110,7 @@ describe("bad input: exit 2, a message naming file and field or line, nothing wr
       const r = cli(args);
       expect(r.code, r.stderr).toBe(2);
       for (const re of c.expect) expect(r.stderr).toMatch(re);
+      for (const re of c.notExpect ?? []) expect(r.stderr).not.toMatch(re);
       expect(r.stderr).not.toMatch(/\n\s+at .+:\d+:\d+/); // no stack trace
       expect(r.stderr).not.toMatch(/internal error/);
       expect(readdirSync(dir).sort()).toEqual(before); // nothing written, no staging folder left

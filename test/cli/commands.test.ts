@@ -1,0 +1,112 @@
+import { execFileSync } from "node:child_process";
+import { existsSync, readFileSync, writeFileSync } from "node:fs";
+import { join } from "node:path";
+import { describe, expect, it } from "vitest";
+import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
+
+describe("init", () => {
+  it("writes the invented demo and refuses to overwrite it", () => {
+    const d = join(tempDir(), "demo");
+    expect(cli(["init", d]).code).toBe(0);
+    expect(readFileSync(join(d, "cal.csv"), "utf8")).toMatch(/INVENTED/);
+    expect(JSON.parse(readFileSync(join(d, "scenario.json"), "utf8")).name).toMatch(/invented/);
+    const again = cli(["init", d]);
+    expect(again.code).toBe(2);
+    expect(again.stderr).toMatch(/refusing to overwrite/);
+  });
+});
+
+describe("check", () => {
+  it("prints the derived facts of the demo (--json)", () => {
+    const r = cli(["check", join(import.meta.dirname, "..", "..", "fixtures", "demo", "scenario.json"), "--json"]);
+    expect(r.code).toBe(0);
+    const f = JSON.parse(r.stdout).facts;
+    const lambda = 299792458 / 28e9;
+    expect(f.perFrequency[0].wavelengthM).toBeCloseTo(lambda, 15);
+    expect(f.perFrequency[0].dxLambda).toBeCloseTo(0.0052 / lambda, 12);
+    // d/λ = 0.4857 < 0.5: no grating lobe anywhere in visible space (Mailloux ch. 1, from memory)
+    expect(f.perFrequency[0].scanLimitXDeg).toBe(90);
+    const D = Math.hypot(16 * 0.0052, 16 * 0.0052);
+    expect(f.perFrequency[0].farFieldM).toBeCloseTo((2 * D * D) / lambda, 9); // common practice: 2D²/λ
+    expect(f.elements).toBe(256);
+    expect(f.enabledElements).toBe(255);
+    expect(f.tableBytes).toBe(133 * 256 * 2);
+  });
+
+  it("lists every calibration row problem at once, exit 2", () => {
+    const cal = "element,phase_offset_deg,gain_offset_db\n0,0,0\n0,1,0\n42,0,0\n";
+    const s = writeScenario(baseScenario({ calibration: "cal.csv" }), { "cal.csv": cal });
+    const r = cli(["check", s]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/line 3, column element: element 0 is listed twice/);
+    expect(r.stderr).toMatch(/line 4, column element: element 42 is not in the array/);
+    expect(r.stderr).toMatch(/missing 7 element\(s\): 1–7/);
+  });
+
+  it("warns about clipping and grating lobes", () => {
+    const s = writeScenario(baseScenario({
+      array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "0.8 lambda", dy: "0.5 lambda" } },
+      taper: { kind: "chebyshev", sidelobe: "-40 dB" },
+      attenuator: { bits: 2, step: "1 dB" },
+    }));
+    const r = cli(["check", s]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/warning: .*beams put a grating lobe into visible space/);
+    expect(r.stdout).toMatch(/warning: .*element\(s\) need more attenuation than the attenuator's 3\.00 dB range/);
+    expect(r.stdout).toMatch(/RF safety/);
+  });
+});
+
+describe("builds beyond the demo", () => {
+  it("two frequencies, a triangular lattice: [frequency][beam][element] in every format, compiles, verifies", () => {
+    const s = writeScenario(baseScenario({
+      frequency: ["27.5 GHz", "29 GHz"],
+      array: { lattice: { kind: "triangular", columns: 5, rows: 4, dx: "0.6 lambda", dy: "0.5 lambda", offset: 0.5 }, disabled: [7] },
+      beams: { kind: "thetaphi", theta: { from: 0, to: 40, step: 20 }, phi: { from: 0, to: 90, step: 90 } },
+      phaseShifter: { bits: 5 },
+      taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 },
+    }));
+    const out = join(tempDir(), "b");
+    expect(cli(["build", s, "-o", out]).code).toBe(0);
+    const json = JSON.parse(readFileSync(join(out, "table.json"), "utf8"));
+    expect(json.words.length).toBe(2);
+    expect(json.words[0].length).toBe(6);
+    expect(json.words[0][0].length).toBe(20);
+    expect(json.frequenciesHz).toEqual([27500000000, 29000000000]);
+    expect(json.words[0].some((b: number[], i: number) => b.join() !== json.words[1][i].join())).toBe(true);
+    expect(json.words[1][3][7]).toBe(0); // disabled: off word
+    const beams = readFileSync(join(out, "beams.csv"), "utf8").trim().split("\n");
+    expect(beams.length).toBe(1 + 12);
+    const c = join(tempDir(), "m.c");
+    writeFileSync(c, `#define STEERCODE_TABLE_IMPLEMENTATION\n#include "table.h"\n#include <stdio.h>\nint main(void){printf("%u", (unsigned)steercode_table[1][5][19]);return STEERCODE_FREQUENCIES == 2u ? 0 : 1;}\n`);
+    execFileSync("gcc", ["-std=c99", "-Wall", "-Wextra", "-pedantic", "-Werror", "-I", out, "-o", c + ".out", c]);
+    expect(Number(execFileSync(c + ".out", { encoding: "utf8" }))).toBe(json.words[1][5][19]);
+    expect(cli(["verify", out]).code).toBe(0);
+  });
+
+  it("an element list carries device and channel to table.json and honours its enabled column", () => {
+    const csv = "element,x_m,y_m,z_m,device,channel,enabled\n" + Array.from({ length: 6 }, (_, i) => `${10 + i},${(i * 0.012).toFixed(3)},0,0,BF${Math.floor(i / 4)},${i % 4},${i === 2 ? "no" : "yes"}`).join("\n") + "\n";
+    const s = writeScenario(baseScenario({ array: { elements: "el.csv" } }), { "el.csv": csv });
+    const out = join(tempDir(), "b");
+    expect(cli(["build", s, "-o", out]).code).toBe(0);
+    const json = JSON.parse(readFileSync(join(out, "table.json"), "utf8"));
+    expect(json.elements[5]).toMatchObject({ element: 15, device: "BF1", channel: "1", enabled: true });
+    expect(json.elements[2].enabled).toBe(false);
+    expect(json.words[0].every((b: number[]) => b[2] === 0)).toBe(true);
+    const m = JSON.parse(readFileSync(join(out, "manifest.json"), "utf8"));
+    expect(m.elementIds).toEqual([10, 11, 12, 13, 14, 15]);
+    expect(m.disabledIds).toEqual([12]);
+    expect(existsSync(join(out, "inputs", "elements.csv"))).toBe(true);
+    expect(cli(["verify", out]).code).toBe(0);
+  });
+
+  it("a randomized build records its seed and is reproducible", () => {
+    const s = writeScenario(baseScenario({ quantizer: { method: "randomized", seed: 4242 } }));
+    const a = join(tempDir(), "a"), b = join(tempDir(), "b");
+    expect(cli(["build", s, "-o", a, "--jobs", "1"]).code).toBe(0);
+    expect(cli(["build", s, "-o", b, "--jobs", "2"]).code).toBe(0);
+    expect(readFileSync(join(a, "table.bin")).equals(readFileSync(join(b, "table.bin")))).toBe(true);
+    expect(readFileSync(join(a, "beams.csv")).equals(readFileSync(join(b, "beams.csv")))).toBe(true);
+    expect(JSON.parse(readFileSync(join(a, "manifest.json"), "utf8")).quantizer).toEqual({ method: "randomized", seed: 4242 });
+  });
+});
