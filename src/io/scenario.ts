@@ -237,8 +237,12 @@ class Loader {
       const dy = pitch("dy");
       const offset: number = l.kind === "triangular" ? (l.offset ?? 0.5) : 0;
       if (l.kind === "rectangular" && l.offset !== undefined && l.offset !== 0) this.problem("/array/lattice/offset", 'an offset needs kind "triangular"; expected no offset (or 0) for a rectangular lattice');
-      if (l.columns * l.rows > 65536) this.problem("/array/lattice", `${l.columns}×${l.rows} = ${l.columns * l.rows} elements; expected at most 65536`);
-      if (dx && dy && !this.problems.length) {
+      const tooMany = l.columns * l.rows > 65536;
+      if (tooMany) this.problem("/array/lattice", `${l.columns}×${l.rows} = ${l.columns * l.rows} elements; expected at most 65536`);
+      // built even when other parts of the scenario have problems, so that the files that
+      // depend on the elements (calibration, states) are checked in the same run
+      const offsetOk = !(l.kind === "rectangular" && l.offset !== undefined && l.offset !== 0);
+      if (dx && dy && !tooMany && offsetOk) {
         lattice = { kind: l.kind, columns: l.columns, rows: l.rows, dxExact: dx.toString(), dyExact: dy.toString(), dx: dx.toNumber(), dy: dy.toNumber(), offset, offsetExact: String(offset) };
         elements = latticeElements(lattice);
       }
