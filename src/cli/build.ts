@@ -91,7 +91,7 @@ function where(index: number, beams: number, freqs: string[]): string {
 
 export function worstBeams(s: Record<string, Distribution>, beams: number, freqs: string[]): Record<string, { frequencyHz: string; beam: number; value: number }> {
   const out: Record<string, { frequencyHz: string; beam: number; value: number }> = {};
-  for (const [k, d] of Object.entries(s)) if (d.worst >= 0) out[k] = { frequencyHz: freqs[Math.floor(d.worst / beams)]!, beam: d.worst % beams, value: d.max };
+  for (const [k, d] of Object.entries(s)) if (d.worst >= 0 && d.max !== null) out[k] = { frequencyHz: freqs[Math.floor(d.worst / beams)]!, beam: d.worst % beams, value: d.max };
   return out;
 }
 

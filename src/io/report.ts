@@ -51,6 +51,11 @@ export function heatPng(values: Float64Array | number[], w: number, h: number, l
   return "data:image/png;base64," + PNG.sync.write(png).toString("base64");
 }
 
+/** A metric for prose: "n/a" when it does not exist (no sidelobe in visible space). */
+function na(x: number, d: number): string {
+  return Number.isFinite(x) ? x.toFixed(d) : "n/a";
+}
+
 function esc(s: string): string {
   return s.replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;").replace(/"/g, "&quot;");
 }
@@ -211,7 +216,7 @@ function buildSections(dir: string, m: Manifest, o: ReportOptions): { sections: 
 <circle cx="${U(u0).toFixed(1)}" cy="${V(v0).toFixed(1)}" r="7" fill="none" stroke="#fff" stroke-width="2"/><path d="M${(U(pu) - 6).toFixed(1)} ${V(pv).toFixed(1)}h12M${U(pu).toFixed(1)} ${(V(pv) - 6).toFixed(1)}v12" stroke="#c1121f" stroke-width="2"/>
 <text x="${W - 6}" y="${H - 6}" font-size="11" text-anchor="end" fill="#111">u →</text><text x="6" y="14" font-size="11" fill="#111">↑ v</text></svg>`;
   const beamLabel = `beam ${beam} (az ${plan.beams.azDeg[beam]!.toFixed(2)}°, el ${plan.beams.elDeg[beam]!.toFixed(2)}°; u ${u0.toFixed(4)}, v ${v0.toFixed(4)}) at ${(plan.frequenciesHz[fi]! / 1e9).toPrecision(6)} GHz`;
-  sections.push(`<h2>Beam ${beam}</h2><p>${esc(beamLabel)}${o.beam === null ? " — the beam with the largest sidelobe rise (choose another with --beam N)" : ""}. Pointing error ${met[M.pointing_error_deg]!.toFixed(5)}°, PSL ${met[M.psl_db]!.toFixed(2)} dB (ideal ${met[M.psl_ideal_db]!.toFixed(2)} dB), gain loss ${met[M.gain_loss_db]!.toFixed(3)} dB, rms phase error ${met[M.rms_phase_error_deg]!.toFixed(3)}°.</p>`);
+  sections.push(`<h2>Beam ${beam}</h2><p>${esc(beamLabel)}${o.beam === null ? " — the beam with the largest sidelobe rise (choose another with --beam N)" : ""}. Pointing error ${na(met[M.pointing_error_deg]!, 5)}°, PSL ${na(met[M.psl_db]!, 2)} dB (ideal ${na(met[M.psl_ideal_db]!, 2)} dB), gain loss ${na(met[M.gain_loss_db]!, 3)} dB, rms phase error ${na(met[M.rms_phase_error_deg]!, 3)}°.</p>`);
   sections.push(
     figure(
       "heatmap",
@@ -239,6 +244,10 @@ function buildSections(dir: string, m: Manifest, o: ReportOptions): { sections: 
     for (const [name, label, unit] of [["sll_rise_db", "Sidelobe rise", "dB"], ["pointing_error_deg", "Pointing error", "deg"]] as const) {
       const v = col(name);
       const finite = v.filter(Number.isFinite);
+      if (!finite.length) {
+        maps.push(`<div class="note">${esc(label)}: no beam has a value (no sidelobe in visible space)</div>`);
+        continue;
+      }
       const lo2 = Math.min(...finite), hi2 = Math.max(...finite);
       if (spec.grid) {
         const gw = spec.inner.count, gh = spec.outer.count;

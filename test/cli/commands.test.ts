@@ -110,3 +110,22 @@ describe("builds beyond the demo", () => {
     expect(JSON.parse(readFileSync(join(a, "manifest.json"), "utf8")).quantizer).toEqual({ method: "randomized", seed: 4242 });
   });
 });
+
+describe("tiny arrays", () => {
+  it("two elements at broadside have no sidelobe in visible space: empty PSL cells, n/a in the summary, a report that still renders", () => {
+    const s = writeScenario(baseScenario({
+      array: { lattice: { kind: "rectangular", columns: 2, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      beams: { kind: "uv", u: { from: 0, to: 0, step: 1 }, v: { from: 0, to: 0, step: 1 } },
+    }));
+    const out = join(tempDir(), "b");
+    const r = cli(["build", s, "-o", out, "--json"]);
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.stdout);
+    expect(doc.summary.psl_db.median).toBeNull();
+    const row = readFileSync(join(out, "beams.csv"), "utf8").trim().split("\n")[1]!.split(",");
+    expect(row[9]).toBe(""); // psl_ideal_db
+    expect(row[10]).toBe(""); // psl_db
+    expect(cli(["report", out]).code).toBe(0);
+    expect(readFileSync(join(out, "report.html"), "utf8")).toMatch(/PSL n\/a dB/);
+  });
+});

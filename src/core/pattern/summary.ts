@@ -2,9 +2,10 @@
 import { METRIC_COLUMNS, METRICS } from "./analyze.js";
 
 export interface Distribution {
-  median: number;
-  p95: number;
-  max: number;
+  /** null when no beam has a value (e.g. no sidelobe in visible space at all) */
+  median: number | null;
+  p95: number | null;
+  max: number | null;
   /** index (frequency·beams + beam) of the worst value */
   worst: number;
 }
@@ -38,7 +39,7 @@ export function summarise(all: Float64Array): Record<string, Distribution> {
       }
     }
     const s = Float64Array.from(vals).sort();
-    out[name] = { median: quantile(s, 0.5), p95: quantile(s, 0.95), max: s.length ? s[s.length - 1]! : NaN, worst };
+    out[name] = s.length ? { median: quantile(s, 0.5), p95: quantile(s, 0.95), max: s[s.length - 1]!, worst } : { median: null, p95: null, max: null, worst: -1 };
   });
   return out;
 }
