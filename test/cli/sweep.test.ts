@@ -95,6 +95,15 @@ describe("sweep", () => {
     expect(readFileSync(join(out, "sweep.svg"), "utf8")).toMatch(/Mailloux/);
   });
 
+  it("measured states fix the part: sweeping other bit depths is exit 2; its own depth works", () => {
+    const ps = "code,phase_deg,gain_db\n" + Array.from({ length: 8 }, (_, p) => `${p},${p * 45 + (p % 3) - 1},0`).join("\n") + "\n";
+    const s = writeScenario(baseScenario({ phaseShifter: { bits: 3, states: "ps.csv" } }), { "ps.csv": ps });
+    const bad = cli(["sweep", s, "-o", join(tempDir(), "x"), "--phase-bits", "3..5"]);
+    expect(bad.code).toBe(2);
+    expect(bad.stderr).toMatch(/\/phaseShifter\/states: measured state tables fix the part/);
+    expect(cli(["sweep", s, "-o", join(tempDir(), "y"), "--phase-bits", "3", "--atten-step", "0.5,1"]).code).toBe(0);
+  });
+
   it("bad sweep options are exit 2 with the option named", () => {
     const s = writeScenario(baseScenario());
     for (const [args, re] of [
