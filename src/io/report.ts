@@ -74,7 +74,7 @@ function figure(id: string, title: string, body: string, caption: string): strin
 
 function histogramSvg(values: number[], lsbDeg: number): string {
   const finite = values.filter(Number.isFinite);
-  const lim = Math.max(lsbDeg / 2, ...finite.map((v) => Math.abs(v))) * 1.05;
+  const lim = finite.reduce((m, v) => Math.max(m, Math.abs(v)), lsbDeg / 2) * 1.05;
   const bins = 30;
   const counts = new Array<number>(bins).fill(0);
   for (const v of finite) counts[Math.min(bins - 1, Math.floor(((v + lim) / (2 * lim)) * bins))]!++;
@@ -193,7 +193,9 @@ function buildSections(dir: string, m: Manifest, o: ReportOptions): { sections: 
 <tr><td class="k">random-error sidelobe floor σ²/(ηN)</td><td>${t.randomSidelobeFloorDb.value.toFixed(1)} dB</td><td style="text-align:left">${esc(t.randomSidelobeFloorDb.source)}</td></tr></table></section>`);
   // ---- heat map of the realized pattern
   const w = det.realized;
-  const peak = an.grid.mode === "fft" || true ? Math.max(...Array.from(w.p).filter((_, i) => w.visible[i])) : 1;
+  // normalise to the largest sampled visible value (a loop: windows can hold 10^5 cells)
+  let peak = 0;
+  for (let k = 0; k < w.wm * w.wn; k++) if (w.visible[k] && w.p[k]! > peak) peak = w.p[k]!;
   const lo = -50;
   const vals = new Float64Array(w.wm * w.wn);
   for (let j = 0; j < w.wn; j++)
@@ -248,7 +250,7 @@ function buildSections(dir: string, m: Manifest, o: ReportOptions): { sections: 
         maps.push(`<div class="note">${esc(label)}: no beam has a value (no sidelobe in visible space)</div>`);
         continue;
       }
-      const lo2 = Math.min(...finite), hi2 = Math.max(...finite);
+      const lo2 = finite.reduce((a, b) => Math.min(a, b)), hi2 = finite.reduce((a, b) => Math.max(a, b));
       if (spec.grid) {
         const gw = spec.inner.count, gh = spec.outer.count;
         const flipped = new Float64Array(gw * gh);
