@@ -31,7 +31,6 @@ export interface LoadedScenario {
   scenario: InputFile;
   doc: Record<string, unknown>;
   inputs: ScenarioInput[];
-  warnings: string[];
 }
 
 export interface LoadOptions {
@@ -82,11 +81,10 @@ export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenar
 
 class Loader {
   private readonly problems: Problem[] = [];
-  private readonly warnings: string[] = [];
   private readonly inputs: ScenarioInput[] = [];
   private readonly dir: string;
   constructor(
-    private readonly path: string,
+    path: string,
     private readonly display: string,
     private readonly scenario: InputFile,
     private readonly d: Record<string, any>,
@@ -215,7 +213,7 @@ class Loader {
       word,
       outputs,
     };
-    return { plan, scenario: this.scenario, doc: d, inputs: this.inputs, warnings: this.warnings };
+    return { plan, scenario: this.scenario, doc: d, inputs: this.inputs };
   }
 
   private geometry(lambdaMin: InstanceType<typeof D> | null): { elements: Elements | null; lattice: LatticeSpec | null } {

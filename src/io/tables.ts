@@ -122,7 +122,7 @@ class MemWriter implements TableWriter {
   readonly file = TABLE_FILES.mem;
   private readonly f: HashedFile;
   private readonly digits: number;
-  constructor(path: string, private readonly ctx: TableContext) {
+  constructor(path: string, ctx: TableContext) {
     this.f = new HashedFile(path);
     const p = ctx.plan;
     this.digits = Math.ceil(p.word.bits / 4);
@@ -236,7 +236,7 @@ class JsonWriter implements TableWriter {
   private readonly f: HashedFile;
   private lastF = -1;
   private lastB = -1;
-  constructor(path: string, private readonly ctx: TableContext) {
+  constructor(path: string, ctx: TableContext) {
     this.f = new HashedFile(path);
     const p = ctx.plan;
     const beams: string[] = [];

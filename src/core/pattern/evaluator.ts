@@ -41,7 +41,6 @@ export class AfEvaluator {
   private readonly dx: Distinct;
   private readonly dy: Distinct;
   private readonly kx: Float64Array;
-  private readonly ky: Float64Array;
   private readonly kz: Float64Array;
   readonly planar: boolean;
   /** The pattern does not vary along u (one distinct x) or along v (one distinct y): a line array. */
@@ -68,7 +67,6 @@ export class AfEvaluator {
     this.dx = distinct(x);
     this.dy = distinct(y);
     this.kx = Float64Array.from(x, (v) => k * v);
-    this.ky = Float64Array.from(y, (v) => k * v);
     this.kz = Float64Array.from(z, (v) => k * v);
     this.planar = z.every((v) => v === 0);
     this.lockU = this.planar && this.dx.values.length === 1;
