@@ -15,6 +15,7 @@ export function checkCommand(io: Io, scenario: string): number {
   lines.push(`scenario   ${scenario}${plan.name ? `  (${plan.name})` : ""}`);
   lines.push(`elements   ${f.elements} (${f.enabledElements} enabled)${plan.lattice ? `, ${plan.lattice.kind} lattice ${plan.lattice.columns} × ${plan.lattice.rows}` : ", element list"}`);
   lines.push(`beams      ${f.beams} × ${f.frequencies} frequenc${f.frequencies === 1 ? "y" : "ies"} = ${f.words} words, ${f.tableBytes} bytes in table.bin (${plan.word.bytes} byte(s)/word)`);
+  lines.push(`beam grid  scans up to θ = ${fmt(f.maxScanDeg, 1)}° from broadside`);
   lines.push(`phase      ${plan.phaseBits} bits, LSB ${fmt(f.lsbDeg, 4)}°${plan.phaseStates ? ", measured states" : ""}`);
   lines.push(`attenuator ${plan.attenBits} bits × ${plan.attenStepDb} dB = ${fmt(f.attenRangeDb, 2)} dB range${plan.attenStates ? ", measured states" : ""}`);
   lines.push(`taper      ${plan.taper.kind}${"sidelobeDb" in plan.taper ? ` ${plan.taper.sidelobeDb} dB` : ""}${"nbar" in plan.taper ? `, n̄ = ${plan.taper.nbar}` : ""}`);

@@ -28,6 +28,8 @@ export interface Facts {
   words: number;
   tableBytes: number;
   apertureM: number;
+  /** Widest scan of the beam set from broadside, θ in degrees. */
+  maxScanDeg: number;
   lsbDeg: number;
   attenRangeDb: number;
   perFrequency: FrequencyFacts[];
@@ -89,7 +91,10 @@ export function deriveFacts(plan: Plan): Facts {
   const disabled = plan.elements.count - enabledCount(plan);
   if (disabled) warnings.push(`${disabled} element(s) disabled: they get the off word and take no part in G_ref or the analysis`);
   const words = plan.frequenciesHz.length * plan.beams.count * plan.elements.count;
+  let maxSin = 0;
+  for (let b = 0; b < plan.beams.count; b++) maxSin = Math.max(maxSin, Math.hypot(plan.beams.u[b]!, plan.beams.v[b]!));
   return {
+    maxScanDeg: (Math.asin(Math.min(1, maxSin)) * 180) / Math.PI,
     elements: plan.elements.count,
     enabledElements: enabledCount(plan),
     beams: plan.beams.count,
