@@ -55,8 +55,15 @@ function marker(kind: Series["marker"], x: number, y: number, c: string): string
   }
 }
 
+/** Legend rows under a panel: two entries a row. */
+export function legendRows(p: Panel): number {
+  return Math.ceil(p.series.length / 2);
+}
+
 export function panelSvg(p: Panel, x0: number, y0: number, w: number, h: number): string {
-  const L = 62, R = 12, T = 30, Bm = 44;
+  const L = 62, R = 12, T = 30;
+  const legendH = legendRows(p) * 14 + 6;
+  const Bm = 44 + legendH;
   const pts = p.series.flatMap((s) => s.points).filter(([a, b]) => Number.isFinite(a) && Number.isFinite(b));
   let xl = Math.min(...pts.map((q) => q[0])), xh = Math.max(...pts.map((q) => q[0]));
   let yl = Math.min(...pts.map((q) => q[1])), yh = Math.max(...pts.map((q) => q[1]));
@@ -76,7 +83,7 @@ export function panelSvg(p: Panel, x0: number, y0: number, w: number, h: number)
     out.push(`<text x="${x0 + L - 6}" y="${f(Y(t) + 4)}" font-size="10" text-anchor="end">${tick(t)}</text>`);
   }
   for (const t of niceTicks(xl, xh, Math.min(8, Math.round(xh - xl) || 5))) out.push(`<text x="${f(X(t))}" y="${y0 + h - Bm + 14}" font-size="10" text-anchor="middle">${tick(t)}</text>`);
-  out.push(`<text x="${f(x0 + L + (w - L - R) / 2)}" y="${y0 + h - 12}" font-size="11" text-anchor="middle">${esc(p.xLabel)}</text>`);
+  out.push(`<text x="${f(x0 + L + (w - L - R) / 2)}" y="${y0 + h - legendH - 12}" font-size="11" text-anchor="middle">${esc(p.xLabel)}</text>`);
   out.push(`<text transform="translate(${x0 + 14} ${f(y0 + T + (h - T - Bm) / 2)}) rotate(-90)" font-size="11" text-anchor="middle">${esc(p.yLabel)}</text>`);
   p.series.forEach((s) => {
     const good = s.points.filter(([a, b]) => Number.isFinite(a) && Number.isFinite(b));
@@ -85,10 +92,10 @@ export function panelSvg(p: Panel, x0: number, y0: number, w: number, h: number)
     out.push(`<path d="${d}" fill="none" stroke="${s.colour}" stroke-width="${s.width ?? 1.8}"${s.dash ? ` stroke-dasharray="${s.dash}"` : ""}/>`);
     for (const [a, b] of good) out.push(marker(s.marker, X(a), Y(b), s.colour));
   });
-  // legend, top right inside the plot
+  // legend under the plot, two entries a row, so it never hides a curve
   p.series.forEach((s, i) => {
-    const ly = y0 + T + 14 + i * 14;
-    const lx = x0 + w - R - 200;
+    const ly = y0 + h - legendH + 8 + Math.floor(i / 2) * 14;
+    const lx = x0 + L + (i % 2) * ((w - L - R) / 2);
     out.push(`<line x1="${lx}" x2="${lx + 22}" y1="${ly - 4}" y2="${ly - 4}" stroke="${s.colour}" stroke-width="${s.width ?? 1.8}"${s.dash ? ` stroke-dasharray="${s.dash}"` : ""}/>${marker(s.marker, lx + 11, ly - 4, s.colour)}`);
     out.push(`<text x="${lx + 28}" y="${ly}" font-size="10">${esc(s.label)}</text>`);
   });
@@ -98,7 +105,8 @@ export function panelSvg(p: Panel, x0: number, y0: number, w: number, h: number)
 }
 
 export function chartSvg(title: string, panels: Panel[], footer: string[], cols = 2): string {
-  const w = 520, h = 330;
+  const w = 520;
+  const h = 300 + Math.max(...panels.map(legendRows)) * 14 + 6;
   const rows = Math.ceil(panels.length / cols);
   const W = cols * w, H = rows * h + 40 + footer.length * 14 + 10;
   const body = panels.map((p, i) => panelSvg(p, (i % cols) * w, 40 + Math.floor(i / cols) * h, w, h)).join("\n");
