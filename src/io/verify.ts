@@ -7,7 +7,7 @@
  * The first disagreement names the file and (frequency, beam, element).
  */
 import { createHash } from "node:crypto";
-import { existsSync, readFileSync } from "node:fs";
+import { existsSync, readFileSync, readdirSync, statSync } from "node:fs";
 import { join } from "node:path";
 import { crc32 } from "node:zlib";
 import { runTables } from "../core/engine.js";
@@ -57,6 +57,10 @@ export function verifyBuild(dir: string): VerifyResult {
       checks.push({ check: `crc32 ${name}`, ok: c === f.crc32, detail: c === f.crc32 ? c : `manifest says ${f.crc32}, file is ${c}` });
     }
   }
+  // files the manifest does not list (a report, notes) are named, not judged
+  const listed = new Set(Object.keys(m.files).concat(["manifest.json"]));
+  const extra = (readdirSync(dir, { recursive: true }) as string[]).filter((f) => !listed.has(f.split("\\").join("/")) && !statSync(join(dir, f)).isDirectory());
+  if (extra.length) checks.push({ check: "files not in the manifest", ok: true, detail: `${extra.sort().join(", ")} (not checked; not part of the table set)` });
   // 2. decode every table format and cross-check
   const decoded: Decoded[] = [];
   const bin = wordsFromBin(dir, m);
