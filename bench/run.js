@@ -7,6 +7,7 @@ import { mkdtempSync, writeFileSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir, cpus, totalmem } from "node:os";
 import { join } from "node:path";
 import { parse } from "csv-parse/sync";
+import { mulberry32 } from "../dist/core/quantize/randomized.js";
 
 const ROOT = new URL("..", import.meta.url).pathname;
 const BIN = join(ROOT, "bin", "steercode.js");
@@ -14,16 +15,6 @@ const tmp = mkdtempSync(join(tmpdir(), "steercode-bench-"));
 const RUNS = Number(process.env.BENCH_RUNS ?? 3);
 const median = (a) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
 
-function rnd(seed) {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function scenario(name, side, beams, outputs, withCal = true) {
   const dir = join(tmp, name);
@@ -41,7 +32,7 @@ function scenario(name, side, beams, outputs, withCal = true) {
     outputs,
   };
   if (withCal) {
-    const r = rnd(side * 7919);
+    const r = mulberry32(side * 7919);
     const lines = ["# invented bench calibration", "element,phase_offset_deg,gain_offset_db"];
     for (let i = 0; i < side * side; i++) lines.push(`${i},${(r() * 360 - 180).toFixed(2)},${((r() - 0.5) * 2).toFixed(3)}`);
     writeFileSync(join(dir, "cal.csv"), lines.join("\n") + "\n");

@@ -10,6 +10,12 @@ import { availableParallelism } from "node:os";
 import { toolVersion } from "../io/version.js";
 
 
+function jobsOption(raw: unknown): number {
+  const jobs = Number(raw);
+  if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(raw)}`);
+  return jobs;
+}
+
 /** Exit code a command reports through this, so that handlers can return 0/1. */
 export async function main(argv: string[]): Promise<number> {
   let code = 0;
@@ -46,8 +52,7 @@ export async function main(argv: string[]): Promise<number> {
           .option("compare", { type: "string", describe: "an earlier build: write its word-level changes (changes.csv, diff.json) beside the new one" }),
       handler: (a) =>
         run(async () => {
-          const jobs = Number(a.jobs);
-          if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(a.jobs)}`);
+          const jobs = jobsOption(a.jobs);
           return (await import("./build.js")).buildCommand(io, { scenario: String(a.scenario), out: String(a.o), jobs, analysis: a.analysis !== false, compare: a.compare === undefined ? null : String(a.compare) });
         })(),
     })
@@ -64,8 +69,7 @@ export async function main(argv: string[]): Promise<number> {
           .option("jobs", { type: "number", default: availableParallelism(), describe: "threads for the analysis" }),
       handler: (a) =>
         run(async () => {
-          const jobs = Number(a.jobs);
-          if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(a.jobs)}`);
+          const jobs = jobsOption(a.jobs);
           return (await import("./sweep.js")).sweepCommand(io, { scenario: String(a.scenario), out: String(a.o), phaseBits: String(a["phase-bits"]), attenStep: a["atten-step"] === undefined ? null : String(a["atten-step"]), quantizer: a.quantizer === undefined ? null : String(a.quantizer), jobs });
         })(),
     })
