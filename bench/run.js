@@ -144,10 +144,11 @@ const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, memGi
 // ---- 5. scaling ladder: analysis cost per beam (tables to table.bin only)
 results.scaling = [];
 for (const side of [16, 32, 64]) {
-  for (const nb of [100, 441, 4096]) {
-    const n = Math.round(Math.sqrt(nb));
-    const step = 100 / (n - 1);
-    const s = scenario(`scale-${side}-${nb}`, side, { kind: "azel", az: { from: -50, to: 50, step: +step.toFixed(6) }, el: { from: -50, to: 50, step: +step.toFixed(6) } }, ["bin"]);
+  // u-v grids of exactly 10², 21² and 64² beams
+  for (const [n, from, step] of [[10, -0.45, 0.1], [21, -0.45, 0.045], [64, -0.63, 0.02]]) {
+    const to = +(from + (n - 1) * step).toFixed(6);
+    const nb = n * n;
+    const s = scenario(`scale-${side}-${nb}`, side, { kind: "uv", u: { from, to, step }, v: { from, to, step } }, ["bin"]);
     const out = join(tmp, `scale-out`);
     rmSync(out, { recursive: true, force: true });
     const c = childBuild(s, out, true, jobs);
