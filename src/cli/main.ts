@@ -10,6 +10,9 @@ import { availableParallelism } from "node:os";
 import { toolVersion } from "../io/version.js";
 
 
+/** --jobs N: threads for the analysis in all, the main thread included (README). */
+const JOBS_OPTION = { type: "number", default: availableParallelism(), describe: "threads for the analysis, the main thread included" } as const;
+
 function jobsOption(raw: unknown): number {
   const jobs = Number(raw);
   if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(raw)}`);
@@ -47,7 +50,7 @@ export async function main(argv: string[]): Promise<number> {
         y
           .positional("scenario", { type: "string", demandOption: true })
           .option("o", { alias: "out", type: "string", describe: "output folder", default: "steercode-build" })
-          .option("jobs", { type: "number", default: availableParallelism(), describe: "worker threads for the analysis" })
+          .option("jobs", JOBS_OPTION)
           .option("analysis", { type: "boolean", default: true, describe: "write beams.csv (--no-analysis: tables only)" })
           .option("compare", { type: "string", describe: "an earlier build: write its word-level changes (changes.csv, diff.json) beside the new one" }),
       handler: (a) =>
@@ -66,7 +69,7 @@ export async function main(argv: string[]): Promise<number> {
           .option("atten-step", { type: "string", describe: "attenuator steps in dB, e.g. 0.25,0.5,1 (default: the scenario's)" })
           .option("quantizer", { type: "string", describe: "nearest, randomized or both (nearest,randomized)" })
           .option("o", { alias: "out", type: "string", default: "steercode-sweep", describe: "output folder" })
-          .option("jobs", { type: "number", default: availableParallelism(), describe: "threads for the analysis" }),
+          .option("jobs", JOBS_OPTION),
       handler: (a) =>
         run(async () => {
           const jobs = jobsOption(a.jobs);

@@ -8,6 +8,7 @@ import { join } from "node:path";
 import { parse } from "csv-parse/sync";
 import { InputError } from "../core/errors.js";
 import type { Manifest } from "./build.js";
+import { loadScenario, type LoadedScenario } from "./scenario.js";
 
 export function readManifest(dir: string): Manifest {
   const p = join(dir, "manifest.json");
@@ -103,4 +104,14 @@ export function buildWords(dir: string, m: Manifest): Decoded {
   const c = readCodesCsv(dir);
   if (c) return { words: c.words, file: "codes.csv" };
   throw new InputError({ file: dir, message: "holds no table (table.bin, table.json, table.mem, table.h or codes.csv)" });
+}
+
+/**
+ * The scenario recorded in a build folder, read from its `inputs/` copies (so it works on
+ * a folder moved to another machine). A reference the manifest does not map resolves to
+ * a path inside `inputs/` that does not exist, and is reported as a missing file.
+ */
+export function loadBuildScenario(dir: string, m: Manifest): LoadedScenario {
+  const copies = new Map(m.inputs.map((i) => [i.ref, join(dir, i.copy)]));
+  return loadScenario(join(dir, m.scenario.copy), { resolveRef: (ref) => copies.get(ref) ?? join(dir, "inputs", "missing-" + ref), displayName: join(dir, m.scenario.copy) });
 }

@@ -13,8 +13,7 @@ import { BeamAnalyzer, METRICS, M } from "../core/pattern/analyze.js";
 import { allocBeamCodes, makeQuantizer } from "../core/quantize/index.js";
 import { theoryFor } from "../core/theory.js";
 import type { Manifest } from "./build.js";
-import { readManifest } from "./readbuild.js";
-import { loadScenario } from "./scenario.js";
+import { loadBuildScenario, readManifest } from "./readbuild.js";
 import { chartSvg, PALETTE, type Panel } from "./svg.js";
 import { SAFETY } from "../cli/shared.js";
 
@@ -141,8 +140,7 @@ ${sections.join("\n")}
 }
 
 function buildSections(dir: string, m: Manifest, o: ReportOptions): { sections: string[]; beam: number } {
-  const copies = new Map(m.inputs.map((i) => [i.ref, join(dir, i.copy)]));
-  const loaded = loadScenario(join(dir, m.scenario.copy), { resolveRef: (ref) => copies.get(ref) ?? ref });
+  const loaded = loadBuildScenario(dir, m);
   const plan = loaded.plan;
   const beamsCsv = existsSync(join(dir, "beams.csv")) ? (parse(readFileSync(join(dir, "beams.csv")), { columns: true }) as BeamRow[]) : null;
   const nb = plan.beams.count;

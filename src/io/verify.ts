@@ -13,8 +13,7 @@ import { crc32 } from "node:zlib";
 import { runTables } from "../core/engine.js";
 import { packPlan, unpackWord } from "../core/words.js";
 import { hex32, type Manifest } from "./build.js";
-import { readCodesCsv, readManifest, wordsFromBin, wordsFromHeader, wordsFromJson, wordsFromMem, type Decoded } from "./readbuild.js";
-import { loadScenario } from "./scenario.js";
+import { loadBuildScenario, readCodesCsv, readManifest, wordsFromBin, wordsFromHeader, wordsFromJson, wordsFromMem, type Decoded } from "./readbuild.js";
 import { toolVersion } from "./version.js";
 
 export interface Check {
@@ -105,9 +104,8 @@ export function verifyBuild(dir: string): VerifyResult {
   }
   // 3. recompute from the recorded scenario and inputs
   if (reference) {
-    const copies = new Map(m.inputs.map((i) => [i.ref, join(dir, i.copy)]));
     try {
-      const loaded = loadScenario(join(dir, m.scenario.copy), { resolveRef: (ref) => copies.get(ref) ?? join(dir, "inputs", "missing-" + ref), displayName: join(dir, m.scenario.copy) });
+      const loaded = loadBuildScenario(dir, m);
       const E = m.counts.elements;
       let bad = -1;
       let expected = -1;
