@@ -3,12 +3,13 @@
  * /usr/bin/chromium; CI installs it), renders without console errors, holds its figures,
  * and its screenshot is not blank.
  */
-import { existsSync, readFileSync } from "node:fs";
+import { readFileSync } from "node:fs";
 import { join } from "node:path";
 import { PNG } from "pngjs";
 import { chromium } from "playwright-core";
 import { describe, expect, it } from "vitest";
 import { cli, tempDir } from "../helpers.js";
+import { itWith, TOOLS } from "../tools.js";
 
 const DEMO = join(import.meta.dirname, "..", "..", "fixtures", "demo", "scenario.json");
 const CHROMIUM = "/usr/bin/chromium";
@@ -36,8 +37,7 @@ describe("report", () => {
     expect(r.stderr).toMatch(/--beam 9999: expected a beam from 0 to 132/);
   });
 
-  it("renders in headless Chromium with no console errors, every figure present, not blank", async () => {
-    expect(existsSync(CHROMIUM), "Debian chromium must be installed (apt-get install chromium; .ci/run does)").toBe(true);
+  itWith([TOOLS.chromium], "renders in headless Chromium with no console errors, every figure present, not blank", async () => {
     expect(cli(["sweep", DEMO, "--phase-bits", "4..6", "--atten-step", "0.5,1", "-o", sweep]).code).toBe(0);
     expect(cli(["report", sweep, "-o", join(sweep, "report.html")]).code).toBe(0);
     const browser = await chromium.launch({

@@ -4,6 +4,7 @@ import { describe, expect, it } from "vitest";
 import { chebyshevWeights } from "../../src/core/taper/chebyshev.js";
 import { taylorCoefficients, taylorAt } from "../../src/core/taper/taylor.js";
 import { load, baseScenario } from "../helpers.js";
+import { itWith, TOOLS } from "../tools.js";
 
 const FIX = join(import.meta.dirname, "..", "fixtures", "scipy");
 interface Fixture { meta: { call: string; scipyVersion: string }; params: Record<string, number>; window: number[] }
@@ -91,14 +92,14 @@ describe("Dolph–Chebyshev taper", () => {
 });
 
 describe("scipy fixtures are current", () => {
-  it("regenerating them with Debian's python3-scipy gives the committed windows (CI installs it; not skipped)", async () => {
+  itWith([TOOLS.scipy], "regenerating them with Debian's python3-scipy gives the committed windows", async () => {
     const { execFileSync } = await import("node:child_process");
     const { tempDir } = await import("../helpers.js");
     const out = tempDir();
     try {
       execFileSync("/usr/bin/python3", [join(FIX, "make_windows.py"), "--out", out], { stdio: "pipe" });
     } catch (e) {
-      throw new Error(`could not run the scipy fixture runner (apt-get install python3-scipy): ${String((e as { stderr?: Buffer }).stderr ?? e)}`);
+      throw new Error(`the scipy fixture runner failed: ${String((e as { stderr?: Buffer }).stderr ?? e)}`);
     }
     for (const { f, doc } of fixtures) {
       const fresh = JSON.parse(readFileSync(join(out, f), "utf8")) as Fixture;

@@ -1,4 +1,5 @@
 import { execFileSync } from "node:child_process";
+import { itWith, TOOLS } from "../tools.js";
 import { readFileSync, readdirSync, writeFileSync, existsSync, mkdirSync } from "node:fs";
 import { join } from "node:path";
 import { parse } from "csv-parse/sync";
@@ -74,7 +75,7 @@ describe("build on the demo", () => {
     });
   });
 
-  it("table.h compiles clean with gcc -std=c99 -Wall -Wextra -pedantic -Werror and its words and CRC match table.bin", () => {
+  itWith([TOOLS.gcc], "table.h compiles clean with gcc -std=c99 -Wall -Wextra -pedantic -Werror and its words and CRC match table.bin", () => {
     const t = tempDir();
     const c = `#define STEERCODE_TABLE_IMPLEMENTATION
 #include "table.h"
