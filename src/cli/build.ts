@@ -1,10 +1,11 @@
 import { deriveFacts } from "../core/facts.js";
-import { runBuild, type Manifest } from "../io/build.js";
+import { makeManifest, runBuild, type Manifest } from "../io/build.js";
+import { InputError } from "../core/errors.js";
 import { loadScenario } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
 import { fmt, printJson, progress, SAFETY, warn, type Io } from "./shared.js";
 import type { Distribution } from "../core/pattern/summary.js";
-import { diffBuilds, type DiffResult } from "../io/diff.js";
+import { diffBuilds, incompatibility, type DiffResult } from "../io/diff.js";
 import { readManifest } from "../io/readbuild.js";
 import { WorkerPool } from "../io/analysis-pool.js";
 import { diffLines, writeDiffFiles } from "./diff.js";
@@ -33,6 +34,11 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
 async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<number> {
   const loaded = loadScenario(args.scenario);
   let diff: DiffResult | null = null;
+  if (args.compare) {
+    // before any work: can the new tables be compared word by word with the earlier ones?
+    const why = incompatibility(readManifest(args.compare), makeManifest(loaded, "", [], {}, false));
+    if (why.length) throw new InputError({ file: `${args.compare} vs ${args.scenario}`, message: `--compare: these builds cannot be compared word by word: ${why.join("; ")}` });
+  }
   const facts = deriveFacts(loaded.plan);
   const bar = progress(io, "build");
   let result;
@@ -46,7 +52,7 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
         ? {
             extraFiles: (tmp: string, manifest: Manifest) => {
               // the new tables are complete in the staged folder: compare them with the earlier build
-              diff = diffBuilds(args.compare!, tmp, manifest);
+              diff = diffBuilds(args.compare!, tmp, manifest, args.out);
               return writeDiffFiles(tmp, diff, args.compare!, args.out);
             },
           }

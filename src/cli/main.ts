@@ -19,6 +19,79 @@ function jobsOption(raw: unknown): number {
   return jobs;
 }
 
+/** Each command's usage line (for messages). */
+const COMMAND_LINES: Record<string, string> = {
+  init: "init [dir]",
+  check: "check <scenario>",
+  build: "build <scenario> [-o dir]",
+  sweep: "sweep <scenario> [--phase-bits 3..8] [--atten-step 0.25,0.5,1] [-o dir]",
+  diff: "diff <dirA> <dirB> [-o dir]",
+  verify: "verify <dir>",
+  report: "report <dir> [-o file]",
+  help: "help [command]",
+  completion: "completion",
+};
+const COMMANDS = Object.keys(COMMAND_LINES);
+
+/** Levenshtein distance (small strings: option and command names). */
+function distance(a: string, b: string): number {
+  const d = Array.from({ length: b.length + 1 }, (_, j) => j);
+  for (let i = 1; i <= a.length; i++) {
+    let prev = d[0]!;
+    d[0] = i;
+    for (let j = 1; j <= b.length; j++) {
+      const t = d[j]!;
+      d[j] = Math.min(d[j]! + 1, d[j - 1]! + 1, prev + (a[i - 1] === b[j - 1] ? 0 : 1));
+      prev = t;
+    }
+  }
+  return d[b.length]!;
+}
+
+/** The closest of `known` to `word`, or null when none is close. */
+function closest(word: string, known: readonly string[]): string | null {
+  let best = "", bestD = Infinity;
+  for (const k of known) {
+    const dd = k.startsWith(word) || word.startsWith(k) ? Math.min(1, distance(word, k)) : distance(word, k);
+    if (dd < bestD) [best, bestD] = [k, dd];
+  }
+  return best && bestD <= Math.max(1, Math.floor(word.length / 3)) ? best : null;
+}
+
+const dash = (o: string) => (o.length === 1 ? "-" : "--") + o;
+const GLOBAL_OPTIONS = ["help", "version", "json"];
+
+/** yargs' usage messages in our words, with a did-you-mean for mistyped commands and options. */
+function explainUsage(msg: string, argv: string[], usage: { getDescriptions?: () => Record<string, unknown> }): string {
+  const first = argv.find((x) => !x.startsWith("-"));
+  const cmd = /^Did you mean (\S+)\?$/.exec(msg);
+  if (cmd) return `unknown command '${first ?? ""}' (did you mean ${cmd[1]}?)`;
+  const unknown = /^Unknown arguments?: (.+)$/.exec(msg);
+  if (unknown) {
+    const words = unknown[1]!.split(", ");
+    if (first !== undefined && words[0] === first && !COMMANDS.includes(first)) {
+      const c = closest(first, COMMANDS);
+      return `unknown command '${first}'${c ? ` (did you mean ${c}?)` : ""}; commands: ${COMMANDS.join(", ")}`;
+    }
+    const options = Object.keys(usage.getDescriptions?.() ?? {});
+    return words
+      .map((w) => {
+        const c = closest(w, options);
+        return `unknown ${argv.includes(dash(w)) || argv.some((a) => a.startsWith(dash(w) + "=")) ? "option " + dash(w) : "argument " + w}${c ? ` (did you mean ${dash(c)}?)` : ""}`;
+      })
+      .join("; ");
+  }
+  if (/^Not enough non-option arguments/.test(msg) && first !== undefined) return `${first}: missing argument; usage: steercode ${COMMAND_LINES[first] ?? first}`;
+  if (first === undefined) {
+    const opt = argv.find((a) => a.startsWith("--") && !GLOBAL_OPTIONS.includes(a.slice(2)));
+    if (opt) {
+      const c = closest(opt.slice(2), GLOBAL_OPTIONS);
+      return `unknown option ${opt}${c ? ` (did you mean --${c}?)` : ""}; ${msg}`;
+    }
+  }
+  return msg;
+}
+
 /** Exit code a command reports through this, so that handlers can return 0/1. */
 export async function main(argv: string[]): Promise<number> {
   let code = 0;
@@ -34,13 +107,19 @@ export async function main(argv: string[]): Promise<number> {
     .command({
       command: "init [dir]",
       describe: "write a ready demo scenario (invented data)",
-      builder: (y) => y.positional("dir", { type: "string", default: "steercode-demo" }),
+      builder: (y) =>
+        y
+          .positional("dir", { type: "string", default: "steercode-demo", describe: "folder to write the demo scenario and its calibration file into" })
+          .example("$0 init my-array", "write my-array/scenario.json and my-array/cal.csv"),
       handler: (a) => run(async () => (await import("./init.js")).initCommand(io, String(a.dir)))(),
     })
     .command({
       command: "check <scenario>",
       describe: "validate a scenario; print derived facts and warnings",
-      builder: (y) => y.positional("scenario", { type: "string", demandOption: true }),
+      builder: (y) =>
+        y
+          .positional("scenario", { type: "string", demandOption: true, describe: "the scenario file (JSON, steercode-scenario/1)" })
+          .example("$0 check fixtures/demo/scenario.json", "every problem at once, then wavelengths, grating-lobe limits, table size"),
       handler: (a) => run(async () => (await import("./check.js")).checkCommand(io, String(a.scenario)))(),
     })
     .command({
@@ -48,11 +127,14 @@ export async function main(argv: string[]): Promise<number> {
       describe: "write the beam tables (and beams.csv unless --no-analysis)",
       builder: (y) =>
         y
-          .positional("scenario", { type: "string", demandOption: true })
-          .option("o", { alias: "out", type: "string", describe: "output folder", default: "steercode-build" })
+          .positional("scenario", { type: "string", demandOption: true, describe: "the scenario file (JSON, steercode-scenario/1)" })
+          .option("o", { alias: "out", type: "string", describe: "output folder (replaced only if it is an earlier build)", default: "steercode-build" })
           .option("jobs", JOBS_OPTION)
           .option("analysis", { type: "boolean", default: true, describe: "write beams.csv (--no-analysis: tables only)" })
-          .option("compare", { type: "string", describe: "an earlier build: write its word-level changes (changes.csv, diff.json) beside the new one" }),
+          .option("compare", { type: "string", describe: "an earlier build folder: write the word-level changes (changes.csv, diff.json) into the new one" })
+          .example("$0 build scenario.json -o build-2", "tables, beams.csv and manifest.json in build-2/")
+          .example("$0 build scenario.json -o build-2 --compare build-1", "also: which words changed since build-1")
+          .example("$0 build scenario.json --no-analysis", "tables only (fastest)"),
       handler: (a) =>
         run(async () => {
           const jobs = jobsOption(a.jobs);
@@ -64,12 +146,13 @@ export async function main(argv: string[]): Promise<number> {
       describe: "bit-depth trade-off: the whole grid for every phase-bit depth and attenuator step",
       builder: (y) =>
         y
-          .positional("scenario", { type: "string", demandOption: true })
+          .positional("scenario", { type: "string", demandOption: true, describe: "the scenario file (JSON, steercode-scenario/1)" })
           .option("phase-bits", { type: "string", default: "3..8", describe: "bit depths: a range 3..8 or a list 3,4,6" })
           .option("atten-step", { type: "string", describe: "attenuator steps in dB, e.g. 0.25,0.5,1 (default: the scenario's)" })
           .option("quantizer", { type: "string", describe: "nearest, randomized or both (nearest,randomized)" })
-          .option("o", { alias: "out", type: "string", default: "steercode-sweep", describe: "output folder" })
-          .option("jobs", JOBS_OPTION),
+          .option("o", { alias: "out", type: "string", default: "steercode-sweep", describe: "output folder (replaced only if it is an earlier sweep)" })
+          .option("jobs", JOBS_OPTION)
+          .example("$0 sweep scenario.json --phase-bits 3..7 --atten-step 0.25,0.5,1", "every part over the whole grid: sweep.csv, sweep.json, sweep.svg"),
       handler: (a) =>
         run(async () => {
           const jobs = jobsOption(a.jobs);
@@ -81,15 +164,20 @@ export async function main(argv: string[]): Promise<number> {
       describe: "word-level changes between two builds (exit 1 when they differ)",
       builder: (y) =>
         y
-          .positional("dirA", { type: "string", demandOption: true })
-          .positional("dirB", { type: "string", demandOption: true })
-          .option("o", { alias: "out", type: "string", describe: "write changes.csv and diff.json into this folder" }),
+          .positional("dirA", { type: "string", demandOption: true, describe: "the earlier build folder" })
+          .positional("dirB", { type: "string", demandOption: true, describe: "the later build folder" })
+          .option("o", { alias: "out", type: "string", describe: "write changes.csv and diff.json into this folder" })
+          .example("$0 diff build-1 build-2", "summary of the changed words (exit 1 when any changed)")
+          .example("$0 diff build-1 build-2 -o changes", "also every changed word in changes/changes.csv"),
       handler: (a) => run(async () => (await import("./diff.js")).diffCommand(io, String(a.dirA), String(a.dirB), a.o === undefined ? undefined : String(a.o)))(),
     })
     .command({
       command: "verify <dir>",
       describe: "re-read a build and check it end to end (exit 1 on any mismatch)",
-      builder: (y) => y.positional("dir", { type: "string", demandOption: true }),
+      builder: (y) =>
+        y
+          .positional("dir", { type: "string", demandOption: true, describe: "the build folder" })
+          .example("$0 verify build-2", "exit 0: hashes, CRC, every table format and a fresh computation agree"),
       handler: (a) => run(async () => (await import("./verify.js")).verifyCommand(io, String(a.dir)))(),
     })
     .command({
@@ -97,25 +185,46 @@ export async function main(argv: string[]): Promise<number> {
       describe: "a self-contained HTML report of a build and/or sweep folder",
       builder: (y) =>
         y
-          .positional("dir", { type: "string", demandOption: true })
+          .positional("dir", { type: "string", demandOption: true, describe: "a build or sweep folder" })
           .option("o", { alias: "out", type: "string", describe: "report file (default: DIR/report.html)" })
-          .option("beam", { type: "number", describe: "beam to show (default: the one with the largest sidelobe rise)" })
-          .option("frequency", { type: "number", describe: "frequency index to show (default: that of the chosen beam, else 0)" }),
+          .option("beam", { type: "number", describe: "beam to show first (default: the one with the largest sidelobe rise)" })
+          .option("frequency", { type: "string", describe: "frequency to show first: an index (0, 1 …) or a frequency with its unit (\"28 GHz\")" })
+          .example("$0 report build-2", "build-2/report.html")
+          .example("$0 report build-2 --beam 40 --frequency \"28 GHz\"", "open at beam 40 of the 28 GHz table"),
       handler: (a) =>
         run(async () => {
-          for (const k of ["beam", "frequency"] as const)
-            if (a[k] !== undefined && (!Number.isInteger(a[k]) || (a[k] as number) < 0)) throw new UsageError(`--${k}: expected a whole number ≥ 0, got ${String(a[k])}`);
-          return (await import("./report.js")).reportCommand(io, { dir: String(a.dir), out: a.o === undefined ? null : String(a.o), beam: a.beam === undefined ? null : Number(a.beam), frequency: a.frequency === undefined ? null : Number(a.frequency) });
+          if (a.beam !== undefined && (!Number.isInteger(a.beam) || a.beam < 0)) throw new UsageError(`--beam: expected a whole number ≥ 0, got ${String(a.beam)}`);
+          return (await import("./report.js")).reportCommand(io, { dir: String(a.dir), out: a.o === undefined ? null : String(a.o), beam: a.beam === undefined ? null : Number(a.beam), frequency: a.frequency === undefined ? null : String(a.frequency) });
         })(),
     })
-    .demandCommand(1, "expected a command: init, check, build, sweep, diff, verify or report")
+    .command({
+      command: "help [command]",
+      describe: "show the help of one command (or of steercode)",
+      builder: (y) => y.positional("command", { type: "string", describe: "a command name, e.g. build" }).example("$0 help build", "options and examples of build"),
+      handler: (a) =>
+        run(async () => {
+          const cmd = a.command === undefined ? [] : [String(a.command)];
+          if (cmd.length && !COMMANDS.includes(cmd[0]!)) {
+            const c = closest(cmd[0]!, COMMANDS);
+            throw new UsageError(`help ${cmd[0]}: unknown command${c ? ` (did you mean ${c}?)` : ""}; commands: ${COMMANDS.join(", ")}`);
+          }
+          return main([...cmd, "--help"]);
+        })(),
+    })
+    .completion("completion", "print a bash/zsh completion script (add `steercode completion >> ~/.bashrc`)")
+    .demandCommand(1, `expected a command: ${COMMANDS.join(", ")}`)
+    .recommendCommands()
     .strict()
-    .version(toolVersion())
-    .help()
+    .version("version", "print steercode's version", toolVersion())
+    .alias("v", "version")
+    .help("help", "show this help (also: steercode help <command>)")
+    .alias("h", "help")
+    .wrap(Math.min(110, process.stdout.columns || 100))
+    .epilog("Exit codes: 0 success, 1 a check found a problem, 2 bad input or usage. Docs: README.md.")
     .exitProcess(false)
-    .fail((msg, err) => {
+    .fail((msg, err, usage) => {
       if (err) throw err;
-      throw new UsageError(msg);
+      throw new UsageError(explainUsage(msg ?? "", argv, usage as unknown as { getDescriptions?: () => Record<string, unknown> }));
     });
   try {
     await parser.parseAsync();
@@ -128,7 +237,8 @@ export async function main(argv: string[]): Promise<number> {
     }
     if (e instanceof UsageError) {
       if (json) process.stdout.write(JSON.stringify({ ok: false, problems: [{ message: e.message }] }, null, 2) + "\n");
-      process.stderr.write(`steercode: ${e.message}\nsee: steercode --help\n`);
+      const first = argv.find((x) => !x.startsWith("-"));
+      process.stderr.write(`steercode: ${e.message}\nsee: steercode ${first !== undefined && COMMANDS.includes(first) && first !== "help" ? `help ${first}` : "--help"}\n`);
       return 2;
     }
     const msg = e instanceof Error ? e.message : String(e);

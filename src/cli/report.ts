@@ -3,12 +3,32 @@ import { dirname, join } from "node:path";
 import { InputError } from "../core/errors.js";
 import { makeReport, writeReport } from "../io/report.js";
 import { printJson, type Io } from "./shared.js";
+import { parseQuantity } from "../core/units.js";
+import { readManifest } from "../io/readbuild.js";
+import { UsageError } from "./usage.js";
 
-export function reportCommand(io: Io, a: { dir: string; out: string | null; beam: number | null; frequency: number | null }): number {
+/**
+ * `--frequency`: a 0-based index ("1") or a frequency with its unit ("28 GHz"), which must
+ * be one of the build's table frequencies (to 1 part in 10^9).
+ */
+export function frequencyIndex(dir: string, raw: string | null): number | null {
+  if (raw === null) return null;
+  const text = raw.trim();
+  if (/^\d+$/.test(text)) return Number(text);
+  const q = /[a-zA-Z]/.test(text) ? parseQuantity(text, "frequency") : null;
+  if (!q?.ok) throw new UsageError(`--frequency ${raw}: expected a frequency index (0, 1 …) or a frequency with its unit, e.g. "28 GHz"`);
+  const listed = readManifest(dir).frequenciesHz;
+  const f = q.q.value;
+  const i = listed.findIndex((x) => Math.abs(Number(x) - f) <= 1e-9 * f);
+  if (i < 0) throw new UsageError(`--frequency ${raw}: the build's tables are for ${listed.map((x) => `${Number(x) / 1e9} GHz`).join(", ")}`);
+  return i;
+}
+
+export function reportCommand(io: Io, a: { dir: string; out: string | null; beam: number | null; frequency: string | null }): number {
   const out = a.out ?? join(a.dir, "report.html");
   if (existsSync(out) && statSync(out).isDirectory()) throw new InputError({ file: out, message: "is a folder; expected a file name for the report (e.g. report.html)" });
   if (!existsSync(dirname(out))) throw new InputError({ file: out, message: `the folder ${dirname(out)} does not exist` });
-  const r = makeReport(a.dir, { beam: a.beam, frequencyIndex: a.frequency });
+  const r = makeReport(a.dir, { beam: a.beam, frequencyIndex: frequencyIndex(a.dir, a.frequency) });
   writeReport(out, r.html);
   if (io.json) printJson(io, { ok: true, report: out, beam: r.beam, bytes: Buffer.byteLength(r.html) });
   else io.stdout(`wrote ${out} (${Buffer.byteLength(r.html)} bytes${r.beam !== null ? `, beam ${r.beam}` : ""}); open it in a browser\n`);

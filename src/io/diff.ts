@@ -45,25 +45,36 @@ function layoutKey(l: WordLayout): string {
   return stableJson({ bits: l.bits, off: l.off, fields: l.fields.map((f) => ({ n: f.name, s: f.shift, w: f.width, v: f.value ?? null })) }) ?? "";
 }
 
-/** `manifestB` stands in for dirB's manifest.json while a build is still being staged. */
-export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest): DiffResult {
-  const a = readManifest(dirA);
-  const b = manifestB ?? readManifest(dirB);
+/** What decides whether two builds can be compared word by word. */
+export type TableShape = Pick<Manifest, "layout" | "frequenciesHz" | "elementIds"> & { counts: Pick<Manifest["counts"], "elements" | "beams"> };
+
+/** Why two tables cannot be compared word by word (empty: they can). */
+export function incompatibility(a: TableShape, b: TableShape): string[] {
   const why: string[] = [];
   if (layoutKey(a.layout) !== layoutKey(b.layout)) why.push("the word layouts differ (bits, off word or fields)");
   if (a.counts.elements !== b.counts.elements) why.push(`the element counts differ (${a.counts.elements} vs ${b.counts.elements})`);
   if (a.counts.beams !== b.counts.beams) why.push(`the beam counts differ (${a.counts.beams} vs ${b.counts.beams})`);
   if (a.frequenciesHz.join(",") !== b.frequenciesHz.join(",")) why.push(`the frequencies differ (${a.frequenciesHz.join(", ")} Hz vs ${b.frequenciesHz.join(", ")} Hz)`);
+  if (!why.length && a.elementIds.join(",") !== b.elementIds.join(",")) why.push("the element ids differ");
+  return why;
+}
+
+/**
+ * `manifestB` stands in for dirB's manifest.json while a build is still being staged;
+ * `nameB` is how messages name dirB then (never the staging folder).
+ */
+export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nameB = dirB): DiffResult {
+  const a = readManifest(dirA);
+  const b = manifestB ?? readManifest(dirB);
+  const why = incompatibility(a, b);
+  if (why.length) throw new InputError({ file: `${dirA} vs ${nameB}`, message: `these builds cannot be compared word by word: ${why.join("; ")}` });
   const idsA = a.elementIds;
-  const idsB = b.elementIds;
-  if (!why.length && idsA.join(",") !== idsB.join(",")) why.push("the element ids differ");
-  if (why.length) throw new InputError({ file: `${dirA} vs ${dirB}`, message: `these builds cannot be compared word by word: ${why.join("; ")}` });
   const wa = buildWords(dirA, a).words;
   const wb = buildWords(dirB, b).words;
   const E = a.counts.elements;
   const B = a.counts.beams;
   if (wa.length !== a.counts.words || wb.length !== b.counts.words)
-    throw new InputError({ file: wa.length !== a.counts.words ? dirA : dirB, message: "the table holds a different number of words than its manifest says; run steercode verify on it" });
+    throw new InputError({ file: wa.length !== a.counts.words ? dirA : nameB, message: "the table holds a different number of words than its manifest says; run steercode verify on it" });
   const pp = packPlan(a.layout);
   const states = 2 ** a.phaseShifter.bits;
   const changes: Change[] = [];

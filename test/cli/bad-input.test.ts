@@ -93,7 +93,7 @@ const cases: Case[] = [
     prepare: (d) => { mkdirSync(join(d, "out")); writeFileSync(join(d, "out", "mine.txt"), "x"); },
     expect: [/out: exists and was not written by steercode/],
   },
-  { name: "unknown option", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--colour"], expect: [/Unknown argument: colour/] },
+  { name: "unknown option", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--colour"], expect: [/unknown option --colour/] },
   { name: "--jobs 0", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "0"], expect: [/--jobs: expected a whole number from 1 to 256, got 0/] },
   { name: "verify on a folder that is not a build", args: (d) => ["verify", d], expect: [/manifest\.json: not found: expected a steercode build folder/] },
 ];

@@ -1,0 +1,113 @@
+/**
+ * Command-line conventions, through the built command: help and version everywhere,
+ * did-you-mean for mistyped commands and options (exit 2), `help <command>`, shell
+ * completion, `report --frequency` by index or by value, `--compare` checked before work.
+ */
+import { existsSync, readFileSync, readdirSync } from "node:fs";
+import { dirname, join } from "node:path";
+import { describe, expect, it } from "vitest";
+import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
+
+const ROOT = join(import.meta.dirname, "..", "..");
+const DEMO = join(ROOT, "fixtures", "demo", "scenario.json");
+const VERSION = (JSON.parse(readFileSync(join(ROOT, "package.json"), "utf8")) as { version: string }).version;
+const COMMANDS = ["init", "check", "build", "sweep", "diff", "verify", "report"];
+
+describe("help and version", () => {
+  it("-v and --version print the package version", () => {
+    for (const f of ["-v", "--version"]) {
+      const r = cli([f]);
+      expect(r.code).toBe(0);
+      expect(r.stdout.trim()).toBe(VERSION);
+    }
+  });
+
+  for (const c of COMMANDS) {
+    it(`${c}: -h and --help show a description for every positional and option, and an example`, () => {
+      const a = cli([c, "-h"]);
+      const b = cli([c, "--help"]);
+      expect(a.code).toBe(0);
+      expect(a.stdout).toBe(b.stdout);
+      expect(a.stdout).toMatch(/\nExamples:\n/);
+      // every line that starts an option or positional carries words after its name
+      const lines = a.stdout.split("\n");
+      const start = lines.findIndex((l) => /^(Positionals|Options):/.test(l));
+      const end = lines.findIndex((l) => l.startsWith("Examples:"));
+      let entries = 0;
+      for (const l of lines.slice(start, end)) {
+        const m = /^\s+(-\w, )?(--?[\w-]+|\w+)\s{2,}(.*)$/.exec(l);
+        if (!m) continue;
+        entries++;
+        expect(m[3]!.replace(/\[[^\]]*\]/g, "").trim(), `${c}: ${l}`).not.toBe("");
+      }
+      expect(entries).toBeGreaterThanOrEqual(4); // at least one positional or option of its own, --json, -v, -h
+      // `help <command>` gives the same page
+      expect(cli(["help", c]).stdout).toBe(a.stdout);
+    });
+  }
+});
+
+describe("mistakes get a did-you-mean and exit 2", () => {
+  it("a mistyped command", () => {
+    const r = cli(["bulid", "x.json"]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/unknown command 'bulid' \(did you mean build\?\)/);
+    expect(r.stderr).not.toMatch(/ at .*\.js:\d+/); // no stack trace
+  });
+
+  it("a mistyped option names the command's own option", () => {
+    const r = cli(["build", DEMO, "--job", "2", "-o", join(tempDir(), "x")]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/unknown option --job \(did you mean --jobs\?\)/);
+    expect(r.stderr).toMatch(/see: steercode help build/);
+    const s = cli(["sweep", DEMO, "--phase-bit", "3..4"]);
+    expect(s.code).toBe(2);
+    expect(s.stderr).toMatch(/did you mean --phase-bits\?/);
+  });
+
+  it("a missing argument names the usage; help of an unknown command suggests one", () => {
+    const r = cli(["verify"]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/verify: missing argument; usage: steercode verify <dir>/);
+    const h = cli(["help", "bild"]);
+    expect(h.code).toBe(2);
+    expect(h.stderr).toMatch(/did you mean build\?/);
+  });
+});
+
+describe("completion", () => {
+  it("prints a shell completion script for steercode", () => {
+    const r = cli(["completion"]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/complete .*steercode/);
+  });
+});
+
+describe("report --frequency and build --compare", () => {
+  const t = tempDir();
+  const s = writeScenario(baseScenario({ frequency: ["27.5 GHz", "29 GHz"] }));
+  const a = join(t, "a");
+
+  it("report --frequency takes an index or a frequency with its unit", () => {
+    expect(cli(["build", s, "-o", a]).code).toBe(0);
+    const byIndex = cli(["report", a, "--frequency", "1", "--beam", "2", "-o", join(t, "r1.html"), "--json"]);
+    const byValue = cli(["report", a, "--frequency", "29 GHz", "--beam", "2", "-o", join(t, "r2.html"), "--json"]);
+    expect(byIndex.code).toBe(0);
+    expect(byValue.code).toBe(0);
+    expect(readFileSync(join(t, "r1.html"), "utf8")).toBe(readFileSync(join(t, "r2.html"), "utf8"));
+    const miss = cli(["report", a, "--frequency", "28 GHz"]);
+    expect(miss.code).toBe(2);
+    expect(miss.stderr).toMatch(/--frequency 28 GHz: the build's tables are for 27\.5 GHz, 29 GHz/);
+  });
+
+  it("--compare with an incompatible build is refused before any work, naming no staging folder", () => {
+    const other = writeScenario(baseScenario({ frequency: ["27.5 GHz", "29 GHz"], beams: { kind: "uv", u: { from: 0, to: 0.5, step: 0.5 }, v: { from: 0, to: 0, step: 1 } } }));
+    const out = join(t, "b");
+    const r = cli(["build", other, "-o", out, "--compare", a]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/--compare: these builds cannot be compared word by word: the beam counts differ \(3 vs 2\)/);
+    expect(r.stderr).not.toMatch(/steercode-tmp/);
+    expect(existsSync(out)).toBe(false);
+    expect(readdirSync(dirname(out)).filter((n) => n.includes("steercode-tmp"))).toEqual([]);
+  });
+});
