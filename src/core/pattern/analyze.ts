@@ -213,6 +213,12 @@ export class BeamAnalyzer {
     return { u: { x: cu.x, ideal: db(cu.ideal), realized: db(cu.realized) }, v: { x: cv.x, ideal: db(cv.ideal), realized: db(cv.realized) } };
   }
 
+  /** |AF|² of the last analysed beam's realized or ideal weights towards (u, v) (the report's pattern view). */
+  powerAt(u: number, v: number, which: "realized" | "ideal"): number {
+    const ev = which === "realized" ? this.evR : this.evI;
+    return ev.power(u - ev.u0, v - ev.v0);
+  }
+
   /** The sampled windows of the last analysed beam (for the report). */
   detail(): PatternDetail {
     const copy = (w: PowerWindow): PowerWindow => ({ ...w, p: w.p.slice(0, w.wm * w.wn), visible: w.visible.slice(0, w.wm * w.wn) });

@@ -1,0 +1,348 @@
+/**
+ * `steercode report DIR`: one self-contained HTML page (inline CSS, inline script, no
+ * network, nothing beside it) for a build folder, a sweep folder or both.
+ *
+ * The build part is an explorer: the page carries the recorded Plan, beams.csv and the
+ * CRC-32 of every beam's words, and its script (src/report/explorer.ts, bundled with
+ * steercode's own engine by scripts/bundle-report.mjs) draws any (frequency, beam) the
+ * reader picks. Everything from the folder is parsed into numbers or escaped text; no
+ * markup from the folder is embedded.
+ */
+import { closeSync, existsSync, openSync, readFileSync, readSync, renameSync, rmSync, writeFileSync } from "node:fs";
+import { join } from "node:path";
+import { crc32 } from "node:zlib";
+import { parse } from "csv-parse/sync";
+import { InputError } from "../core/errors.js";
+import type { Plan } from "../core/plan.js";
+import type { Manifest } from "../io/build.js";
+import { loadBuildScenario, readManifest } from "../io/readbuild.js";
+import { chartSvg, MARKERS, PALETTE, type Panel, type Series } from "../io/svg.js";
+import { SAFETY } from "../cli/shared.js";
+import { encodeTyped, type PageData } from "./model.js";
+
+export interface ReportOptions {
+  beam: number | null;
+  frequencyIndex: number | null;
+}
+
+function esc(s: string): string {
+  return s.replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;").replace(/"/g, "&quot;").replace(/'/g, "&#39;");
+}
+
+/** JSON for a <script type="application/json"> block: nothing in it can close the element. */
+function scriptJson(v: unknown): string {
+  return JSON.stringify(v).replace(/</g, "\\u003c").replace(/>/g, "\\u003e").replace(/&/g, "\\u0026").replace(/\u2028/g, "\\u2028").replace(/\u2029/g, "\\u2029");
+}
+
+let bundleCache: string | null = null;
+/** The page script: dist/report/explorer.js, bundled at build time (from source: bundled now). */
+async function explorerBundle(): Promise<string> {
+  if (bundleCache) return bundleCache;
+  const built = new URL("./explorer.js", import.meta.url);
+  const here = new URL(import.meta.url).pathname;
+  if (here.endsWith(".js") && existsSync(built)) {
+    const text = readFileSync(built, "utf8");
+    if (text.startsWith("/*steercode-report-bundle*/")) return (bundleCache = text);
+  }
+  const { bundleExplorer } = (await import(new URL("../../scripts/bundle-report.mjs", import.meta.url).href)) as { bundleExplorer: () => Promise<string> };
+  return (bundleCache = await bundleExplorer());
+}
+
+function taperWords(t: Plan["taper"]): string {
+  const o = t as unknown as Record<string, unknown>;
+  switch (o.kind) {
+    case "uniform":
+      return "uniform (every element at full amplitude)";
+    case "taylor":
+      return `Taylor, ${String(o.sidelobeDb ?? o.sidelobe)} dB design sidelobes, n̄ = ${String(o.nbar)}`;
+    case "chebyshev":
+      return `Dolph–Chebyshev, ${String(o.sidelobeDb ?? o.sidelobe)} dB equal sidelobes`;
+    default:
+      return String(o.kind);
+  }
+}
+
+/** CRC-32 of every beam's words in table.bin, read a beam at a time. */
+function beamCrcs(dir: string, m: Manifest): Uint32Array | null {
+  const f = m.files["table.bin"];
+  const path = join(dir, "table.bin");
+  if (!f || !existsSync(path)) return null;
+  const per = m.counts.elements * m.layout.bytes;
+  const n = m.counts.frequencies * m.counts.beams;
+  const out = new Uint32Array(n);
+  const buf = Buffer.alloc(per);
+  const fd = openSync(path, "r");
+  try {
+    for (let k = 0; k < n; k++) {
+      if (readSync(fd, buf, 0, per, k * per) !== per) return null;
+      out[k] = crc32(buf);
+    }
+  } finally {
+    closeSync(fd);
+  }
+  return out;
+}
+
+const b64 = (bytes: Uint8Array) => Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength).toString("base64");
+
+interface BuildPart {
+  html: string;
+  data: PageData;
+  beam: number;
+}
+
+function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
+  const loaded = loadBuildScenario(dir, m);
+  const plan = loaded.plan;
+  const F = plan.frequenciesHz.length, B = plan.beams.count;
+  let metricColumns: string[] = [];
+  let metrics: Float64Array | null = null;
+  const beamsPath = join(dir, "beams.csv");
+  if (m.files["beams.csv"] && existsSync(beamsPath)) {
+    const rows = parse(readFileSync(beamsPath), { columns: false, skip_empty_lines: true }) as string[][];
+    const header = rows[0] ?? [];
+    metricColumns = header.slice(6);
+    if (rows.length - 1 !== F * B) throw new InputError({ file: beamsPath, message: `expected ${F * B} rows (frequencies × beams), found ${rows.length - 1}` });
+    metrics = new Float64Array(F * B * metricColumns.length);
+    for (let r = 1; r < rows.length; r++) {
+      const row = rows[r]!;
+      for (let c = 0; c < metricColumns.length; c++) {
+        const cell = row[6 + c] ?? "";
+        metrics[(r - 1) * metricColumns.length + c] = cell === "" ? NaN : Number(cell);
+      }
+    }
+  }
+  // the beam to open at: --beam/--frequency, else the largest sidelobe rise
+  let fi = o.frequencyIndex ?? 0;
+  let beam = o.beam ?? 0;
+  const rise = metricColumns.indexOf("sll_rise_db");
+  if (o.beam === null && metrics && rise >= 0) {
+    let worst = -Infinity;
+    for (let k = 0; k < F * B; k++) {
+      const kf = Math.floor(k / B);
+      if (o.frequencyIndex !== null && kf !== o.frequencyIndex) continue;
+      const v = metrics[k * metricColumns.length + rise]!;
+      if (v > worst) [worst, fi, beam] = [v, kf, k % B];
+    }
+  }
+  if (beam < 0 || beam >= B) throw new InputError({ file: dir, message: `--beam ${beam}: expected a beam from 0 to ${B - 1}` });
+  if (fi < 0 || fi >= F) throw new InputError({ file: dir, message: `--frequency ${fi}: expected 0 to ${F - 1}` });
+  const crc = beamCrcs(dir, m);
+  const data: PageData = {
+    title: m.name || "build",
+    plan: encodeTyped(plan, b64),
+    metricColumns,
+    metrics: metrics ? b64(new Uint8Array(metrics.buffer)) : null,
+    crc: crc ? b64(new Uint8Array(crc.buffer)) : null,
+    start: { f: fi, beam },
+  };
+  const cal = m.calibration;
+  const summary: [string, string][] = [
+    ["scenario", `${m.scenario.source} (SHA-256 ${m.scenario.sha256})`],
+    ["array", `${m.counts.elements} elements (${m.counts.enabledElements} enabled)${plan.lattice ? `, ${plan.lattice.kind} lattice of ${plan.lattice.columns} columns × ${plan.lattice.rows} rows` : ", element list"}`],
+    ["tables", `${B} beams × ${F} frequenc${F === 1 ? "y" : "ies"} (${m.frequenciesHz.map((f) => `${Number((Number(f) / 1e9).toPrecision(9))} GHz`).join(", ")}), ${m.layout.bits}-bit words`],
+    ["phase shifter", `${m.phaseShifter.bits} bits, LSB ${m.phaseShifter.lsbDeg.toFixed(4)}°${m.phaseShifter.measuredStates ? ", measured states" : ", ideal states"}`],
+    ["attenuator", m.attenuator.bits === 0 ? "none (0 bits): no taper can be applied" : `${m.attenuator.bits} bits × ${m.attenuator.stepDb} dB steps (range ${m.attenuator.rangeDb.toFixed(2)} dB)${m.attenuator.measuredStates ? ", measured states" : ""}`],
+    ["taper", taperWords(m.taper)],
+    ["quantizer", `${m.quantizer.method}${m.quantizer.seed !== null ? ` (seed ${m.quantizer.seed})` : ""}`],
+    ["calibration", cal ? `${cal.ref} (SHA-256 ${cal.sha256})${cal.comments.length ? ` — ${cal.comments.join(" | ")}` : ""}` : "none"],
+    ["G_ref, clipped elements", m.perFrequency.map((p) => `${Number((Number(p.frequencyHz) / 1e9).toPrecision(9))} GHz: ${p.gRefDb.toFixed(3)} dB, ${p.clipped} clipped`).join("; ")],
+    ["table.bin CRC-32", m.files["table.bin"]?.crc32 ?? "no table.bin in this build"],
+  ];
+  const html = `<section id="summary"><h2>What was built</h2><table class="kv">${summary.map(([k, v]) => `<tr><th scope="row">${esc(k)}</th><td>${esc(v)}</td></tr>`).join("")}</table></section>
+<section id="explorer"><h2>Beam explorer</h2>
+<div class="controls"><label>frequency <select id="freq-select" aria-label="frequency"></select></label>
+<label>beam <select id="beam-select" aria-label="beam"></select></label>
+<button id="prev-beam" type="button" aria-label="previous beam">◀</button><button id="next-beam" type="button" aria-label="next beam">▶</button>
+<span class="hint">or click a beam on the maps below, or a beam in the worst-beam table; the address (#f=K&amp;beam=N) links to the beam shown</span></div>
+<h2 id="beam-heading" class="beam-heading">beam ${beam}</h2>
+<p id="crc-badge" class="badge"></p>
+<div class="grid2">
+<figure id="pattern"><figcaption><strong>Realized pattern in u-v space.</strong> |AF|² relative to the realized peak, floor −50 dB; dashed circle: the horizon (u² + v² = 1); white ring: commanded direction; red cross: realized peak; grey: outside visible space.</figcaption>
+<div class="stack"><canvas id="uv-heat" width="420" height="410"></canvas><canvas id="uv-overlay" width="420" height="410"></canvas></div><div id="uv-bar" class="cbar"></div></figure>
+<figure id="metrics-fig"><figcaption><strong>Metrics of this beam</strong> (definitions: README, "What the analysis measures").</figcaption><div id="beam-metrics"></div></figure>
+</div>
+<figure id="cuts-fig"><figcaption><strong>Cuts through the commanded direction.</strong> Exact array factor; grey dashed: ideal (tapered, unquantised) weights; dark: realized (codes through the channel model); one dB scale for both.</figcaption><div id="cuts" class="cuts"></div></figure>
+<figure id="aperture"><figcaption><strong>Aperture for this beam</strong>, elements at their real positions (x right, y up).</figcaption>
+<div class="aps"><div><div class="cap">phase code</div><canvas id="ap-phase"></canvas><div id="ap-phase-bar" class="cbar"></div></div>
+<div><div class="cap">attenuation code</div><canvas id="ap-atten"></canvas><div id="ap-atten-bar" class="cbar"></div></div>
+<div><div class="cap">phase error vs ideal</div><canvas id="ap-error"></canvas><div id="ap-error-bar" class="cbar"></div></div></div>
+<p id="ap-status" class="note"></p></figure>
+<figure id="histogram-fig"><figcaption><strong>Phase error of this beam's elements.</strong></figcaption><div id="phase-histogram"></div></figure>
+</section>
+<section id="grid"><h2>Over the whole beam grid</h2><p class="note">From beams.csv; the red box marks the beam shown. Click a cell to show that beam.</p><div id="grid-maps" class="maps"></div>
+<h3>Worst beams</h3><div id="worst"></div></section>`;
+  return { html, data, beam };
+}
+
+/** A comparison recorded in the folder (build --compare, diff -o): numbers from diff.json and changes.csv. */
+function comparisonPart(dir: string, m: Manifest | null): string {
+  const path = join(dir, "diff.json");
+  if (!existsSync(path)) return "";
+  let doc: Record<string, unknown>;
+  try {
+    doc = JSON.parse(readFileSync(path, "utf8")) as Record<string, unknown>;
+  } catch {
+    throw new InputError({ file: path, message: "is not valid JSON" });
+  }
+  const s = (doc.summary ?? {}) as Record<string, unknown>;
+  const num = (x: unknown) => (typeof x === "number" && Number.isFinite(x) ? x : NaN);
+  const str = (x: unknown) => (typeof x === "string" ? x : "");
+  const lines: string[] = [];
+  lines.push(doc.identical === true ? `identical: all ${num(s.wordsCompared)} words agree` : `${num(s.wordsChanged)} of ${num(s.wordsCompared)} words changed, in ${num(s.beamsTouched)} beam(s) and ${num(s.elementsTouched)} element(s); largest phase change ${num(s.largestPhaseChangeLsb)} LSB, largest attenuation change ${num(s.largestAttenChangeSteps)} step(s)`);
+  if (s.calibrationChanged === true) lines.push(`calibration: ${str(s.oldCalibration) || "none"} → ${str(s.newCalibration) || "none"}`);
+  // beams × elements map of changed words, from changes.csv (first frequency with changes)
+  let map = "";
+  const cpath = join(dir, "changes.csv");
+  if (m && existsSync(cpath)) {
+    const rows = parse(readFileSync(cpath), { columns: true, skip_empty_lines: true }) as Record<string, string>[];
+    const E = m.counts.elements, B = m.counts.beams;
+    const col = new Map(m.elementIds.map((id, i) => [id, i]));
+    const W = Math.min(E, 256), H = Math.min(B, 256);
+    const cells = new Uint32Array(W * H);
+    for (const r of rows) {
+      const e = col.get(Number(r.element));
+      const b = Number(r.beam);
+      if (e === undefined || !Number.isInteger(b) || b < 0 || b >= B) continue;
+      cells[Math.floor((b * H) / B) * W + Math.floor((e * W) / E)]!++;
+    }
+    let max = 0;
+    for (const c of cells) max = Math.max(max, c);
+    const cw = 600 / W, ch = Math.max(1, Math.min(6, 300 / H));
+    const rects: string[] = [];
+    for (let y = 0; y < H; y++)
+      for (let x = 0; x < W; x++) {
+        const c = cells[y * W + x]!;
+        if (c) rects.push(`<rect x="${(50 + x * cw).toFixed(2)}" y="${(10 + y * ch).toFixed(2)}" width="${cw.toFixed(2)}" height="${ch.toFixed(2)}" fill-opacity="${(0.25 + (0.75 * c) / max).toFixed(2)}"/>`);
+      }
+    const h = 10 + H * ch;
+    map = `<svg viewBox="0 0 660 ${(h + 40).toFixed(0)}" class="changes" role="img" aria-label="changed words by beam and element"><rect x="50" y="10" width="600" height="${(H * ch).toFixed(2)}" class="plot"/><g class="changed">${rects.join("")}</g>
+<text x="350" y="${(h + 18).toFixed(0)}" text-anchor="middle">element (table order, ${E} in all) →</text><text transform="translate(20 ${(10 + h / 2).toFixed(0)}) rotate(-90)" text-anchor="middle">beam ↓ (${B})</text></svg>`;
+  }
+  return `<section id="comparison"><h2>What changed against the earlier build</h2><p>Compared with <code>${esc(str(doc.old))}</code>: ${lines.map(esc).join("; ")}.</p>${map}<p class="note">Dark cells: words that changed (every frequency, darker = more).</p></section>`;
+}
+
+/** The sweep, drawn from the numbers in sweep.json (no markup taken from the folder). */
+function sweepPart(dir: string): string {
+  const path = join(dir, "sweep.json");
+  let doc: { name?: unknown; rows?: unknown };
+  try {
+    doc = JSON.parse(readFileSync(path, "utf8")) as typeof doc;
+  } catch {
+    throw new InputError({ file: path, message: "is not valid JSON" });
+  }
+  if (!Array.isArray(doc.rows)) throw new InputError({ file: path, pointer: "/rows", message: "expected an array of sweep rows" });
+  const rows = (doc.rows as Record<string, unknown>[]).map((r) => {
+    const o: Record<string, number | string> = {};
+    for (const [k, v] of Object.entries(r ?? {})) o[k] = typeof v === "number" ? v : typeof v === "string" ? v : NaN;
+    return o;
+  });
+  const n = (x: unknown) => (typeof x === "number" ? x : Number(x));
+  const keys = [...new Set(rows.map((r) => `${n(r.atten_step_db)}|${String(r.quantizer ?? "nearest")}`))];
+  const bits = [...new Set(rows.map((r) => n(r.phase_bits)).filter(Number.isFinite))].sort((a, b) => a - b);
+  const seriesFor = (col: string, tag: string, dash?: string): Series[] =>
+    keys.map((k, i) => {
+      const [step, q] = k.split("|");
+      const rs = rows.filter((r) => `${n(r.atten_step_db)}|${String(r.quantizer ?? "nearest")}` === k).sort((a, b) => n(a.phase_bits) - n(b.phase_bits));
+      return { label: `${tag}, step ${step} dB, ${q}`, points: rs.map((r) => [n(r.phase_bits), n(r[col])] as [number, number]).filter((p) => Number.isFinite(p[1])), colour: PALETTE[i % PALETTE.length]!, marker: MARKERS[i % MARKERS.length]!, ...(dash ? { dash } : {}) };
+    });
+  const theory = (col: string, label: string, dash: string): Series => {
+    const pts = bits.map((b) => [b, n(rows.find((r) => n(r.phase_bits) === b)?.[col])] as [number, number]).filter((p) => Number.isFinite(p[1]));
+    return { label, points: pts, colour: "#555555", dash, marker: "none", width: 1.4 };
+  };
+  const panels: Panel[] = [
+    { title: "Worst sidelobe level over the grid", xLabel: "phase-shifter bits", yLabel: "PSL, dB (worst beam)", series: [...seriesFor("psl_db_max", "worst"), theory("theory_quantization_lobe_db", "quantisation lobe 2^(−2B) (theory)", "2 3")] },
+    { title: "Sidelobe rise from quantisation", xLabel: "phase-shifter bits", yLabel: "PSL rise, dB", series: [...seriesFor("sll_rise_db_max", "worst"), ...seriesFor("sll_rise_db_p95", "p95", "3 3")] },
+    { title: "Pointing error", xLabel: "phase-shifter bits", yLabel: "degrees", series: [...seriesFor("pointing_error_deg_max", "max"), ...seriesFor("pointing_error_deg_rms", "rms", "3 3")] },
+    { title: "Gain loss at the commanded direction", xLabel: "phase-shifter bits", yLabel: "dB (positive = loss)", series: [...seriesFor("gain_loss_db_max", "max"), ...seriesFor("gain_loss_db_median", "median", "3 3"), theory("theory_gain_loss_db", "phase-quantisation loss (theory)", "2 3")] },
+  ];
+  const svg = chartSvg(`Bit-depth trade-off: ${typeof doc.name === "string" ? doc.name : "sweep"}`, panels, ["Theory curves: the published estimates recorded in sweep.json (sources in README, \"Theory beside measurement\")."]);
+  const f = (x: unknown, d: number) => (Number.isFinite(n(x)) ? n(x).toFixed(d) : "n/a");
+  const table = rows
+    .map((r) => `<tr><td>${f(r.phase_bits, 0)}</td><td>${f(r.atten_step_db, 3)}</td><td>${esc(String(r.quantizer ?? "nearest"))}</td><td>${f(r.psl_db_max, 2)}</td><td>${f(r.sll_rise_db_p95, 2)}</td><td>${f(r.pointing_error_deg_max, 4)}</td><td>${f(r.gain_loss_db_median, 3)}</td><td>${f(r.theory_gain_loss_db, 3)}</td></tr>`)
+    .join("");
+  return `<section id="sweep"><h2>Choosing a part: the bit-depth sweep</h2><figure><div class="svg">${svg.replace(/^<\?xml[^>]*>/, "")}</div><figcaption>Worst and p95 sidelobe rise, pointing error and gain loss against phase bits, one line per attenuator step and quantizer, with the published theory.</figcaption></figure>
+<table><thead><tr><th>bits</th><th>step dB</th><th>quantizer</th><th>PSL max dB</th><th>rise p95 dB</th><th>pointing max °</th><th>gain loss median dB</th><th>theory gain loss dB</th></tr></thead><tbody>${table}</tbody></table></section>`;
+}
+
+const CSS = `
+:root{--ink:#1b1b1b;--muted:#5c5c5c;--line:#d6d3ca;--panel:#fbfaf7;--head:#23395b;--accent:#b5381f}
+*{box-sizing:border-box}
+body{font-family:"DejaVu Sans",Verdana,system-ui,sans-serif;margin:0 auto;padding:16px 20px 40px;max-width:1280px;color:var(--ink);background:#fff;font-size:14px;line-height:1.4}
+h1{font-size:22px;border-bottom:3px solid var(--head);padding-bottom:6px;margin:8px 0 12px}
+h2{font-size:17px;margin:26px 0 8px;color:var(--head)}h3{font-size:15px;color:var(--head)}
+.beam-heading{font-size:18px;margin:10px 0 4px;color:var(--ink)}
+table{border-collapse:collapse;font-size:12.5px;margin:6px 0;max-width:100%}td,th{border:1px solid var(--line);padding:3px 8px;text-align:right;vertical-align:top}
+thead th{background:#eceae3}th[scope=row]{text-align:left;font-weight:600;background:#f6f5f1}.kv td{text-align:left}
+td.src{text-align:left;color:var(--muted);font-size:11.5px}
+figure{margin:12px 0;padding:10px;border:1px solid var(--line);background:var(--panel);min-width:0}figcaption{font-size:12.5px;margin-bottom:8px}
+canvas,svg{max-width:100%;height:auto}
+.grid2{display:grid;grid-template-columns:minmax(0,1fr) minmax(0,1fr);gap:12px}
+@media (max-width:1000px){.grid2{grid-template-columns:minmax(0,1fr)}}
+.stack{position:relative;display:inline-block;max-width:100%}.stack canvas{display:block}.stack canvas+canvas{position:absolute;left:0;top:0;width:100%;height:100%}
+.cuts{display:grid;grid-template-columns:repeat(auto-fit,minmax(300px,1fr));gap:8px}
+svg.cut{width:100%;font-size:11px;font-family:inherit}#phase-histogram svg{max-width:520px}svg .plot{fill:#fff;stroke:#8a8a8a}svg .gl{stroke:#e3e1da}
+svg .ideal{fill:none;stroke:#6f6f6f;stroke-width:1.4;stroke-dasharray:5 3}svg .realized{fill:none;stroke:#1d3557;stroke-width:1.6}
+svg .barfill{fill:#23395b}svg .lsb{stroke:var(--accent);stroke-dasharray:4 3}svg.changes{width:100%;font-size:11px}svg .changed rect{fill:#23395b}
+.aps{display:grid;grid-template-columns:repeat(auto-fit,minmax(240px,1fr));gap:10px}.cap{font-size:12px;font-weight:600}
+.maps{display:grid;grid-template-columns:repeat(auto-fit,minmax(300px,1fr));gap:10px}.gmap canvas{cursor:crosshair;width:100%}
+.cbar{position:relative;width:240px;max-width:100%;margin:6px 0 22px;font-size:10.5px}.cbar .bar{height:11px;border:1px solid #666}
+.cbar .bar-ticks{position:relative;height:12px}.cbar .bar-ticks span{position:absolute;transform:translateX(-50%);top:1px}.cbar .bar-unit{position:absolute;top:26px;left:0;color:var(--muted);white-space:nowrap}
+.controls{display:flex;flex-wrap:wrap;gap:10px;align-items:center;padding:8px;background:#eceae3;border:1px solid var(--line)}
+.controls select{max-width:320px;font:inherit}.controls button{font:inherit;padding:1px 8px}.hint{font-size:11.5px;color:var(--muted)}
+.badge{display:inline-block;padding:3px 8px;font-size:12px;border:1px solid var(--line)}.badge.ok{border-color:#2f6f3e;color:#1f4f2b;background:#eef6ef}.badge.bad{border:2px solid var(--accent);color:var(--accent);font-weight:700}.badge.na{color:var(--muted)}
+.safety{border-left:6px solid var(--accent);background:#fbf1ee;padding:10px 14px;font-size:13px;white-space:pre-line}
+.note{font-size:11.5px;color:var(--muted)}code{font-size:12px}
+a.beam-link{color:var(--head);font-weight:600}
+@media print{.controls,.hint{display:none}body{max-width:none;padding:0}figure{break-inside:avoid;background:#fff}.safety{background:#fff}}
+`;
+
+export async function makeReport(dir: string, o: ReportOptions): Promise<{ html: string; beam: number | null }> {
+  const hasBuild = existsSync(join(dir, "manifest.json"));
+  const hasSweep = existsSync(join(dir, "sweep.json"));
+  const hasDiff = existsSync(join(dir, "diff.json"));
+  if (!hasBuild && !hasSweep && !hasDiff) throw new InputError({ file: dir, message: "expected a steercode build folder (manifest.json), sweep folder (sweep.json) or diff folder (diff.json)" });
+  const parts: string[] = [];
+  let title = "steercode report";
+  let beam: number | null = null;
+  let data: PageData | null = null;
+  const m = hasBuild ? readManifest(dir) : null;
+  if (m) {
+    title = `steercode report: ${m.name || "build"}`;
+    const r = buildPart(dir, m, o);
+    parts.push(r.html);
+    beam = r.beam;
+    data = r.data;
+  }
+  if (hasDiff) parts.push(comparisonPart(dir, m));
+  if (hasSweep) {
+    if (!m) title = "steercode sweep report";
+    parts.push(sweepPart(dir));
+  }
+  const script = data ? `<script type="application/json" id="steercode-data">${scriptJson(data)}</script>\n<script>${(await explorerBundle()).replace(/<\/script/gi, "<\\/script")}</script>` : "";
+  const html = `<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8"><title>${esc(title)}</title>
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<meta http-equiv="Content-Security-Policy" content="default-src 'none'; script-src 'unsafe-inline'; style-src 'unsafe-inline'; img-src data:">
+<style>${CSS}</style></head><body>
+<h1>${esc(title)}</h1>
+<div class="safety" id="safety">${esc(SAFETY)}</div>
+${parts.join("\n")}
+<p class="note">Generated by steercode ${esc(m?.tool.version ?? "")} from the files in this folder; the explorer recomputes each beam with steercode's own engine. Theory values are published estimates, each named with its source in README.</p>
+${script}
+</body></html>
+`;
+  return { html, beam };
+}
+
+/** Write atomically: a temporary file beside the target, renamed into place; removed on any error. */
+export function writeReport(path: string, html: string): void {
+  const tmp = `${path}.steercode-tmp-${process.pid}`;
+  try {
+    writeFileSync(tmp, html);
+    renameSync(tmp, path);
+  } catch (e) {
+    rmSync(tmp, { force: true });
+    throw e;
+  }
+}
