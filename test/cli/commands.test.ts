@@ -133,7 +133,6 @@ describe("tiny arrays", () => {
     const row = readFileSync(join(out, "beams.csv"), "utf8").trim().split("\n")[1]!.split(",");
     expect(row[9]).toBe(""); // psl_ideal_db
     expect(row[10]).toBe(""); // psl_db
-    expect(cli(["report", out]).code).toBe(0);
-    expect(readFileSync(join(out, "report.html"), "utf8")).toMatch(/PSL n\/a dB/);
+    expect(cli(["report", out]).code).toBe(0); // the page itself: test/cli/report.test.ts
   });
 });

@@ -179,6 +179,17 @@ describe("report explorer in Chromium", () => {
     expect(errors).toEqual([]);
   });
 
+  itWith([TOOLS.chromium], "two elements at broadside (no sidelobe in visible space): the page renders and says n/a", async () => {
+    const s = writeScenario(baseScenario({ array: { lattice: { kind: "rectangular", columns: 2, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" } }, beams: { kind: "uv", u: { from: 0, to: 0, step: 1 }, v: { from: 0, to: 0, step: 1 } } }));
+    const out = join(t, "two");
+    expect(cli(["build", s, "-o", out]).code).toBe(0);
+    expect(cli(["report", out]).code).toBe(0);
+    const page = await open(join(out, "report.html"), 1000);
+    expect(await page.locator("#beam-metrics").textContent()).toMatch(/PSL realizedn\/a dB/);
+    await page.close();
+    expect(errors).toEqual([]);
+  });
+
   itWith([TOOLS.chromium], "a beam list draws as a u-v scatter whose points pick beams", async () => {
     const s = writeScenario(baseScenario({ beams: { kind: "list", file: "beams.csv" } }), { "beams.csv": "u,v\n0,0\n0.3,0.1\n-0.4,0.2\n0.6,-0.3\n" });
     expect(cli(["build", s, "-o", list]).code).toBe(0);
