@@ -1,3 +1,4 @@
+import type { QuantizerMethod } from "../core/plan.js";
 import { parseQuantity } from "../core/units.js";
 import { loadScenario } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
@@ -32,10 +33,10 @@ export function parseSteps(text: string): { value: number; exact: string }[] {
   return out.sort((a, b) => a.value - b.value);
 }
 
-export function parseQuantizers(text: string): ("nearest" | "randomized")[] {
-  const out: ("nearest" | "randomized")[] = [];
+export function parseQuantizers(text: string): QuantizerMethod[] {
+  const out: QuantizerMethod[] = [];
   for (const part of text.split(",").map((s) => s.trim()).filter(Boolean)) {
-    if (part !== "nearest" && part !== "randomized") throw new UsageError(`--quantizer: expected nearest and/or randomized, got "${part}"`);
+    if (part !== "nearest" && part !== "randomized" && part !== "optimized") throw new UsageError(`--quantizer: expected one or more of nearest, randomized, optimized (comma-separated), got "${part}"`);
     if (!out.includes(part)) out.push(part);
   }
   return out;

@@ -32,9 +32,14 @@ export interface StateTable {
   secondary: Float64Array;
 }
 
+export type QuantizerMethod = "nearest" | "randomized" | "optimized";
+
 export interface QuantizerSpec {
-  method: "nearest" | "randomized";
+  method: QuantizerMethod;
   seed: number;
+  /** optimized: objective (only "psl") and the gain-loss limit in dB (absent: nearest's loss + 0.1 dB). */
+  objective?: "psl";
+  maxGainLossDb?: number;
 }
 
 export interface Plan {

@@ -2,6 +2,7 @@
  * Bit-depth trade-off study: one row per (phase bits, attenuator step, quantizer),
  * aggregated over every beam (and frequency) of the grid, beside the published theory.
  */
+import type { QuantizerMethod } from "./plan.js";
 import { M, METRICS } from "./pattern/analyze.js";
 import { quantile } from "./pattern/summary.js";
 import type { Plan } from "./plan.js";
@@ -12,7 +13,7 @@ export interface SweepVariantSpec {
   attenStepDb: number;
   attenStepExact: string;
   attenBits: number;
-  quantizer: "nearest" | "randomized";
+  quantizer: QuantizerMethod;
 }
 
 export const SWEEP_COLUMNS = [

@@ -173,6 +173,12 @@ class Loader {
     const phaseStates = d.phaseShifter.states ? this.states(d.phaseShifter.states, "phaseStates", "/phaseShifter/states", 2 ** phaseBits, elements) : null;
     const attenStates = att?.states ? this.states(att.states, "attenStates", "/attenuator/states", 2 ** attenBits, elements) : null;
     const quantizer: QuantizerSpec = { method: d.quantizer?.method ?? "nearest", seed: d.quantizer?.seed ?? DEFAULT_SEED };
+    if (quantizer.method === "optimized") {
+      quantizer.objective = "psl";
+      if (typeof d.quantizer?.maxGainLossDb === "number") quantizer.maxGainLossDb = d.quantizer.maxGainLossDb;
+    } else
+      for (const key of ["objective", "maxGainLossDb"])
+        if (d.quantizer?.[key] !== undefined) this.problem(`/quantizer/${key}`, `"${key}" applies to the optimized quantizer only; expected "method": "optimized" or no "${key}"`);
     if (quantizer.method === "randomized" && (phaseStates || attenStates))
       this.problem("/quantizer/method", 'expected "nearest" with measured state tables (the randomized quantizer works on ideal phase steps)');
     const word: WordLayout = { bits: d.word.bits, bytes: wordBytes(d.word.bits), off: d.word.off ?? 0, fields: d.word.fields };

@@ -1,4 +1,5 @@
 /** `steercode sweep`: the whole grid for every (phase bits, attenuator step, quantizer). */
+import type { QuantizerMethod } from "../core/plan.js";
 import { writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { stringify } from "csv-stringify/sync";
@@ -20,7 +21,7 @@ import { setImmediate as yieldNow } from "node:timers/promises";
 export interface SweepOptions {
   phaseBits: number[];
   attenStepsDb: { value: number; exact: string }[];
-  quantizers: ("nearest" | "randomized")[];
+  quantizers: QuantizerMethod[];
   jobs: number;
   onProgress?: (done: number, total: number) => void;
   pool?: WorkerPool;
