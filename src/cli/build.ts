@@ -10,6 +10,7 @@ import { readManifest } from "../io/readbuild.js";
 import { WorkerPool } from "../io/analysis-pool.js";
 import { diffLines, writeDiffFiles } from "./diff.js";
 import type { Theory } from "../core/theory.js";
+import type { OptimizedSummary } from "../core/quantize/optimized.js";
 
 export interface BuildArgs {
   scenario: string;
@@ -63,7 +64,7 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
   }
   const m = result.manifest;
   if (io.json) {
-    printJson(io, { ok: true, dir: args.out, manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffResult).identical, summary: (diff as DiffResult).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, theory: result.theory, warnings: facts.warnings, safety: SAFETY });
+    printJson(io, { ok: true, dir: args.out, manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffResult).identical, summary: (diff as DiffResult).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, ...(result.optimized ? { optimized: result.optimized.summary } : {}), theory: result.theory, warnings: facts.warnings, safety: SAFETY });
     return 0;
   }
   const lines = [
@@ -74,6 +75,7 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
     ...m.perFrequency.map((p) => `  ${(Number(p.frequencyHz) / 1e9).toPrecision(6)} GHz: G_ref ${fmt(p.gRefDb, 3)} dB (element ${p.gRefElement}), ${p.clipped} clipped`),
   ];
   if (result.summary) lines.push("", ...summaryLines(result.summary, m.counts.beams, m.frequenciesHz), "", ...theoryLines(result.theory));
+  if (result.optimized) lines.push("", ...optimizedLines(result.optimized.summary, m));
   if (diff) lines.push("", `compared with ${args.compare} (changes.csv, diff.json):`, ...diffLines(diff).map((l) => "  " + l));
   for (const w of facts.warnings) lines.push(warn(io, `warning: ${w}`));
   lines.push("", SAFETY);
@@ -109,6 +111,20 @@ export function summaryLines(s: Record<string, Distribution>, beams: number, fre
     lines.push(`${label.padEnd(24)} ${fmt(x.median, d).padStart(10)} ${fmt(x.p95, d).padStart(10)} ${fmt(x.max, d).padStart(10)}  ${x.worst >= 0 ? where(x.worst, beams, freqs) : "n/a"}`);
   }
   return lines;
+}
+
+/** What the optimized quantizer achieved over the grid (exact analysis of both code sets). */
+export function optimizedLines(o: OptimizedSummary, m: Manifest): string[] {
+  const q = m.quantizer;
+  const limit = q.maxGainLossDb != null ? `gain loss ≤ ${q.maxGainLossDb} dB` : `gain loss ≤ nearest's + ${q.defaultExtraLossDb} dB`;
+  return [
+    `optimized quantizer (objective PSL, ${limit}, pointing ≤ nearest's + ${q.pointingAllowanceDeg}°, seed ${q.seed}):`,
+    `  beams improved          ${o.improved} of ${o.beams}${o.untouched ? ` (${o.untouched} left at nearest: no sidelobe in view or nearest already over the gain limit)` : ""}`,
+    `  worst PSL over the grid ${fmt(o.pslWorstBeforeDb, 2)} dB nearest → ${fmt(o.pslWorstAfterDb, 2)} dB optimized`,
+    `  PSL lowered by          median ${fmt(o.pslGainMedianDb, 2)} dB, max ${fmt(o.pslGainMaxDb, 2)} dB`,
+    `  gain loss, median       ${fmt(o.gainLossMedianBeforeDb, 3)} dB nearest → ${fmt(o.gainLossMedianAfterDb, 3)} dB optimized (max ${fmt(o.gainLossMaxAfterDb, 3)} dB)`,
+    `  pointing error, max     ${fmt(o.pointingMaxBeforeDeg, 4)}° nearest → ${fmt(o.pointingMaxAfterDeg, 4)}° optimized`,
+  ];
 }
 
 export function theoryLines(t: Theory): string[] {

@@ -149,7 +149,7 @@ export async function main(argv: string[]): Promise<number> {
           .positional("scenario", { type: "string", demandOption: true, describe: "the scenario file (JSON, steercode-scenario/1)" })
           .option("phase-bits", { type: "string", default: "3..8", describe: "bit depths: a range 3..8 or a list 3,4,6" })
           .option("atten-step", { type: "string", describe: "attenuator steps in dB, e.g. 0.25,0.5,1 (default: the scenario's)" })
-          .option("quantizer", { type: "string", describe: "nearest, randomized or both (nearest,randomized)" })
+          .option("quantizer", { type: "string", describe: "nearest, randomized, optimized or several, comma-separated (nearest,randomized,optimized)" })
           .option("o", { alias: "out", type: "string", default: "steercode-sweep", describe: "output folder (replaced only if it is an earlier sweep)" })
           .option("jobs", JOBS_OPTION)
           .example("$0 sweep scenario.json --phase-bits 3..7 --atten-step 0.25,0.5,1", "every part over the whole grid: sweep.csv, sweep.json, sweep.svg"),

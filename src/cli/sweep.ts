@@ -73,7 +73,10 @@ async function sweepWith(io: Io, a: { scenario: string; out: string; attenStep: 
     "",
     `${"bits".padStart(4)} ${"step dB".padStart(7)} ${"q".padEnd(10)} ${"PSL max".padStart(8)} ${"rise p95".padStart(8)} ${"rise max".padStart(8)} ${"point max°".padStart(10)} ${"loss med".padStart(8)} ${"theory".padStart(7)} ${"rms φ°".padStart(7)} ${"LSB/√12".padStart(7)}`,
   ];
-  for (const row of r.rows)
+  // quantizers side by side: rows grouped by (step, bits), one line per quantizer
+  const qOrder = (q: unknown) => quantizers.indexOf(q as QuantizerMethod);
+  const shown = r.rows.map((row, i) => ({ row, i })).sort((a, b) => Number(a.row.atten_step_db) - Number(b.row.atten_step_db) || Number(a.row.phase_bits) - Number(b.row.phase_bits) || qOrder(a.row.quantizer) - qOrder(b.row.quantizer) || a.i - b.i).map((x) => x.row);
+  for (const row of shown)
     lines.push(
       `${String(row.phase_bits).padStart(4)} ${String(row.atten_step_db).padStart(7)} ${String(row.quantizer).padEnd(10)} ${fmt(Number(row.psl_db_max), 2).padStart(8)} ${fmt(Number(row.sll_rise_db_p95), 2).padStart(8)} ${fmt(Number(row.sll_rise_db_max), 2).padStart(8)} ${fmt(Number(row.pointing_error_deg_max), 4).padStart(10)} ${fmt(Number(row.gain_loss_db_median), 3).padStart(8)} ${fmt(Number(row.theory_gain_loss_db), 3).padStart(7)} ${fmt(Number(row.rms_phase_error_deg), 3).padStart(7)} ${fmt(Number(row.theory_rms_phase_error_deg), 3).padStart(7)}`,
     );

@@ -5,6 +5,7 @@
 import type { Plan } from "./plan.js";
 import { allocBeamCodes, makeQuantizer, prepareFrequency, type BeamCodes, type FrequencyPrep, type Quantizer } from "./quantize/index.js";
 import { packPlan } from "./words.js";
+import { OptimizedQuantizer, OPT_FIELDS, writeReport } from "./quantize/optimized.js";
 
 export interface BeamSink {
   (fi: number, b: number, words: Uint32Array, codes: BeamCodes): void;
@@ -76,6 +77,11 @@ export class TableRun {
   private clipped = 0;
   done = 0;
   readonly summaries: FrequencySummary[] = [];
+  /**
+   * optimized quantizer only: per (frequency, beam) what the optimisation achieved on the
+   * exact analysis, OPT_FIELDS numbers a beam (see optimized.ts); null otherwise.
+   */
+  readonly optimized: Float64Array | null;
   constructor(
     private readonly plan: Plan,
     private readonly sink: BeamSink,
@@ -85,6 +91,7 @@ export class TableRun {
     this.codes = allocBeamCodes(n);
     this.words = new Uint32Array(n);
     this.packer = new BeamPacker(plan);
+    this.optimized = plan.quantizer.method === "optimized" ? new Float64Array(plan.frequenciesHz.length * plan.beams.count * OPT_FIELDS) : null;
   }
   step(maxBeams: number): boolean {
     const plan = this.plan;
@@ -96,6 +103,7 @@ export class TableRun {
         this.clipped = 0;
       }
       this.q.beam(this.b, this.codes);
+      if (this.optimized && this.q instanceof OptimizedQuantizer) writeReport(this.q.report, this.optimized, (this.fi * plan.beams.count + this.b) * OPT_FIELDS);
       this.clipped = Math.max(this.clipped, this.codes.clipped);
       this.packer.pack(this.codes, this.words);
       this.sink(this.fi, this.b, this.words, this.codes);
@@ -114,8 +122,13 @@ export class TableRun {
 
 /** Run every (frequency, beam) through the quantizer and packer, synchronously. */
 export function runTables(plan: Plan, sink: BeamSink, onBeam?: (done: number) => void, opts: { commanded?: boolean } = {}): FrequencySummary[] {
+  return runTablesWith(plan, sink, onBeam, opts).summaries;
+}
+
+/** runTables, returning the whole run (summaries and, for the optimized quantizer, its per-beam records). */
+export function runTablesWith(plan: Plan, sink: BeamSink, onBeam?: (done: number) => void, opts: { commanded?: boolean } = {}): TableRun {
   const run = new TableRun(plan, sink, opts.commanded ?? true);
   while (!run.step(64)) onBeam?.(run.done);
   onBeam?.(run.done);
-  return run.summaries;
+  return run;
 }

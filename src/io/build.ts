@@ -22,6 +22,7 @@ import { theoryFor, type Theory } from "../core/theory.js";
 import { startAnalysis, type WorkerPool } from "./analysis-pool.js";
 import { HashedFile } from "./hashed.js";
 import { fixed } from "./format.js";
+import { OPT, OPT_FIELDS, POINTING_ALLOWANCE_DEG, DEFAULT_EXTRA_LOSS_DB, summariseOptimized, type OptimizedSummary } from "../core/quantize/optimized.js";
 
 export { stableJson } from "./json.js";
 import { stableJson } from "./json.js";
@@ -57,11 +58,48 @@ export interface Manifest {
   phaseShifter: { bits: number; lsbDeg: number; measuredStates: boolean };
   attenuator: { bits: number; stepDb: number; rangeDb: number; measuredStates: boolean };
   taper: Plan["taper"];
-  quantizer: { method: string; seed: number | null };
+  quantizer: { method: string; seed: number | null; objective?: string; maxGainLossDb?: number | null; defaultExtraLossDb?: number; pointingAllowanceDeg?: number };
+  /** optimized quantizer only: what it achieved, per frequency and beam (exact analysis, dB / deg; null where no value exists). */
+  optimized?: OptimizedManifest;
   perFrequency: { frequencyHz: string; gRefDb: number; gRefElement: number; clipped: number }[];
   analysis: boolean;
   files: Record<string, ManifestFile>;
   extra?: Record<string, unknown>;
+}
+
+export interface OptimizedManifest {
+  summary: OptimizedSummary;
+  perFrequency: {
+    frequencyHz: string;
+    pslBeforeDb: (number | null)[];
+    pslAfterDb: (number | null)[];
+    gainLossBeforeDb: (number | null)[];
+    gainLossAfterDb: (number | null)[];
+    changedElements: number[];
+  }[];
+}
+
+function rounded(x: number, d: number): number | null {
+  return Number.isFinite(x) ? Number(x.toFixed(d)) || 0 : null;
+}
+
+/** The manifest's record of an optimized build, from TableRun.optimized. */
+export function optimizedManifest(plan: Plan, ft: string[], rec: Float64Array): OptimizedManifest {
+  const nb = plan.beams.count;
+  return {
+    summary: summariseOptimized(rec),
+    perFrequency: ft.map((f, fi) => {
+      const at = (k: number, d: number) => Array.from({ length: nb }, (_, b) => rounded(rec[(fi * nb + b) * OPT_FIELDS + k]!, d));
+      return {
+        frequencyHz: f,
+        pslBeforeDb: at(OPT.pslBeforeDb, 4),
+        pslAfterDb: at(OPT.pslAfterDb, 4),
+        gainLossBeforeDb: at(OPT.gainLossBeforeDb, 5),
+        gainLossAfterDb: at(OPT.gainLossAfterDb, 5),
+        changedElements: Array.from({ length: nb }, (_, b) => rec[(fi * nb + b) * OPT_FIELDS + OPT.changed]!),
+      };
+    }),
+  };
 }
 
 export function hex32(x: number): string {
@@ -92,6 +130,8 @@ export interface BuildResult {
   metrics: Float64Array | null;
   summary: Record<string, Distribution> | null;
   theory: Theory;
+  /** optimized quantizer: per-beam records (OPT_FIELDS a beam) and their grid-wide summary */
+  optimized: { records: Float64Array; summary: OptimizedSummary } | null;
 }
 
 export function makeManifest(loaded: LoadedScenario, scenarioSource: string, perFrequency: FrequencySummary[], files: Record<string, ManifestFile>, analysis: boolean): Manifest {
@@ -119,7 +159,10 @@ export function makeManifest(loaded: LoadedScenario, scenarioSource: string, per
     phaseShifter: { bits: plan.phaseBits, lsbDeg: 360 / 2 ** plan.phaseBits, measuredStates: !!plan.phaseStates },
     attenuator: { bits: plan.attenBits, stepDb: plan.attenStepDb, rangeDb: (2 ** plan.attenBits - 1) * plan.attenStepDb, measuredStates: !!plan.attenStates },
     taper: plan.taper,
-    quantizer: { method: plan.quantizer.method, seed: plan.quantizer.method === "randomized" ? plan.quantizer.seed : null },
+    quantizer:
+      plan.quantizer.method === "optimized"
+        ? { method: "optimized", seed: plan.quantizer.seed, objective: plan.quantizer.objective ?? "psl", maxGainLossDb: plan.quantizer.maxGainLossDb ?? null, ...(plan.quantizer.maxGainLossDb === undefined ? { defaultExtraLossDb: DEFAULT_EXTRA_LOSS_DB } : {}), pointingAllowanceDeg: POINTING_ALLOWANCE_DEG }
+        : { method: plan.quantizer.method, seed: plan.quantizer.method === "randomized" ? plan.quantizer.seed : null },
     perFrequency: perFrequency.map((p, i) => ({ frequencyHz: ft[i]!, gRefDb: p.gRefDb, gRefElement: p.gRefElement >= 0 ? plan.elements.ids[p.gRefElement]! : -1, clipped: p.clipped })),
     analysis,
     files,
@@ -169,7 +212,7 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     if (job) {
       opts.onProgress?.(0, total);
       metrics = await job.finish();
-      const d = writeBeamsCsv(join(tmp, "beams.csv"), plan, ft, metrics);
+      const d = writeBeamsCsv(join(tmp, "beams.csv"), plan, ft, metrics, run.optimized);
       files["beams.csv"] = { bytes: d.bytes, sha256: d.sha256 };
       summary = summarise(metrics);
     }
@@ -178,13 +221,14 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     files[SCENARIO_COPY] = { bytes: loaded.scenario.bytes.length, sha256: loaded.scenario.sha256 };
     const manifest = makeManifest(loaded, loaded.scenario.name.split(/[\\/]/).pop() ?? "scenario.json", perFrequency, files, opts.analysis);
     if (summary) manifest.extra = { summary, theory };
+    if (run.optimized) manifest.optimized = optimizedManifest(plan, ft, run.optimized);
     if (opts.extraFiles) {
       const extra = await opts.extraFiles(tmp, manifest);
       for (const [k, d] of Object.entries(extra)) files[k] = { bytes: d.bytes, sha256: d.sha256 };
     }
     writeFileSync(join(tmp, "manifest.json"), stableJson(manifest, null, 2) + "\n", { flag: "wx" });
     stage.commit();
-    return { dir: outDir, manifest, perFrequency, metrics, summary, theory };
+    return { dir: outDir, manifest, perFrequency, metrics, summary, theory, optimized: run.optimized ? { records: run.optimized, summary: manifest.optimized!.summary } : null };
   } catch (e) {
     job?.cancel();
     stage.abort();
@@ -203,11 +247,18 @@ function crcOfWords(plan: Plan): number {
 }
 
 export const BEAMS_COLUMNS = ["frequency_hz", "beam", "az_deg", "el_deg", "u", "v", ...METRIC_COLUMNS] as const;
+/**
+ * Extra beams.csv columns of an optimized build (only then, so other builds keep their
+ * bytes): the nearest codes' PSL, gain loss and pointing error (psl_db, gain_loss_db and
+ * pointing_error_deg are the optimized codes'), and how many enabled elements changed code.
+ */
+export const OPTIMIZED_COLUMNS = ["nearest_psl_db", "nearest_gain_loss_db", "nearest_pointing_error_deg", "changed_elements"] as const;
+const OPTIMIZED_SOURCE: [number, number][] = [[OPT.pslBeforeDb, 4], [OPT.gainLossBeforeDb, 4], [OPT.pointingBeforeDeg, 7], [OPT.changed, 0]];
 
 /** beams.csv: one row per (frequency, beam). A metric that does not exist (no sidelobe in visible space) is an empty cell. */
-export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: Float64Array): FileDigest {
+export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: Float64Array, optimized: Float64Array | null = null): FileDigest {
   const f = new HashedFile(path);
-  f.write(stringify([BEAMS_COLUMNS as unknown as string[]]));
+  f.write(stringify([[...BEAMS_COLUMNS, ...(optimized ? OPTIMIZED_COLUMNS : [])]]));
   const nb = plan.beams.count;
   const digits = [9, 9, 7, 4, 4, 4, 5, 4, 4, 0];
   for (let fi = 0; fi < ft.length; fi++) {
@@ -219,6 +270,11 @@ export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: F
         const v = metrics[o + k]!;
         row.push(Number.isFinite(v) ? fixed(v, digits[k]!) : "");
       }
+      if (optimized)
+        for (const [k, d] of OPTIMIZED_SOURCE) {
+          const v = optimized[(fi * nb + b) * OPT_FIELDS + k]!;
+          row.push(Number.isFinite(v) ? fixed(v, d) : "");
+        }
       rows.push(row);
     }
     f.write(stringify(rows));

@@ -36,7 +36,7 @@ export function sweepVariants(loaded: LoadedScenario, o: SweepOptions): SweepVar
   const plan = loaded.plan;
   const rangeDb = (2 ** plan.attenBits - 1) * plan.attenStepDb;
   if ((plan.phaseStates || plan.attenStates) && (o.phaseBits.some((b) => b !== plan.phaseBits) || o.quantizers.includes("randomized")))
-    throw new InputError({ file: loaded.scenario.name, pointer: "/phaseShifter/states", message: `measured state tables fix the part: sweep only its own ${plan.phaseBits} phase bits with the nearest quantizer, or remove the state tables to compare ideal parts` });
+    throw new InputError({ file: loaded.scenario.name, pointer: "/phaseShifter/states", message: `measured state tables fix the part: sweep only its own ${plan.phaseBits} phase bits with the nearest or optimized quantizer, or remove the state tables to compare ideal parts` });
   const out: SweepVariantSpec[] = [];
   for (const q of o.quantizers)
     for (const s of o.attenStepsDb)
@@ -52,7 +52,7 @@ export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepO
   const job = startAnalysis(plan, o.jobs, o.onProgress, {
     ...(o.pool ? { pool: o.pool } : {}),
     ideal: false,
-    variants: variants.map((v) => ({ phaseBits: v.phaseBits, attenBits: v.attenBits, attenStepDb: v.attenStepDb, attenStepExact: v.attenStepExact, quantizer: { method: v.quantizer, seed: plan.quantizer.seed } })),
+    variants: variants.map((v) => ({ phaseBits: v.phaseBits, attenBits: v.attenBits, attenStepDb: v.attenStepDb, attenStepExact: v.attenStepExact, quantizer: { method: v.quantizer, seed: plan.quantizer.seed, ...(v.quantizer === "optimized" && plan.quantizer.maxGainLossDb !== undefined ? { maxGainLossDb: plan.quantizer.maxGainLossDb } : {}) } })),
   });
   try {
     // the ideal pattern does not depend on the part: once per beam, here, while the workers start
@@ -80,7 +80,7 @@ export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepO
       inputs: loaded.inputs.map((i) => ({ role: i.role, ref: i.ref, sha256: i.file.sha256, comments: i.comments })),
       grid: { beams: nb, frequenciesHz: plan.frequenciesExact, elements: plan.elements.count },
       attenuatorRangeDb: (2 ** plan.attenBits - 1) * plan.attenStepDb,
-      seed: o.quantizers.includes("randomized") ? plan.quantizer.seed : null,
+      seed: o.quantizers.includes("randomized") || o.quantizers.includes("optimized") ? plan.quantizer.seed : null,
       rows,
       theorySources: {
         theory_gain_loss_db: t.gainLossDb.source,
@@ -120,7 +120,7 @@ export function sweepSvg(loaded: LoadedScenario, rows: SweepRow[]): string {
         points: rs.map((r) => [Number(r.phase_bits), Number(r[col])] as [number, number]),
         colour: PALETTE[i % PALETTE.length]!,
         marker: MARKERS[i % MARKERS.length]!,
-        ...(dash ? { dash } : q === "randomized" ? { dash: "6 3" } : {}),
+        ...(dash ? { dash } : q === "randomized" ? { dash: "6 3" } : q === "optimized" ? { dash: "1 3" } : {}),
       };
     });
   const bits = [...new Set(rows.map((r) => Number(r.phase_bits)))].sort((a, b) => a - b);

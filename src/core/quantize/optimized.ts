@@ -65,6 +65,15 @@ export interface OptimizeReport {
   changed: number;
 }
 
+/** Per-beam record layout (TableRun.optimized, manifest, beams.csv). */
+export const OPT_RECORD = ["pslBeforeDb", "pslAfterDb", "gainLossBeforeDb", "gainLossAfterDb", "pointingBeforeDeg", "pointingAfterDeg", "gainLimitDb", "changed"] as const;
+export const OPT_FIELDS = OPT_RECORD.length;
+export const OPT = Object.fromEntries(OPT_RECORD.map((k, i) => [k, i])) as Record<(typeof OPT_RECORD)[number], number>;
+
+export function writeReport(r: OptimizeReport, out: Float64Array, off: number): void {
+  for (let k = 0; k < OPT_FIELDS; k++) out[off + k] = r[OPT_RECORD[k]!];
+}
+
 export function emptyReport(): OptimizeReport {
   return { pslBeforeDb: NaN, pslAfterDb: NaN, gainLossBeforeDb: NaN, gainLossAfterDb: NaN, pointingBeforeDeg: NaN, pointingAfterDeg: NaN, gainLimitDb: NaN, changed: 0 };
 }
@@ -516,4 +525,59 @@ function subCell(p: Float64Array, wm: number, wn: number, a: number, b: number):
 
 export function optimizedQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = prepareFrequency(plan, fi), commanded = true): OptimizedQuantizer {
   return new OptimizedQuantizer(plan, fi, prep, commanded);
+}
+
+export interface OptimizedSummary {
+  beams: number;
+  /** beams whose codes differ from nearest (their exact PSL is lower) */
+  improved: number;
+  /** beams with no sidelobe in visible space or whose nearest codes already break the gain limit */
+  untouched: number;
+  /** worst (largest) PSL over the grid, dB: nearest codes, optimized codes */
+  pslWorstBeforeDb: number | null;
+  pslWorstAfterDb: number | null;
+  /** PSL lowered by (before − after, dB) over all beams: median and max */
+  pslGainMedianDb: number | null;
+  pslGainMaxDb: number | null;
+  gainLossMedianBeforeDb: number | null;
+  gainLossMedianAfterDb: number | null;
+  gainLossMaxAfterDb: number | null;
+  pointingMaxBeforeDeg: number | null;
+  pointingMaxAfterDeg: number | null;
+}
+
+/** Grid-wide figures from TableRun.optimized records. */
+export function summariseOptimized(rec: Float64Array): OptimizedSummary {
+  const n = rec.length / OPT_FIELDS;
+  const col = (k: number) => Array.from({ length: n }, (_, i) => rec[i * OPT_FIELDS + k]!).filter((x) => Number.isFinite(x));
+  const med = (a: number[]) => {
+    if (!a.length) return null;
+    const s = [...a].sort((x, y) => x - y);
+    const h = (s.length - 1) / 2;
+    return s[Math.floor(h)]! + (h - Math.floor(h)) * (s[Math.ceil(h)]! - s[Math.floor(h)]!);
+  };
+  const max = (a: number[]) => (a.length ? Math.max(...a) : null);
+  const gains: number[] = [];
+  let improved = 0, untouched = 0;
+  for (let i = 0; i < n; i++) {
+    const o = i * OPT_FIELDS;
+    const before = rec[o + OPT.pslBeforeDb]!, after = rec[o + OPT.pslAfterDb]!;
+    if (Number.isFinite(before) && Number.isFinite(after)) gains.push(before - after);
+    if (rec[o + OPT.changed]! > 0) improved++;
+    if (!Number.isFinite(before) || !(rec[o + OPT.gainLossBeforeDb]! <= rec[o + OPT.gainLimitDb]!)) untouched++;
+  }
+  return {
+    beams: n,
+    improved,
+    untouched,
+    pslWorstBeforeDb: max(col(OPT.pslBeforeDb)),
+    pslWorstAfterDb: max(col(OPT.pslAfterDb)),
+    pslGainMedianDb: med(gains),
+    pslGainMaxDb: max(gains),
+    gainLossMedianBeforeDb: med(col(OPT.gainLossBeforeDb)),
+    gainLossMedianAfterDb: med(col(OPT.gainLossAfterDb)),
+    gainLossMaxAfterDb: max(col(OPT.gainLossAfterDb)),
+    pointingMaxBeforeDeg: max(col(OPT.pointingBeforeDeg)),
+    pointingMaxAfterDeg: max(col(OPT.pointingAfterDeg)),
+  };
 }
