@@ -217,9 +217,7 @@ export class OptimizedQuantizer implements Quantizer {
       this.cv[i] = this.ky[i]! - (w0 > 0 ? (this.kz[i]! * v0) / w0 : 0);
     }
     const cur = this.cur;
-    cur.phaseCode.set(out.phaseCode);
-    cur.attenCode.set(out.attenCode);
-    cur.clipped = out.clipped;
+    copyCodes(out, cur);
     copyCodes(out, this.best);
     for (const i of this.enabledList) [this.wr[i], this.wi[i]] = this.weight(i, cur.phaseCode[i]!, cur.attenCode[i]!);
     // seeded visiting order (Fisher–Yates)
