@@ -55,6 +55,17 @@ export class BeamPacker {
 }
 
 
+/**
+ * Codes computed elsewhere (an optimized build computes them once, in the analysis
+ * chunks): `ready` says whether beam (fi, b) is available yet; `take` overwrites the
+ * phase and attenuation codes in `codes` and, for the optimized quantizer, writes the
+ * beam's record at rec[off …].
+ */
+export interface CodeSource {
+  ready(fi: number, b: number): boolean;
+  take(fi: number, b: number, codes: BeamCodes, rec: Float64Array | null, off: number): void;
+}
+
 export interface FrequencySummary {
   gRefDb: number;
   gRefElement: number;
@@ -86,6 +97,7 @@ export class TableRun {
     private readonly plan: Plan,
     private readonly sink: BeamSink,
     private readonly commanded = true,
+    private readonly source: CodeSource | null = null,
   ) {
     const n = plan.elements.count;
     this.codes = allocBeamCodes(n);
@@ -97,13 +109,18 @@ export class TableRun {
     const plan = this.plan;
     let left = maxBeams;
     while (this.fi < plan.frequenciesHz.length && left > 0) {
+      if (this.source && !this.source.ready(this.fi, this.b)) return false;
       if (!this.q) {
         this.prep = prepareFrequency(plan, this.fi);
-        this.q = makeQuantizer(plan, this.fi, this.prep, { commanded: this.commanded });
+        // with a code source the quantizer supplies only what does not depend on the choice (commanded values, clips)
+        const qp: Plan = this.source ? { ...plan, quantizer: { method: "nearest", seed: plan.quantizer.seed } } : plan;
+        this.q = makeQuantizer(qp, this.fi, this.prep, { commanded: this.commanded });
         this.clipped = 0;
       }
       this.q.beam(this.b, this.codes);
-      if (this.optimized && this.q instanceof OptimizedQuantizer) writeReport(this.q.report, this.optimized, (this.fi * plan.beams.count + this.b) * OPT_FIELDS);
+      const off = (this.fi * plan.beams.count + this.b) * OPT_FIELDS;
+      if (this.source) this.source.take(this.fi, this.b, this.codes, this.optimized, off);
+      else if (this.optimized && this.q instanceof OptimizedQuantizer) writeReport(this.q.report, this.optimized, off);
       this.clipped = Math.max(this.clipped, this.codes.clipped);
       this.packer.pack(this.codes, this.words);
       this.sink(this.fi, this.b, this.words, this.codes);

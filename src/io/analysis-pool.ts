@@ -9,8 +9,10 @@
 import { Worker } from "node:worker_threads";
 import { setImmediate as yieldNow } from "node:timers/promises";
 import type { Plan } from "../core/plan.js";
+import type { CodeSource } from "../core/engine.js";
 import { METRICS } from "../core/pattern/analyze.js";
 import { analyseRange, type AnalyzerCache } from "../core/pattern/run.js";
+import { OptimizedQuantizer, OPT_FIELDS, writeReport } from "../core/quantize/optimized.js";
 
 export const CHUNK_BEAMS = 8;
 
@@ -32,6 +34,78 @@ export interface SharedAnalysis {
   variants: Variant[] | null;
   /** compute the ideal pattern too (false: realized only; psl_ideal/sll_rise left NaN) */
   ideal: boolean;
+  /** optimized builds: codes handed to the table writer through a bounded ring (see CodeRing) */
+  ring: CodeRing | null;
+}
+
+/**
+ * The optimized quantizer's codes are costly, so a build computes them once, in the
+ * analysis chunks, and the main thread's table writer takes them from here. Chunks are
+ * claimed only `slots` ahead of the table writer (memory stays flat in beams); slot
+ * id mod slots holds chunk id's codes [beam][element] (phase, then atten) and records.
+ */
+export interface CodeRing {
+  slots: number;
+  elements: number;
+  codes: Int32Array;
+  records: Float64Array;
+  /** per slot: chunk id + 1 once its codes are written */
+  ready: Int32Array;
+  /** chunks the table writer has taken */
+  consumed: Int32Array;
+}
+
+export function allocRing(slots: number, elements: number): CodeRing {
+  const sab = (bytes: number) => new SharedArrayBuffer(bytes);
+  return {
+    slots,
+    elements,
+    codes: new Int32Array(sab(slots * CHUNK_BEAMS * elements * 2 * 4)),
+    records: new Float64Array(sab(slots * CHUNK_BEAMS * OPT_FIELDS * 8)),
+    ready: new Int32Array(sab(slots * 4)),
+    consumed: new Int32Array(sab(4)),
+  };
+}
+
+/** The table writer's view of the ring (TableRun's CodeSource): beams in table order, chunk by chunk. */
+export function ringSource(ring: CodeRing, beams: number): CodeSource {
+  const perF = Math.ceil(beams / CHUNK_BEAMS);
+  const n = ring.elements;
+  return {
+    ready(fi, b) {
+      const id = fi * perF + Math.floor(b / CHUNK_BEAMS);
+      return Atomics.load(ring.ready, id % ring.slots) === id + 1;
+    },
+    take(fi, b, codes, rec, off) {
+      const id = fi * perF + Math.floor(b / CHUNK_BEAMS);
+      const k = (id % ring.slots) * CHUNK_BEAMS + (b % CHUNK_BEAMS);
+      codes.phaseCode.set(ring.codes.subarray(k * n * 2, k * n * 2 + n));
+      codes.attenCode.set(ring.codes.subarray(k * n * 2 + n, k * n * 2 + 2 * n));
+      if (rec) rec.set(ring.records.subarray(k * OPT_FIELDS, (k + 1) * OPT_FIELDS), off);
+      // the chunk's last beam: its slot may be reused
+      if (b % CHUNK_BEAMS === CHUNK_BEAMS - 1 || b === beams - 1) {
+        Atomics.add(ring.consumed, 0, 1);
+        Atomics.notify(ring.consumed, 0);
+      }
+    },
+  };
+}
+
+/** Claim the next chunk id, or -1 when none is left or (with a ring) the next one would run too far ahead of the tables. */
+function claim(s: SharedAnalysis, total: number, wait: boolean): number {
+  for (;;) {
+    const c = Atomics.load(s.counter, 0);
+    if (c >= total) return -1;
+    if (s.ring) {
+      const done = Atomics.load(s.ring.consumed, 0);
+      if (c >= done + s.ring.slots) {
+        if (!wait) return -1;
+        Atomics.wait(s.ring.consumed, 0, done, 50);
+        continue;
+      }
+    }
+    if (Atomics.compareExchange(s.counter, 0, c, c + 1) === c) return c;
+  }
 }
 
 function chunkCount(s: SharedAnalysis): number {
@@ -42,19 +116,20 @@ export function variantPlan(plan: Plan, v: Variant | undefined): Plan {
   return v ? { ...plan, ...v, phaseStates: plan.phaseStates, attenStates: plan.attenStates } : plan;
 }
 
-/** Claim and compute chunks until none are left (or `limit` chunks are done); returns the number of beams done. */
-export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: number) => void, cache: { c: AnalyzerCache | null; v?: number } = { c: null }, limit = Infinity): number {
+/**
+ * Claim and compute chunks until none are left (or `limit` chunks are done); returns the
+ * number of beams done. `wait`: block while the ring is full (workers); the main thread
+ * returns instead, to write tables.
+ */
+export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: number) => void, cache: { c: AnalyzerCache | null; v?: number } = { c: null }, limit = Infinity, wait = true): number {
   const perF = Math.ceil(s.beams / CHUNK_BEAMS);
   const perV = perF * s.frequencies;
   const total = chunkCount(s);
   const plans = new Map<number, Plan>();
   let done = 0;
   for (let k = 0; k < limit; k++) {
-    const id = Atomics.add(s.counter, 0, 1);
-    if (id >= total) {
-      Atomics.sub(s.counter, 0, 1);
-      return done;
-    }
+    const id = claim(s, total, wait);
+    if (id < 0) return done;
     const v = Math.floor(id / perV);
     const fi = Math.floor((id % perV) / perF);
     const from = (id % perF) * CHUNK_BEAMS;
@@ -65,7 +140,19 @@ export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: 
       cache.v = v;
     }
     const base = (v * s.frequencies + fi) * s.beams;
-    analyseRange(plans.get(v)!, fi, from, to, s.metrics.subarray((base + from) * METRICS, (base + to) * METRICS), cache, s.ideal);
+    const ring = s.ring;
+    const slot = ring ? id % ring.slots : 0;
+    analyseRange(plans.get(v)!, fi, from, to, s.metrics.subarray((base + from) * METRICS, (base + to) * METRICS), cache, s.ideal, ring ? (b, codes, q) => {
+      const n = ring.elements;
+      const o = (slot * CHUNK_BEAMS + (b - from)) * n * 2;
+      ring.codes.set(codes.phaseCode, o);
+      ring.codes.set(codes.attenCode, o + n);
+      if (q instanceof OptimizedQuantizer) writeReport(q.report, ring.records, (slot * CHUNK_BEAMS + (b - from)) * OPT_FIELDS);
+    } : undefined);
+    if (ring) {
+      Atomics.store(ring.ready, slot, id + 1);
+      Atomics.notify(ring.ready, slot);
+    }
     done += to - from;
     onProgress?.(to - from);
   }
@@ -81,6 +168,10 @@ export interface AnalysisJob {
   finish(): Promise<Float64Array>;
   /** Stop the workers (on an error elsewhere). */
   cancel(): void;
+  /** optimized builds: where the table writer takes its codes from */
+  ring: CodeRing | null;
+  /** The calling thread computes one chunk if one may be claimed now; returns the beams done. Throws a worker's failure. */
+  help(): number;
 }
 
 /** The worker: compiled JS in dist; from source (tests), a bootstrap that registers tsx first. */
@@ -119,7 +210,7 @@ export class WorkerPool {
   }
 }
 
-export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean; variants?: Variant[]; ideal?: boolean; pool?: WorkerPool } = {}): AnalysisJob {
+export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean; variants?: Variant[]; ideal?: boolean; pool?: WorkerPool; ring?: boolean } = {}): AnalysisJob {
   const beams = plan.beams.count;
   const frequencies = plan.frequenciesHz.length;
   const total = beams * frequencies * (opts.variants?.length ?? 1);
@@ -130,6 +221,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
     frequencies,
     variants: opts.variants ?? null,
     ideal: opts.ideal ?? true,
+    ring: opts.ring && !opts.variants ? allocRing(4 * Math.max(1, jobs), plan.elements.count) : null,
   };
   const nWorkers = Math.max(0, Math.min(jobs - 1, chunkCount(shared) - 1));
   let done = 0;
@@ -159,15 +251,24 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   );
   // a failure is reported by finish(); keep Node from flagging it as unhandled meanwhile
   const all = Promise.all(exits);
-  all.catch(() => {});
+  let failure: unknown = null;
+  all.catch((e: unknown) => {
+    failure = e;
+  });
+  const helpCache: { c: AnalyzerCache | null; v?: number } = { c: null };
   return {
+    ring: shared.ring,
+    help() {
+      if (failure) throw failure;
+      return drainChunks(plan, shared, tick, helpCache, 1, false);
+    },
     async finish() {
       try {
         if (opts.failForTest && nWorkers === 0) throw new Error("injected analysis failure (test)");
         // the calling thread takes chunks too, a few at a time, yielding between them
-        const cache: { c: AnalyzerCache | null; v?: number } = { c: null };
+        const cache = helpCache;
         while (!finished(shared)) {
-          drainChunks(plan, shared, tick, cache, 2);
+          drainChunks(plan, shared, tick, cache, 2, false);
           await yieldNow();
         }
         await all;

@@ -19,7 +19,8 @@ import { stringify } from "csv-stringify/sync";
 import { METRIC_COLUMNS, METRICS } from "../core/pattern/analyze.js";
 import { summarise, type Distribution } from "../core/pattern/summary.js";
 import { theoryFor, type Theory } from "../core/theory.js";
-import { startAnalysis, type WorkerPool } from "./analysis-pool.js";
+import { ringSource, startAnalysis, type WorkerPool } from "./analysis-pool.js";
+import { setTimeout as sleep } from "node:timers/promises";
 import { HashedFile } from "./hashed.js";
 import { fixed } from "./format.js";
 import { OPT, OPT_FIELDS, POINTING_ALLOWANCE_DEG, DEFAULT_EXTRA_LOSS_DB, summariseOptimized, type OptimizedSummary } from "../core/quantize/optimized.js";
@@ -180,17 +181,23 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     for (const i of loaded.inputs) writeFileSync(join(tmp, INPUT_COPY[i.role]), i.file.bytes);
     const ft = frequencyText(plan);
     const total = plan.frequenciesHz.length * plan.beams.count;
-    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}) }) : null;
+    // an optimized build computes each beam's codes once, in the analysis chunks, and the tables take them from there
+    const ring = opts.analysis && plan.quantizer.method === "optimized";
+    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}), ring }) : null;
     if (!job) opts.pool?.release();
     const writers = makeWriters(tmp, { plan, frequencyText: ft });
     const run = new TableRun(plan, (fi, b, words, codes) => {
       for (const w of writers) w.beam(fi, b, words, codes);
-    }, plan.outputs.includes("csv"));
+    }, plan.outputs.includes("csv"), job?.ring ? ringSource(job.ring, plan.beams.count) : null);
     // slices of ~a few ms, yielding in between so SIGINT/SIGTERM are handled promptly
     const slice = Math.max(1, Math.floor(262144 / plan.elements.count));
-    while (!run.step(slice)) {
+    for (;;) {
+      const before = run.done;
+      if (run.step(slice)) break;
       if (!job) opts.onProgress?.(run.done, total);
-      await yieldNow();
+      // waiting for codes from the analysis: compute a chunk here, or give the workers a moment
+      if (run.done === before && job && job.help() === 0) await sleep(2);
+      else await yieldNow();
     }
     const perFrequency = run.summaries;
     const files: Record<string, ManifestFile> = {};
