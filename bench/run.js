@@ -158,6 +158,13 @@ for (const side of [16, 32, 64]) {
   }
 }
 
+// ---- 6. the optimized quantizer (bench/optimized.js)
+{
+  const r = spawnSync(process.execPath, [join(ROOT, "bench", "optimized.js")], { encoding: "utf8", env: { ...process.env, BENCH_RUNS: String(RUNS) } });
+  if (r.status !== 0) throw new Error(r.stderr);
+  results.optimized = JSON.parse(r.stdout);
+}
+
 writeFileSync(join(ROOT, "bench", "results.json"), JSON.stringify(results, null, 2) + "\n");
 const f = (x, d = 0) => Number(x).toFixed(d);
 const c = results.codesOnly, an = results.analysis;
@@ -175,4 +182,11 @@ console.log(`| baseline vs steercode: PSL |Δ| median / max | ${f(an.baselineVsS
 console.log(`| baseline vs steercode: pointing |Δ| median / max | ${f(an.baselineVsSteercode.pointingAbsDiffDegMedian, 4)} / ${f(an.baselineVsSteercode.pointingAbsDiffDegMax, 4)} deg | — |`);
 console.log(`\n| elements | beams | build with analysis (ms) | ms / beam | peak RSS (MB) |\n|---|---|---|---|---|`);
 for (const r of results.scaling) console.log(`| ${r.elements} | ${r.beams} | ${f(r.buildMs)} | ${f(r.msPerBeam, 2)} | ${f(r.peakRssMB)} |`);
+const o = results.optimized;
+console.log(`\n| optimized quantizer | result | target |\n|---|---|---|`);
+console.log(`| demo (${o.demo.elements} elements, ${o.demo.beams} beams), optimized build with analysis vs nearest (CLI wall) | ${f(o.demo.optimizedWallMs)} ms vs ${f(o.demo.nearestWallMs)} ms = ${f(o.demo.ratio, 2)} × | ≤ 10 × |`);
+console.log(`| 32×32 + calibration, 441 beams, optimized build with analysis (CLI wall) | ${f(o.large.optimizedWallMs)} ms | < 60 s |`);
+for (const r of o.memory) console.log(`| 16×16 optimized, ${r.beams} beams: build ${f(r.buildMs)} ms, peak RSS | ${f(r.peakRssMB)} MB | flat in beams |`);
+console.log(`| what it achieved, demo: worst PSL nearest → optimized; median / max PSL lowered | ${f(o.demo.achieved.pslWorstBeforeDb, 2)} → ${f(o.demo.achieved.pslWorstAfterDb, 2)} dB; ${f(o.demo.achieved.pslGainMedianDb, 2)} / ${f(o.demo.achieved.pslGainMaxDb, 2)} dB | — |`);
+console.log(`| what it achieved, 32×32: worst PSL nearest → optimized; median / max PSL lowered | ${f(o.large.achieved.pslWorstBeforeDb, 2)} → ${f(o.large.achieved.pslWorstAfterDb, 2)} dB; ${f(o.large.achieved.pslGainMedianDb, 2)} / ${f(o.large.achieved.pslGainMaxDb, 2)} dB | — |`);
 rmSync(tmp, { recursive: true, force: true });
