@@ -110,7 +110,7 @@ describe("sweep", () => {
       [["--phase-bits", "8..3"], /--phase-bits: expected bit depths from 1 to 12 in increasing order/],
       [["--phase-bits", "three"], /--phase-bits: expected a range like 3\.\.8/],
       [["--atten-step", "0.5,-1"], /--atten-step: expected steps in dB greater than 0/],
-      [["--quantizer", "dither"], /--quantizer: expected nearest and\/or randomized/],
+      [["--quantizer", "dither"], /--quantizer: expected one or more of nearest, randomized, optimized/],
     ] as const) {
       const r = cli(["sweep", s, "-o", join(tempDir(), "x"), ...args]);
       expect(r.code).toBe(2);
