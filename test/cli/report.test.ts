@@ -209,4 +209,25 @@ describe("report explorer in Chromium", () => {
     await page.close();
     expect(errors).toEqual([]);
   });
+
+  itWith([TOOLS.chromium], "an optimized build: the page's engine (in Chromium) finds the same optimized codes as the build (per-beam CRC of table.bin)", async () => {
+    const s = writeScenario(baseScenario({
+      array: { lattice: { kind: "rectangular", columns: 8, rows: 2, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 },
+      quantizer: { method: "optimized", seed: 3 },
+    }));
+    const opt = join(t, "opt");
+    expect(cli(["build", s, "-o", opt]).code).toBe(0);
+    const changed = readFileSync(join(opt, "beams.csv"), "utf8").trim().split("\n").slice(1).map((l) => Number(l.split(",").at(-1)));
+    expect(changed.some((c) => c > 0)).toBe(true); // the codes differ from nearest somewhere
+    expect(cli(["report", opt]).code).toBe(0);
+    copyFileSync(join(opt, "report.html"), join(t, "opt.html"));
+    const page = await open(join(t, "opt.html"), 1000);
+    for (const b of ["0", "1", "2"]) {
+      await page.selectOption("#beam-select", b);
+      expect(await page.locator("#crc-badge").textContent()).toMatch(/✓ codes match table\.bin/);
+    }
+    await page.close();
+    expect(errors).toEqual([]);
+  });
 });
