@@ -6,16 +6,23 @@ import yargs from "yargs";
 import { InputError, formatProblem } from "../core/errors.js";
 import { UsageError } from "./usage.js";
 import { defaultIo } from "./shared.js";
+import { isSystemError, writeProblem } from "../io/outdir.js";
 import { availableParallelism } from "node:os";
 import { toolVersion } from "../io/version.js";
 
 
 /** --jobs N: threads for the analysis in all, the main thread included (README). */
-const JOBS_OPTION = { type: "number", default: availableParallelism(), describe: "threads for the analysis, the main thread included" } as const;
+const JOBS_OPTION = { type: "number", default: availableParallelism(), describe: "threads for the analysis, the main thread included (at most the number of cores)" } as const;
 
 function jobsOption(raw: unknown): number {
   const jobs = Number(raw);
   if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(raw)}`);
+  // more threads than cores only compete for them (and each holds its own analysis buffers)
+  const cores = availableParallelism();
+  if (jobs > cores) {
+    process.stderr.write(`steercode: note: --jobs ${jobs} is more than the ${cores} core(s) of this machine; using ${cores}\n`);
+    return cores;
+  }
   return jobs;
 }
 
@@ -239,6 +246,14 @@ export async function main(argv: string[]): Promise<number> {
       if (json) process.stdout.write(JSON.stringify({ ok: false, problems: [{ message: e.message }] }, null, 2) + "\n");
       const first = argv.find((x) => !x.startsWith("-"));
       process.stderr.write(`steercode: ${e.message}\nsee: steercode ${first !== undefined && COMMANDS.includes(first) && first !== "help" ? `help ${first}` : "--help"}\n`);
+      return 2;
+    }
+    if (isSystemError(e)) {
+      // the operating system refused (permissions, a full disk, a file removed meanwhile): exit 2, located
+      const p = writeProblem(e, e.path ?? "", "cannot complete").problems[0]!;
+      const msg = `${p.file ? `${p.file}: ` : ""}cannot complete: ${p.message.replace(/^cannot complete: /, "").replace(/; nothing was written.*$/, "")}`;
+      if (json) process.stdout.write(JSON.stringify({ ok: false, problems: [{ ...(e.path ? { file: e.path } : {}), message: msg }] }, null, 2) + "\n");
+      process.stderr.write(`steercode: ${msg}\n`);
       return 2;
     }
     const msg = e instanceof Error ? e.message : String(e);

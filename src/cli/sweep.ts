@@ -1,6 +1,6 @@
 import type { QuantizerMethod } from "../core/plan.js";
 import { parseQuantity } from "../core/units.js";
-import { loadScenario } from "../io/scenario.js";
+import { loadScenario, MAX_ATTEN_STEP_DB } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
 import { runSweep } from "../io/sweep.js";
 import { WorkerPool } from "../io/analysis-pool.js";
@@ -26,7 +26,7 @@ export function parseSteps(text: string): { value: number; exact: string }[] {
   const out: { value: number; exact: string }[] = [];
   for (const part of text.split(",").map((s) => s.trim()).filter(Boolean)) {
     const r = parseQuantity(/^[\d.eE+-]+$/.test(part) ? `${part} dB` : part, "level");
-    if (!r.ok || !(r.q.value > 0)) throw new UsageError(`--atten-step: expected steps in dB greater than 0 like 0.25,0.5,1, got "${part}"`);
+    if (!r.ok || !(r.q.value > 0) || !(r.q.value <= MAX_ATTEN_STEP_DB)) throw new UsageError(`--atten-step: expected steps in dB greater than 0 and at most ${MAX_ATTEN_STEP_DB} like 0.25,0.5,1, got "${part}"`);
     if (!out.some((s) => s.value === r.q.value)) out.push({ value: r.q.value, exact: r.q.exact.toString() });
   }
   if (!out.length) throw new UsageError("--atten-step: expected at least one step");

@@ -1,5 +1,5 @@
 /** Derived facts an engineer wants before a range session (`steercode check`). */
-import { gratingFreeScanDeg, gratingLobeVisible, reciprocalVectors } from "./geometry.js";
+import { gratingFreeScanDeg, gratingLobeVisible, pointSetDiameter, reciprocalVectors } from "./geometry.js";
 import { enabledCount, type Plan } from "./plan.js";
 import { prepareFrequency } from "./quantize/prepare.js";
 import { SPEED_OF_LIGHT } from "./units.js";
@@ -36,7 +36,7 @@ export interface Facts {
   warnings: string[];
 }
 
-/** Largest aperture dimension D: the lattice's outer size along its diagonal, or the largest element separation. */
+/** Largest aperture dimension D: the lattice's outer size along its diagonal, or the largest element separation (exact, see pointSetDiameter). */
 export function apertureSizeM(plan: Plan): number {
   if (plan.lattice) {
     const l = plan.lattice;
@@ -45,10 +45,7 @@ export function apertureSizeM(plan: Plan): number {
     return Math.hypot(wx, wy);
   }
   const e = plan.elements;
-  let best = 0;
-  for (let i = 0; i < e.count; i++)
-    for (let j = i + 1; j < e.count; j++) best = Math.max(best, Math.hypot(e.x[i]! - e.x[j]!, e.y[i]! - e.y[j]!, e.z[i]! - e.z[j]!));
-  return best;
+  return pointSetDiameter(e.x, e.y, e.z, e.count);
 }
 
 export function deriveFacts(plan: Plan): Facts {

@@ -198,3 +198,74 @@ export function gratingFreeScanDeg(g: [number, number, number, number], psiRad: 
   }
   return (Math.asin(lo) * 180) / Math.PI;
 }
+
+// ------------------------------------------------------------ aperture size
+
+/**
+ * The largest distance between two of the points (the diameter of the point set),
+ * exact, without comparing every pair. Planar sets (every z equal, the usual array):
+ * convex hull (monotone chain) and rotating calipers, O(N log N). Other sets: pairs in
+ * order of decreasing distance from the centroid, stopping once r_i + r_j cannot beat the
+ * best pair found (exact; fast unless most points sit at one distance from the centroid,
+ * e.g. a sphere, where it degrades towards N²/2 pairs).
+ */
+export function pointSetDiameter(x: ArrayLike<number>, y: ArrayLike<number>, z: ArrayLike<number>, n: number): number {
+  if (n < 2) return 0;
+  let planar = true;
+  for (let i = 1; i < n && planar; i++) if (z[i] !== z[0]) planar = false;
+  return planar ? planarDiameter(x, y, n) : prunedDiameter(x, y, z, n);
+}
+
+function planarDiameter(x: ArrayLike<number>, y: ArrayLike<number>, n: number): number {
+  const idx = Array.from({ length: n }, (_, i) => i).sort((a, b) => x[a]! - x[b]! || y[a]! - y[b]!);
+  const cross = (o: number, a: number, b: number) => (x[a]! - x[o]!) * (y[b]! - y[o]!) - (y[a]! - y[o]!) * (x[b]! - x[o]!);
+  const hull: number[] = [];
+  for (const pass of [idx, [...idx].reverse()]) {
+    const start = hull.length;
+    for (const p of pass) {
+      while (hull.length >= start + 2 && cross(hull[hull.length - 2]!, hull[hull.length - 1]!, p) <= 0) hull.pop();
+      hull.push(p);
+    }
+    hull.pop(); // the last point of each chain starts the other
+  }
+  const d = (a: number, b: number) => Math.hypot(x[a]! - x[b]!, y[a]! - y[b]!);
+  const h = hull.length;
+  if (h <= 1) return d(idx[0]!, idx[n - 1]!); // every point at one place
+  if (h === 2) return d(hull[0]!, hull[1]!);
+  let best = 0;
+  let j = 1;
+  for (let i = 0; i < h; i++) {
+    const a = hull[i]!, b = hull[(i + 1) % h]!;
+    while (Math.abs(cross(a, b, hull[(j + 1) % h]!)) > Math.abs(cross(a, b, hull[j]!))) j = (j + 1) % h;
+    best = Math.max(best, d(a, hull[j]!), d(b, hull[j]!));
+  }
+  return best;
+}
+
+function prunedDiameter(x: ArrayLike<number>, y: ArrayLike<number>, z: ArrayLike<number>, n: number): number {
+  let cx = 0, cy = 0, cz = 0;
+  for (let i = 0; i < n; i++) {
+    cx += x[i]!;
+    cy += y[i]!;
+    cz += z[i]!;
+  }
+  cx /= n;
+  cy /= n;
+  cz /= n;
+  const r = new Float64Array(n);
+  for (let i = 0; i < n; i++) r[i] = Math.hypot(x[i]! - cx, y[i]! - cy, z[i]! - cz);
+  const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => r[b]! - r[a]!);
+  let best = 0;
+  // r_i + r_j bounds |p_i − p_j| (triangle inequality); a small relative margin covers rounding
+  const slack = 1 + 1e-12;
+  for (let a = 0; a < n; a++) {
+    const i = order[a]!;
+    if ((r[i]! + r[order[0]!]!) * slack < best) break;
+    for (let b = a + 1; b < n; b++) {
+      const j = order[b]!;
+      if ((r[i]! + r[j]!) * slack < best) break;
+      best = Math.max(best, Math.hypot(x[i]! - x[j]!, y[i]! - y[j]!, z[i]! - z[j]!));
+    }
+  }
+  return best;
+}

@@ -3,13 +3,13 @@
  * into place. The input files are copied into `inputs/` so that `verify` can
  * recompute the tables from the folder alone, on any machine.
  */
-import { copyFileSync, mkdirSync, writeFileSync } from "node:fs";
+import { mkdirSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { runTables, TableRun, type FrequencySummary } from "../core/engine.js";
 import { setImmediate as yieldNow } from "node:timers/promises";
 import { enabledCount, type Plan } from "../core/plan.js";
 import type { LoadedScenario, InputRole } from "./scenario.js";
-import { StagedDir } from "./outdir.js";
+import { isSystemError, StagedDir, writeProblem } from "./outdir.js";
 import { makeWriters, TABLE_FILES, wordsToBytes } from "./tables.js";
 import type { FileDigest } from "./hashed.js";
 import { toolVersion } from "./version.js";
@@ -177,7 +177,8 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
   try {
     const tmp = stage.tmp;
     mkdirSync(join(tmp, "inputs"));
-    copyFileSync(loaded.scenario.path, join(tmp, SCENARIO_COPY));
+    // the bytes read (and hashed) once, not a second read of the path: a pipe reads empty the second time
+    writeFileSync(join(tmp, SCENARIO_COPY), loaded.scenario.bytes);
     for (const i of loaded.inputs) writeFileSync(join(tmp, INPUT_COPY[i.role]), i.file.bytes);
     const ft = frequencyText(plan);
     const total = plan.frequenciesHz.length * plan.beams.count;
@@ -239,6 +240,8 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
   } catch (e) {
     job?.cancel();
     stage.abort();
+    // a full disk, a quota, a folder made read-only meanwhile: the environment, not a bug
+    if (isSystemError(e) && (!e.path || e.path.startsWith(stage.tmp))) throw writeProblem(e, outDir);
     throw e;
   }
 }

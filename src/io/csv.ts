@@ -23,26 +23,77 @@ export interface CsvShape {
   /** Column sets, any one of which must be present in full (e.g. [["az_deg","el_deg"],["u","v"]]). */
   required: string[][];
   optional: string[];
+  /** Most data rows the file may hold; reading stops past it. */
+  maxRows?: number;
+  /** What bounds the rows, for the message. */
+  rowsWhat?: string;
 }
+
+/** Longest line of a CSV input, and most `#` comment lines before its header. */
+export const MAX_CSV_LINE = 4096;
+export const MAX_COMMENT_LINES = 100;
 
 export function readCsv(input: InputFile, shape: CsvShape, problems: Problem[]): CsvTable | null {
   const file = input.name;
-  const lines = input.text.split(/\r?\n/);
-  const comments: string[] = [];
-  let skip = 0;
-  while (skip < lines.length && (lines[skip]!.trim().startsWith("#") || (lines[skip]!.trim() === "" && skip < lines.length - 1))) {
-    const t = lines[skip]!.trim();
-    if (t.startsWith("#")) comments.push(t.replace(/^#\s?/, ""));
-    skip++;
-  }
-  const body = lines.slice(skip).join("\n");
-  let records: { record: string[]; info: { lines: number } }[];
-  try {
-    records = parse(body, { info: true, skip_empty_lines: true, trim: true, relax_column_count: true }) as unknown as typeof records;
-  } catch (e) {
-    const err = e as { lines?: number; message?: string };
-    problems.push({ file, ...(err.lines !== undefined ? { line: err.lines + skip } : {}), message: `not valid CSV: ${String(err.message ?? e).replace(/^Invalid Record Length: /, "")}` });
+  const text = input.text;
+  // a line past the limit (a file of one 400 MB line) is refused before any parsing
+  const long = new RegExp(`[^\\r\\n]{${MAX_CSV_LINE + 1}}`).exec(text);
+  if (long) {
+    problems.push({ file, line: lineAt(text, long.index), message: `line longer than ${MAX_CSV_LINE} characters; expected CSV rows of at most ${MAX_CSV_LINE}` });
     return null;
+  }
+  // `#` comment lines (and blank lines) before the header; lines end in LF, CRLF or CR
+  const comments: string[] = [];
+  const lineRe = /([^\r\n]*)(\r\n|\r|\n|$)/y;
+  let skip = 0;
+  let offset = 0;
+  for (;;) {
+    lineRe.lastIndex = offset;
+    const m = lineRe.exec(text)!;
+    const t = m[1]!.trim();
+    const last = m[2] === "";
+    if (!(t.startsWith("#") || (t === "" && !last))) break;
+    if (t.startsWith("#")) {
+      if (comments.length === MAX_COMMENT_LINES) {
+        problems.push({ file, line: skip + 1, message: `more than ${MAX_COMMENT_LINES} comment lines before the header; expected at most ${MAX_COMMENT_LINES}` });
+        return null;
+      }
+      comments.push(t.replace(/^#\s?/, ""));
+    }
+    skip++;
+    offset = lineRe.lastIndex;
+    if (last) break;
+  }
+  const body = text.slice(offset);
+  const limit = shape.maxRows ?? Infinity;
+  let records: { record: string[]; info: { lines: number } }[];
+  const tooMany = (line: number) => {
+    problems.push({ file, line, message: `more than ${limit} data rows; expected at most ${limit}${shape.rowsWhat ? ` (${shape.rowsWhat})` : ""}` });
+    return null;
+  };
+  if (!body.includes('"')) {
+    // no quoting: one record per non-blank line, cells split at commas (csv-parse's result for such text, ~20× faster)
+    records = [];
+    const re = /([^\r\n]*)(\r\n|\r|\n|$)/y;
+    for (let at = 0, line = 1; at < body.length; line++) {
+      re.lastIndex = at;
+      const m = re.exec(body)!;
+      at = re.lastIndex;
+      if (m[1]!.trim() !== "") {
+        if (records.length > limit) return tooMany(line + skip);
+        records.push({ record: m[1]!.split(",").map((c) => c.trim()), info: { lines: line } });
+      }
+      if (m[2] === "") break;
+    }
+  } else {
+    try {
+      records = parse(body, { info: true, skip_empty_lines: true, trim: true, relax_column_count: true, ...(Number.isFinite(limit) ? { to: limit + 2 } : {}) }) as unknown as typeof records;
+    } catch (e) {
+      const err = e as { lines?: number; message?: string };
+      problems.push({ file, ...(err.lines !== undefined ? { line: err.lines + skip } : {}), message: `not valid CSV: ${String(err.message ?? e).replace(/^Invalid Record Length: /, "")}` });
+      return null;
+    }
+    if (records.length > limit + 1) return tooMany(records[records.length - 1]!.info.lines + skip);
   }
   if (records.length === 0) {
     problems.push({ file, message: `expected a header row (${describeShape(shape)}) and data rows; the file is empty` });
@@ -86,6 +137,12 @@ export function readCsv(input: InputFile, shape: CsvShape, problems: Problem[]):
   return { file, comments, header, rows };
 }
 
+function lineAt(text: string, index: number): number {
+  let n = 1;
+  for (const m of text.slice(0, index).matchAll(/\r\n|\r|\n/g)) if (m) n++;
+  return n;
+}
+
 function describeShape(shape: CsvShape): string {
   const req = shape.required.map((s) => s.join(",")).join(" or ");
   return shape.optional.length ? `columns ${req} (optional: ${shape.optional.join(", ")})` : `columns ${req}`;
@@ -93,19 +150,18 @@ function describeShape(shape: CsvShape): string {
 
 const NUMBER_RE = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
 
-/** A numeric cell: returns its exact text and value, or records a problem. */
-export function numberCell(t: CsvTable, row: CsvRow, col: string, problems: Problem[], opts: { integer?: boolean; min?: number } = {}): { text: string; value: number } | null {
+/** A numeric cell: returns its exact text and value, or records a problem. Values beyond `max`/`min` are refused with the text as written (never a rounded value). */
+export function numberCell(t: CsvTable, row: CsvRow, col: string, problems: Problem[], opts: { integer?: boolean; min?: number; max?: number } = {}): { text: string; value: number } | null {
   const text = row.cells.get(col);
   if (text === undefined) return null;
   const expected = opts.integer ? "a whole number" : "a number";
-  if (!NUMBER_RE.test(text)) {
-    problems.push({ file: t.file, line: row.line, column: col, message: `expected ${expected}${opts.min !== undefined ? ` ≥ ${opts.min}` : ""}, got "${text}"` });
+  const range = opts.min !== undefined && opts.max !== undefined ? ` from ${opts.min} to ${opts.max}` : opts.min !== undefined ? ` ≥ ${opts.min}` : opts.max !== undefined ? ` ≤ ${opts.max}` : "";
+  const bad = () => {
+    problems.push({ file: t.file, line: row.line, column: col, message: `expected ${expected}${range}, got "${text.length > 40 ? text.slice(0, 40) + "…" : text}"` });
     return null;
-  }
+  };
+  if (!NUMBER_RE.test(text)) return bad();
   const value = Number(text);
-  if (!Number.isFinite(value) || (opts.integer && !Number.isInteger(value)) || (opts.min !== undefined && value < opts.min)) {
-    problems.push({ file: t.file, line: row.line, column: col, message: `expected ${expected}${opts.min !== undefined ? ` ≥ ${opts.min}` : ""}, got "${text}"` });
-    return null;
-  }
+  if (!Number.isFinite(value) || (opts.integer && !Number.isInteger(value)) || (opts.min !== undefined && value < opts.min) || (opts.max !== undefined && value > opts.max)) return bad();
   return { text, value };
 }

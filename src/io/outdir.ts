@@ -5,7 +5,7 @@
  * anything else is refused before a byte is written. On SIGINT/SIGTERM or an error
  * the temporary folder is removed and the previous output stays as it was.
  */
-import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync } from "node:fs";
+import { existsSync, lstatSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync } from "node:fs";
 import { basename, dirname, join, resolve } from "node:path";
 import { InputError } from "../core/errors.js";
 
@@ -30,6 +30,8 @@ export function isOurs(dir: string): boolean {
 /** Refuse early (before any work) when the target exists and is not ours. */
 export function checkTarget(target: string): void {
   const abs = resolve(target);
+  // a link (dangling or not) is never written through nor replaced: the rename would replace the link itself
+  if (isLink(abs)) throw new InputError({ file: target, message: "is a symbolic link; expected a new folder or an earlier steercode output (steercode does not write through links)" });
   if (!existsSync(abs)) {
     const parent = dirname(abs);
     if (!existsSync(parent)) throw new InputError({ file: target, message: `the parent folder ${parent} does not exist` });
@@ -37,6 +39,44 @@ export function checkTarget(target: string): void {
   }
   if (!statSync(abs).isDirectory()) throw new InputError({ file: target, message: "exists and is not a folder; expected a new folder or an earlier steercode output" });
   if (!isOurs(abs)) throw new InputError({ file: target, message: "exists and was not written by steercode (no steercode manifest inside); refusing to overwrite it. Choose another -o folder or remove it yourself" });
+}
+
+function isLink(abs: string): boolean {
+  try {
+    return lstatSync(abs).isSymbolicLink();
+  } catch {
+    return false;
+  }
+}
+
+const ERRNO_TEXT: Record<string, string> = {
+  EACCES: "permission denied",
+  EPERM: "operation not permitted",
+  EROFS: "read-only file system",
+  ENOSPC: "no space left on device",
+  EDQUOT: "disk quota exceeded",
+  EIO: "input/output error",
+  EMFILE: "too many open files",
+  ENFILE: "too many open files in the system",
+  ENOTDIR: "a part of the path is not a folder",
+  ENOENT: "no such file or folder",
+  ENAMETOOLONG: "file name too long",
+  ELOOP: "too many levels of symbolic links",
+  EEXIST: "already exists",
+  ENOTEMPTY: "a folder appeared there meanwhile",
+  EXDEV: "crosses file systems",
+  EBUSY: "busy",
+};
+
+/** An error from the operating system (errno code), as opposed to a bug. */
+export function isSystemError(e: unknown): e is NodeJS.ErrnoException {
+  return e instanceof Error && typeof (e as NodeJS.ErrnoException).code === "string" && /^E[A-Z0-9]+$/.test((e as NodeJS.ErrnoException).code!) && typeof (e as NodeJS.ErrnoException).syscall === "string";
+}
+
+/** A failed write/rename/mkdir as an input/environment problem (exit 2) naming the output and the cause. */
+export function writeProblem(e: NodeJS.ErrnoException, target: string, what = "cannot write the output"): InputError {
+  const code = e.code ?? "";
+  return new InputError({ file: target, message: `${what}: ${ERRNO_TEXT[code] ?? code} (${code}, ${e.syscall}${e.path ? ` ${e.path}` : ""}); nothing was written, an earlier output is unchanged` });
 }
 
 let counter = 0;
@@ -51,10 +91,11 @@ function cleanupAll(): void {
 function hookSignals(): void {
   if (hooked) return;
   hooked = true;
-  for (const sig of ["SIGINT", "SIGTERM"] as const) {
+  const codes = { SIGHUP: 129, SIGINT: 130, SIGQUIT: 131, SIGTERM: 143 } as const;
+  for (const sig of Object.keys(codes) as (keyof typeof codes)[]) {
     process.on(sig, () => {
       cleanupAll();
-      process.exit(sig === "SIGINT" ? 130 : 143);
+      process.exit(codes[sig]);
     });
   }
   process.on("exit", cleanupAll);
@@ -69,8 +110,14 @@ function alive(pid: number): boolean {
   }
 }
 
-/** Staging folders left by a process that was killed outright (SIGKILL, power loss) are removed. */
-function removeStale(abs: string): void {
+/**
+ * What a process killed outright (SIGKILL, power loss) left behind. The commit is two
+ * renames: target → `.NAME.steercode-old-PID-N`, then staging → target. A crash between
+ * them leaves no target and the previous output in the `old` folder: it is renamed back
+ * into place (the new build never reported success). An `old` folder beside a present
+ * target (crash after the second rename) and every staging folder are removed.
+ */
+export function recoverStale(abs: string): void {
   const prefix = `.${basename(abs)}.steercode-`;
   let names: string[] = [];
   try {
@@ -78,10 +125,15 @@ function removeStale(abs: string): void {
   } catch {
     return;
   }
-  for (const n of names) {
-    if (!n.startsWith(prefix)) continue;
-    const m = /steercode-(?:tmp|old)-(\d+)-\d+$/.exec(n);
-    if (m && !alive(Number(m[1]))) rmSync(join(dirname(abs), n), { recursive: true, force: true });
+  const stale = names
+    .filter((n) => n.startsWith(prefix))
+    .map((n) => ({ n, m: /steercode-(tmp|old)-(\d+)-\d+$/.exec(n) }))
+    .filter((x) => x.m && !alive(Number(x.m[2])));
+  // old folders first: one may have to be restored before the staging folders go
+  for (const { n, m } of stale.sort((a, b) => (a.m![1] === b.m![1] ? 0 : a.m![1] === "old" ? -1 : 1))) {
+    const p = join(dirname(abs), n);
+    if (m![1] === "old" && !existsSync(abs) && !isLink(abs)) renameSync(p, abs);
+    else rmSync(p, { recursive: true, force: true });
   }
 }
 
@@ -89,27 +141,51 @@ export class StagedDir {
   readonly tmp: string;
   private done = false;
   constructor(readonly target: string) {
-    checkTarget(target);
     hookSignals();
     const abs = resolve(target);
-    removeStale(abs);
+    try {
+      recoverStale(abs);
+    } catch (e) {
+      throw isSystemError(e) ? writeProblem(e, target, "cannot restore the earlier output left by an interrupted build") : e;
+    }
+    checkTarget(target);
     this.tmp = join(dirname(abs), `.${basename(abs)}.steercode-tmp-${process.pid}-${counter++}`);
-    mkdirSync(this.tmp);
+    try {
+      mkdirSync(this.tmp);
+    } catch (e) {
+      throw isSystemError(e) ? writeProblem(e, target, `cannot create a staging folder in ${dirname(abs)}`) : e;
+    }
     live.add(this.tmp);
   }
   /** Move the staged folder into place, replacing an earlier steercode output. */
   commit(): void {
     const abs = resolve(this.target);
-    let old: string | null = null;
-    if (existsSync(abs)) {
-      checkTarget(this.target);
-      old = join(dirname(abs), `.${basename(abs)}.steercode-old-${process.pid}-${counter++}`);
-      renameSync(abs, old);
+    // another build may commit to the same new target between our check and our rename
+    // (ENOTEMPTY/EEXIST): look again and replace its output like any earlier one
+    for (let attempt = 0; ; attempt++) {
+      let old: string | null = null;
+      try {
+        if (existsSync(abs) || isLink(abs)) {
+          checkTarget(this.target);
+          old = join(dirname(abs), `.${basename(abs)}.steercode-old-${process.pid}-${counter++}`);
+          renameSync(abs, old);
+        }
+        try {
+          renameSync(this.tmp, abs);
+        } catch (e) {
+          if (old) renameSync(old, abs); // put the earlier output back
+          throw e;
+        }
+      } catch (e) {
+        const code = (e as NodeJS.ErrnoException).code;
+        if ((code === "ENOTEMPTY" || code === "EEXIST" || (code === "ENOENT" && old)) && attempt < 8) continue;
+        throw isSystemError(e) ? writeProblem(e, this.target) : e;
+      }
+      live.delete(this.tmp);
+      this.done = true;
+      if (old) rmSync(old, { recursive: true, force: true });
+      return;
     }
-    renameSync(this.tmp, abs);
-    live.delete(this.tmp);
-    this.done = true;
-    if (old) rmSync(old, { recursive: true, force: true });
   }
   abort(): void {
     if (this.done) return;

@@ -13,7 +13,9 @@ import { makeTaper, type TaperSpec } from "../core/taper/index.js";
 import { C_EXACT, parseQuantity, type QuantityKind } from "../core/units.js";
 import { checkLayout, wordBytes, type WordLayout } from "../core/words.js";
 import { numberCell, readCsv, type CsvTable } from "./csv.js";
-import { readInput, type InputFile } from "./files.js";
+import { MAX_SCENARIO_BYTES, readInput, type InputFile } from "./files.js";
+import { JsonError, parseJsonStrict } from "./jsonparse.js";
+import { ProblemList } from "./problems.js";
 import { validateScenarioJson } from "./schema.js";
 
 export type InputRole = "elements" | "calibration" | "beams" | "phaseStates" | "attenStates";
@@ -40,31 +42,39 @@ export interface LoadOptions {
   displayName?: string;
 }
 
+/** Bounds on physical inputs (README "Limits"): beyond them a value is a typo, not a design. */
+export const MIN_FREQUENCY_HZ = 1;
+export const MAX_FREQUENCY_HZ = 1e15;
+export const MIN_LENGTH_M = 1e-9;
+export const MAX_LENGTH_M = 1e4;
+export const MAX_ATTEN_STEP_DB = 100;
+/** Largest |gain| in dB of a calibration offset or a measured state, largest |phase| in degrees. */
+export const MAX_GAIN_DB = 200;
+export const MAX_PHASE_DEG = 1e6;
+/** Element ids are whole numbers 0 … 2^31 − 1. */
+export const MAX_ELEMENT_ID = 2 ** 31 - 1;
+
 /** Most beams one table may hold, and most bytes one table.bin may take. */
 export const MAX_BEAMS = 1 << 20;
+export const MAX_ELEMENTS = 65536;
 export const MAX_TABLE_BYTES = 2 ** 32;
 const DEFAULT_SEED = 1;
-
-function jsonPosition(text: string, err: unknown): { line: number; column: number } | null {
-  const m = /position (\d+)/.exec(String((err as Error).message));
-  if (!m) return null;
-  const pos = Number(m[1]);
-  const before = text.slice(0, pos);
-  const line = before.split("\n").length;
-  return { line, column: pos - before.lastIndexOf("\n") };
-}
+const ID = { integer: true, min: 0, max: MAX_ELEMENT_ID };
+const POSITION = { min: -MAX_LENGTH_M, max: MAX_LENGTH_M };
+const PHASE = { min: -MAX_PHASE_DEG, max: MAX_PHASE_DEG };
+const GAIN = { min: -MAX_GAIN_DB, max: MAX_GAIN_DB };
 
 export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenario {
   const display = opts.displayName ?? path;
   const problems: Problem[] = [];
-  const scenario = readInput(path, display, problems);
+  const scenario = readInput(path, display, problems, undefined, MAX_SCENARIO_BYTES);
   if (!scenario) throw new InputError(problems);
   let doc: unknown;
   try {
-    doc = JSON.parse(scenario.text);
+    doc = parseJsonStrict(scenario.text);
   } catch (e) {
-    const pos = jsonPosition(scenario.text, e);
-    throw new InputError({ file: display, ...(pos ? { line: pos.line } : {}), message: `not valid JSON (${String((e as Error).message).replace(/^.*?:\s*/, "")})${pos ? ` at column ${pos.column}` : ""}` });
+    if (!(e instanceof JsonError)) throw e;
+    throw new InputError({ file: display, line: e.line, ...(e.pointer !== undefined ? { pointer: e.pointer } : {}), message: `not valid JSON (${e.message}) at column ${e.column}` });
   }
   if (typeof doc !== "object" || doc === null || Array.isArray(doc)) throw new InputError({ file: display, pointer: "", message: "expected a JSON object (a steercode-scenario/1 document)" });
   const schemaProblems = validateScenarioJson(doc, display);
@@ -75,12 +85,16 @@ export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenar
     const hasE = arr.elements !== undefined;
     if (hasL === hasE) schemaProblems.push({ file: display, pointer: "/array", message: hasL ? 'give either "lattice" or "elements", not both' : 'expected "lattice" (a rectangular or triangular lattice) or "elements" (an elements.csv file)' });
   }
-  if (schemaProblems.length) throw new InputError(schemaProblems);
+  if (schemaProblems.length) {
+    const capped = new ProblemList();
+    for (const p of schemaProblems) capped.push(p);
+    throw new InputError(capped.all());
+  }
   return new Loader(path, display, scenario, d, opts).load();
 }
 
 class Loader {
-  private readonly problems: Problem[] = [];
+  private readonly problems = new ProblemList();
   private readonly inputs: ScenarioInput[] = [];
   private readonly dir: string;
   constructor(
@@ -103,6 +117,10 @@ class Loader {
       this.problem(pointer, `expected ${r.expected}, got ${JSON.stringify(raw)}`);
       return null;
     }
+    if (!Number.isFinite(r.q.value)) {
+      this.problem(pointer, `expected a ${kind} within the range of a double (±1.8e308 in SI units), got ${JSON.stringify(raw)}`);
+      return null;
+    }
     const msg = rule?.(r.q.value) ?? null;
     if (msg) {
       this.problem(pointer, `${msg}, got ${JSON.stringify(raw)}`);
@@ -111,7 +129,7 @@ class Loader {
     return r.q;
   }
 
-  private file(ref: string, role: InputRole, pointer: string): CsvTable | null {
+  private file(ref: string, role: InputRole, pointer: string, maxRows?: number, rowsWhat?: string): CsvTable | null {
     const path = this.opts.resolveRef ? this.opts.resolveRef(ref) : isAbsolute(ref) ? ref : resolve(this.dir, ref);
     const f = readInput(path, ref, this.problems, pointer);
     if (!f) return null;
@@ -123,11 +141,11 @@ class Loader {
       attenStates: { required: [["code", "atten_db", "phase_deg"]], optional: ["element"] },
     } as const;
     const shape = shapes[role];
-    const before = this.problems.length;
-    const t = readCsv(f, { required: shape.required.map((s) => [...s]), optional: [...shape.optional] }, this.problems);
+    const before = this.problems.count;
+    const t = readCsv(f, { required: shape.required.map((s) => [...s]), optional: [...shape.optional], ...(maxRows !== undefined ? { maxRows, rowsWhat: rowsWhat ?? "" } : {}) }, this.problems);
     if (t) this.inputs.push({ role, ref, file: f, comments: t.comments });
     // a file with bad rows is reported, not used: nothing downstream sees half of it
-    return this.problems.length > before ? null : t;
+    return this.problems.count > before ? null : t;
   }
 
   load(): LoadedScenario {
@@ -136,7 +154,7 @@ class Loader {
     const fRaw: unknown[] = Array.isArray(d.frequency) ? d.frequency : [d.frequency];
     const freqs: { value: number; exact: string }[] = [];
     fRaw.forEach((raw, i) => {
-      const q = this.quantity(raw, "frequency", Array.isArray(d.frequency) ? `/frequency/${i}` : "/frequency", (v) => (v > 0 ? null : "expected a frequency > 0"));
+      const q = this.quantity(raw, "frequency", Array.isArray(d.frequency) ? `/frequency/${i}` : "/frequency", (v) => (!(v > 0) ? "expected a frequency > 0" : v < MIN_FREQUENCY_HZ || v > MAX_FREQUENCY_HZ ? "expected a frequency from 1 Hz to 1000 THz" : null));
       if (q) freqs.push({ value: q.value, exact: q.exact.toString() });
     });
     const seenF = new Set<string>();
@@ -162,7 +180,7 @@ class Loader {
     let attenStepExact = "1";
     if (att) {
       attenBits = att.bits;
-      const q = this.quantity(att.step, "level", "/attenuator/step", (v) => (v > 0 ? null : "expected an attenuator step > 0 dB"));
+      const q = this.quantity(att.step, "level", "/attenuator/step", (v) => (v > 0 ? (v > MAX_ATTEN_STEP_DB ? `expected an attenuator step of at most ${MAX_ATTEN_STEP_DB} dB` : null) : "expected an attenuator step > 0 dB"));
       if (q) {
         attenStepDb = q.value;
         attenStepExact = q.exact.toString();
@@ -193,12 +211,12 @@ class Loader {
     }
     if (elements && elements.count > 0 && !elements.enabled.some((e) => e === 1)) this.problem(this.d.array.elements ? "/array/elements" : "/array/disabled", "every element is disabled; expected at least one enabled element");
 
-    if (this.problems.length || !elements || !beams || !taper || !cal) throw new InputError(this.problems);
+    if (this.problems.count || !elements || !beams || !taper || !cal) throw new InputError(this.problems.all());
     const amplitude = makeTaper(taper).amplitudes({ elements, lattice });
     amplitude.forEach((a, i) => {
       if (!(a > 0)) this.problem("/taper", `the taper gives element ${elements.ids[i]} amplitude ${a}; expected > 0 (try a larger nbar or a milder sidelobe level)`);
     });
-    if (this.problems.length) throw new InputError(this.problems);
+    if (this.problems.count) throw new InputError(this.problems.all());
     const plan: Plan = {
       name: typeof d.name === "string" ? d.name : "",
       frequenciesHz: freqs.map((f) => f.value),
@@ -231,11 +249,16 @@ class Loader {
       const pitch = (key: "dx" | "dy") => {
         const q = this.quantity(l[key], "length", `/array/lattice/${key}`, (v) => (v > 0 ? null : "expected a spacing > 0"));
         if (!q) return null;
+        let m = q.exact;
         if (q.inLambda) {
           if (!lambdaMin) return null;
-          return q.exact.times(lambdaMin);
+          m = q.exact.times(lambdaMin);
         }
-        return q.exact;
+        if (m.lt(MIN_LENGTH_M) || m.gt(MAX_LENGTH_M)) {
+          this.problem(`/array/lattice/${key}`, `expected a spacing from 1 nm to 10 km, got ${JSON.stringify(l[key])}${q.inLambda ? ` (${m.toSignificantDigits(6).toString()} m)` : ""}`);
+          return null;
+        }
+        return m;
       };
       const dx = pitch("dx");
       const dy = pitch("dy");
@@ -266,16 +289,16 @@ class Loader {
   }
 
   private elementList(ref: string): Elements | null {
-    const t = this.file(ref, "elements", "/array/elements");
+    const t = this.file(ref, "elements", "/array/elements", MAX_ELEMENTS, "elements in an array");
     if (!t) return null;
-    const before = this.problems.length;
+    const before = this.problems.count;
     const rows: { id: number; x: string; y: string; z: string; device: string; channel: string; enabled: number; line: number }[] = [];
     const seen = new Map<number, number>();
     for (const r of t.rows) {
-      const id = numberCell(t, r, "element", this.problems, { integer: true, min: 0 });
-      const x = numberCell(t, r, "x_m", this.problems);
-      const y = numberCell(t, r, "y_m", this.problems);
-      const z = t.header.includes("z_m") ? numberCell(t, r, "z_m", this.problems) : { text: "0", value: 0 };
+      const id = numberCell(t, r, "element", this.problems, ID);
+      const x = numberCell(t, r, "x_m", this.problems, POSITION);
+      const y = numberCell(t, r, "y_m", this.problems, POSITION);
+      const z = t.header.includes("z_m") ? numberCell(t, r, "z_m", this.problems, POSITION) : { text: "0", value: 0 };
       let enabled = 1;
       const en = r.cells.get("enabled");
       if (en !== undefined) {
@@ -293,7 +316,7 @@ class Loader {
       seen.set(id.value, r.line);
       rows.push({ id: id.value, x: x.text, y: y.text, z: z.text, device: r.cells.get("device") ?? "", channel: r.cells.get("channel") ?? "", enabled, line: r.line });
     }
-    if (this.problems.length > before) return null;
+    if (this.problems.count > before) return null;
     if (rows.length > 65536) {
       this.problems.push({ file: t.file, message: `${rows.length} elements; expected at most 65536` });
       return null;
@@ -316,13 +339,17 @@ class Loader {
     });
     if (t.header.includes("device")) el.device = rows.map((r) => r.device);
     if (t.header.includes("channel")) el.channel = rows.map((r) => r.channel);
-    for (let i = 0; i < rows.length; i++)
-      for (let j = i + 1; j < Math.min(rows.length, i + 1 + 4096) && j < rows.length; j++)
-        if (el.x[i] === el.x[j] && el.y[i] === el.y[j] && el.z[i] === el.z[j]) {
-          this.problems.push({ file: t.file, line: rows[j]!.line, message: `element ${rows[j]!.id} sits at the same position as element ${rows[i]!.id}` });
-          return null;
-        }
-    return el;
+    // every coincident pair, wherever the two sit in the file: sort by position, compare neighbours
+    const order = Array.from({ length: rows.length }, (_, i) => i).sort((i, j) => el.x[i]! - el.x[j]! || el.y[i]! - el.y[j]! || el.z[i]! - el.z[j]! || i - j);
+    let dup = false;
+    for (let k = 1, first = order[0]!; k < order.length; k++) {
+      const i = order[k]!;
+      if (el.x[i] === el.x[first] && el.y[i] === el.y[first] && el.z[i] === el.z[first]) {
+        this.problems.push({ file: t.file, line: rows[i]!.line, message: `element ${rows[i]!.id} sits at the same position as element ${rows[first]!.id}` });
+        dup = true;
+      } else first = i;
+    }
+    return dup ? null : el;
   }
 
   private axis(raw: { from: number; to: number; step: number }, pointer: string, limits: [number, number]): AxisSpec | null {
@@ -357,13 +384,13 @@ class Loader {
     const b = this.d.beams as Record<string, any>;
     let spec: BeamSpec | null = null;
     if (b.kind === "list") {
-      const t = this.file(b.file, "beams", "/beams/file");
+      const t = this.file(b.file, "beams", "/beams/file", MAX_BEAMS, "beams in a table");
       if (!t) return null;
       const azel = t.header.includes("az_deg");
       const [ca, cb] = azel ? ["az_deg", "el_deg"] : ["u", "v"];
       const a: string[] = [];
       const bb: string[] = [];
-      const before = this.problems.length;
+      const before = this.problems.count;
       for (const r of t.rows) {
         const x = numberCell(t, r, ca!, this.problems);
         const y = numberCell(t, r, cb!, this.problems);
@@ -373,7 +400,7 @@ class Loader {
         a.push(new D(x.text).toString());
         bb.push(new D(y.text).toString());
       }
-      if (this.problems.length > before) return null;
+      if (this.problems.count > before) return null;
       if (a.length > MAX_BEAMS) {
         this.problems.push({ file: t.file, message: `${a.length} beams; expected at most ${MAX_BEAMS}` });
         return null;
@@ -429,19 +456,19 @@ class Loader {
     const cal: Calibration = { phaseDeg: new Float64Array(n), gainDb: new Float64Array(n), phaseExact: new Array<string>(n).fill("0"), gainExact: new Array<string>(n).fill("0") };
     const ref = this.d.calibration as string | undefined;
     if (!ref) return elements ? cal : null;
-    const t = this.file(ref, "calibration", "/calibration");
+    const t = this.file(ref, "calibration", "/calibration", MAX_ELEMENTS, "elements in an array");
     if (!t || !elements) return null;
-    const before = this.problems.length;
+    const before = this.problems.count;
     const index = new Map<number, number>();
     elements.ids.forEach((id, i) => index.set(id, i));
     const ids: (number | null)[] = [];
     for (const r of t.rows) {
-      const id = numberCell(t, r, "element", this.problems, { integer: true, min: 0 });
+      const id = numberCell(t, r, "element", this.problems, ID);
       const ph = numberCell(t, r, "phase_offset_deg", this.problems);
       const g = numberCell(t, r, "gain_offset_db", this.problems);
       ids.push(id ? id.value : null);
-      if (ph && Math.abs(ph.value) > 1e6) this.problems.push({ file: t.file, line: r.line, column: "phase_offset_deg", message: `expected a phase offset within ±1e6 degrees, got "${ph.text}"` });
-      if (g && Math.abs(g.value) > 200) this.problems.push({ file: t.file, line: r.line, column: "gain_offset_db", message: `expected a gain offset within ±200 dB, got "${g.text}"` });
+      if (ph && Math.abs(ph.value) > MAX_PHASE_DEG) this.problems.push({ file: t.file, line: r.line, column: "phase_offset_deg", message: `expected a phase offset within ±1e6 degrees, got "${ph.text}"` });
+      if (g && Math.abs(g.value) > MAX_GAIN_DB) this.problems.push({ file: t.file, line: r.line, column: "gain_offset_db", message: `expected a gain offset within ±200 dB, got "${g.text}"` });
       const i = id ? index.get(id.value) : undefined;
       if (i === undefined || !ph || !g) continue;
       cal.phaseDeg[i] = ph.value;
@@ -450,13 +477,13 @@ class Loader {
       cal.gainExact[i] = new D(g.text).toString();
     }
     this.coverage(t, elements, ids, "a calibration file");
-    return this.problems.length > before ? null : cal;
+    return this.problems.count > before ? null : cal;
   }
 
   private states(ref: string, role: "phaseStates" | "attenStates", pointer: string, states: number, elements: Elements | null): StateTable | null {
-    const t = this.file(ref, role, pointer);
+    const t = this.file(ref, role, pointer, 2 * (elements ? elements.count : MAX_ELEMENTS) * states, `twice one row per code${elements ? ` and per element (${elements.count})` : ""} of a ${Math.log2(states)}-bit part`);
     if (!t || !elements) return null;
-    const before = this.problems.length;
+    const before = this.problems.count;
     const perElement = t.header.includes("element");
     const [c1, c2] = role === "phaseStates" ? ["phase_deg", "gain_db"] : ["atten_db", "phase_deg"];
     const n = perElement ? elements.count : 1;
@@ -467,15 +494,14 @@ class Loader {
     const seen = new Map<string, number>();
     for (const r of t.rows) {
       const code = numberCell(t, r, "code", this.problems, { integer: true, min: 0 });
-      const a = numberCell(t, r, c1!, this.problems);
-      const b = numberCell(t, r, c2!, this.problems);
-      const el = perElement ? numberCell(t, r, "element", this.problems, { integer: true, min: 0 }) : { text: "", value: 0 };
+      const a = numberCell(t, r, c1!, this.problems, role === "phaseStates" ? PHASE : { min: -1, max: MAX_GAIN_DB });
+      const b = numberCell(t, r, c2!, this.problems, role === "phaseStates" ? GAIN : PHASE);
+      const el = perElement ? numberCell(t, r, "element", this.problems, ID) : { text: "", value: 0 };
       if (!code || !a || !b || !el) continue;
       if (code.value >= states) {
         this.problems.push({ file: t.file, line: r.line, column: "code", message: `code ${code.value} does not exist on a ${Math.log2(states)}-bit part; expected 0 … ${states - 1}` });
         continue;
       }
-      if (role === "attenStates" && a.value < -1) this.problems.push({ file: t.file, line: r.line, column: "atten_db", message: `expected an attenuation ≥ 0 dB (gain shows as a small negative value at most), got "${a.text}"` });
       const i = perElement ? index.get(el.value) : 0;
       if (i === undefined) {
         this.problems.push({ file: t.file, line: r.line, column: "element", message: `element ${el.value} is not in the array` });
@@ -491,14 +517,14 @@ class Loader {
       primary[i * states + code.value] = a.value;
       secondary[i * states + code.value] = b.value;
     }
-    if (this.problems.length === before) {
+    if (this.problems.count === before) {
       const missing: string[] = [];
       for (let i = 0; i < n; i++)
         for (let s = 0; s < states; s++)
           if (Number.isNaN(primary[i * states + s]!)) missing.push(perElement ? `element ${elements.ids[i]} code ${s}` : `code ${s}`);
       if (missing.length) this.problems.push({ file: t.file, message: `missing ${missing.length} state(s): ${missing.slice(0, 6).join(", ")}${missing.length > 6 ? ", …" : ""}; expected every code 0 … ${states - 1}${perElement ? " for every element" : ""}` });
     }
-    return this.problems.length > before ? null : { states, perElement, primary, secondary };
+    return this.problems.count > before ? null : { states, perElement, primary, secondary };
   }
 }
 
