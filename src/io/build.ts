@@ -272,8 +272,13 @@ export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: F
   const nb = plan.beams.count;
   const digits = [9, 9, 7, 4, 4, 4, 5, 4, 4, 0];
   for (let fi = 0; fi < ft.length; fi++) {
-    const rows: string[][] = [];
+    // rows go out in slices of 4096: memory does not grow with the beam count
+    let rows: string[][] = [];
     for (let b = 0; b < nb; b++) {
+      if (rows.length === 4096) {
+        f.write(stringify(rows));
+        rows = [];
+      }
       const o = (fi * nb + b) * METRICS;
       const row = [ft[fi]!, String(b), fixed(plan.beams.azDeg[b]!, 6), fixed(plan.beams.elDeg[b]!, 6), fixed(plan.beams.u[b]!, 9), fixed(plan.beams.v[b]!, 9)];
       for (let k = 0; k < METRICS; k++) {

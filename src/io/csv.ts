@@ -9,7 +9,19 @@ import type { InputFile } from "./files.js";
 
 export interface CsvRow {
   line: number;
-  cells: Map<string, string>;
+  cells: RowCells;
+}
+
+/** A row's cells by column name (one shared name → index map, not a Map per row: a million rows stay small). */
+export class RowCells {
+  constructor(
+    private readonly values: string[],
+    private readonly index: Map<string, number>,
+  ) {}
+  get(col: string): string | undefined {
+    const i = this.index.get(col);
+    return i === undefined ? undefined : this.values[i];
+  }
 }
 
 export interface CsvTable {
@@ -36,23 +48,31 @@ export const MAX_COMMENT_LINES = 100;
 export function readCsv(input: InputFile, shape: CsvShape, problems: Problem[]): CsvTable | null {
   const file = input.name;
   const text = input.text;
-  // a line past the limit (a file of one 400 MB line) is refused before any parsing
-  const long = new RegExp(`[^\\r\\n]{${MAX_CSV_LINE + 1}}`).exec(text);
-  if (long) {
-    problems.push({ file, line: lineAt(text, long.index), message: `line longer than ${MAX_CSV_LINE} characters; expected CSV rows of at most ${MAX_CSV_LINE}` });
-    return null;
+  // one pass over the lines (LF, CRLF or CR): start of each, and a line past the limit
+  // (a file of one 400 MB line) refused before any parsing
+  const starts: number[] = [];
+  const ends: number[] = [];
+  for (let i = 0, start = 0; ; i++) {
+    const c = i < text.length ? text.charCodeAt(i) : -1;
+    if (c === 10 || c === 13 || c === -1) {
+      if (i - start > MAX_CSV_LINE) {
+        problems.push({ file, line: starts.length + 1, message: `line longer than ${MAX_CSV_LINE} characters; expected CSV rows of at most ${MAX_CSV_LINE}` });
+        return null;
+      }
+      if (c === -1 && i === start && starts.length > 0) break; // the file ends with a line break
+      starts.push(start);
+      ends.push(i);
+      if (c === -1) break;
+      if (c === 13 && text.charCodeAt(i + 1) === 10) i++;
+      start = i + 1;
+    }
   }
-  // `#` comment lines (and blank lines) before the header; lines end in LF, CRLF or CR
+  // `#` comment lines (and blank lines) before the header
   const comments: string[] = [];
-  const lineRe = /([^\r\n]*)(\r\n|\r|\n|$)/y;
   let skip = 0;
-  let offset = 0;
-  for (;;) {
-    lineRe.lastIndex = offset;
-    const m = lineRe.exec(text)!;
-    const t = m[1]!.trim();
-    const last = m[2] === "";
-    if (!(t.startsWith("#") || (t === "" && !last))) break;
+  while (skip < starts.length) {
+    const t = text.slice(starts[skip], ends[skip]).trim();
+    if (!(t.startsWith("#") || (t === "" && skip < starts.length - 1))) break;
     if (t.startsWith("#")) {
       if (comments.length === MAX_COMMENT_LINES) {
         problems.push({ file, line: skip + 1, message: `more than ${MAX_COMMENT_LINES} comment lines before the header; expected at most ${MAX_COMMENT_LINES}` });
@@ -61,30 +81,29 @@ export function readCsv(input: InputFile, shape: CsvShape, problems: Problem[]):
       comments.push(t.replace(/^#\s?/, ""));
     }
     skip++;
-    offset = lineRe.lastIndex;
-    if (last) break;
   }
-  const body = text.slice(offset);
   const limit = shape.maxRows ?? Infinity;
   let records: { record: string[]; info: { lines: number } }[];
   const tooMany = (line: number) => {
     problems.push({ file, line, message: `more than ${limit} data rows; expected at most ${limit}${shape.rowsWhat ? ` (${shape.rowsWhat})` : ""}` });
     return null;
   };
-  if (!body.includes('"')) {
-    // no quoting: one record per non-blank line, cells split at commas (csv-parse's result for such text, ~20× faster)
-    records = [];
-    const re = /([^\r\n]*)(\r\n|\r|\n|$)/y;
-    for (let at = 0, line = 1; at < body.length; line++) {
-      re.lastIndex = at;
-      const m = re.exec(body)!;
-      at = re.lastIndex;
-      if (m[1]!.trim() !== "") {
-        if (records.length > limit) return tooMany(line + skip);
-        records.push({ record: m[1]!.split(",").map((c) => c.trim()), info: { lines: line } });
-      }
-      if (m[2] === "") break;
+  const blank = (k: number) => {
+    for (let i = starts[k]!; i < ends[k]!; i++) {
+      const c = text.charCodeAt(i);
+      if (c !== 32 && c !== 9) return false;
     }
+    return true;
+  };
+  // count first (cheap): an over-long file is refused before any record is built
+  for (let k = skip, n = 0; k < starts.length; k++) if (!blank(k) && ++n > limit + 1) return tooMany(k + 1);
+  const body = skip < starts.length ? text.slice(starts[skip]) : "";
+  const quoted = body.includes('"');
+  if (!quoted) {
+    // no quoting: one record per non-blank line, cells split at commas (csv-parse's result for such text, much faster)
+    records = [];
+    for (let k = skip; k < starts.length; k++)
+      if (!blank(k)) records.push({ record: text.slice(starts[k], ends[k]).split(",").map((c) => c.trim()), info: { lines: k + 1 - skip } });
   } else {
     try {
       records = parse(body, { info: true, skip_empty_lines: true, trim: true, relax_column_count: true, ...(Number.isFinite(limit) ? { to: limit + 2 } : {}) }) as unknown as typeof records;
@@ -122,6 +141,7 @@ export function readCsv(input: InputFile, shape: CsvShape, problems: Problem[]):
   }
   if (!ok) return null;
   const rows: CsvRow[] = [];
+  const index = new Map(header.map((h, i) => [h, i]));
   for (let r = 1; r < records.length; r++) {
     const rec = records[r]!;
     const line = rec.info.lines + skip;
@@ -129,18 +149,10 @@ export function readCsv(input: InputFile, shape: CsvShape, problems: Problem[]):
       problems.push({ file, line, message: `expected ${header.length} cells (${header.join(",")}), got ${rec.record.length}` });
       continue;
     }
-    const cells = new Map<string, string>();
-    header.forEach((h, i) => cells.set(h, rec.record[i]!));
-    rows.push({ line, cells });
+    rows.push({ line, cells: new RowCells(rec.record, index) });
   }
   if (rows.length === 0 && records.length === 1) problems.push({ file, line: headerLine, message: "expected data rows after the header; found none" });
   return { file, comments, header, rows };
-}
-
-function lineAt(text: string, index: number): number {
-  let n = 1;
-  for (const m of text.slice(0, index).matchAll(/\r\n|\r|\n/g)) if (m) n++;
-  return n;
 }
 
 function describeShape(shape: CsvShape): string {

@@ -16,23 +16,39 @@ export class HashedFile {
   private readonly hash: Hash = createHash("sha256");
   private crc = 0;
   private size = 0;
-  private pending: Buffer[] = [];
-  private pendingBytes = 0;
+  /** Bytes not yet written: one reused buffer (many small pieces would each be a heap object). */
+  private readonly buf = Buffer.allocUnsafe(CHUNK);
+  private used = 0;
   constructor(readonly path: string) {
     this.fd = openSync(path, "wx");
   }
   write(data: Buffer | Uint8Array | string): void {
-    const buf = typeof data === "string" ? Buffer.from(data, "utf8") : Buffer.isBuffer(data) ? data : Buffer.from(data.buffer, data.byteOffset, data.byteLength);
-    this.hash.update(buf);
-    this.crc = crc32(buf, this.crc);
-    this.size += buf.length;
-    this.pending.push(buf);
-    this.pendingBytes += buf.length;
-    if (this.pendingBytes >= CHUNK) this.flush();
-  }
-  /** Write bytes the caller will reuse at once: hashed and written through now, never kept. */
-  writeTransient(buf: Buffer): void {
+    if (typeof data === "string") {
+      const n = Buffer.byteLength(data, "utf8");
+      if (n <= CHUNK - this.used) {
+        this.buf.write(data, this.used, "utf8");
+        this.used += n;
+        return;
+      }
+      data = Buffer.from(data, "utf8");
+    }
+    const buf = Buffer.isBuffer(data) ? data : Buffer.from(data.buffer, data.byteOffset, data.byteLength);
+    if (buf.length <= CHUNK - this.used) {
+      buf.copy(this.buf, this.used);
+      this.used += buf.length;
+      return;
+    }
     this.flush();
+    if (buf.length < CHUNK) {
+      buf.copy(this.buf, 0);
+      this.used = buf.length;
+    } else this.out(buf);
+  }
+  /** Write bytes the caller will reuse at once: copied or written through now, never kept. */
+  writeTransient(buf: Buffer): void {
+    this.write(buf);
+  }
+  private out(buf: Buffer): void {
     this.hash.update(buf);
     this.crc = crc32(buf, this.crc);
     this.size += buf.length;
@@ -40,12 +56,9 @@ export class HashedFile {
     while (off < buf.length) off += writeSync(this.fd, buf, off, buf.length - off);
   }
   private flush(): void {
-    if (!this.pendingBytes) return;
-    const all = this.pending.length === 1 ? this.pending[0]! : Buffer.concat(this.pending, this.pendingBytes);
-    let off = 0;
-    while (off < all.length) off += writeSync(this.fd, all, off, all.length - off);
-    this.pending = [];
-    this.pendingBytes = 0;
+    if (!this.used) return;
+    this.out(this.buf.subarray(0, this.used));
+    this.used = 0;
   }
   close(): FileDigest {
     this.flush();

@@ -239,9 +239,16 @@ class JsonWriter implements TableWriter {
   constructor(path: string, ctx: TableContext) {
     this.f = new HashedFile(path);
     const p = ctx.plan;
-    const beams: string[] = [];
-    for (let b = 0; b < p.beams.count; b++)
+    // the beam list is written in slices: its text is never held whole (a million beams are ~100 MB of it)
+    this.f.write('{"beams":[\n');
+    let beams: string[] = [];
+    for (let b = 0; b < p.beams.count; b++) {
       beams.push(`{"az_deg":${num(round9(p.beams.azDeg[b]!))},"beam":${b},"el_deg":${num(round9(p.beams.elDeg[b]!))},"u":${num(round12(p.beams.u[b]!))},"v":${num(round12(p.beams.v[b]!))}}`);
+      if (beams.length === 4096 && b + 1 < p.beams.count) {
+        this.f.write(beams.join(",\n") + ",\n");
+        beams = [];
+      }
+    }
     const els: string[] = [];
     const e = p.elements;
     for (let i = 0; i < e.count; i++)
@@ -250,7 +257,7 @@ class JsonWriter implements TableWriter {
       );
     const layout = JSON.stringify({ bits: p.word.bits, bytes: p.word.bytes, fields: p.word.fields.map((f) => ({ name: f.name, shift: f.shift, width: f.width, ...(f.value !== undefined ? { value: f.value } : {}) })), off: p.word.off });
     this.f.write(
-      `{"beams":[\n${beams.join(",\n")}\n],"elements":[\n${els.join(",\n")}\n],"format":"steercode-table/1","frequenciesHz":[${ctx.frequencyText.join(",")}],"layout":${layout},"words":[`,
+      `${beams.join(",\n")}\n],"elements":[\n${els.join(",\n")}\n],"format":"steercode-table/1","frequenciesHz":[${ctx.frequencyText.join(",")}],"layout":${layout},"words":[`,
     );
   }
   beam(fi: number, _b: number, words: Uint32Array): void {

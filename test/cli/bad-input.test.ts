@@ -3,7 +3,8 @@
  * message that names the file and the field (JSON pointer) or the CSV line, write
  * nothing (no output folder, no staging folder), and show no stack trace.
  */
-import { existsSync, mkdirSync, readdirSync, writeFileSync } from "node:fs";
+import { execFileSync } from "node:child_process";
+import { existsSync, mkdirSync, readdirSync, symlinkSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, tempDir } from "../helpers.js";
@@ -72,9 +73,9 @@ const cases: Case[] = [
   { name: "calibration with a ragged row", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8.replace("\n2,0,0", "\n2,0") }, expect: [/cal\.csv, line 4: expected 3 cells/] },
   { name: "elements.csv: duplicated element", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS([...line8, "3,0.5,0"]) }, expect: [/el\.csv, line 10, column element: element 3 is listed twice/] },
   { name: "elements.csv: ragged rows, and no follow-on errors", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": "element,x_m,y_m,z_m\n0,0,0\n1,0.01,0\n" }, expect: [/el\.csv, line 2: expected 4 cells/, /el\.csv, line 3: expected 4 cells/], notExpect: [/disabled/, /taper/] },
-  { name: "elements.csv: x not a number", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["0,abc,0", ...line8.slice(1)]) }, expect: [/el\.csv, line 2, column x_m: expected a number, got "abc"/] },
+  { name: "elements.csv: x not a number", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["0,abc,0", ...line8.slice(1)]) }, expect: [/el\.csv, line 2, column x_m: expected a number from -10000 to 10000, got "abc"/] },
   { name: "elements.csv: enabled neither yes nor no", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": "element,x_m,y_m,enabled\n0,0,0,maybe\n1,0.01,0,1\n" }, expect: [/el\.csv, line 2, column enabled: expected 1\/0, true\/false or yes\/no, got "maybe"/] },
-  { name: "elements.csv: negative element id", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["-1,0,0", "1,0.01,0"]) }, expect: [/el\.csv, line 2, column element: expected a whole number ≥ 0, got "-1"/] },
+  { name: "elements.csv: negative element id", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["-1,0,0", "1,0.01,0"]) }, expect: [/el\.csv, line 2, column element: expected a whole number from 0 to 2147483647, got "-1"/] },
   { name: "elements.csv: two elements at one place", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["0,0,0", "1,0,0"]) }, expect: [/el\.csv, line 3: element 1 sits at the same position as element 0/] },
   { name: "beam list missing", doc: B({ beams: { kind: "list", file: "beams.csv" } }), expect: [/beams\.csv: \/beams\/file: file not found/] },
   { name: "beam list outside visible space", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "u,v\n0,0\n0.9,0.9\n" }, expect: [/beams\.csv, line 3: beam \(u=0\.9, v=0\.9\) is outside visible space/] },
@@ -99,6 +100,37 @@ const cases: Case[] = [
   },
   { name: "unknown option", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--colour"], expect: [/unknown option --colour/] },
   { name: "--jobs 0", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "0"], expect: [/--jobs: expected a whole number from 1 to 256, got 0/] },
+  // ---- issue 9: hostile and huge inputs
+  // element ids are whole numbers 0 … 2^31 − 1, refused as written (never wrapped to 32 bits nor rounded past 2^53)
+  { name: "elements.csv: id 2^32 (would wrap to element 0)", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS([...line8, "4294967296,0.5,0"]) }, expect: [/el\.csv, line 10, column element: expected a whole number from 0 to 2147483647, got "4294967296"/] },
+  { name: "elements.csv: id 2^53 + 1 (would round)", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS([...line8, "9007199254740993,0.5,0"]) }, expect: [/got "9007199254740993"/] },
+  { name: "calibration: id 2^32 + 3 (would land on element 3)", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8.replace("\n3,0,0", "\n4294967299,0,0") }, expect: [/cal\.csv, line 5, column element: expected a whole number from 0 to 2147483647, got "4294967299"/, /cal\.csv: missing 1 element\(s\): 3/] },
+  { name: "disabled id 2^32", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5 mm", dy: "5 mm" }, disabled: [4294967296] } }), expect: [/\/array\/disabled\/0: expected a number <= 2147483647/] },
+  // strict JSON: what JSON.parse lets through silently
+  { name: "a key given twice (JSON.parse keeps the last)", doc: JSON.stringify(B(), null, 2).replace('"name": "test",', '"name": "test",\n  "name": "again",'), expect: [/scenario\.json, line 4: \/name: not valid JSON \(key "name" is given twice in one object/] },
+  { name: "JSON nested 10 000 deep", doc: "[".repeat(10000) + "]".repeat(10000), expect: [/scenario\.json, line 1: .*not valid JSON \(nested deeper than 64 levels/] },
+  { name: "an integer of 1e400 (not \"got null\")", doc: JSON.stringify(B()).replace('"bits":3', '"bits":1e400'), expect: [/\/phaseShifter\/bits: not valid JSON \(number 1e400 is too large/], notExpect: [/null/] },
+  // physical bounds
+  { name: "frequency 1e400 GHz", doc: B({ frequency: "1e400 GHz" }), expect: [/\/frequency: expected a frequency within the range of a double/] },
+  { name: "frequency 1e308 Hz", doc: B({ frequency: 1e308 }), expect: [/\/frequency: expected a frequency from 1 Hz to 1000 THz, got 1e\+308/] },
+  { name: "spacing 1e300 m", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: 1e300, dy: "5 mm" } } }), expect: [/\/array\/lattice\/dx: expected a spacing from 1 nm to 10 km, got 1e\+300/] },
+  { name: "element position 1e300 m", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS([...line8.slice(0, 7), "7,1e300,0"]) }, expect: [/el\.csv, line 9, column x_m: expected a number from -10000 to 10000, got "1e300"/] },
+  { name: "attenuator step 1e300 dB", doc: B({ attenuator: { bits: 6, step: "1e300 dB" } }), expect: [/\/attenuator\/step: expected an attenuator step of at most 100 dB/] },
+  { name: "a measured state gain of 1e300 dB", doc: B({ phaseShifter: { bits: 2, states: "ps.csv" } }), files: { "ps.csv": "code,phase_deg,gain_db\n0,0,0\n1,90,1e300\n2,180,0\n3,270,0\n" }, expect: [/ps\.csv, line 3, column gain_db: expected a number from -200 to 200, got "1e300"/] },
+  { name: "sweep --atten-step 1e300", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--atten-step", "1e300"], expect: [/--atten-step: expected steps in dB greater than 0 and at most 100/] },
+  // only regular files are read, with limits that hold for streams too
+  { name: "calibration is /dev/zero", doc: B({ calibration: "/dev/zero" }), expect: [/\/dev\/zero: \/calibration: expected a regular file, found a character device/] },
+  { name: "calibration is a named pipe with no writer (would hang)", doc: B({ calibration: "fifo" }), prepare: (d) => execFileSync("mkfifo", [join(d, "fifo")]), expect: [/fifo: \/calibration: expected a regular file, found a named pipe/] },
+  { name: "scenario is /dev/zero", args: () => ["check", "/dev/zero"], expect: [/\/dev\/zero: expected a regular file, found a character device/] },
+  { name: "scenario over 1 MiB", doc: JSON.stringify(B({ name: "x".repeat(1100000) })), expect: [/scenario\.json: file is \d+ bytes; expected at most 1048576 bytes/] },
+  { name: "a CSV line longer than 4096 characters", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8 + "8," + "0".repeat(5000) + ",0\n" }, expect: [/cal\.csv, line 10: line longer than 4096 characters/] },
+  { name: "more than 100 comment lines", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": "# note\n".repeat(101) + CAL8 }, expect: [/cal\.csv, line 101: more than 100 comment lines before the header/] },
+  { name: "a beam list past 1 048 576 rows is refused while counting", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "u,v\n" + "0,0\n".repeat(1048577) }, expect: [/beams\.csv, line 1048578: more than 1048576 data rows; expected at most 1048576 \(beams in a table\)/] },
+  { name: "thousands of bad rows: the first 20 and a count", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8 + Array.from({ length: 3000 }, (_, i) => `${i + 100},0,0`).join("\n") + "\n" }, expect: [/cal\.csv, line 29, column element: element 119 is not in the array/, /cal\.csv: … and 2 980 more problem\(s\) in this file \(the first 20 are shown\)/], notExpect: [/element 120 is not/] },
+  { name: "a CR-only CSV starting with a # line is read (not called empty)", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": "# date: 2026-12-01 (invented)\r" + CAL8.replace(/\n/g, "\r").replace("\r5,0,0", "\r5,x,0") }, expect: [/cal\.csv, line 8, column phase_offset_deg: expected a number, got "x"/], notExpect: [/empty/] },
+  { name: "coincident elements 5000 ids apart", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS([...Array.from({ length: 5000 }, (_, i) => `${i},${(i * 0.01).toFixed(2)},0`), "5000,0,0", "5001,0.01,0"]) }, expect: [/el\.csv, line 5002: element 5000 sits at the same position as element 0/, /el\.csv, line 5003: element 5001 sits at the same position as element 1/] },
+  // outputs
+  { name: "-o is a dangling symbolic link", doc: B(), prepare: (d) => symlinkSync(join(d, "nowhere"), join(d, "out")), expect: [/out: is a symbolic link; expected a new folder or an earlier steercode output/] },
   { name: "verify on a folder that is not a build", args: (d) => ["verify", d], expect: [/manifest\.json: not found: expected a steercode build folder/] },
 ];
 
