@@ -4,7 +4,8 @@
  * Every input is read exactly once; the bytes read are the bytes hashed and the bytes
  * copied into a build's `inputs/` (so a scenario given as `/dev/stdin` or `<(…)` is
  * copied as read, not re-read empty). Only regular files are read, plus a pipe the
- * shell already opened (`/dev/stdin`, `/dev/fd/N`, `/proc/self/fd/N`); devices
+ * shell already opened (`/dev/stdin`, `/dev/fd/N`, `/proc/self/fd/N`: that descriptor is
+ * read, not opened again); devices
  * (`/dev/zero`), sockets and named FIFOs (whose open would wait for a writer) are
  * refused. Reading stops at a byte limit, which holds for pipes and for files that
  * grow while read, too.
@@ -31,7 +32,7 @@ export const MAX_SCENARIO_BYTES = 1024 * 1024;
 export const MAX_CSV_BYTES = 64 * 1024 * 1024;
 
 /** Paths that name a descriptor the shell opened for us (a pipe here is not a named FIFO). */
-const OPEN_DESCRIPTOR_RE = /^\/(?:dev\/(?:stdin|fd\/\d+)|proc\/(?:self|\d+)\/fd\/\d+)$/;
+const OPEN_DESCRIPTOR_RE = /^\/(?:dev\/(?:stdin|fd\/(\d+))|proc\/self\/fd\/(\d+))$/;
 
 function kind(st: { isDirectory(): boolean; isCharacterDevice(): boolean; isBlockDevice(): boolean; isFIFO(): boolean; isSocket(): boolean }): string {
   if (st.isDirectory()) return "a folder";
@@ -72,7 +73,9 @@ export function readInput(path: string, name: string, problems: Problem[], point
   let bytes: Buffer | null;
   try {
     const st = statSync(path);
-    const pipe = st.isFIFO() && OPEN_DESCRIPTOR_RE.test(path);
+    const desc = OPEN_DESCRIPTOR_RE.exec(path);
+    // a pipe or socket the shell (or a parent process) opened for us: read that descriptor, do not open it again
+    const pipe = desc !== null && (st.isFIFO() || st.isSocket());
     if (!st.isFile() && !pipe) {
       problems.push({ file: name, ...at, message: `expected a regular file, found ${kind(st)} (${path})` });
       return null;
@@ -81,17 +84,20 @@ export function readInput(path: string, name: string, problems: Problem[], point
       problems.push({ file: name, ...at, message: `file is ${st.size} bytes; expected at most ${limit} bytes` });
       return null;
     }
-    // O_NONBLOCK: should the path have become a FIFO since the stat, the open does not wait for a writer
-    const fd = openSync(path, constants.O_RDONLY | (pipe ? 0 : constants.O_NONBLOCK));
-    try {
-      const again = fstatSync(fd);
-      if (!again.isFile() && !pipe) {
-        problems.push({ file: name, ...at, message: `expected a regular file, found ${kind(again)} (${path})` });
-        return null;
+    if (pipe) bytes = readBounded(Number(desc[1] ?? desc[2] ?? 0), limit);
+    else {
+      // O_NONBLOCK: should the path have become a FIFO since the stat, the open does not wait for a writer
+      const fd = openSync(path, constants.O_RDONLY | constants.O_NONBLOCK);
+      try {
+        const again = fstatSync(fd);
+        if (!again.isFile()) {
+          problems.push({ file: name, ...at, message: `expected a regular file, found ${kind(again)} (${path})` });
+          return null;
+        }
+        bytes = readBounded(fd, limit);
+      } finally {
+        closeSync(fd);
       }
-      bytes = readBounded(fd, limit);
-    } finally {
-      closeSync(fd);
     }
     if (bytes === null) {
       problems.push({ file: name, ...at, message: `more than ${limit} bytes; expected at most ${limit} bytes` });

@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { gratingFreeScanDeg, reciprocalVectors, gratingLobeVisible, angleBetweenDeg, azElToUvw } from "../../src/core/geometry.js";
+import { gratingFreeScanDeg, reciprocalVectors, gratingLobeVisible, angleBetweenDeg, azElToUvw, pointSetDiameter } from "../../src/core/geometry.js";
+import { mulberry32 } from "../../src/core/quantize/randomized.js";
 import { deriveFacts } from "../../src/core/facts.js";
 import { crc32 } from "node:zlib";
 import { baseScenario, load } from "../helpers.js";
@@ -50,5 +51,36 @@ describe("facts", () => {
 describe("CRC-32", () => {
   it('check value of ASCII "123456789" is 0xCBF43926 (CRC catalogue, CRC-32/ISO-HDLC)', () => {
     expect(crc32("123456789") >>> 0).toBe(0xcbf43926);
+  });
+});
+
+describe("aperture size of element lists (far-field distance 2D²/λ)", () => {
+  const brute = (x: Float64Array, y: Float64Array, z: Float64Array) => {
+    let best = 0;
+    for (let i = 0; i < x.length; i++) for (let j = i + 1; j < x.length; j++) best = Math.max(best, Math.hypot(x[i]! - x[j]!, y[i]! - y[j]!, z[i]! - z[j]!));
+    return best;
+  };
+  it("equals the largest pairwise distance (derived: the definition, by brute force) on planar and 3-D sets, rings, lines, duplicates", () => {
+    const rnd = mulberry32(9);
+    for (let trial = 0; trial < 60; trial++) {
+      const n = 1 + Math.floor(rnd() * 300);
+      const x = new Float64Array(n), y = new Float64Array(n), z = new Float64Array(n);
+      const shape = trial % 5;
+      for (let i = 0; i < n; i++) {
+        const t = 2 * Math.PI * rnd();
+        if (shape === 0) (x[i] = rnd() - 0.5), (y[i] = rnd() - 0.5);
+        else if (shape === 1) (x[i] = Math.cos(t)), (y[i] = Math.sin(t)); // every point on the hull
+        else if (shape === 2) (x[i] = Math.round(rnd() * 8) * 0.01), (y[i] = 0); // a line, with repeats
+        else if (shape === 3) (x[i] = rnd()), (y[i] = rnd()), (z[i] = rnd() * 0.3); // conformal
+        else (x[i] = Math.cos(t) * 0.2), (y[i] = Math.sin(t) * 0.2), (z[i] = (i % 2) * 0.05);
+      }
+      expect(pointSetDiameter(x, y, z, n)).toBeCloseTo(brute(x, y, z), 12);
+    }
+  });
+  it("a 256 × 256 element list gives the lattice's corner-to-corner distance", () => {
+    const n = 65536;
+    const x = new Float64Array(n), y = new Float64Array(n), z = new Float64Array(n);
+    for (let i = 0; i < n; i++) (x[i] = (i % 256) * 0.005), (y[i] = Math.floor(i / 256) * 0.005);
+    expect(pointSetDiameter(x, y, z, n)).toBeCloseTo(Math.hypot(255 * 0.005, 255 * 0.005), 12); // derived: Pythagoras
   });
 });
