@@ -190,3 +190,4 @@ for (const r of o.memory) console.log(`| 16×16 optimized, ${r.beams} beams: bui
 console.log(`| what it achieved, demo: worst PSL nearest → optimized; median / max PSL lowered | ${f(o.demo.achieved.pslWorstBeforeDb, 2)} → ${f(o.demo.achieved.pslWorstAfterDb, 2)} dB; ${f(o.demo.achieved.pslGainMedianDb, 2)} / ${f(o.demo.achieved.pslGainMaxDb, 2)} dB | — |`);
 console.log(`| what it achieved, 32×32: worst PSL nearest → optimized; median / max PSL lowered | ${f(o.large.achieved.pslWorstBeforeDb, 2)} → ${f(o.large.achieved.pslWorstAfterDb, 2)} dB; ${f(o.large.achieved.pslGainMedianDb, 2)} / ${f(o.large.achieved.pslGainMaxDb, 2)} dB | — |`);
 rmSync(tmp, { recursive: true, force: true });
+await import("./inputs.js");
