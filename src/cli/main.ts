@@ -6,7 +6,7 @@ import yargs from "yargs";
 import { InputError, formatProblem } from "../core/errors.js";
 import { UsageError } from "./usage.js";
 import { defaultIo } from "./shared.js";
-import { isSystemError, writeProblem } from "../io/outdir.js";
+import { cleanUpOnSignals, isSystemError, writeProblem } from "../io/outdir.js";
 import { availableParallelism } from "node:os";
 import { toolVersion } from "../io/version.js";
 
@@ -101,6 +101,7 @@ function explainUsage(msg: string, argv: string[], usage: { getDescriptions?: ()
 
 /** Exit code a command reports through this, so that handlers can return 0/1. */
 export async function main(argv: string[]): Promise<number> {
+  cleanUpOnSignals();
   let code = 0;
   const json = argv.includes("--json");
   const io = defaultIo(json);

@@ -88,7 +88,21 @@ function cleanupAll(): void {
   live.clear();
 }
 
-function hookSignals(): void {
+let exitHooked = false;
+/** Staging folders are removed when the process exits normally (any caller, the library too). */
+function hookExit(): void {
+  if (exitHooked) return;
+  exitHooked = true;
+  process.on("exit", cleanupAll);
+}
+
+/**
+ * The command line's signal handling: SIGHUP/SIGINT/SIGQUIT/SIGTERM remove every staging
+ * folder and exit 128 + signal. Only the CLI installs it; a program that imports the
+ * library keeps its own signal handling (a staging folder it leaves is removed by the next
+ * build to the same folder, see recoverStale).
+ */
+export function cleanUpOnSignals(): void {
   if (hooked) return;
   hooked = true;
   const codes = { SIGHUP: 129, SIGINT: 130, SIGQUIT: 131, SIGTERM: 143 } as const;
@@ -98,7 +112,7 @@ function hookSignals(): void {
       process.exit(codes[sig]);
     });
   }
-  process.on("exit", cleanupAll);
+  hookExit();
 }
 
 function alive(pid: number): boolean {
@@ -141,7 +155,7 @@ export class StagedDir {
   readonly tmp: string;
   private done = false;
   constructor(readonly target: string) {
-    hookSignals();
+    hookExit();
     const abs = resolve(target);
     try {
       recoverStale(abs);
