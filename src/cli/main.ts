@@ -185,8 +185,13 @@ export async function main(argv: string[]): Promise<number> {
       builder: (y) =>
         y
           .positional("dir", { type: "string", demandOption: true, describe: "the build folder" })
-          .example("$0 verify build-2", "exit 0: hashes, CRC, every table format and a fresh computation agree"),
-      handler: (a) => run(async () => (await import("./verify.js")).verifyCommand(io, String(a.dir)))(),
+          .option("jobs", JOBS_OPTION)
+          .example("$0 verify build-2", "exit 0: every file regenerated from the recorded inputs is identical, the manifest too"),
+      handler: (a) =>
+        run(async () => {
+          const jobs = jobsOption(a.jobs);
+          return (await import("./verify.js")).verifyCommand(io, String(a.dir), jobs);
+        })(),
     })
     .command({
       command: "report <dir>",

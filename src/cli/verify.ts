@@ -1,14 +1,25 @@
+import { WorkerPool } from "../io/analysis-pool.js";
+import { readManifest } from "../io/readbuild.js";
 import { verifyBuild } from "../io/verify.js";
 import { printJson, SAFETY, type Io } from "./shared.js";
 
-export function verifyCommand(io: Io, dir: string): number {
-  const r = verifyBuild(dir);
+export async function verifyCommand(io: Io, dir: string, jobs = 1): Promise<number> {
+  // the analysis is rerun only when the build had one: start its workers only then
+  const m = readManifest(dir);
+  const pool = new WorkerPool(m.analysis ? jobs - 1 : 0);
+  let r;
+  try {
+    r = await verifyBuild(dir, { jobs, pool });
+  } finally {
+    pool.release();
+  }
   if (io.json) printJson(io, r);
   else {
     const lines = r.checks.map((c) => `${c.ok ? "ok  " : "FAIL"}  ${c.check}: ${c.detail}`);
     if (r.firstMismatch) {
       const f = r.firstMismatch;
-      lines.push("", `first mismatch: ${f.file}, frequency ${f.frequency_hz} Hz, beam ${f.beam}, element ${f.element} (expected word ${f.expected}, found ${f.found})`);
+      const at = [f.line !== null ? `line ${f.line}` : `byte ${f.byte}`, f.pointer, f.frequency_hz !== null ? `frequency ${f.frequency_hz} Hz` : null, f.beam !== null ? `beam ${f.beam}` : null, f.element !== null ? `element ${f.element}` : null].filter(Boolean).join(", ");
+      lines.push("", `first mismatch: ${f.file}, ${at}`, `  expected: ${f.expected}`, `  found:    ${f.found}`);
     }
     lines.push("", r.ok ? `verified: ${dir} is consistent end to end` : `NOT verified: do not flash ${dir}`, "", SAFETY);
     io.stdout(lines.join("\n") + "\n");

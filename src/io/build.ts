@@ -10,7 +10,7 @@ import { setImmediate as yieldNow } from "node:timers/promises";
 import { enabledCount, type Plan } from "../core/plan.js";
 import type { LoadedScenario, InputRole } from "./scenario.js";
 import { isSystemError, StagedDir, writeProblem } from "./outdir.js";
-import { makeWriters, TABLE_FILES, wordsToBytes } from "./tables.js";
+import { makeWriters, openHashedFile, TABLE_FILES, wordsToBytes, type OpenSink } from "./tables.js";
 import type { FileDigest } from "./hashed.js";
 import { toolVersion } from "./version.js";
 import { crc32 } from "node:zlib";
@@ -21,7 +21,6 @@ import { summarise, type Distribution } from "../core/pattern/summary.js";
 import { theoryFor, type Theory } from "../core/theory.js";
 import { ringSource, startAnalysis, type WorkerPool } from "./analysis-pool.js";
 import { setTimeout as sleep } from "node:timers/promises";
-import { HashedFile } from "./hashed.js";
 import { fixed } from "./format.js";
 import { OPT, OPT_FIELDS, POINTING_ALLOWANCE_DEG, DEFAULT_EXTRA_LOSS_DB, summariseOptimized, type OptimizedSummary } from "../core/quantize/optimized.js";
 
@@ -170,25 +169,59 @@ export function makeManifest(loaded: LoadedScenario, scenarioSource: string, per
   };
 }
 
-export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
+/** Where the table engine is: set around every beam the writers are given (verify locates differences with it). */
+export interface BeamCursor {
+  fi: number;
+  b: number;
+  inBeam: boolean;
+}
+
+export interface ProduceOptions {
+  analysis: boolean;
+  jobs?: number;
+  pool?: WorkerPool;
+  failAnalysisForTest?: boolean;
+  onProgress?: (done: number, total: number) => void;
+  /** where the bytes go: files on disk (build) or comparisons with the files there (verify) */
+  open?: OpenSink;
+  cursor?: BeamCursor;
+}
+
+export interface Produced {
+  manifest: Manifest;
+  files: Record<string, ManifestFile>;
+  perFrequency: FrequencySummary[];
+  metrics: Float64Array | null;
+  summary: Record<string, Distribution> | null;
+  theory: Theory;
+  optimized: Float64Array | null;
+}
+
+/**
+ * Every output of a build (tables, beams.csv) and its manifest, streamed beam by beam
+ * into `dir` through `open`. `build` writes files with it; `verify` runs the very same
+ * code with sinks that compare each byte with the file already in the folder, so any
+ * output added here is verified without further work.
+ */
+export async function produceOutputs(loaded: LoadedScenario, dir: string, scenarioSource: string, opts: ProduceOptions): Promise<Produced> {
   const plan = loaded.plan;
-  const stage = new StagedDir(outDir);
+  const open = opts.open ?? openHashedFile;
+  const cursor = opts.cursor ?? { fi: 0, b: 0, inBeam: false };
   let job: ReturnType<typeof startAnalysis> | null = null;
   try {
-    const tmp = stage.tmp;
-    mkdirSync(join(tmp, "inputs"));
-    // the bytes read (and hashed) once, not a second read of the path: a pipe reads empty the second time
-    writeFileSync(join(tmp, SCENARIO_COPY), loaded.scenario.bytes);
-    for (const i of loaded.inputs) writeFileSync(join(tmp, INPUT_COPY[i.role]), i.file.bytes);
     const ft = frequencyText(plan);
     const total = plan.frequenciesHz.length * plan.beams.count;
     // an optimized build computes each beam's codes once, in the analysis chunks, and the tables take them from there
     const ring = opts.analysis && plan.quantizer.method === "optimized";
     job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}), ring }) : null;
     if (!job) opts.pool?.release();
-    const writers = makeWriters(tmp, { plan, frequencyText: ft });
+    const writers = makeWriters(dir, { plan, frequencyText: ft }, open);
     const run = new TableRun(plan, (fi, b, words, codes) => {
+      cursor.fi = fi;
+      cursor.b = b;
+      cursor.inBeam = true;
       for (const w of writers) w.beam(fi, b, words, codes);
+      cursor.inBeam = false;
     }, plan.outputs.includes("csv"), job?.ring ? ringSource(job.ring, plan.beams.count) : null);
     // slices of ~a few ms, yielding in between so SIGINT/SIGTERM are handled promptly
     const slice = Math.max(1, Math.floor(262144 / plan.elements.count));
@@ -220,25 +253,47 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     if (job) {
       opts.onProgress?.(0, total);
       metrics = await job.finish();
-      const d = writeBeamsCsv(join(tmp, "beams.csv"), plan, ft, metrics, run.optimized);
+      const d = writeBeamsCsv(join(dir, "beams.csv"), plan, ft, metrics, run.optimized, open);
       files["beams.csv"] = { bytes: d.bytes, sha256: d.sha256 };
       summary = summarise(metrics);
     }
     const theory = theoryFor(plan);
     for (const i of loaded.inputs) files[INPUT_COPY[i.role]] = { bytes: i.file.bytes.length, sha256: i.file.sha256 };
     files[SCENARIO_COPY] = { bytes: loaded.scenario.bytes.length, sha256: loaded.scenario.sha256 };
-    const manifest = makeManifest(loaded, loaded.scenario.name.split(/[\\/]/).pop() ?? "scenario.json", perFrequency, files, opts.analysis);
+    const manifest = makeManifest(loaded, scenarioSource, perFrequency, files, opts.analysis);
     if (summary) manifest.extra = { summary, theory };
     if (run.optimized) manifest.optimized = optimizedManifest(plan, ft, run.optimized);
+    return { manifest, files, perFrequency, metrics, summary, theory, optimized: run.optimized };
+  } catch (e) {
+    job?.cancel();
+    throw e;
+  }
+}
+
+export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
+  const stage = new StagedDir(outDir);
+  try {
+    const tmp = stage.tmp;
+    mkdirSync(join(tmp, "inputs"));
+    // the bytes read (and hashed) once, not a second read of the path: a pipe reads empty the second time
+    writeFileSync(join(tmp, SCENARIO_COPY), loaded.scenario.bytes);
+    for (const i of loaded.inputs) writeFileSync(join(tmp, INPUT_COPY[i.role]), i.file.bytes);
+    const p = await produceOutputs(loaded, tmp, loaded.scenario.name.split(/[\\/]/).pop() ?? "scenario.json", {
+      analysis: opts.analysis,
+      ...(opts.jobs !== undefined ? { jobs: opts.jobs } : {}),
+      ...(opts.pool ? { pool: opts.pool } : {}),
+      ...(opts.failAnalysisForTest ? { failAnalysisForTest: true } : {}),
+      ...(opts.onProgress ? { onProgress: opts.onProgress } : {}),
+    });
+    const manifest = p.manifest;
     if (opts.extraFiles) {
       const extra = await opts.extraFiles(tmp, manifest);
-      for (const [k, d] of Object.entries(extra)) files[k] = { bytes: d.bytes, sha256: d.sha256 };
+      for (const [k, d] of Object.entries(extra)) p.files[k] = { bytes: d.bytes, sha256: d.sha256 };
     }
     writeFileSync(join(tmp, "manifest.json"), stableJson(manifest, null, 2) + "\n", { flag: "wx" });
     stage.commit();
-    return { dir: outDir, manifest, perFrequency, metrics, summary, theory, optimized: run.optimized ? { records: run.optimized, summary: manifest.optimized!.summary } : null };
+    return { dir: outDir, manifest, perFrequency: p.perFrequency, metrics: p.metrics, summary: p.summary, theory: p.theory, optimized: p.optimized ? { records: p.optimized, summary: manifest.optimized!.summary } : null };
   } catch (e) {
-    job?.cancel();
     stage.abort();
     // a full disk, a quota, a folder made read-only meanwhile: the environment, not a bug
     if (isSystemError(e) && (!e.path || e.path.startsWith(stage.tmp))) throw writeProblem(e, outDir);
@@ -247,7 +302,7 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
 }
 
 /** CRC-32 of the table.bin bytes when table.bin itself is not an output (for table.h's #define). */
-function crcOfWords(plan: Plan): number {
+export function crcOfWords(plan: Plan): number {
   // Recompute the words stream; cheap next to writing text outputs.
   let crc = 0;
   runTables(plan, (_fi, _b, words) => {
@@ -266,8 +321,8 @@ export const OPTIMIZED_COLUMNS = ["nearest_psl_db", "nearest_gain_loss_db", "nea
 const OPTIMIZED_SOURCE: [number, number][] = [[OPT.pslBeforeDb, 4], [OPT.gainLossBeforeDb, 4], [OPT.pointingBeforeDeg, 7], [OPT.changed, 0]];
 
 /** beams.csv: one row per (frequency, beam). A metric that does not exist (no sidelobe in visible space) is an empty cell. */
-export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: Float64Array, optimized: Float64Array | null = null): FileDigest {
-  const f = new HashedFile(path);
+export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: Float64Array, optimized: Float64Array | null = null, open: OpenSink = openHashedFile): FileDigest {
+  const f = open(path, "beams.csv");
   f.write(stringify([[...BEAMS_COLUMNS, ...(optimized ? OPTIMIZED_COLUMNS : [])]]));
   const nb = plan.beams.count;
   const digits = [9, 9, 7, 4, 4, 4, 5, 4, 4, 0];

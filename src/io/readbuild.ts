@@ -3,26 +3,167 @@
  * Used by diff and verify. Every decoder is independent of the writers' code paths
  * except for the word layout itself.
  */
-import { existsSync, readFileSync } from "node:fs";
+import { closeSync, constants, fstatSync, lstatSync, openSync, readSync, statSync } from "node:fs";
 import { join } from "node:path";
+import { constants as bufferConstants } from "node:buffer";
 import { parse } from "csv-parse/sync";
-import { InputError } from "../core/errors.js";
-import type { Manifest } from "./build.js";
-import { loadScenario, type LoadedScenario } from "./scenario.js";
+import { InputError, type Problem } from "../core/errors.js";
+import { INPUT_COPY, SCENARIO_COPY, type Manifest } from "./build.js";
+import { loadScenario, type InputRole, type LoadedScenario } from "./scenario.js";
 
+/**
+ * Reading a file a build folder names, safely: a crafted folder must not lead us out
+ * of it (`../../proc/self/environ`, `/dev/zero`, a link to /usr). Every name is a
+ * relative path of plain components; every folder on the way and the file itself are
+ * checked with lstat (symbolic links are refused, not followed); the file must be a
+ * regular file and is opened with O_NOFOLLOW and checked again on its descriptor.
+ */
+export const MAX_MANIFEST_BYTES = 64 * 1024 * 1024;
+/** Largest file a build folder may hold (table.bin is at most 4 GiB; its text forms are larger). */
+export const MAX_FOLDER_FILE_BYTES = 64 * 2 ** 30;
+
+export type FolderEntry = { kind: "file"; path: string; size: number } | { kind: "missing"; path: string };
+
+function checkName(rel: string): string | null {
+  if (typeof rel !== "string" || rel === "") return "expected a file name";
+  if (rel.includes("\\") || rel.includes("\0")) return `expected a plain relative file name, got ${JSON.stringify(rel)}`;
+  if (rel.startsWith("/")) return `expected a name inside the folder, got the absolute path ${JSON.stringify(rel)}`;
+  for (const c of rel.split("/")) if (c === "" || c === "." || c === "..") return `expected a name inside the folder, got ${JSON.stringify(rel)}`;
+  return null;
+}
+
+/** Where `rel` is inside `dir`, after checking every step (throws InputError for anything but a regular file or a missing one). */
+export function folderEntry(dir: string, rel: string, what = rel): FolderEntry {
+  const bad = checkName(rel);
+  if (bad) throw new InputError({ file: join(dir, "manifest.json"), message: `${what}: ${bad}` });
+  const parts = rel.split("/");
+  let p = dir;
+  for (let i = 0; i < parts.length; i++) {
+    p = join(p, parts[i]!);
+    let st;
+    try {
+      st = lstatSync(p);
+    } catch (e) {
+      const code = (e as NodeJS.ErrnoException).code;
+      if (code === "ENOENT" || code === "ENOTDIR") return { kind: "missing", path: p };
+      throw new InputError({ file: p, message: `cannot read (${code ?? String(e)})` });
+    }
+    const last = i === parts.length - 1;
+    if (st.isSymbolicLink()) throw new InputError({ file: p, message: "is a symbolic link; a build folder holds regular files only (links are not followed)" });
+    if (!last && !st.isDirectory()) return { kind: "missing", path: join(dir, rel) };
+    if (last && !st.isFile()) throw new InputError({ file: p, message: st.isDirectory() ? "is a folder; expected a regular file" : "is not a regular file (a device, FIFO or socket); a build folder holds regular files only" });
+    if (last && st.size > MAX_FOLDER_FILE_BYTES) throw new InputError({ file: p, message: `is ${st.size} bytes; expected at most ${MAX_FOLDER_FILE_BYTES}` });
+    if (last) return { kind: "file", path: p, size: st.size };
+  }
+  return { kind: "missing", path: p };
+}
+
+/** Open a checked folder file for reading (O_NOFOLLOW; the descriptor is checked to be a regular file). */
+export function openFolderFile(path: string): number {
+  let fd: number;
+  try {
+    fd = openSync(path, constants.O_RDONLY | (constants.O_NOFOLLOW ?? 0));
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new InputError({ file: path, message: code === "ELOOP" ? "is a symbolic link; a build folder holds regular files only" : `cannot open (${code ?? String(e)})` });
+  }
+  if (!fstatSync(fd).isFile()) {
+    closeSync(fd);
+    throw new InputError({ file: path, message: "is not a regular file; a build folder holds regular files only" });
+  }
+  return fd;
+}
+
+/** A whole folder file, at most `max` bytes (the size is checked before reading and again while reading). */
+export function readFolderFile(dir: string, rel: string, max: number): Buffer | null {
+  const e = folderEntry(dir, rel);
+  if (e.kind === "missing") return null;
+  if (e.size > max) throw new InputError({ file: e.path, message: `is ${e.size} bytes; expected at most ${max}` });
+  const fd = openFolderFile(e.path);
+  try {
+    const buf = Buffer.allocUnsafe(Math.min(max, e.size) + 1);
+    let n = 0;
+    for (;;) {
+      const r = readSync(fd, buf, n, buf.length - n, null);
+      if (r === 0) break;
+      n += r;
+      if (n === buf.length) throw new InputError({ file: e.path, message: `grew while being read (past ${n - 1} bytes)` });
+    }
+    return buf.subarray(0, n);
+  } finally {
+    closeSync(fd);
+  }
+}
+
+/** The folder itself: it must exist and be a folder (a link to one is fine; a link loop is reported). */
+export function checkFolder(dir: string): void {
+  try {
+    if (!statSync(dir).isDirectory()) throw new InputError({ file: dir, message: "is not a folder; expected a steercode build folder" });
+  } catch (e) {
+    if (e instanceof InputError) throw e;
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new InputError({ file: dir, message: code === "ENOENT" ? "folder not found" : code === "ELOOP" ? "is a symbolic link loop; expected a steercode build folder" : `cannot read (${code ?? String(e)})` });
+  }
+}
+
+const ROLES = Object.keys(INPUT_COPY) as InputRole[];
+
+/**
+ * manifest.json, parsed and checked for the shape every reader relies on. Anything
+ * malformed is bad input (exit 2) located by JSON pointer; whether its values are
+ * right is verify's job (each is compared with the value recomputed from the inputs).
+ */
 export function readManifest(dir: string): Manifest {
+  checkFolder(dir);
   const p = join(dir, "manifest.json");
-  if (!existsSync(dir)) throw new InputError({ file: dir, message: "folder not found" });
-  if (!existsSync(p)) throw new InputError({ file: p, message: "not found: expected a steercode build folder (with manifest.json)" });
+  const bytes = readFolderFile(dir, "manifest.json", MAX_MANIFEST_BYTES);
+  if (!bytes) throw new InputError({ file: p, message: "not found: expected a steercode build folder (with manifest.json)" });
   let m: Manifest;
   try {
-    m = JSON.parse(readFileSync(p, "utf8")) as Manifest;
+    m = JSON.parse(new TextDecoder("utf-8", { fatal: true }).decode(bytes)) as Manifest;
   } catch (e) {
     throw new InputError({ file: p, message: `not valid JSON (${(e as Error).message})` });
   }
+  if (typeof m !== "object" || m === null || Array.isArray(m)) throw new InputError({ file: p, pointer: "", message: "expected a JSON object (a steercode-manifest/1 document)" });
   if (m.format !== "steercode-manifest/1") throw new InputError({ file: p, pointer: "/format", message: `expected "steercode-manifest/1", got ${JSON.stringify(m.format)}` });
+  const problems: Problem[] = [];
+  const at = (pointer: string, message: string) => problems.push({ file: p, pointer, message });
+  const isObj = (x: unknown) => typeof x === "object" && x !== null && !Array.isArray(x);
+  const isCount = (x: unknown) => Number.isSafeInteger(x) && (x as number) >= 0;
+  if (!isObj(m.tool) || typeof m.tool.version !== "string") at("/tool/version", "expected the version string of the steercode that wrote the folder");
+  if (!isObj(m.scenario) || typeof m.scenario.source !== "string") at("/scenario/source", "expected the scenario's file name (a string)");
+  if (typeof m.analysis !== "boolean") at("/analysis", "expected true or false");
+  if (!Array.isArray(m.inputs)) at("/inputs", "expected a list of the copied input files");
+  else
+    m.inputs.forEach((i, k) => {
+      if (!isObj(i) || !ROLES.includes(i.role)) at(`/inputs/${k}/role`, `expected one of ${ROLES.join(", ")}`);
+      else if (i.copy !== INPUT_COPY[i.role]) at(`/inputs/${k}/copy`, `expected ${JSON.stringify(INPUT_COPY[i.role])} (the copy of a ${i.role} input), got ${JSON.stringify(i.copy)}`);
+      if (!isObj(i) || typeof i.ref !== "string") at(`/inputs/${k}/ref`, "expected the file name the scenario uses (a string)");
+    });
+  if (!isObj(m.files)) at("/files", "expected an object: file name → size and SHA-256");
+  else
+    for (const [name, f] of Object.entries(m.files)) {
+      const bad = checkName(name);
+      const ptr = `/files/${name.replace(/~/g, "~0").replace(/\//g, "~1")}`;
+      if (bad) at(ptr, bad);
+      else if (!isObj(f) || !isCount(f.bytes) || typeof f.sha256 !== "string" || !/^[0-9a-f]{64}$/.test(f.sha256)) at(ptr, "expected { bytes: a whole number, sha256: 64 hex digits }");
+    }
+  // the fields diff and report read
+  if (!isObj(m.counts) || !["frequencies", "beams", "elements", "enabledElements", "words"].every((k) => isCount((m.counts as unknown as Record<string, unknown>)[k]))) at("/counts", "expected whole-number counts (frequencies, beams, elements, enabledElements, words)");
+  if (!Array.isArray(m.elementIds) || !m.elementIds.every(isCount)) at("/elementIds", "expected a list of element ids (whole numbers)");
+  if (!Array.isArray(m.disabledIds) || !m.disabledIds.every(isCount)) at("/disabledIds", "expected a list of element ids (whole numbers)");
+  if (!Array.isArray(m.frequenciesHz) || !m.frequenciesHz.every((f) => typeof f === "string")) at("/frequenciesHz", "expected a list of frequencies (decimal strings)");
+  if (!isObj(m.layout) || !isCount(m.layout.bits) || m.layout.bits < 1 || m.layout.bits > 32 || !isCount(m.layout.bytes) || !isCount(m.layout.off) || !Array.isArray(m.layout.fields) || !m.layout.fields.every((f) => isObj(f) && typeof f.name === "string" && isCount(f.shift) && isCount(f.width) && f.shift + f.width <= 32))
+    at("/layout", "expected the word layout (bits 1–32, bytes, off, fields with name, shift and width)");
+  if (!isObj(m.phaseShifter) || !isCount(m.phaseShifter.bits) || m.phaseShifter.bits > 12) at("/phaseShifter/bits", "expected the phase shifter's bits (1–12)");
+  if (!Array.isArray(m.perFrequency)) at("/perFrequency", "expected a list, one entry per frequency");
+  if (problems.length) throw new InputError(problems);
   return m;
 }
+
+/** Whole-file reads of table files (diff): as large as one Buffer may be. */
+const MAX_WHOLE_READ = Math.min(MAX_FOLDER_FILE_BYTES, bufferConstants.MAX_LENGTH - 1);
+const tableFile = (dir: string, rel: string): Buffer | null => readFolderFile(dir, rel, MAX_WHOLE_READ);
 
 export interface Decoded {
   words: Uint32Array;
@@ -30,9 +171,8 @@ export interface Decoded {
 }
 
 export function wordsFromBin(dir: string, m: Manifest): Decoded | null {
-  const p = join(dir, "table.bin");
-  if (!existsSync(p)) return null;
-  const b = readFileSync(p);
+  const b = tableFile(dir, "table.bin");
+  if (!b) return null;
   const bytes = m.layout.bytes;
   const n = Math.floor(b.length / bytes);
   const words = new Uint32Array(n);
@@ -42,9 +182,10 @@ export function wordsFromBin(dir: string, m: Manifest): Decoded | null {
 
 export function wordsFromMem(dir: string): Decoded | null {
   const p = join(dir, "table.mem");
-  if (!existsSync(p)) return null;
+  const b = tableFile(dir, "table.mem");
+  if (!b) return null;
   const out: number[] = [];
-  for (const line of readFileSync(p, "utf8").split("\n")) {
+  for (const line of b.toString("utf8").split("\n")) {
     const t = line.replace(/\/\/.*$/, "").trim();
     if (!t) continue;
     for (const tok of t.split(/\s+/)) {
@@ -57,16 +198,24 @@ export function wordsFromMem(dir: string): Decoded | null {
 
 export function wordsFromJson(dir: string): Decoded | null {
   const p = join(dir, "table.json");
-  if (!existsSync(p)) return null;
-  const doc = JSON.parse(readFileSync(p, "utf8")) as { words: number[][][] };
-  return { words: Uint32Array.from(doc.words.flat(2)), file: "table.json" };
+  const b = tableFile(dir, "table.json");
+  if (!b) return null;
+  let doc: { words?: unknown };
+  try {
+    doc = JSON.parse(b.toString("utf8")) as { words?: unknown };
+  } catch (e) {
+    throw new InputError({ file: p, message: `not valid JSON (${(e as Error).message}); run steercode verify on this folder` });
+  }
+  const flat = Array.isArray(doc.words) ? (doc.words as unknown[]).flat(2) : null;
+  if (!flat || !flat.every((w) => Number.isInteger(w) && (w as number) >= 0 && (w as number) <= 0xffffffff)) throw new InputError({ file: p, pointer: "/words", message: "expected [frequency][beam][element] arrays of words (whole numbers); run steercode verify on this folder" });
+  return { words: Uint32Array.from(flat as number[]), file: "table.json" };
 }
 
 /** The array initialiser of table.h (between "= {" and the closing "};"), and its CRC define. */
 export function wordsFromHeader(dir: string): (Decoded & { crc32: number | null }) | null {
-  const p = join(dir, "table.h");
-  if (!existsSync(p)) return null;
-  const text = readFileSync(p, "utf8");
+  const b = tableFile(dir, "table.h");
+  if (!b) return null;
+  const text = b.toString("utf8");
   const start = text.indexOf("= {");
   const end = text.indexOf("};", start);
   const body = start >= 0 && end > start ? text.slice(start + 3, end).replace(/\/\*[\s\S]*?\*\//g, "") : "";
@@ -83,9 +232,9 @@ export interface CodesCsv {
 }
 
 export function readCodesCsv(dir: string): CodesCsv | null {
-  const p = join(dir, "codes.csv");
-  if (!existsSync(p)) return null;
-  const rows = parse(readFileSync(p), { from_line: 2 }) as string[][];
+  const b = tableFile(dir, "codes.csv");
+  if (!b) return null;
+  const rows = parse(b, { from_line: 2 }) as string[][];
   const n = rows.length;
   const c: CodesCsv = { words: new Uint32Array(n), phase: new Int32Array(n), atten: new Int32Array(n), element: new Int32Array(n) };
   rows.forEach((r, i) => {
@@ -108,10 +257,16 @@ export function buildWords(dir: string, m: Manifest): Decoded {
 
 /**
  * The scenario recorded in a build folder, read from its `inputs/` copies (so it works on
- * a folder moved to another machine). A reference the manifest does not map resolves to
- * a path inside `inputs/` that does not exist, and is reported as a missing file.
+ * a folder moved to another machine). Copies have fixed names (INPUT_COPY), checked
+ * like every folder file; a reference the manifest does not map resolves to a path
+ * inside `inputs/` that does not exist, and is reported as a missing file.
  */
 export function loadBuildScenario(dir: string, m: Manifest): LoadedScenario {
-  const copies = new Map(m.inputs.map((i) => [i.ref, join(dir, i.copy)]));
-  return loadScenario(join(dir, m.scenario.copy), { resolveRef: (ref) => copies.get(ref) ?? join(dir, "inputs", "missing-" + ref), displayName: join(dir, m.scenario.copy) });
+  const copies = new Map<string, string>();
+  for (const i of m.inputs) {
+    const e = folderEntry(dir, INPUT_COPY[i.role]);
+    copies.set(i.ref, e.path);
+  }
+  const sc = folderEntry(dir, SCENARIO_COPY);
+  return loadScenario(sc.path, { resolveRef: (ref) => copies.get(ref) ?? join(dir, "inputs", "missing-" + ref.replace(/[\\/]/g, "_")), displayName: join(dir, SCENARIO_COPY) });
 }

@@ -10,6 +10,19 @@ import type { OutputKind, Plan } from "../core/plan.js";
 import { AsciiBuffer, hexWord, num } from "./format.js";
 import { HashedFile, type FileDigest } from "./hashed.js";
 
+/** Where a writer's bytes go: a file on disk (HashedFile) or, in `verify`, a comparison with the file already there. */
+export interface ByteSink {
+  write(data: Buffer | Uint8Array | string): void;
+  /** bytes the caller reuses at once: consumed now, never kept */
+  writeTransient(buf: Buffer): void;
+  close(): FileDigest;
+}
+
+/** Opens the sink for one output file (`file`: its name inside the folder). */
+export type OpenSink = (path: string, file: string) => ByteSink;
+
+export const openHashedFile: OpenSink = (path) => new HashedFile(path);
+
 export interface TableWriter {
   readonly file: string;
   beam(fi: number, b: number, words: Uint32Array, codes: BeamCodes): void;
@@ -30,15 +43,15 @@ export const TABLE_FILES: Record<OutputKind, string> = {
   json: "table.json",
 };
 
-export function makeWriters(dir: string, ctx: TableContext): TableWriter[] {
+export function makeWriters(dir: string, ctx: TableContext, open: OpenSink = openHashedFile): TableWriter[] {
   const out: TableWriter[] = [];
   for (const k of ctx.plan.outputs) {
-    const path = join(dir, TABLE_FILES[k]);
-    if (k === "csv") out.push(new CodesCsvWriter(path, ctx));
-    if (k === "bin") out.push(new BinWriter(path, ctx));
-    if (k === "c") out.push(new CHeaderWriter(path, ctx));
-    if (k === "mem") out.push(new MemWriter(path, ctx));
-    if (k === "json") out.push(new JsonWriter(path, ctx));
+    const sink = open(join(dir, TABLE_FILES[k]), TABLE_FILES[k]);
+    if (k === "csv") out.push(new CodesCsvWriter(sink, ctx));
+    if (k === "bin") out.push(new BinWriter(sink, ctx));
+    if (k === "c") out.push(new CHeaderWriter(sink, ctx));
+    if (k === "mem") out.push(new MemWriter(sink, ctx));
+    if (k === "json") out.push(new JsonWriter(sink, ctx));
   }
   return out;
 }
@@ -63,9 +76,9 @@ export function wordsToBytes(words: Uint32Array, bytes: number): Buffer {
 
 class BinWriter implements TableWriter {
   readonly file = TABLE_FILES.bin;
-  private readonly f: HashedFile;
-  constructor(path: string, private readonly ctx: TableContext) {
-    this.f = new HashedFile(path);
+  private readonly f: ByteSink;
+  constructor(sink: ByteSink, private readonly ctx: TableContext) {
+    this.f = sink;
   }
   beam(_fi: number, _b: number, words: Uint32Array): void {
     this.f.write(wordsToBytes(words, this.ctx.plan.word.bytes));
@@ -77,9 +90,9 @@ class BinWriter implements TableWriter {
 
 class CodesCsvWriter implements TableWriter {
   readonly file = TABLE_FILES.csv;
-  private readonly f: HashedFile;
-  constructor(path: string, private readonly ctx: TableContext) {
-    this.f = new HashedFile(path);
+  private readonly f: ByteSink;
+  constructor(sink: ByteSink, private readonly ctx: TableContext) {
+    this.f = sink;
     this.f.write(stringify([["frequency_hz", "beam", "element", "phase_code", "atten_code", "word", "phase_deg", "atten_db"]]));
   }
   /**
@@ -120,10 +133,10 @@ class CodesCsvWriter implements TableWriter {
 /** `$readmemh` memory file (IEEE 1364-2005 §17.2.9): one hex word per line, `//` comments. */
 class MemWriter implements TableWriter {
   readonly file = TABLE_FILES.mem;
-  private readonly f: HashedFile;
+  private readonly f: ByteSink;
   private readonly digits: number;
-  constructor(path: string, ctx: TableContext) {
-    this.f = new HashedFile(path);
+  constructor(sink: ByteSink, ctx: TableContext) {
+    this.f = sink;
     const p = ctx.plan;
     this.digits = Math.ceil(p.word.bits / 4);
     this.f.write(
@@ -156,12 +169,12 @@ const NEXT_LINE = Buffer.from(",\n      ");
 
 class CHeaderWriter implements TableWriter {
   readonly file = TABLE_FILES.c;
-  private readonly f: HashedFile;
+  private readonly f: ByteSink;
   private readonly digits: number;
   private lastF = -1;
   private lastB = -1;
-  constructor(path: string, private readonly ctx: TableContext) {
-    this.f = new HashedFile(path);
+  constructor(sink: ByteSink, private readonly ctx: TableContext) {
+    this.f = sink;
     const p = ctx.plan;
     this.digits = Math.ceil(p.word.bits / 4);
     const ctype = p.word.bytes === 1 ? "uint8_t" : p.word.bytes === 2 ? "uint16_t" : "uint32_t";
@@ -233,11 +246,11 @@ class CHeaderWriter implements TableWriter {
 
 class JsonWriter implements TableWriter {
   readonly file = TABLE_FILES.json;
-  private readonly f: HashedFile;
+  private readonly f: ByteSink;
   private lastF = -1;
   private lastB = -1;
-  constructor(path: string, ctx: TableContext) {
-    this.f = new HashedFile(path);
+  constructor(sink: ByteSink, ctx: TableContext) {
+    this.f = sink;
     const p = ctx.plan;
     // the beam list is written in slices: its text is never held whole (a million beams are ~100 MB of it)
     this.f.write('{"beams":[\n');

@@ -1,19 +1,34 @@
 /**
  * `steercode verify DIR`: end-to-end check of a build before it is flashed.
- * 1. every SHA-256 (and size) in manifest.json, and the CRC-32 of table.bin;
- * 2. table.bin, table.mem, table.json and table.h decoded back into words, each
- *    compared with codes.csv (words and, for enabled elements, the codes they unpack to);
- * 3. the codes recomputed from the scenario and inputs copied into the folder.
- * The first disagreement names the file and (frequency, beam, element).
+ *
+ * Nothing a file in the folder states is taken on trust. From the scenario and input
+ * files copied into `inputs/`, verify regenerates every output through the same
+ * engine and writers as `build`, streaming beam by beam, and compares the bytes with
+ * the files in the folder as they are produced (memory stays flat in beams):
+ *   - every table file (codes.csv, table.bin, table.h, table.mem, table.json), byte for
+ *     byte and to its exact length: every column of codes.csv, every #define of table.h;
+ *   - beams.csv (the analysis is rerun when the manifest says the build had one);
+ *   - manifest.json itself: regenerated from the recomputed files and the recorded
+ *     inputs (frequencies, element ids, counts, calibration comments, layout, G_ref,
+ *     clip counts, the list of files, every size, SHA-256 and CRC-32), byte for byte.
+ * The first difference is located by file, byte, line and, inside a table, by
+ * (frequency, beam, element). A folder that is structurally unsafe (a link, a device,
+ * a path out of the folder) or whose manifest is malformed is bad input (exit 2).
+ *
+ * Each output kind is one entry of OUTPUT_CHECKS (how to find the element a differing
+ * byte belongs to); a new writer added to `makeWriters` is compared automatically.
  */
-import { createHash } from "node:crypto";
-import { existsSync, readFileSync, readdirSync, statSync } from "node:fs";
+import { createHash, type Hash } from "node:crypto";
+import { closeSync, lstatSync, readdirSync, readSync } from "node:fs";
 import { join } from "node:path";
 import { crc32 } from "node:zlib";
-import { runTables } from "../core/engine.js";
-import { packPlan, unpackWord } from "../core/words.js";
-import { hex32, type Manifest } from "./build.js";
-import { loadBuildScenario, readCodesCsv, readManifest, wordsFromBin, wordsFromHeader, wordsFromJson, wordsFromMem, type Decoded } from "./readbuild.js";
+import { InputError } from "../core/errors.js";
+import type { WorkerPool } from "./analysis-pool.js";
+import { frequencyText, INPUT_COPY, produceOutputs, SCENARIO_COPY, stableJson, type BeamCursor, type Manifest, type Produced } from "./build.js";
+import type { FileDigest } from "./hashed.js";
+import { folderEntry, loadBuildScenario, openFolderFile, readFolderFile, readManifest, MAX_MANIFEST_BYTES, type FolderEntry } from "./readbuild.js";
+import type { LoadedScenario } from "./scenario.js";
+import { TABLE_FILES, type ByteSink, type OpenSink } from "./tables.js";
 import { toolVersion } from "./version.js";
 
 export interface Check {
@@ -22,105 +37,468 @@ export interface Check {
   detail: string;
 }
 
+/** The first byte where a file differs from what the recorded inputs give. */
+export interface Mismatch {
+  file: string;
+  /** offset of the first differing byte (0-based) */
+  byte: number;
+  /** 1-based line of that byte (text files) */
+  line: number | null;
+  /** JSON pointer of the first differing value (manifest.json) */
+  pointer: string | null;
+  frequency_hz: string | null;
+  beam: number | null;
+  /** element id */
+  element: number | null;
+  /** what the inputs give and what the file holds there: the line (text) or the word (table.bin) */
+  expected: string;
+  found: string;
+}
+
 export interface VerifyResult {
   ok: boolean;
   checks: Check[];
-  firstMismatch: { file: string; frequency_hz: string; beam: number; element: number; expected: number; found: number } | null;
+  firstMismatch: Mismatch | null;
 }
 
-function where(m: Manifest, i: number) {
-  const E = m.counts.elements, B = m.counts.beams;
-  return { frequency_hz: m.frequenciesHz[Math.floor(i / (B * E))] ?? "?", beam: Math.floor(i / E) % B, element: m.elementIds[i % E] ?? i % E };
+export interface VerifyOptions {
+  /** threads for rerunning the analysis (default 1) */
+  jobs?: number;
+  pool?: WorkerPool;
 }
 
-export function verifyBuild(dir: string): VerifyResult {
+/** Files `build --compare` adds to a build: not derivable from the recorded inputs, so only their recorded size and SHA-256 are checked. */
+export const COMPARE_FILES = ["changes.csv", "diff.json"];
+
+// ---- locating a difference inside a file ------------------------------------------------
+
+
+interface Where {
+  fi: number;
+  b: number;
+  /** index in table order, or null (a beam's header) */
+  e: number | null;
+}
+
+interface LocateArgs {
+  byte: number;
+  line: number | null;
+  /** the beam being written when the difference was found, with its bytes and the offset in them */
+  beam: { fi: number; b: number; chunk: Buffer; k: number } | null;
+}
+
+/**
+ * How to find the (frequency, beam, element) of a differing byte in one output kind.
+ * `binary`: word-sized records (found/expected shown as words); otherwise lines.
+ */
+export interface OutputCheck {
+  binary?: boolean;
+  locate(a: LocateArgs, shape: Shape): Where | null;
+}
+
+interface Shape {
+  frequencies: number;
+  beams: number;
+  elements: number;
+  wordBytes: number;
+}
+
+/** Row r (0-based, after `header` lines) of a file with one line per (frequency, beam, element). */
+function rowWhere(line: number | null, header: number, s: Shape, perBeam: boolean): Where | null {
+  if (line === null || line <= header) return null;
+  const r = line - header - 1;
+  if (perBeam) return r < s.frequencies * s.beams ? { fi: Math.floor(r / s.beams), b: r % s.beams, e: null } : null;
+  if (r >= s.frequencies * s.beams * s.elements) return null;
+  return { fi: Math.floor(r / (s.beams * s.elements)), b: Math.floor(r / s.elements) % s.beams, e: r % s.elements };
+}
+
+function countByte(buf: Buffer, c: number, from: number, to: number): number {
+  let n = 0;
+  for (let i = buf.indexOf(c, from); i !== -1 && i < to; i = buf.indexOf(c, i + 1)) n++;
+  return n;
+}
+
+export const OUTPUT_CHECKS: Record<string, OutputCheck> = {
+  [TABLE_FILES.csv]: { locate: (a, s) => rowWhere(a.line, 1, s, false) },
+  [TABLE_FILES.mem]: { locate: (a, s) => rowWhere(a.line, 2, s, false) },
+  [TABLE_FILES.bin]: {
+    binary: true,
+    locate: (a, s) => {
+      const w = Math.floor(a.byte / s.wordBytes);
+      if (w >= s.frequencies * s.beams * s.elements) return null;
+      return { fi: Math.floor(w / (s.beams * s.elements)), b: Math.floor(w / s.elements) % s.beams, e: w % s.elements };
+    },
+  },
+  // "0x…" tokens of the beam: the element is the number of tokens begun before the byte
+  [TABLE_FILES.c]: {
+    locate: (a, s) => {
+      if (!a.beam) return null;
+      let n = 0;
+      for (let i = a.beam.chunk.indexOf("0x"); i !== -1 && i <= a.beam.k; i = a.beam.chunk.indexOf("0x", i + 2)) n++;
+      return { fi: a.beam.fi, b: a.beam.b, e: n === 0 ? null : Math.min(n - 1, s.elements - 1) };
+    },
+  },
+  // "…[w,w,w": the element is the number of commas after the beam's "[" and before the byte
+  [TABLE_FILES.json]: {
+    locate: (a, s) => {
+      if (!a.beam) return null;
+      const w0 = a.beam.chunk.lastIndexOf(0x5b) + 1;
+      if (a.beam.k < w0) return { fi: a.beam.fi, b: a.beam.b, e: null };
+      return { fi: a.beam.fi, b: a.beam.b, e: Math.min(countByte(a.beam.chunk, 0x2c, w0, a.beam.k), s.elements - 1) };
+    },
+  },
+  "beams.csv": { locate: (a, s) => rowWhere(a.line, 1, s, true) },
+};
+
+// ---- reading what is there ---------------------------------------------------------------
+
+const READ_CHUNK = 1 << 20;
+
+/** The line of the file around `offset` (at most ~160 characters), read from the file itself. */
+function lineAround(fd: number, offset: number, size: number): { start: number; text: string } {
+  const from = Math.max(0, offset - 200);
+  const buf = Buffer.alloc(Math.min(400, Math.max(0, size - from)));
+  const n = buf.length ? readSync(fd, buf, 0, buf.length, from) : 0;
+  const b = buf.subarray(0, n);
+  const rel = offset - from;
+  const s = b.lastIndexOf(10, rel - 1) + 1;
+  let e = b.indexOf(10, rel);
+  if (e === -1) e = b.length;
+  return { start: from + s, text: clip(b.subarray(s, e).toString("utf8")) };
+}
+
+function clip(s: string): string {
+  return s.length > 160 ? s.slice(0, 157) + "…" : s;
+}
+
+function lineNumber(fd: number, offset: number): number {
+  const buf = Buffer.allocUnsafe(READ_CHUNK);
+  let line = 1;
+  for (let pos = 0; pos < offset; ) {
+    const n = readSync(fd, buf, 0, Math.min(buf.length, offset - pos), pos);
+    if (n <= 0) break;
+    line += countByte(buf, 10, 0, n);
+    pos += n;
+  }
+  return line;
+}
+
+/**
+ * A ByteSink for `makeWriters`: the bytes the writers produce are hashed (for the
+ * regenerated manifest) and compared, as they come, with the file in the folder, which
+ * is read at most one byte past the expected length. Nothing is kept but a 1 MiB buffer.
+ */
+class ComparingSink implements ByteSink {
+  private fd: number | null = null;
+  private readonly hash: Hash = createHash("sha256");
+  private crc = 0;
+  private size = 0;
+  private readonly rbuf = Buffer.allocUnsafe(READ_CHUNK);
+  private rpos = 0;
+  private rlen = 0;
+  private filePos = 0;
+  private fileSize = 0;
+  mismatch: Mismatch | null = null;
+  missing = false;
+  constructor(
+    readonly file: string,
+    entry: FolderEntry,
+    private readonly cursor: BeamCursor,
+    private readonly ctx: { shape: Shape; ft: string[]; ids: Int32Array | Uint32Array | number[]; digits: number },
+  ) {
+    if (entry.kind === "missing") this.missing = true;
+    else {
+      this.fd = openFolderFile(entry.path);
+      this.fileSize = entry.size;
+    }
+  }
+  write(data: Buffer | Uint8Array | string): void {
+    this.consume(typeof data === "string" ? Buffer.from(data, "utf8") : Buffer.isBuffer(data) ? data : Buffer.from(data.buffer, data.byteOffset, data.byteLength));
+  }
+  writeTransient(buf: Buffer): void {
+    this.consume(buf);
+  }
+  private consume(buf: Buffer): void {
+    this.hash.update(buf);
+    this.crc = crc32(buf, this.crc);
+    if (this.fd !== null && !this.mismatch) this.compare(buf);
+    this.size += buf.length;
+  }
+  private refill(): number {
+    const n = readSync(this.fd!, this.rbuf, 0, this.rbuf.length, this.filePos);
+    this.filePos += n;
+    this.rpos = 0;
+    this.rlen = n;
+    return n;
+  }
+  private compare(buf: Buffer): void {
+    let off = 0;
+    while (off < buf.length) {
+      if (this.rpos === this.rlen && this.refill() === 0) {
+        this.fail(buf, off, true);
+        return;
+      }
+      const n = Math.min(buf.length - off, this.rlen - this.rpos);
+      if (buf.compare(this.rbuf, this.rpos, this.rpos + n, off, off + n) !== 0) {
+        let j = 0;
+        while (buf[off + j] === this.rbuf[this.rpos + j]) j++;
+        this.fail(buf, off + j, false);
+        return;
+      }
+      off += n;
+      this.rpos += n;
+    }
+  }
+  /** the first difference: byte `k` of the chunk being written (or the file ends there) */
+  private fail(chunk: Buffer, k: number, ended: boolean): void {
+    const fd = this.fd!;
+    const byte = this.size + k;
+    const check = OUTPUT_CHECKS[this.file];
+    const { shape, digits } = this.ctx;
+    const binary = !!check?.binary;
+    const line = binary ? null : lineNumber(fd, byte);
+    const where = check?.locate({ byte, line, beam: this.cursor.inBeam ? { fi: this.cursor.fi, b: this.cursor.b, chunk, k } : null }, shape) ?? null;
+    let expected: string, found: string;
+    if (binary) {
+      const r = byte % shape.wordBytes;
+      const word = (b: Buffer) => (b.length === shape.wordBytes ? "0x" + b.readUIntLE(0, b.length).toString(16).toUpperCase().padStart(digits, "0") : `${b.length} byte(s)`);
+      expected = word(chunk.subarray(Math.max(0, k - r), k - r + shape.wordBytes));
+      const got = Buffer.alloc(shape.wordBytes);
+      const n = ended ? 0 : readSync(fd, got, 0, got.length, byte - r);
+      found = ended ? "(end of file)" : word(got.subarray(0, n));
+    } else {
+      // the bytes before `byte` are the same in both: the expected line is the file's line start + our bytes to the end of the line
+      const at = lineAround(fd, byte, this.fileSize);
+      const head = ended ? "" : at.text;
+      let e = chunk.indexOf(10, k);
+      if (e === -1) e = chunk.length;
+      const start = ended ? byte : at.start;
+      const prefix = Buffer.alloc(Math.max(0, Math.min(byte - start, 200)));
+      if (prefix.length) readSync(fd, prefix, 0, prefix.length, byte - prefix.length);
+      expected = clip(prefix.toString("utf8") + chunk.subarray(k, e).toString("utf8"));
+      found = ended ? "(end of file)" : head;
+    }
+    this.mismatch = {
+      file: this.file,
+      byte,
+      line,
+      pointer: null,
+      frequency_hz: where ? (this.ctx.ft[where.fi] ?? null) : null,
+      beam: where ? where.b : null,
+      element: where && where.e !== null ? Number(this.ctx.ids[where.e]) : null,
+      expected,
+      found,
+    };
+  }
+  close(): FileDigest {
+    if (this.fd !== null) {
+      if (!this.mismatch && (this.rpos < this.rlen || this.refill() > 0)) {
+        this.mismatch = { file: this.file, byte: this.size, line: null, pointer: null, frequency_hz: null, beam: null, element: null, expected: `(end of file after ${this.size} bytes)`, found: `more bytes: the file is ${this.fileSize} bytes` };
+      }
+      closeSync(this.fd);
+      this.fd = null;
+    }
+    return { bytes: this.size, sha256: this.hash.digest("hex"), crc32: this.crc >>> 0 };
+  }
+  /** release the file after an error elsewhere */
+  abandon(): void {
+    if (this.fd !== null) closeSync(this.fd);
+    this.fd = null;
+  }
+}
+
+/** SHA-256 and size of a folder file, streamed, reading at most `limit` + 1 bytes. */
+function hashFolderFile(entry: FolderEntry, limit: number): { bytes: number; sha256: string; longer: boolean } | null {
+  if (entry.kind === "missing") return null;
+  const fd = openFolderFile(entry.path);
+  try {
+    const h = createHash("sha256");
+    const buf = Buffer.allocUnsafe(READ_CHUNK);
+    let pos = 0;
+    for (;;) {
+      const n = readSync(fd, buf, 0, Math.min(buf.length, limit + 1 - pos), pos);
+      if (n <= 0) break;
+      h.update(buf.subarray(0, Math.min(n, limit - pos)));
+      pos += n;
+      if (pos > limit) return { bytes: pos, sha256: h.digest("hex"), longer: true };
+    }
+    return { bytes: pos, sha256: h.digest("hex"), longer: false };
+  } finally {
+    closeSync(fd);
+  }
+}
+
+// ---- the manifest -----------------------------------------------------------------------
+
+function pointerPart(k: string): string {
+  return k.replace(/~/g, "~0").replace(/\//g, "~1");
+}
+
+function show(v: unknown): string {
+  return v === undefined ? "(absent)" : clip(JSON.stringify(v) ?? String(v));
+}
+
+/** JSON pointer of the first value where two documents differ (keys in sorted order, as written). */
+export function firstDifference(a: unknown, b: unknown, ptr = ""): { pointer: string; expected: string; found: string } | null {
+  if (Object.is(a, b)) return null;
+  const obj = (x: unknown) => typeof x === "object" && x !== null;
+  if (!obj(a) || !obj(b) || Array.isArray(a) !== Array.isArray(b)) return { pointer: ptr || "/", expected: show(a), found: show(b) };
+  if (Array.isArray(a) && Array.isArray(b)) {
+    for (let i = 0; i < Math.max(a.length, b.length); i++) {
+      const d = firstDifference(a[i], b[i], `${ptr}/${i}`);
+      if (d) return d;
+    }
+    return null;
+  }
+  const ao = a as Record<string, unknown>, bo = b as Record<string, unknown>;
+  for (const k of [...new Set([...Object.keys(ao), ...Object.keys(bo)])].sort()) {
+    const d = firstDifference(ao[k], bo[k], `${ptr}/${pointerPart(k)}`);
+    if (d) return d;
+  }
+  return null;
+}
+
+function compareManifest(dir: string, expectedText: string): Mismatch | null {
+  const actual = readFolderFile(dir, "manifest.json", MAX_MANIFEST_BYTES)!;
+  const exp = Buffer.from(expectedText, "utf8");
+  if (actual.equals(exp)) return null;
+  let i = 0;
+  while (i < exp.length && i < actual.length && exp[i] === actual[i]) i++;
+  const line = countByte(actual, 10, 0, i) + 1;
+  const lineOf = (b: Buffer) => {
+    const s = b.lastIndexOf(10, i - 1) + 1;
+    let e = b.indexOf(10, i);
+    if (e === -1) e = b.length;
+    return clip(b.subarray(s, e).toString("utf8").trim());
+  };
+  let d: ReturnType<typeof firstDifference> = null;
+  try {
+    d = firstDifference(JSON.parse(expectedText), JSON.parse(actual.toString("utf8")));
+  } catch {
+    /* already parsed once by readManifest; a difference in layout only has no pointer */
+  }
+  return { file: "manifest.json", byte: i, line, pointer: d?.pointer ?? null, frequency_hz: null, beam: null, element: null, expected: d ? d.expected : lineOf(exp), found: d ? d.found : lineOf(actual) };
+}
+
+// ---- the whole check --------------------------------------------------------------------
+
+function describe(m: Mismatch): string {
+  const at: string[] = [];
+  if (m.line !== null) at.push(`line ${m.line}`);
+  else at.push(`byte ${m.byte}`);
+  if (m.pointer) at.push(m.pointer);
+  if (m.frequency_hz !== null) at.push(`frequency ${m.frequency_hz} Hz`);
+  if (m.beam !== null) at.push(`beam ${m.beam}`);
+  if (m.element !== null) at.push(`element ${m.element}`);
+  return `${at.join(", ")}: the recorded inputs give ${m.expected}, the file holds ${m.found}`;
+}
+
+export async function verifyBuild(dir: string, opts: VerifyOptions = {}): Promise<VerifyResult> {
   const m = readManifest(dir);
   const checks: Check[] = [];
-  let first: VerifyResult["firstMismatch"] = null;
-  const mismatch = (file: string, i: number, expected: number, found: number) => {
-    if (!first) first = { file, ...where(m, i), expected, found };
+  const mismatches: Mismatch[] = [];
+  const done = (first: Mismatch | null = mismatches[0] ?? null): VerifyResult => {
+    opts.pool?.release();
+    return { ok: checks.every((c) => c.ok), checks, firstMismatch: first };
   };
-  // 1. hashes
-  for (const [name, f] of Object.entries(m.files)) {
-    const p = join(dir, name);
-    if (!existsSync(p)) {
-      checks.push({ check: `sha256 ${name}`, ok: false, detail: "file missing" });
-      continue;
-    }
-    const data = readFileSync(p);
-    const sha = createHash("sha256").update(data).digest("hex");
-    const ok = sha === f.sha256 && data.length === f.bytes;
-    checks.push({ check: `sha256 ${name}`, ok, detail: ok ? sha.slice(0, 16) + "…" : `manifest says ${f.sha256.slice(0, 16)}… (${f.bytes} bytes), file is ${sha.slice(0, 16)}… (${data.length} bytes)` });
-    if (f.crc32) {
-      const c = hex32(crc32(data));
-      checks.push({ check: `crc32 ${name}`, ok: c === f.crc32, detail: c === f.crc32 ? c : `manifest says ${f.crc32}, file is ${c}` });
-    }
+  const ver = m.tool.version === toolVersion() ? "" : ` (built by steercode ${m.tool.version}, checked with ${toolVersion()}: a difference may come from the version)`;
+
+  // 1. the recorded scenario and inputs (fixed names inside the folder; links refused: exit 2)
+  folderEntry(dir, SCENARIO_COPY);
+  for (const i of m.inputs) folderEntry(dir, INPUT_COPY[i.role]);
+  let loaded: LoadedScenario;
+  try {
+    loaded = loadBuildScenario(dir, m);
+  } catch (e) {
+    if (!(e instanceof InputError)) throw e;
+    checks.push({ check: `recorded scenario ${SCENARIO_COPY}`, ok: false, detail: `cannot be loaded, so nothing can be recomputed: ${e.message.split("\n").slice(0, 10).join("; ")}` });
+    return done();
   }
-  // files the manifest does not list (a report, notes) are named, not judged
-  const listed = new Set(Object.keys(m.files).concat(["manifest.json"]));
-  const extra = (readdirSync(dir, { recursive: true }) as string[]).filter((f) => !listed.has(f.split("\\").join("/")) && !statSync(join(dir, f)).isDirectory());
-  if (extra.length) checks.push({ check: "files not in the manifest", ok: true, detail: `${extra.sort().join(", ")} (not checked; not part of the table set)` });
-  // 2. decode every table format and cross-check
-  const decoded: Decoded[] = [];
-  const bin = wordsFromBin(dir, m);
-  if (bin) decoded.push(bin);
-  for (const d of [wordsFromMem(dir), wordsFromJson(dir)]) if (d) decoded.push(d);
-  const h = wordsFromHeader(dir);
-  if (h) {
-    decoded.push(h);
-    if (bin) {
-      const c = crc32(readFileSync(join(dir, "table.bin"))) >>> 0;
-      checks.push({ check: "table.h STEERCODE_TABLE_CRC32", ok: h.crc32 === c, detail: h.crc32 === c ? hex32(c) : `header says ${h.crc32 === null ? "nothing" : hex32(h.crc32)}, table.bin is ${hex32(c)}` });
-    }
+  const plan = loaded.plan;
+  checks.push({ check: `recorded scenario ${SCENARIO_COPY}`, ok: true, detail: `loaded with ${loaded.inputs.length} input file(s): ${[SCENARIO_COPY, ...loaded.inputs.map((i) => INPUT_COPY[i.role])].join(", ")}${ver}` });
+
+  // 2. which files the recorded scenario implies; each must be a regular file in the folder (exit 2 otherwise)
+  const outputFiles = plan.outputs.map((k) => TABLE_FILES[k]);
+  if (m.analysis) outputFiles.push("beams.csv");
+  const entries = new Map(outputFiles.map((f) => [f, folderEntry(dir, f)]));
+  if (!plan.outputs.length) checks.push({ check: "tables", ok: true, detail: 'the scenario lists no outputs ("outputs": []): the folder holds no table; its manifest, inputs and analysis are checked' });
+
+  // 3. regenerate every output, beam by beam, through build's own producer, comparing as we go
+  const ft = frequencyText(plan);
+  const cursor: BeamCursor = { fi: 0, b: 0, inBeam: false };
+  const ctx = {
+    shape: { frequencies: plan.frequenciesHz.length, beams: plan.beams.count, elements: plan.elements.count, wordBytes: plan.word.bytes },
+    ft,
+    ids: plan.elements.ids,
+    digits: Math.ceil(plan.word.bits / 4),
+  };
+  const sinks = new Map<string, ComparingSink>();
+  const open: OpenSink = (_path, file) => {
+    const s = new ComparingSink(file, entries.get(file) ?? folderEntry(dir, file), cursor, ctx);
+    sinks.set(file, s);
+    return s;
+  };
+  const source = m.scenario.source.split(/[\\/]/).pop() ?? "";
+  let produced: Produced;
+  try {
+    produced = await produceOutputs(loaded, dir, source, { analysis: m.analysis, jobs: opts.jobs ?? 1, ...(opts.pool ? { pool: opts.pool } : {}), open, cursor });
+  } catch (e) {
+    for (const s of sinks.values()) s.abandon();
+    throw e;
   }
-  const csv = readCodesCsv(dir);
-  const reference: Decoded | null = csv ? { words: csv.words, file: "codes.csv" } : (decoded[0] ?? null);
-  if (!reference) checks.push({ check: "tables", ok: false, detail: "the folder holds no table" });
-  const pp = packPlan(m.layout);
-  const disabled = new Set(m.disabledIds);
-  if (csv) {
-    // codes.csv against its own words
-    let bad = -1;
-    for (let i = 0; i < csv.words.length; i++) {
-      if (disabled.has(csv.element[i]!)) {
-        if (csv.words[i] !== m.layout.off) { bad = i; break; }
+  const files = produced.files;
+  for (const f of sinks.keys()) if (!outputFiles.includes(f)) outputFiles.push(f);
+  for (const f of outputFiles) {
+    const s = sinks.get(f);
+    if (!s) continue;
+    const what = f === "beams.csv" ? "analysis rerun from the recorded inputs" : "bytes recomputed from the recorded inputs";
+    if (s.missing) checks.push({ check: f, ok: false, detail: `missing: the recorded scenario produces it (${files[f]!.bytes} bytes)` });
+    else if (s.mismatch) {
+      mismatches.push(s.mismatch);
+      checks.push({ check: f, ok: false, detail: `differs from the ${what} at ${describe(s.mismatch)}` });
+    } else checks.push({ check: f, ok: true, detail: `identical to the ${what} (${files[f]!.bytes} bytes${files[f]!.crc32 ? `, CRC-32 ${files[f]!.crc32}` : ""})` });
+  }
+
+  // 4. files build --compare adds: not derivable, checked against their recorded size and hash
+  for (const name of COMPARE_FILES) {
+    const rec = m.files[name];
+    if (!rec) continue;
+    const h = hashFolderFile(folderEntry(dir, name), rec.bytes);
+    const ok = !!h && !h.longer && h.bytes === rec.bytes && h.sha256 === rec.sha256;
+    checks.push({ check: name, ok, detail: ok ? `as recorded in the manifest (${rec.bytes} bytes; written by build --compare, not recomputable from the inputs)` : !h ? "missing" : `the manifest records ${rec.bytes} bytes, sha256 ${rec.sha256.slice(0, 16)}…; the file is ${h.longer ? `more than ${rec.bytes}` : h.bytes} bytes, sha256 ${h.sha256.slice(0, 16)}…` });
+    if (h) files[name] = { bytes: rec.bytes, sha256: rec.sha256 };
+  }
+
+  // 5. the manifest, regenerated and compared byte for byte
+  const expected: Manifest = produced.manifest;
+  expected.tool = { name: "steercode", version: m.tool.version };
+  const mm = compareManifest(dir, stableJson(expected, null, 2) + "\n");
+  if (mm) mismatches.push(mm);
+  checks.push({ check: "manifest.json", ok: !mm, detail: mm ? `differs from the manifest regenerated from the recorded inputs and files at ${describe(mm)}` : `identical to the manifest regenerated from the recorded inputs and files (${Object.keys(files).length} files listed, each size and SHA-256 recomputed)` });
+
+  // 6. files the manifest does not account for (a report, notes) are named, not judged
+  const listed = new Set([...Object.keys(files), "manifest.json"]);
+  const extra: string[] = [];
+  const walk = (rel: string, depth: number) => {
+    let names: string[];
+    try {
+      names = readdirSync(join(dir, rel));
+    } catch {
+      return;
+    }
+    for (const n of names.sort()) {
+      const r = rel ? `${rel}/${n}` : n;
+      let st;
+      try {
+        st = lstatSync(join(dir, r));
+      } catch {
         continue;
       }
-      const u = unpackWord(pp, m.layout, csv.words[i]!);
-      const expect = pp.hasAtten ? u.attenCode === csv.atten[i] : true;
-      if (u.phaseCode !== (csv.phase[i]! & pp.phaseMask) || !expect || !u.constantsOk) { bad = i; break; }
+      if (st.isDirectory() && depth < 8) walk(r, depth + 1);
+      else if (!listed.has(r)) extra.push(st.isSymbolicLink() ? `${r} (a link, not followed)` : st.isDirectory() ? `${r}/` : r);
     }
-    if (bad >= 0) mismatch("codes.csv", bad, csv.words[bad]!, csv.words[bad]!);
-    checks.push({ check: "codes.csv words unpack to its codes", ok: bad < 0, detail: bad < 0 ? `${csv.words.length} rows` : `row ${bad + 2} disagrees with itself` });
-  }
-  for (const d of decoded) {
-    if (!reference || d === reference) continue;
-    let bad = -1;
-    const n = Math.max(d.words.length, reference.words.length);
-    for (let i = 0; i < n; i++) if (d.words[i] !== reference.words[i]) { bad = i; break; }
-    if (bad >= 0) mismatch(d.file, bad, reference.words[bad] ?? -1, d.words[bad] ?? -1);
-    const count = d.words.length === m.counts.words ? "" : ` (holds ${d.words.length} words, manifest says ${m.counts.words})`;
-    checks.push({ check: `${d.file} = ${reference.file}`, ok: bad < 0, detail: bad < 0 ? `${d.words.length} words` : `first difference at frequency ${where(m, bad).frequency_hz} Hz, beam ${where(m, bad).beam}, element ${where(m, bad).element}${count}` });
-  }
-  // 3. recompute from the recorded scenario and inputs
-  if (reference) {
-    try {
-      const loaded = loadBuildScenario(dir, m);
-      const E = m.counts.elements;
-      let bad = -1;
-      let expected = -1;
-      let k = 0;
-      runTables(loaded.plan, (_fi, _b, words) => {
-        if (bad < 0) for (let i = 0; i < E; i++) if (words[i] !== reference.words[k + i]) { bad = k + i; expected = words[i]!; break; }
-        k += E;
-      }, undefined, { commanded: false });
-      if (k !== reference.words.length && bad < 0) bad = Math.min(k, reference.words.length);
-      if (bad >= 0) mismatch(reference.file, bad, expected, reference.words[bad] ?? -1);
-      const ver = m.tool.version === toolVersion() ? "" : ` (built by steercode ${m.tool.version}, checked with ${toolVersion()})`;
-      checks.push({ check: `recomputed from ${m.scenario.copy} = ${reference.file}`, ok: bad < 0, detail: bad < 0 ? `${k} words${ver}` : `first difference at frequency ${where(m, bad).frequency_hz} Hz, beam ${where(m, bad).beam}, element ${where(m, bad).element}${ver}` });
-    } catch (e) {
-      checks.push({ check: `recompute from ${m.scenario.copy}`, ok: false, detail: e instanceof Error ? e.message : String(e) });
-    }
-  }
-  return { ok: checks.every((c) => c.ok), checks, firstMismatch: first };
+  };
+  walk("", 0);
+  if (extra.length) checks.push({ check: "files not in the manifest", ok: true, detail: `${extra.slice(0, 20).join(", ")}${extra.length > 20 ? ` … and ${extra.length - 20} more` : ""} (not checked; not part of the table set)` });
+  return done();
 }
