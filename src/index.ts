@@ -220,9 +220,13 @@ export function diffBuilds(dirA: string, dirB: string): DiffResult {
   return diffBuildFolders(dirA, dirB);
 }
 
-/** Check a build folder end to end (what `steercode verify` does); `ok` is false on any mismatch. */
-export function verifyBuild(dir: string): VerifyResult {
-  return verifyBuildFolder(dir);
+/**
+ * Check a build folder end to end (what `steercode verify` does): every file regenerated
+ * from the recorded inputs (the analysis rerun with `jobs` threads when the build had one)
+ * and compared byte for byte; `ok` is false on any mismatch.
+ */
+export async function verifyBuild(dir: string, opts: { jobs?: number } = {}): Promise<VerifyResult> {
+  return verifyBuildFolder(dir, { jobs: opts.jobs ?? 1 });
 }
 
 /** The package's version. */

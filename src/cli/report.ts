@@ -4,7 +4,7 @@ import { InputError } from "../core/errors.js";
 import { makeReport, writeReport } from "../report/page.js";
 import { printJson, type Io } from "./shared.js";
 import { parseQuantity } from "../core/units.js";
-import { readManifest } from "../io/readbuild.js";
+import { checkFolder, readManifest } from "../io/readbuild.js";
 import { UsageError } from "./usage.js";
 
 /**
@@ -25,6 +25,7 @@ export function frequencyIndex(dir: string, raw: string | null): number | null {
 }
 
 export async function reportCommand(io: Io, a: { dir: string; out: string | null; beam: number | null; frequency: string | null }): Promise<number> {
+  checkFolder(a.dir);
   const out = a.out ?? join(a.dir, "report.html");
   if (existsSync(out) && statSync(out).isDirectory()) throw new InputError({ file: out, message: "is a folder; expected a file name for the report (e.g. report.html)" });
   if (!existsSync(dirname(out))) throw new InputError({ file: out, message: `the folder ${dirname(out)} does not exist` });

@@ -8,14 +8,21 @@
  * reader picks. Everything from the folder is parsed into numbers or escaped text; no
  * markup from the folder is embedded.
  */
-import { closeSync, existsSync, openSync, readFileSync, readSync, renameSync, rmSync, writeFileSync } from "node:fs";
+import { closeSync, existsSync, readFileSync, readSync, renameSync, rmSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { crc32 } from "node:zlib";
 import { parse } from "csv-parse/sync";
 import { InputError } from "../core/errors.js";
 import type { Plan } from "../core/plan.js";
 import type { Manifest } from "../io/build.js";
-import { loadBuildScenario, readManifest } from "../io/readbuild.js";
+import { checkFolder, folderEntry, loadBuildScenario, openFolderFile, readFolderFile, readManifest } from "../io/readbuild.js";
+import { enabledCount } from "../core/plan.js";
+
+/** Largest files the report reads from a folder (a 1 M-beam beams.csv is ~150 MB). */
+const MAX_CSV = 512 * 1024 * 1024;
+const MAX_JSON = 64 * 1024 * 1024;
+/** A folder file that must be read whole: bounded, regular, inside the folder (links refused). */
+const folderText = (dir: string, rel: string, max: number): Buffer | null => readFolderFile(dir, rel, max);
 import { chartSvg, MARKERS, PALETTE, type Panel, type Series } from "../io/svg.js";
 import { SAFETY } from "../cli/shared.js";
 import { encodeTyped, type PageData } from "./model.js";
@@ -65,13 +72,14 @@ function taperWords(t: Plan["taper"]): string {
 /** CRC-32 of every beam's words in table.bin, read a beam at a time. */
 function beamCrcs(dir: string, m: Manifest): Uint32Array | null {
   const f = m.files["table.bin"];
-  const path = join(dir, "table.bin");
-  if (!f || !existsSync(path)) return null;
+  const entry = folderEntry(dir, "table.bin");
+  if (!f || entry.kind === "missing") return null;
   const per = m.counts.elements * m.layout.bytes;
   const n = m.counts.frequencies * m.counts.beams;
+  if (per * n !== entry.size) return null;
   const out = new Uint32Array(n);
   const buf = Buffer.alloc(per);
-  const fd = openSync(path, "r");
+  const fd = openFolderFile(entry.path);
   try {
     for (let k = 0; k < n; k++) {
       if (readSync(fd, buf, 0, per, k * per) !== per) return null;
@@ -98,8 +106,14 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   let metricColumns: string[] = [];
   let metrics: Float64Array | null = null;
   const beamsPath = join(dir, "beams.csv");
-  if (m.files["beams.csv"] && existsSync(beamsPath)) {
-    const rows = parse(readFileSync(beamsPath), { columns: false, skip_empty_lines: true }) as string[][];
+  const beamsBytes = m.files["beams.csv"] ? folderText(dir, "beams.csv", MAX_CSV) : null;
+  if (beamsBytes) {
+    let rows: string[][];
+    try {
+      rows = parse(beamsBytes, { columns: false, skip_empty_lines: true }) as string[][];
+    } catch (e) {
+      throw new InputError({ file: beamsPath, message: `not a valid CSV file (${(e as Error).message}); run steercode verify on this folder` });
+    }
     const header = rows[0] ?? [];
     metricColumns = header.slice(6);
     if (rows.length - 1 !== F * B) throw new InputError({ file: beamsPath, message: `expected ${F * B} rows (frequencies × beams), found ${rows.length - 1}` });
@@ -129,25 +143,31 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   if (fi < 0 || fi >= F) throw new InputError({ file: dir, message: `--frequency ${fi}: expected 0 to ${F - 1}` });
   const crc = beamCrcs(dir, m);
   const data: PageData = {
-    title: m.name || "build",
+    title: plan.name || "build",
     plan: encodeTyped(plan, b64),
     metricColumns,
     metrics: metrics ? b64(new Uint8Array(metrics.buffer)) : null,
     crc: crc ? b64(new Uint8Array(crc.buffer)) : null,
     start: { f: fi, beam },
   };
-  const cal = m.calibration;
+  // facts from the recorded inputs (the plan), so a crafted manifest cannot break the page;
+  // the few manifest values shown are printed only when they have the right type
+  const calIn = loaded.inputs.find((i) => i.role === "calibration");
+  const cal = calIn ? { ref: calIn.ref, sha256: calIn.file.sha256, comments: calIn.comments } : null;
+  const fin = (x: unknown, d: number) => (typeof x === "number" && Number.isFinite(x) ? x.toFixed(d) : "n/a");
+  const lsbDeg = 360 / 2 ** plan.phaseBits;
+  const binCrc = m.files["table.bin"]?.crc32;
   const summary: [string, string][] = [
-    ["scenario", `${m.scenario.source} (SHA-256 ${m.scenario.sha256})`],
-    ["array", `${m.counts.elements} elements (${m.counts.enabledElements} enabled)${plan.lattice ? `, ${plan.lattice.kind} lattice of ${plan.lattice.columns} columns × ${plan.lattice.rows} rows` : ", element list"}`],
-    ["tables", `${B} beams × ${F} frequenc${F === 1 ? "y" : "ies"} (${m.frequenciesHz.map((f) => `${Number((Number(f) / 1e9).toPrecision(9))} GHz`).join(", ")}), ${m.layout.bits}-bit words`],
-    ["phase shifter", `${m.phaseShifter.bits} bits, LSB ${m.phaseShifter.lsbDeg.toFixed(4)}°${m.phaseShifter.measuredStates ? ", measured states" : ", ideal states"}`],
-    ["attenuator", m.attenuator.bits === 0 ? "none (0 bits): no taper can be applied" : `${m.attenuator.bits} bits × ${m.attenuator.stepDb} dB steps (range ${m.attenuator.rangeDb.toFixed(2)} dB)${m.attenuator.measuredStates ? ", measured states" : ""}`],
-    ["taper", taperWords(m.taper)],
-    ["quantizer", `${m.quantizer.method}${m.quantizer.seed !== null ? ` (seed ${m.quantizer.seed})` : ""}`],
+    ["scenario", `${m.scenario.source} (SHA-256 ${loaded.scenario.sha256})`],
+    ["array", `${plan.elements.count} elements (${enabledCount(plan)} enabled)${plan.lattice ? `, ${plan.lattice.kind} lattice of ${plan.lattice.columns} columns × ${plan.lattice.rows} rows` : ", element list"}`],
+    ["tables", `${B} beams × ${F} frequenc${F === 1 ? "y" : "ies"} (${plan.frequenciesHz.map((f) => `${Number((f / 1e9).toPrecision(9))} GHz`).join(", ")}), ${plan.word.bits}-bit words`],
+    ["phase shifter", `${plan.phaseBits} bits, LSB ${lsbDeg.toFixed(4)}°${plan.phaseStates ? ", measured states" : ", ideal states"}`],
+    ["attenuator", plan.attenBits === 0 ? "none (0 bits): no taper can be applied" : `${plan.attenBits} bits × ${plan.attenStepDb} dB steps (range ${((2 ** plan.attenBits - 1) * plan.attenStepDb).toFixed(2)} dB)${plan.attenStates ? ", measured states" : ""}`],
+    ["taper", taperWords(plan.taper)],
+    ["quantizer", `${plan.quantizer.method}${plan.quantizer.method === "randomized" ? ` (seed ${plan.quantizer.seed})` : ""}`],
     ["calibration", cal ? `${cal.ref} (SHA-256 ${cal.sha256})${cal.comments.length ? ` — ${cal.comments.join(" | ")}` : ""}` : "none"],
-    ["G_ref, clipped elements", m.perFrequency.map((p) => `${Number((Number(p.frequencyHz) / 1e9).toPrecision(9))} GHz: ${p.gRefDb.toFixed(3)} dB, ${p.clipped} clipped`).join("; ")],
-    ["table.bin CRC-32", m.files["table.bin"]?.crc32 ?? "no table.bin in this build"],
+    ["G_ref, clipped elements", m.perFrequency.map((p, i) => `${Number(((plan.frequenciesHz[i] ?? NaN) / 1e9).toPrecision(9))} GHz: ${fin(p?.gRefDb, 3)} dB, ${fin(p?.clipped, 0)} clipped`).join("; ")],
+    ["table.bin CRC-32", typeof binCrc === "string" ? binCrc : "no table.bin in this build"],
   ];
   const html = `<section id="summary"><h2>What was built</h2><table class="kv">${summary.map(([k, v]) => `<tr><th scope="row">${esc(k)}</th><td>${esc(v)}</td></tr>`).join("")}</table></section>
 <section id="explorer"><h2>Beam explorer</h2>
@@ -178,10 +198,11 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
 /** A comparison recorded in the folder (build --compare, diff -o): numbers from diff.json and changes.csv. */
 function comparisonPart(dir: string, m: Manifest | null): string {
   const path = join(dir, "diff.json");
-  if (!existsSync(path)) return "";
+  const bytes = folderText(dir, "diff.json", MAX_JSON);
+  if (!bytes) return "";
   let doc: Record<string, unknown>;
   try {
-    doc = JSON.parse(readFileSync(path, "utf8")) as Record<string, unknown>;
+    doc = JSON.parse(bytes.toString("utf8")) as Record<string, unknown>;
   } catch {
     throw new InputError({ file: path, message: "is not valid JSON" });
   }
@@ -194,8 +215,14 @@ function comparisonPart(dir: string, m: Manifest | null): string {
   // beams × elements map of changed words, from changes.csv (first frequency with changes)
   let map = "";
   const cpath = join(dir, "changes.csv");
-  if (m && existsSync(cpath)) {
-    const rows = parse(readFileSync(cpath), { columns: true, skip_empty_lines: true }) as Record<string, string>[];
+  const changes = m ? folderText(dir, "changes.csv", MAX_CSV) : null;
+  if (m && changes) {
+    let rows: Record<string, string>[];
+    try {
+      rows = parse(changes, { columns: true, skip_empty_lines: true }) as Record<string, string>[];
+    } catch (e) {
+      throw new InputError({ file: cpath, message: `not a valid CSV file (${(e as Error).message})` });
+    }
     const E = m.counts.elements, B = m.counts.beams;
     const col = new Map(m.elementIds.map((id, i) => [id, i]));
     const W = Math.min(E, 256), H = Math.min(B, 256);
@@ -227,7 +254,7 @@ function sweepPart(dir: string): string {
   const path = join(dir, "sweep.json");
   let doc: { name?: unknown; rows?: unknown };
   try {
-    doc = JSON.parse(readFileSync(path, "utf8")) as typeof doc;
+    doc = JSON.parse(folderText(dir, "sweep.json", MAX_JSON)!.toString("utf8")) as typeof doc;
   } catch {
     throw new InputError({ file: path, message: "is not valid JSON" });
   }
@@ -298,9 +325,11 @@ a.beam-link{color:var(--head);font-weight:600}
 `;
 
 export async function makeReport(dir: string, o: ReportOptions): Promise<{ html: string; beam: number | null }> {
-  const hasBuild = existsSync(join(dir, "manifest.json"));
-  const hasSweep = existsSync(join(dir, "sweep.json"));
-  const hasDiff = existsSync(join(dir, "diff.json"));
+  checkFolder(dir);
+  const has = (name: string) => folderEntry(dir, name).kind === "file";
+  const hasBuild = has("manifest.json");
+  const hasSweep = has("sweep.json");
+  const hasDiff = has("diff.json");
   if (!hasBuild && !hasSweep && !hasDiff) throw new InputError({ file: dir, message: "expected a steercode build folder (manifest.json), sweep folder (sweep.json) or diff folder (diff.json)" });
   const parts: string[] = [];
   let title = "steercode report";
@@ -335,14 +364,23 @@ ${script}
   return { html, beam };
 }
 
-/** Write atomically: a temporary file beside the target, renamed into place; removed on any error. */
-export function writeReport(path: string, html: string): void {
+/**
+ * Write atomically: a temporary file beside the target, renamed into place. If writing
+ * fails (a full disk, ENOSPC; no permission) the temporary file is removed, the previous
+ * report stays as it was, and the failure is an environment problem (InputError: exit 2).
+ * `write` is a test hook (fault injection).
+ */
+export function writeReport(path: string, html: string, write: (file: string, data: string) => void = (f, d) => writeFileSync(f, d, { flag: "wx" })): void {
   const tmp = `${path}.steercode-tmp-${process.pid}`;
   try {
-    writeFileSync(tmp, html);
+    rmSync(tmp, { force: true });
+    write(tmp, html);
     renameSync(tmp, path);
   } catch (e) {
     rmSync(tmp, { force: true });
-    throw e;
+    const code = (e as NodeJS.ErrnoException).code;
+    if (!code) throw e;
+    const why = code === "ENOSPC" ? "no space left on the device" : code === "EDQUOT" ? "disk quota exceeded" : code === "EACCES" || code === "EPERM" ? "permission denied" : code === "EROFS" ? "read-only file system" : code;
+    throw new InputError({ file: path, message: `cannot write the report: ${why} (${code}); nothing was written` });
   }
 }

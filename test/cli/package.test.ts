@@ -96,6 +96,6 @@ describe("library API", () => {
     expect(m.pslDb!).toBeCloseTo(Number(row[10]), 3);
     expect(m.gainLossDb).toBeCloseTo(Number(row[12]), 3);
     expect(() => lib.beamTable(s, { frequency: 1, beam: 0 })).toThrow(/frequency index 1: expected a whole number from 0 to 0/);
-    expect(lib.verifyBuild(out).ok).toBe(true);
+    expect((await lib.verifyBuild(out)).ok).toBe(true);
   });
 });

@@ -72,7 +72,9 @@ describe("recalibration loop: build, change calibration, build --compare, diff, 
     cpSync(b2, copy, { recursive: true });
     const r = cli(["verify", copy, "--json"]);
     expect(r.code).toBe(0);
-    expect(JSON.parse(r.stdout).checks.some((c: { check: string }) => /recomputed/.test(c.check))).toBe(true);
+    const checks = JSON.parse(r.stdout).checks as { check: string; ok: boolean; detail: string }[];
+    // every table file and the manifest were regenerated from the inputs and compared
+    for (const f of ["codes.csv", "table.bin", "table.h", "table.mem", "table.json", "manifest.json"]) expect(checks.find((c) => c.check === f)?.detail).toMatch(/identical to the .*(recomputed|regenerated) from the recorded inputs/);
   });
 
   it("verify names the first file and (frequency, beam, element) that disagree", () => {
@@ -102,8 +104,8 @@ describe("recalibration loop: build, change calibration, build --compare, diff, 
     const r = cli(["verify", bad, "--json"]);
     expect(r.code).toBe(1);
     const doc = JSON.parse(r.stdout);
-    expect(doc.checks.find((c: { check: string; ok: boolean }) => /recomputed/.test(c.check)).ok).toBe(false);
-    expect(doc.firstMismatch.element).toBe(7);
+    expect(doc.checks.find((c: { check: string; ok: boolean }) => c.check === "codes.csv").ok).toBe(false);
+    expect(doc.firstMismatch).toMatchObject({ file: "codes.csv", element: 7 });
   });
 });
 
