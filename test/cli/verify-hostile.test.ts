@@ -1,0 +1,373 @@
+/**
+ * verify and report on hostile build folders (issue 9, items 3, 7, 8, 11): every fact a
+ * file states is recomputed from the recorded inputs, so edits are caught even when
+ * every hash, size and CRC in the folder has been recomputed to match; a crafted
+ * folder cannot lead verify or report out of it; malformed input is exit 2, a mismatch
+ * exit 1, never exit 3. Small scenarios only (derived: each case is a hand edit of a
+ * real build; the expected value is what the unedited build holds).
+ */
+import { createHash } from "node:crypto";
+import { cpSync, existsSync, mkdirSync, readFileSync, readdirSync, rmSync, symlinkSync, writeFileSync } from "node:fs";
+import { execFileSync } from "node:child_process";
+import { join } from "node:path";
+import { crc32 } from "node:zlib";
+import { describe, expect, it } from "vitest";
+import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
+import { writeReport } from "../../src/io/report.js";
+
+const CAL = "# date: 2026-11-20 (invented)\n# source: test range\nelement,phase_offset_deg,gain_offset_db\n" + Array.from({ length: 8 }, (_, i) => `${i},${(i * 37.3) % 360},${((i % 3) * 0.4).toFixed(1)}`).join("\n") + "\n";
+
+const root = tempDir("steercode-hostile-");
+const scenario = writeScenario(baseScenario({ calibration: "cal.csv", frequency: ["10 GHz", "10.5 GHz"] }), { "cal.csv": CAL }, join(root, "s"));
+const base = join(root, "base");
+let built = false;
+function copy(name: string): string {
+  if (!built) {
+    const r = cli(["build", scenario, "-o", base, "--jobs", "1"]);
+    if (r.code !== 0) throw new Error(r.stderr);
+    built = true;
+  }
+  const d = join(root, name);
+  cpSync(base, d, { recursive: true });
+  return d;
+}
+
+const sha = (b: Buffer) => createHash("sha256").update(b).digest("hex");
+const hex8 = (x: number) => "0x" + (x >>> 0).toString(16).toUpperCase().padStart(8, "0");
+
+/** Recompute every size, SHA-256 and CRC the folder states (manifest and table.h), as a careful forger would. */
+function rehash(dir: string, edit: (m: any) => void = () => {}): void {
+  const mp = join(dir, "manifest.json");
+  const m = JSON.parse(readFileSync(mp, "utf8"));
+  edit(m);
+  if (existsSync(join(dir, "table.bin"))) {
+    const crc = hex8(crc32(readFileSync(join(dir, "table.bin"))));
+    const h = join(dir, "table.h");
+    writeFileSync(h, readFileSync(h, "utf8").replace(/#define STEERCODE_TABLE_CRC32 0x[0-9A-F]{8}u/, `#define STEERCODE_TABLE_CRC32 ${crc}u`));
+    if (m.files["table.bin"]) m.files["table.bin"].crc32 = crc;
+  }
+  for (const name of Object.keys(m.files)) {
+    const p = join(dir, name);
+    if (!existsSync(p)) continue;
+    const b = readFileSync(p);
+    m.files[name].bytes = b.length;
+    m.files[name].sha256 = sha(b);
+  }
+  writeFileSync(mp, JSON.stringify(m, null, 2) + "\n");
+}
+
+function verify(dir: string): { code: number; doc: any; stderr: string } {
+  const r = cli(["verify", dir, "--json", "--jobs", "1"]);
+  expect(r.stderr).not.toMatch(/internal error/);
+  expect(r.code).not.toBe(3);
+  return { code: r.code, doc: r.code === 2 ? null : JSON.parse(r.stdout), stderr: r.stderr };
+}
+
+function failing(doc: any): string[] {
+  return doc.checks.filter((c: { ok: boolean }) => !c.ok).map((c: { check: string }) => c.check);
+}
+
+/** Replace one cell of line `line` (1-based) of a CSV. */
+function editCell(path: string, line: number, col: number, value: string): string {
+  const lines = readFileSync(path, "utf8").split("\n");
+  const cells = lines[line - 1]!.split(",");
+  const old = cells[col]!;
+  cells[col] = value;
+  lines[line - 1] = cells.join(",");
+  writeFileSync(path, lines.join("\n"));
+  return old;
+}
+
+describe("verify recomputes every fact, also when the hashes were forged to match", () => {
+  it("an untouched build verifies (with its analysis rerun), and so does a rehash that changes nothing", () => {
+    const d = copy("clean");
+    const r = verify(d);
+    expect(r.code).toBe(0);
+    expect(r.doc.checks.map((c: { check: string }) => c.check)).toEqual(expect.arrayContaining(["codes.csv", "table.bin", "table.h", "table.mem", "table.json", "beams.csv", "manifest.json"]));
+    rehash(d);
+    expect(readFileSync(join(d, "manifest.json"))).toEqual(readFileSync(join(base, "manifest.json")));
+    expect(verify(d).code).toBe(0);
+  });
+
+  const manifestEdits: [string, (m: any) => void, RegExp][] = [
+    ["a frequency", (m) => (m.frequenciesHz[1] = "10500000001"), /^\/frequenciesHz\/1$/],
+    ["an element id", (m) => (m.elementIds[2] = 99), /^\/elementIds\/2$/],
+    ["a count", (m) => (m.counts.beams = 4), /^\/counts\/beams$/],
+    ["the enabled count", (m) => (m.counts.enabledElements = 7), /^\/counts\/enabledElements$/],
+    ["a calibration comment", (m) => (m.calibration.comments[0] = "# date: 2026-12-01 (invented)"), /^\/calibration\/comments\/0$/],
+    ["G_ref", (m) => (m.perFrequency[0].gRefDb += 0.5), /^\/perFrequency\/0\/gRefDb$/],
+    ["the off word", (m) => (m.layout.off = 1), /^\/layout\/off$/],
+    ["a file dropped from the list", (m) => delete m.files["table.mem"], /^\/files\/table\.mem$/],
+    ["the analysis summary", (m) => (m.extra.summary.psl_db.max -= 1), /^\/extra\/summary\/psl_db\/max$/],
+  ];
+  for (const [what, edit, pointer] of manifestEdits) {
+    it(`manifest: ${what} edited → exit 1 at its JSON pointer`, () => {
+      const d = copy(`m-${what.replace(/\W/g, "")}`);
+      rehash(d, edit);
+      const r = verify(d);
+      expect(r.code).toBe(1);
+      expect(failing(r.doc)).toEqual(["manifest.json"]);
+      expect(r.doc.firstMismatch.file).toBe("manifest.json");
+      expect(r.doc.firstMismatch.pointer).toMatch(pointer);
+    });
+  }
+
+  const headerEdits: [string, RegExp, string][] = [
+    ["a field shift", /#define STEERCODE_FIELD_PHASE_SHIFT 0u/, "#define STEERCODE_FIELD_PHASE_SHIFT 1u"],
+    ["the off word", /#define STEERCODE_OFF_WORD 0x0000u/, "#define STEERCODE_OFF_WORD 0x0001u"],
+    ["the beam count", /#define STEERCODE_BEAMS 3u/, "#define STEERCODE_BEAMS 4u"],
+    ["the element count", /#define STEERCODE_ELEMENTS 8u/, "#define STEERCODE_ELEMENTS 9u"],
+  ];
+  for (const [what, from, to] of headerEdits) {
+    it(`table.h: ${what} changed → exit 1, the line named`, () => {
+      const d = copy(`h-${what.replace(/\W/g, "")}`);
+      const p = join(d, "table.h");
+      const text = readFileSync(p, "utf8");
+      expect(text).toMatch(from);
+      writeFileSync(p, text.replace(from, to));
+      rehash(d);
+      const r = verify(d);
+      expect(r.code).toBe(1);
+      // the forged hashes in the manifest are not those of the right files: it fails too
+      expect(failing(r.doc)).toEqual(["table.h", "manifest.json"]);
+      const line = text.split("\n").findIndex((l) => from.test(l)) + 1;
+      expect(r.doc.firstMismatch).toMatchObject({ file: "table.h", line, found: to });
+    });
+  }
+
+  it("table.bin: a trailing byte with the CRC (manifest and table.h) updated → exit 1, the length named", () => {
+    const d = copy("bin-trailing");
+    writeFileSync(join(d, "table.bin"), Buffer.concat([readFileSync(join(d, "table.bin")), Buffer.from([0])]));
+    rehash(d);
+    const r = verify(d);
+    expect(r.code).toBe(1);
+    expect(failing(r.doc)).toEqual(["table.bin", "table.h", "manifest.json"]);
+    const words = 2 * 3 * 8;
+    expect(r.doc.firstMismatch).toMatchObject({ file: "table.bin", byte: words * 2 });
+    expect(r.doc.firstMismatch.found).toMatch(/the file is 97 bytes/);
+  });
+
+  it("table.bin: one word changed (CRC updated) → exit 1 at its frequency, beam and element, both words shown", () => {
+    const d = copy("bin-word");
+    const b = readFileSync(join(d, "table.bin"));
+    // word 8·3 + 8 + 5 = frequency 1, beam 1, element 5
+    const i = (24 + 8 + 5) * 2;
+    const old = b.readUInt16LE(i);
+    b.writeUInt16LE(old ^ 1, i);
+    writeFileSync(join(d, "table.bin"), b);
+    rehash(d);
+    const r = verify(d);
+    expect(r.code).toBe(1);
+    expect(r.doc.firstMismatch).toMatchObject({ file: "table.bin", frequency_hz: "10500000000", beam: 1, element: 5, expected: "0x" + old.toString(16).toUpperCase().padStart(4, "0"), found: "0x" + (old ^ 1).toString(16).toUpperCase().padStart(4, "0") });
+  });
+
+  // codes.csv line 2 + 24 + 8 + 5 = frequency 1, beam 1, element 5
+  const csvEdits: [string, number, (old: string) => string][] = [
+    ["frequency_hz", 0, () => "10500000001"],
+    ["beam", 1, () => "2"],
+    ["element", 2, () => "6"],
+    ["phase_code out of range", 3, () => "9"],
+    ["atten_code", 4, (o) => String(Number(o) + 1)],
+    ["word not an integer", 5, (o) => `${o}.5`],
+    ["phase_deg", 6, (o) => (Number(o) + 0.000001).toFixed(6)],
+    ["atten_db", 7, (o) => (Number(o) + 1).toFixed(6)],
+  ];
+  for (const [what, col, value] of csvEdits) {
+    it(`codes.csv: ${what} edited → exit 1 at that line, beam and element`, () => {
+      const d = copy(`csv-${what.replace(/\W/g, "")}`);
+      const p = join(d, "codes.csv");
+      const line = 2 + 24 + 8 + 5;
+      const cells = readFileSync(p, "utf8").split("\n")[line - 1]!.split(",");
+      editCell(p, line, col, value(cells[col]!));
+      rehash(d);
+      const r = verify(d);
+      expect(r.code).toBe(1);
+      expect(failing(r.doc)).toEqual(["codes.csv", "manifest.json"]);
+      expect(r.doc.firstMismatch).toMatchObject({ file: "codes.csv", line, frequency_hz: "10500000000", beam: 1, element: 5 });
+    });
+  }
+
+  it("table.json: invalid JSON (truncated, hash updated) → exit 1 with the place, not a crash", () => {
+    const d = copy("json-bad");
+    const p = join(d, "table.json");
+    const b = readFileSync(p);
+    writeFileSync(p, b.subarray(0, b.length - 20));
+    rehash(d);
+    const r = verify(d);
+    expect(r.code).toBe(1);
+    expect(failing(r.doc)).toEqual(["table.json", "manifest.json"]);
+    expect(r.doc.firstMismatch.found).toBe("(end of file)");
+  });
+
+  it("table.json and table.mem: a changed word is located at its frequency, beam and element", () => {
+    const d = copy("json-word");
+    const p = join(d, "table.json");
+    const text = readFileSync(p, "utf8");
+    // the beam arrays are the lines after "words":[ ; frequency 1, beam 2 is the 6th, element 3 its 4th word
+    const lines = text.split("\n");
+    const first = lines.findIndex((l) => l.endsWith('"words":[')) + 1;
+    const beamLines = lines.map((l, i) => [l, i] as const).filter(([l, i]) => i >= first && /^\[\d/.test(l));
+    const [l, i] = beamLines[5]!;
+    const w = l.slice(1).replace(/\].*$/, "").split(",");
+    w[3] = String(Number(w[3]) + 1);
+    lines[i] = "[" + w.join(",") + l.slice(l.indexOf("]") === -1 ? l.length : l.indexOf("]"));
+    writeFileSync(p, lines.join("\n"));
+    const mem = join(d, "table.mem");
+    const ml = readFileSync(mem, "utf8").split("\n");
+    ml[2 + 8 * 3 + 7] = "FFFF"; // frequency 1, beam 0, element 7
+    writeFileSync(mem, ml.join("\n"));
+    rehash(d);
+    const r = verify(d);
+    expect(r.code).toBe(1);
+    expect(failing(r.doc).sort()).toEqual(["manifest.json", "table.json", "table.mem"]);
+    expect(r.doc.checks.find((c: { check: string }) => c.check === "table.json").detail).toMatch(/frequency 10500000000 Hz, beam 2, element 3/);
+    expect(r.doc.firstMismatch).toMatchObject({ file: "table.mem", line: 2 + 24 + 7 + 1, beam: 0, element: 7, found: "FFFF" });
+  });
+
+  it("an edited input copy with its hash updated: every table differs from the recomputation (beams.csv need not: the codes compensate the calibration)", () => {
+    const d = copy("input-edit");
+    const p = join(d, "inputs", "calibration.csv");
+    writeFileSync(p, readFileSync(p, "utf8").replace(/^3,([-\d.]+),/m, (_, ph) => `3,${Number(ph) + 90},`));
+    rehash(d);
+    const r = verify(d);
+    expect(r.code).toBe(1);
+    expect(failing(r.doc), JSON.stringify(r.doc.checks)).toEqual(expect.arrayContaining(["codes.csv", "table.bin", "table.h", "table.mem", "table.json", "manifest.json"]));
+    expect(r.doc.firstMismatch).toMatchObject({ file: "codes.csv", element: 3 });
+  });
+
+  it("a missing table file → exit 1 'missing'; an extra file is named and left alone", () => {
+    const d = copy("missing");
+    rmSync(join(d, "table.mem"));
+    writeFileSync(join(d, "notes.txt"), "x");
+    const r = verify(d);
+    expect(r.code).toBe(1);
+    expect(r.doc.checks.find((c: { check: string }) => c.check === "table.mem").detail).toMatch(/^missing/);
+    expect(r.doc.checks.find((c: { check: string }) => c.check === "files not in the manifest").detail).toMatch(/notes\.txt/);
+  });
+});
+
+describe("crafted folders: verify and report stay inside the folder; exit 2, never 3", () => {
+  const bad = (dir: string, re: RegExp) => {
+    for (const args of [["verify", dir, "--jobs", "1"], ["report", dir, "-o", join(root, "r.html")]]) {
+      const r = cli(args);
+      expect(r.code, `${args[0]}: ${r.stderr}`).toBe(2);
+      expect(r.stderr).toMatch(re);
+      expect(r.stderr).not.toMatch(/internal error|\n\s+at /);
+    }
+    expect(existsSync(join(root, "r.html"))).toBe(false);
+  };
+
+  it("a manifest input path out of the folder (../../proc/self/environ) is refused at its pointer", () => {
+    const d = copy("x-environ");
+    rehash(d, (m) => (m.inputs[0].copy = "../../proc/self/environ"));
+    bad(d, /manifest\.json: \/inputs\/0\/copy: expected "inputs\/calibration\.csv"/);
+  });
+
+  it("a manifest file name that is an absolute path (/dev/zero) is refused", () => {
+    const d = copy("x-devzero");
+    rehash(d, (m) => (m.files["/dev/zero"] = { bytes: 1, sha256: "0".repeat(64) }));
+    bad(d, /\/files\/~1dev~1zero: expected a name inside the folder/);
+  });
+
+  it("table.bin a link to /dev/zero, inputs/ a link to another folder: refused, not followed", () => {
+    const d = copy("x-link");
+    rmSync(join(d, "table.bin"));
+    symlinkSync("/dev/zero", join(d, "table.bin"));
+    const r = cli(["verify", d]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/table\.bin: is a symbolic link/);
+    const e = copy("x-inputs-link");
+    const elsewhere = join(root, "elsewhere");
+    cpSync(join(e, "inputs"), elsewhere, { recursive: true });
+    rmSync(join(e, "inputs"), { recursive: true });
+    symlinkSync(elsewhere, join(e, "inputs"));
+    bad(e, /inputs: is a symbolic link/);
+  });
+
+  it("a FIFO in place of table.mem is refused at once (no hang)", () => {
+    const d = copy("x-fifo");
+    rmSync(join(d, "table.mem"));
+    execFileSync("mkfifo", [join(d, "table.mem")]);
+    const r = cli(["verify", d], { timeout: 20_000 });
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/table\.mem: is not a regular file/);
+  });
+
+  it("a symbolic link loop: as the folder and as a file inside it", () => {
+    const loop = join(root, "loop");
+    symlinkSync(loop, loop);
+    const r = cli(["verify", loop]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/loop: is a symbolic link loop/);
+    const d = copy("x-loop");
+    rmSync(join(d, "table.json"));
+    symlinkSync(join(d, "table.json"), join(d, "table.json"));
+    const v = cli(["verify", d]);
+    expect(v.code).toBe(2);
+    expect(v.stderr).toMatch(/table\.json: is a symbolic link/);
+  });
+
+  const malformed: [string, string, RegExp][] = [
+    ["not JSON", "{ nope", /manifest\.json: not valid JSON/],
+    ["not an object", "[1,2]", /manifest\.json: \/: expected a JSON object/],
+    ["inputs not a list", JSON.stringify({ format: "steercode-manifest/1", tool: { version: "0" }, scenario: { source: "s.json" }, analysis: false, inputs: "x", files: {} }), /\/inputs: expected a list/],
+    ["an unknown input role", JSON.stringify({ format: "steercode-manifest/1", tool: { version: "0" }, scenario: { source: "s.json" }, analysis: false, inputs: [{ role: "passwd", ref: "a", copy: "/etc/passwd" }], files: {} }), /\/inputs\/0\/role: expected one of/],
+    ["a file entry without a hash", JSON.stringify({ format: "steercode-manifest/1", tool: { version: "0" }, scenario: { source: "s.json" }, analysis: false, inputs: [], files: { "table.bin": { bytes: -1 } } }), /\/files\/table\.bin: expected \{ bytes/],
+  ];
+  for (const [what, text, re] of malformed) {
+    it(`a malformed manifest (${what}) → exit 2, located`, () => {
+      const d = join(root, `mal-${what.replace(/\W/g, "")}`);
+      mkdirSync(d);
+      writeFileSync(join(d, "manifest.json"), text);
+      bad(d, re);
+    });
+  }
+
+  it('"outputs": [] builds a folder without tables that verify checks and passes (manifest, inputs, analysis)', () => {
+    const s = writeScenario(baseScenario({ outputs: [] }), {}, join(root, "no-out"));
+    const out = join(root, "no-out-build");
+    expect(cli(["build", s, "-o", out]).code).toBe(0);
+    expect(readdirSync(out).sort()).toEqual(["beams.csv", "inputs", "manifest.json"]);
+    const r = verify(out);
+    expect(r.code).toBe(0);
+    expect(r.doc.checks.find((c: { check: string }) => c.check === "tables").detail).toMatch(/lists no outputs/);
+  });
+});
+
+describe("report: nothing from the folder reaches the page unescaped", () => {
+  it("a sweep folder with markup in sweep.json and sweep.svg: escaped text, the figure drawn from the numbers", () => {
+    const s = writeScenario(baseScenario(), {}, join(root, "sw"));
+    const sw = join(root, "sweep");
+    expect(cli(["sweep", s, "--phase-bits", "3..4", "-o", sw, "--jobs", "1"]).code).toBe(0);
+    const p = join(sw, "sweep.json");
+    const doc = JSON.parse(readFileSync(p, "utf8"));
+    doc.name = '<script>alert("name")</script>';
+    doc.rows[0].quantizer = '<img src=x onerror="alert(1)">';
+    doc.rows[1].psl_db_max = "<b>not a number</b>";
+    writeFileSync(p, JSON.stringify(doc));
+    writeFileSync(join(sw, "sweep.svg"), '<svg xmlns="http://www.w3.org/2000/svg"><script>alert("svg")</script><foreignObject/></svg>');
+    const out = join(root, "sweep-report.html");
+    const r = cli(["report", sw, "-o", out]);
+    expect(r.code, r.stderr).toBe(0);
+    const html = readFileSync(out, "utf8");
+    expect(html).not.toMatch(/<script|<img|<foreignObject|<b>/i);
+    expect(html).not.toMatch(/alert\("svg"\)/);
+    expect(html).toContain("&lt;script&gt;alert");
+    expect(html).toContain("&lt;img src=x onerror=&quot;alert(1)&quot;&gt;");
+    // the figure is still there, drawn from the rows
+    expect(html).toMatch(/<figure id="sweep">[\s\S]*<svg[\s\S]*Worst sidelobe level/);
+  });
+
+  it("a failed write (ENOSPC) removes the temporary file, keeps the previous report, and is exit-2 material", () => {
+    const d = tempDir();
+    const target = join(d, "report.html");
+    writeFileSync(target, "previous");
+    const full = (file: string, data: string) => {
+      writeFileSync(file, data.slice(0, 10)); // part of it reached the disk
+      throw Object.assign(new Error("ENOSPC: no space left on device, write"), { code: "ENOSPC" });
+    };
+    expect(() => writeReport(target, "<html>new</html>".repeat(100), full)).toThrow(/report\.html: cannot write the report: no space left on the device \(ENOSPC\)/);
+    expect(readdirSync(d)).toEqual(["report.html"]);
+    expect(readFileSync(target, "utf8")).toBe("previous");
+  });
+});
