@@ -4,7 +4,7 @@
 // Markdown table on stdout (copied into README.md).
 import { spawnSync } from "node:child_process";
 import { mkdtempSync, writeFileSync, readFileSync, rmSync } from "node:fs";
-import { tmpdir, cpus, totalmem } from "node:os";
+import { tmpdir, cpus, totalmem, loadavg } from "node:os";
 import { join } from "node:path";
 import { parse } from "csv-parse/sync";
 import { mulberry32 } from "../dist/core/quantize/randomized.js";
@@ -13,6 +13,9 @@ const ROOT = new URL("..", import.meta.url).pathname;
 const BIN = join(ROOT, "bin", "steercode.js");
 const tmp = mkdtempSync(join(tmpdir(), "steercode-bench-"));
 const RUNS = Number(process.env.BENCH_RUNS ?? 3);
+// BENCH_ONLY=scale runs only the scale case (big: build + verify of 41 M words) and merges
+// its figures into bench/results.json.
+const ONLY = process.env.BENCH_ONLY ?? null;
 const median = (a) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
 
 
@@ -57,10 +60,12 @@ function childBuild(s, out, analysis, jobs) {
 }
 
 const jobs = cpus().length;
-const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, memGiB: +(totalmem() / 2 ** 30).toFixed(1), node: process.version }, runs: RUNS };
+const previous = ONLY ? JSON.parse(readFileSync(join(ROOT, "bench", "results.json"), "utf8")) : {};
+const machine = { cpus: cpus().length, model: cpus()[0]?.model, memGiB: +(totalmem() / 2 ** 30).toFixed(1), node: process.version };
+const results = ONLY ? previous : { machine, runs: RUNS };
 
 // ---- 1. codes-only build, 4096 elements × 4096 beams → table.bin
-{
+if (!ONLY) {
   const s = scenario("codes-64x64", 64, { kind: "uv", u: { from: -0.63, to: 0.63, step: 0.02 }, v: { from: -0.63, to: 0.63, step: 0.02 } }, ["bin"], false);
   const out = join(tmp, "codes-out");
   const inproc = [], cli = [];
@@ -86,7 +91,7 @@ const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, memGi
 }
 
 // ---- 2. full build with analysis vs the numpy/scipy baseline: 32×32, Taylor, calibration, 21×21 az/el
-{
+if (!ONLY) {
   const s = scenario("analysis-32x32", 32, { kind: "azel", az: { from: -50, to: 50, step: 5 }, el: { from: -50, to: 50, step: 5 } }, ["csv", "bin", "c", "mem", "json"]);
   const out = join(tmp, "an-out");
   const ours = [], base = [];
@@ -111,7 +116,7 @@ const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, memGi
 }
 
 // ---- 3. sweep of 6 bit depths × 3 attenuator steps vs one build, same 32×32 scenario
-{
+if (!ONLY) {
   const s = join(tmp, "analysis-32x32", "scenario.json");
   const out = join(tmp, "sweep-out");
   const sw = [], one = [];
@@ -125,7 +130,7 @@ const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, memGi
 }
 
 // ---- 4. bad input is refused quickly (whole CLI process, exit 2)
-{
+if (!ONLY) {
   const dir = join(tmp, "bad");
   spawnSync("mkdir", ["-p", dir]);
   writeFileSync(join(dir, "cal.csv"), "element,phase_offset_deg,gain_offset_db\n0,1,0\n0,2,0\n");
@@ -142,7 +147,8 @@ const results = { machine: { cpus: cpus().length, model: cpus()[0]?.model, memGi
 }
 
 // ---- 5. scaling ladder: analysis cost per beam (tables to table.bin only)
-results.scaling = [];
+if (!ONLY) results.scaling = [];
+if (!ONLY)
 for (const side of [16, 32, 64]) {
   // u-v grids of exactly 10², 21² and 64² beams
   for (const [n, from, step] of [[10, -0.45, 0.1], [21, -0.45, 0.045], [64, -0.63, 0.02]]) {
@@ -159,14 +165,32 @@ for (const side of [16, 32, 64]) {
 }
 
 // ---- 6. the optimized quantizer (bench/optimized.js)
-{
+if (!ONLY) {
   const r = spawnSync(process.execPath, [join(ROOT, "bench", "optimized.js")], { encoding: "utf8", env: { ...process.env, BENCH_RUNS: String(RUNS) } });
   if (r.status !== 0) throw new Error(r.stderr);
   results.optimized = JSON.parse(r.stdout);
 }
 
+// ---- 7. scale: 64×64 elements × 10 000 beams (41 M words), build with analysis, then verify
+// (verify regenerates every file and reruns the analysis, streaming: its memory must stay
+// flat in beams and its time a small multiple of the build's). Run once: it is big.
+if (!ONLY || ONLY === "scale") {
+  const s = scenario("scale-64x64-10k", 64, { kind: "uv", u: { from: -0.495, to: 0.495, step: 0.01 }, v: { from: -0.495, to: 0.495, step: 0.01 } }, ["bin"]);
+  const out = join(tmp, "scale-10k-out");
+  rmSync(out, { recursive: true, force: true });
+  const b = childBuild(s, out, true, jobs);
+  const r = spawnSync(process.execPath, [join(ROOT, "bench", "child-verify.js"), out, String(jobs)], { encoding: "utf8" });
+  if (r.status !== 0) throw new Error(r.stderr);
+  const v = JSON.parse(r.stdout);
+  if (!v.ok) throw new Error("verify did not pass on a fresh build");
+  const beams = Number(JSON.parse(readFileSync(join(out, "manifest.json"), "utf8")).counts.beams);
+  results.scaleVerify = { elements: 4096, beams, words: b.words, buildMs: b.loadMs + b.buildMs, buildPeakRssMB: b.maxRssKb / 1024, verifyMs: v.ms, verifyPeakRssMB: v.maxRssKb / 1024, ratio: v.ms / (b.loadMs + b.buildMs), machine, loadAverage1min: loadavg()[0], target: "verify ≤ 3 × build time, peak RSS flat in beams" };
+  rmSync(out, { recursive: true, force: true });
+}
+
 writeFileSync(join(ROOT, "bench", "results.json"), JSON.stringify(results, null, 2) + "\n");
 const f = (x, d = 0) => Number(x).toFixed(d);
+if (!ONLY) {
 const c = results.codesOnly, an = results.analysis;
 console.log(`machine: ${results.machine.cpus} × ${results.machine.model}, ${results.machine.memGiB} GiB, Node ${results.machine.node}; median of ${RUNS} runs\n`);
 console.log(`| benchmark | result | target |\n|---|---|---|`);
@@ -189,5 +213,10 @@ console.log(`| 32×32 + calibration, 441 beams, optimized build with analysis (C
 for (const r of o.memory) console.log(`| 16×16 optimized, ${r.beams} beams: build ${f(r.buildMs)} ms, peak RSS | ${f(r.peakRssMB)} MB | flat in beams |`);
 console.log(`| what it achieved, demo: worst PSL nearest → optimized; median / max PSL lowered | ${f(o.demo.achieved.pslWorstBeforeDb, 2)} → ${f(o.demo.achieved.pslWorstAfterDb, 2)} dB; ${f(o.demo.achieved.pslGainMedianDb, 2)} / ${f(o.demo.achieved.pslGainMaxDb, 2)} dB | — |`);
 console.log(`| what it achieved, 32×32: worst PSL nearest → optimized; median / max PSL lowered | ${f(o.large.achieved.pslWorstBeforeDb, 2)} → ${f(o.large.achieved.pslWorstAfterDb, 2)} dB; ${f(o.large.achieved.pslGainMedianDb, 2)} / ${f(o.large.achieved.pslGainMaxDb, 2)} dB | — |`);
+}
+const sv = results.scaleVerify;
+console.log(`\n| 64×64 × ${sv.beams} beams (${f(sv.words / 1e6, 1)} M words, table.bin + analysis) | time | peak RSS (MB) |\n|---|---|---|`);
+console.log(`| build | ${f(sv.buildMs / 1000, 1)} s | ${f(sv.buildPeakRssMB)} |`);
+console.log(`| verify (every file regenerated, analysis rerun) | ${f(sv.verifyMs / 1000, 1)} s = ${f(sv.ratio, 2)} × build | ${f(sv.verifyPeakRssMB)} |`);
 rmSync(tmp, { recursive: true, force: true });
-await import("./inputs.js");
+if (!ONLY) await import("./inputs.js");

@@ -26,6 +26,8 @@ interface Case {
 }
 
 const B = baseScenario;
+/** The shape of a build manifest, enough to reach the checks on paths (the corpus's verify cases). */
+const MANIFEST = { format: "steercode-manifest/1", tool: { name: "steercode", version: "0.1.0" }, scenario: { source: "scenario.json", copy: "inputs/scenario.json", sha256: "0".repeat(64) }, analysis: false, inputs: [], files: {}, counts: { frequencies: 1, beams: 1, elements: 1, enabledElements: 1, words: 1 }, elementIds: [0], disabledIds: [], frequenciesHz: ["1"], layout: { bits: 8, bytes: 1, off: 0, fields: [{ name: "phase", shift: 0, width: 3 }] }, phaseShifter: { bits: 3 }, perFrequency: [] };
 const cases: Case[] = [
   { name: "broken JSON", doc: '{ "format": "steercode-scenario/1", }', expect: [/scenario\.json, line 1: not valid JSON/] },
   { name: "not an object", doc: "[1, 2]", expect: [/scenario\.json: \/: expected a JSON object/] },
@@ -132,6 +134,11 @@ const cases: Case[] = [
   // outputs
   { name: "-o is a dangling symbolic link", doc: B(), prepare: (d) => symlinkSync(join(d, "nowhere"), join(d, "out")), expect: [/out: is a symbolic link; expected a new folder or an earlier steercode output/] },
   { name: "verify on a folder that is not a build", args: (d) => ["verify", d], expect: [/manifest\.json: not found: expected a steercode build folder/] },
+  { name: "verify: manifest.json not valid JSON", prepare: (d) => writeFileSync(join(d, "manifest.json"), "{ nope"), args: (d) => ["verify", d], expect: [/manifest\.json: not valid JSON/] },
+  { name: "verify: a manifest input path out of the folder", prepare: (d) => writeFileSync(join(d, "manifest.json"), JSON.stringify({ ...MANIFEST, inputs: [{ role: "calibration", ref: "cal.csv", copy: "../../proc/self/environ" }] })), args: (d) => ["verify", d], expect: [/manifest\.json: \/inputs\/0\/copy: expected "inputs\/calibration\.csv"/] },
+  { name: "verify: a manifest file entry that is an absolute path", prepare: (d) => writeFileSync(join(d, "manifest.json"), JSON.stringify({ ...MANIFEST, files: { "/dev/zero": { bytes: 1, sha256: "0".repeat(64) } } })), args: (d) => ["verify", d], expect: [/manifest\.json: \/files\/~1dev~1zero: expected a name inside the folder/] },
+  { name: "report: a symbolic link loop as the folder", prepare: (d) => symlinkSync(join(d, "loop"), join(d, "loop")), args: (d) => ["report", join(d, "loop")], expect: [/loop: is a symbolic link loop/] },
+  { name: "verify: manifest.json a symbolic link", prepare: (d) => { writeFileSync(join(d, "m.json"), JSON.stringify(MANIFEST)); symlinkSync(join(d, "m.json"), join(d, "manifest.json")); }, args: (d) => ["verify", d], expect: [/manifest\.json: is a symbolic link/] },
 ];
 
 describe("bad input: exit 2, a message naming file and field or line, nothing written", () => {

@@ -13,7 +13,7 @@ import { join } from "node:path";
 import { crc32 } from "node:zlib";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
-import { writeReport } from "../../src/io/report.js";
+import { writeReport } from "../../src/report/page.js";
 
 const CAL = "# date: 2026-11-20 (invented)\n# source: test range\nelement,phase_offset_deg,gain_offset_db\n" + Array.from({ length: 8 }, (_, i) => `${i},${(i * 37.3) % 360},${((i % 3) * 0.4).toFixed(1)}`).join("\n") + "\n";
 
