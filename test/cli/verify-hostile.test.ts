@@ -235,6 +235,20 @@ describe("verify recomputes every fact, also when the hashes were forged to matc
     expect(r.doc.firstMismatch).toMatchObject({ file: "codes.csv", element: 3 });
   });
 
+  it("an optimized build (codes chosen by search, in the analysis threads) is regenerated and verified; an edited word is caught", () => {
+    const s = writeScenario(baseScenario({ quantizer: { method: "optimized" }, array: { lattice: { kind: "rectangular", columns: 8, rows: 2, dx: "0.5 lambda", dy: "0.5 lambda" } } }), {}, join(root, "opt"));
+    const out = join(root, "opt-build");
+    expect(cli(["build", s, "-o", out, "--jobs", "2"]).code).toBe(0);
+    expect(verify(out).code).toBe(0);
+    const mem = join(out, "table.mem");
+    const ml = readFileSync(mem, "utf8").split("\n");
+    ml[2 + 16 + 3] = ml[2 + 16 + 3] === "0000" ? "0001" : "0000"; // beam 1, element 3
+    writeFileSync(mem, ml.join("\n"));
+    const r = verify(out);
+    expect(r.code).toBe(1);
+    expect(r.doc.firstMismatch).toMatchObject({ file: "table.mem", beam: 1, element: 3 });
+  });
+
   it("a missing table file → exit 1 'missing'; an extra file is named and left alone", () => {
     const d = copy("missing");
     rmSync(join(d, "table.mem"));
