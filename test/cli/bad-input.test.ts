@@ -139,6 +139,12 @@ const cases: Case[] = [
   { name: "verify: a manifest file entry that is an absolute path", prepare: (d) => writeFileSync(join(d, "manifest.json"), JSON.stringify({ ...MANIFEST, files: { "/dev/zero": { bytes: 1, sha256: "0".repeat(64) } } })), args: (d) => ["verify", d], expect: [/manifest\.json: \/files\/~1dev~1zero: expected a name inside the folder/] },
   { name: "report: a symbolic link loop as the folder", prepare: (d) => symlinkSync(join(d, "loop"), join(d, "loop")), args: (d) => ["report", join(d, "loop")], expect: [/loop: is a symbolic link loop/] },
   { name: "verify: manifest.json a symbolic link", prepare: (d) => { writeFileSync(join(d, "m.json"), JSON.stringify(MANIFEST)); symlinkSync(join(d, "m.json"), join(d, "manifest.json")); }, args: (d) => ["verify", d], expect: [/manifest\.json: is a symbolic link/] },
+  // issue 8 item 5: a string is read only with its unit, and units are case-sensitive (common practice: SI unit symbols)
+  { name: "frequency string without a unit", doc: B({ frequency: "28" }), expect: [/\/frequency: expected a frequency.*a string needs its unit \(e\.g\. "28 GHz"\).*got "28"/] },
+  { name: "spacing string without a unit", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5.2", dy: "5 mm" } } }), expect: [/\/array\/lattice\/dx: expected a length.*a string needs its unit.*got "5.2"/] },
+  { name: "frequency unit in the wrong case (mHz or MHz?)", doc: B({ frequency: "28000 mhz" }), expect: [/\/frequency: .*units are case-sensitive.*write "MHz", not "mhz".*got "28000 mhz"/] },
+  { name: "length unit in the wrong case (mm or Mm?)", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5 Mm", dy: "5 mm" } } }), expect: [/\/array\/lattice\/dx: .*units are case-sensitive.*write "mm", not "Mm"/] },
+  { name: "sidelobe level string without dB", doc: B({ taper: { kind: "chebyshev", sidelobe: "-30" } }), expect: [/\/taper\/sidelobe: expected a level in dB.*a string needs its unit.*got "-30"/] },
 ];
 
 describe("bad input: exit 2, a message naming file and field or line, nothing written", () => {
