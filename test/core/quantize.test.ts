@@ -4,6 +4,7 @@ import { allocBeamCodes, makeQuantizer, prepareFrequency } from "../../src/core/
 import { nearestQuantizer } from "../../src/core/quantize/nearest.js";
 import { randomizedQuantizer } from "../../src/core/quantize/randomized.js";
 import { exactPhaseT } from "../../src/core/quantize/prepare.js";
+import { runTables } from "../../src/core/engine.js";
 import { exactBeamDirection } from "../../src/core/beams.js";
 import { SPEED_OF_LIGHT, wrap360 } from "../../src/core/units.js";
 import type { Plan } from "../../src/core/plan.js";
@@ -155,6 +156,29 @@ describe("randomized quantizer (Smith & Guo, IEEE Trans. AP-31, 1983)", () => {
     expect(differ).toBeGreaterThan(0);
     // P(up) = frac(t): the count of round-ups matches its expectation within 4σ (binomial)
     expect(Math.abs(up - expectUp)).toBeLessThan(4 * Math.sqrt(total / 4));
+  });
+
+  it("the random stream is keyed by the frequency's value, not its place in the list (issue 8 item 6; README: depends on (seed, frequency, beam))", () => {
+    // derived: the same (seed, frequency, beam) must give the same words wherever the frequency is listed
+    const doc = (frequency: unknown) => baseScenario({ frequency, array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5.2 mm", dy: "5.2 mm" } }, phaseShifter: { bits: 4 }, calibration: "cal.csv", quantizer: { method: "randomized", seed: 11 }, beams: { kind: "uv", u: { from: -0.6, to: 0.6, step: 0.1 }, v: { from: 0, to: 0, step: 1 } } });
+    const cal = "element,phase_offset_deg,gain_offset_db\n" + Array.from({ length: 8 }, (_, i) => `${i},${(i * 47.3) % 360},0`).join("\n") + "\n";
+    const words = (plan: Plan, fi: number) => {
+      const out: number[] = [];
+      runTables(plan, (f, _b, w) => {
+        if (f === fi) out.push(...Array.from(w));
+      });
+      return out;
+    };
+    const alone = words(load(doc("29 GHz"), { "cal.csv": cal }).plan, 0);
+    const beside = words(load(doc(["27 GHz", "29 GHz"]), { "cal.csv": cal }).plan, 1);
+    const otherSpelling = words(load(doc(["29000 MHz", "27 GHz"]), { "cal.csv": cal }).plan, 0);
+    const at27 = words(load(doc("27 GHz"), { "cal.csv": cal }).plan, 0);
+    expect(alone.length).toBe(13 * 8);
+    expect(beside).toEqual(alone);
+    expect(otherSpelling).toEqual(alone);
+    // and 27 GHz keeps its own stream when 29 GHz is listed after it
+    const at27codes = words(load(doc(["27 GHz", "29 GHz"]), { "cal.csv": cal }).plan, 0);
+    expect(at27codes).toEqual(at27);
   });
 
   it("nearest and randomized share the commanded phase", () => {
