@@ -1,5 +1,6 @@
 import { join } from "node:path";
-import { diffBuilds, writeChangesCsv, type DiffResult } from "../io/diff.js";
+import { diffBuilds, writeChangesCsv, type CalibrationRef, type DiffResult } from "../io/diff.js";
+import { idList } from "../core/facts.js";
 import { StagedDir } from "../io/outdir.js";
 import { stableJson } from "../io/build.js";
 import { writeFileSync } from "node:fs";
@@ -15,15 +16,31 @@ export function writeDiffFiles(dir: string, r: DiffResult, a: string, b: string)
   return { "changes.csv": csv, "diff.json": { bytes: Buffer.byteLength(text), sha256: sha256(text), crc32: 0 } };
 }
 
+function calLines(label: string, c: CalibrationRef | null): string[] {
+  if (!c) return [`${label}: no calibration file`];
+  return [`${label}: ${c.ref} (sha256 ${c.sha256})`, ...c.comments.map((t) => `    # ${t}`)];
+}
+
 export function diffLines(r: DiffResult): string[] {
   const s = r.summary;
   const lines = [
     r.identical ? `identical: all ${s.wordsCompared} words agree` : `${s.wordsChanged} of ${s.wordsCompared} words changed, in ${s.beamsTouched} beam(s) and ${s.elementsTouched} element(s)`,
   ];
-  if (!r.identical) lines.push(`largest phase change ${s.largestPhaseChangeLsb} LSB, largest attenuation change ${s.largestAttenChangeSteps} step(s)`);
+  if (!r.identical) {
+    lines.push(`changed ${idList(s.elementsChanged, 40)}`);
+    lines.push(`largest phase change ${s.largestPhaseChangeLsb} LSB, largest attenuation change ${s.largestAttenChangeSteps} step(s)`);
+  }
   for (const g of s.gRefChangeDb) lines.push(`G_ref at ${g.frequencyHz} Hz: ${fmt(g.old, 3)} → ${fmt(g.new, 3)} dB`);
-  if (s.calibrationChanged) lines.push(`calibration: ${s.oldCalibration ?? "none"} → ${s.newCalibration ?? "none"}`);
+  if (s.oldCalibration || s.newCalibration) {
+    if (s.calibrationChanged) lines.push("calibration changed:", ...calLines("  old", s.oldCalibration), ...calLines("  new", s.newCalibration));
+    else lines.push(...calLines("calibration (unchanged)", s.oldCalibration));
+  }
   return lines;
+}
+
+/** A word in hex, as wide as the word (0x003F for a 16-bit word). */
+export function hexWord(w: number, bits: number): string {
+  return "0x" + (w >>> 0).toString(16).toUpperCase().padStart(Math.ceil(bits / 4), "0");
 }
 
 export function diffCommand(io: Io, a: string, b: string, out: string | undefined): number {
@@ -43,8 +60,11 @@ export function diffCommand(io: Io, a: string, b: string, out: string | undefine
     const lines = diffLines(r);
     const show = r.changes.slice(0, 20);
     if (show.length) {
-      lines.push("", "frequency_hz  beam  element  old_word → new_word  phase  atten");
-      for (const c of show) lines.push(`${c.frequency_hz}  ${String(c.beam).padStart(4)}  ${String(c.element).padStart(7)}  ${String(c.old_word).padStart(8)} → ${String(c.new_word).padEnd(8)}  ${c.old_phase_code}→${c.new_phase_code}  ${c.old_atten_code}→${c.new_atten_code}`);
+      const bits = r.wordBits;
+      const hw = Math.max(10, Math.ceil(bits / 4) + 2); // "0x" + digits; the header needs 23 = 10 + 13
+      lines.push("", `frequency_hz  beam  element  ${"old word (hex, decimal)".padEnd(hw + 13)} → new word (hex, decimal)  phase  atten`);
+      for (const c of show)
+        lines.push(`${c.frequency_hz}  ${String(c.beam).padStart(4)}  ${String(c.element).padStart(7)}  ${`${hexWord(c.old_word, bits)} (${c.old_word})`.padEnd(hw + 13)} → ${`${hexWord(c.new_word, bits)} (${c.new_word})`.padEnd(hw + 13)}  ${c.old_phase_code}→${c.new_phase_code}  ${c.old_atten_code}→${c.new_atten_code}`);
       if (r.changes.length > show.length) lines.push(`… ${r.changes.length - show.length} more${out ? ` in ${join(out, "changes.csv")}` : " (-o DIR writes them all to changes.csv)"}`);
     }
     io.stdout(lines.join("\n") + "\n");

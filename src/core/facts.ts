@@ -48,6 +48,13 @@ export function apertureSizeM(plan: Plan): number {
   return pointSetDiameter(e.x, e.y, e.z, e.count);
 }
 
+/** "element 7" or "elements 3, 7, 12" (the first `max`, then how many more). */
+export function idList(ids: number[], max = 20): string {
+  const shown = ids.slice(0, max).join(", ");
+  const more = ids.length > max ? ` … and ${ids.length - max} more` : "";
+  return `${ids.length === 1 ? "element" : "elements"} ${shown}${more}`;
+}
+
 export function deriveFacts(plan: Plan): Facts {
   const D = apertureSizeM(plan);
   const warnings: string[] = [];
@@ -85,8 +92,9 @@ export function deriveFacts(plan: Plan): Facts {
   }
   if (!plan.lattice && plan.elements.count > 1) warnings.push("element list: grating-lobe limits are not computed for arbitrary geometries");
   if (plan.attenBits === 0 && plan.taper.kind !== "uniform") warnings.push("no attenuator: the taper cannot be applied; every tapered element is clipped");
-  const disabled = plan.elements.count - enabledCount(plan);
-  if (disabled) warnings.push(`${disabled} element(s) disabled: they get the off word and take no part in G_ref or the analysis`);
+  const disabledIds = Array.from(plan.elements.ids).filter((_, i) => !plan.elements.enabled[i]);
+  if (disabledIds.length)
+    warnings.push(`${disabledIds.length} element(s) disabled (${idList(disabledIds)}): they get the off word and take no part in G_ref or the analysis`);
   const words = plan.frequenciesHz.length * plan.beams.count * plan.elements.count;
   let maxSin = 0;
   for (let b = 0; b < plan.beams.count; b++) maxSin = Math.max(maxSin, Math.hypot(plan.beams.u[b]!, plan.beams.v[b]!));

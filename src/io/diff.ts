@@ -30,15 +30,26 @@ export interface DiffSummary {
   largestPhaseChangeLsb: number;
   largestAttenChangeSteps: number;
   gRefChangeDb: { frequencyHz: string; old: number; new: number }[];
+  /** Ids of the elements with at least one changed word, ascending. */
+  elementsChanged: number[];
   calibrationChanged: boolean;
-  oldCalibration: string | null;
-  newCalibration: string | null;
+  /** Which calibration produced each build: file, full SHA-256, header comments. */
+  oldCalibration: CalibrationRef | null;
+  newCalibration: CalibrationRef | null;
+}
+
+export interface CalibrationRef {
+  ref: string;
+  sha256: string;
+  comments: string[];
 }
 
 export interface DiffResult {
   identical: boolean;
   summary: DiffSummary;
   changes: Change[];
+  /** word width, for printing words in hex */
+  wordBits: number;
 }
 
 function layoutKey(l: WordLayout): string {
@@ -104,14 +115,15 @@ export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nam
     wordsChanged: changes.length,
     beamsTouched: beams.size,
     elementsTouched: elems.size,
+    elementsChanged: [...elems].sort((x, y) => x - y).map((e) => idsA[e]!),
     largestPhaseChangeLsb: maxPhase,
     largestAttenChangeSteps: maxAtten,
     gRefChangeDb,
     calibrationChanged: (a.calibration?.sha256 ?? null) !== (b.calibration?.sha256 ?? null),
-    oldCalibration: a.calibration ? `${a.calibration.ref} (sha256 ${a.calibration.sha256.slice(0, 12)}…)` : null,
-    newCalibration: b.calibration ? `${b.calibration.ref} (sha256 ${b.calibration.sha256.slice(0, 12)}…)` : null,
+    oldCalibration: a.calibration ? { ref: a.calibration.ref, sha256: a.calibration.sha256, comments: a.calibration.comments } : null,
+    newCalibration: b.calibration ? { ref: b.calibration.ref, sha256: b.calibration.sha256, comments: b.calibration.comments } : null,
   };
-  return { identical: changes.length === 0, summary, changes };
+  return { identical: changes.length === 0, summary, changes, wordBits: a.layout.bits };
 }
 
 export const CHANGE_COLUMNS = ["frequency_hz", "beam", "element", "old_word", "new_word", "old_phase_code", "new_phase_code", "old_atten_code", "new_atten_code"] as const;

@@ -130,6 +130,11 @@ class CodesCsvWriter implements TableWriter {
   }
 }
 
+/** "1 frequency", "2 frequencies". */
+export function count(n: number, one: string, many: string): string {
+  return `${n} ${n === 1 ? one : many}`;
+}
+
 /** `$readmemh` memory file (IEEE 1364-2005 §17.2.9): one hex word per line, `//` comments. */
 class MemWriter implements TableWriter {
   readonly file = TABLE_FILES.mem;
@@ -140,7 +145,7 @@ class MemWriter implements TableWriter {
     const p = ctx.plan;
     this.digits = Math.ceil(p.word.bits / 4);
     this.f.write(
-      `// steercode beam table for $readmemh: ${p.frequenciesHz.length} frequencies x ${p.beams.count} beams x ${p.elements.count} elements, ${p.word.bits}-bit words\n` +
+      `// steercode beam table for $readmemh: ${count(p.frequenciesHz.length, "frequency", "frequencies")} x ${count(p.beams.count, "beam", "beams")} x ${count(p.elements.count, "element", "elements")}, ${p.word.bits}-bit words\n` +
         `// address = (frequency * ${p.beams.count} + beam) * ${p.elements.count} + element\n`,
     );
   }

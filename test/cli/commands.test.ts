@@ -96,7 +96,10 @@ describe("builds beyond the demo", () => {
     const csv = "element,x_m,y_m,z_m,device,channel,enabled\n" + Array.from({ length: 6 }, (_, i) => `${10 + i},${(i * 0.012).toFixed(3)},0,0,BF${Math.floor(i / 4)},${i % 4},${i === 2 ? "no" : "yes"}`).join("\n") + "\n";
     const s = writeScenario(baseScenario({ array: { elements: "el.csv" } }), { "el.csv": csv });
     const out = join(tempDir(), "b");
-    expect(cli(["build", s, "-o", out]).code).toBe(0);
+    const r = cli(["build", s, "-o", out]);
+    expect(r.code).toBe(0);
+    // issue 8 item 8: the warning names the disabled element by its id (not its table index 2)
+    expect(r.stdout).toMatch(/warning: 1 element\(s\) disabled \(element 12\): they get the off word/);
     const json = JSON.parse(readFileSync(join(out, "table.json"), "utf8"));
     expect(json.elements[5]).toMatchObject({ element: 15, device: "BF1", channel: "1", enabled: true });
     expect(json.elements[2].enabled).toBe(false);

@@ -57,6 +57,30 @@ describe("recalibration loop: build, change calibration, build --compare, diff, 
     expect(readdirSync(out).sort()).toEqual(["changes.csv", "diff.json"]);
   });
 
+  it("diff names the changed elements, prints both calibrations with their header comments, words in hex and decimal; diff.json keeps full hashes (issue 8 item 8)", () => {
+    const r = cli(["diff", b1, b2]);
+    expect(r.code).toBe(1);
+    expect(r.stdout).toMatch(/^changed elements 5, 6, 200$/m);
+    const m1 = JSON.parse(readFileSync(join(b1, "manifest.json"), "utf8"));
+    const m2 = JSON.parse(readFileSync(join(b2, "manifest.json"), "utf8"));
+    // README: diff says which calibration (file name, SHA-256, header comments) produced each build
+    expect(r.stdout).toContain(`old: cal.csv (sha256 ${m1.calibration.sha256})`);
+    expect(r.stdout).toContain(`new: cal.csv (sha256 ${m2.calibration.sha256})`);
+    expect(r.stdout).toMatch(/^ {4}# date: 2026-11-20/m);
+    expect(r.stdout).toMatch(/^ {4}# date: 2026-11-27/m);
+    // common practice: a 16-bit word is 4 hex digits; the hex and decimal spellings name the same word
+    const row = /^28000000000 +(\d+) +(\d+) +0x([0-9A-F]{4}) \((\d+)\) +→ 0x([0-9A-F]{4}) \((\d+)\)/m.exec(r.stdout);
+    expect(row).not.toBeNull();
+    expect(parseInt(row![3]!, 16)).toBe(Number(row![4]));
+    expect(parseInt(row![5]!, 16)).toBe(Number(row![6]));
+    const doc = JSON.parse(readFileSync(join(t, "d", "diff.json"), "utf8"));
+    expect(JSON.stringify(doc)).not.toContain("…");
+    expect(doc.summary.oldCalibration.sha256).toBe(m1.calibration.sha256);
+    expect(doc.summary.newCalibration.sha256).toMatch(/^[0-9a-f]{64}$/);
+    expect(doc.summary.newCalibration.comments.join(" ")).toMatch(/2026-11-27/);
+    expect(doc.summary.elementsChanged).toEqual([5, 6, 200]);
+  });
+
   it("builds with different element sets cannot be compared (exit 2, said plainly)", () => {
     const other = join(t, "other");
     const s = writeScenario(baseScenario({ outputs: ["bin"] }));

@@ -56,7 +56,11 @@ describe("build on the demo", () => {
     for (let i = 0; i < bin.length; i += 2) words.push(bin.readUInt16LE(i));
     expect(words.length).toBe(m.counts.words);
     // $readmemh: whitespace-separated hex words with // comments (IEEE 1364-2005 §17.2.9)
-    const mem = readFileSync(join(dir, "table.mem"), "utf8").split("\n").filter((l) => l && !l.startsWith("//")).map((l) => parseInt(l, 16));
+    const memText = readFileSync(join(dir, "table.mem"), "utf8");
+    const mem = memText.split("\n").filter((l) => l && !l.startsWith("//")).map((l) => parseInt(l, 16));
+    // issue 8 item 8 (common practice: English plural): the demo has one frequency
+    expect(m.counts.frequencies).toBe(1);
+    expect(memText.split("\n")[0]).toBe(`// steercode beam table for $readmemh: 1 frequency x ${m.counts.beams} beams x ${m.counts.elements} elements, ${m.layout.bits}-bit words`);
     expect(mem).toEqual(words);
     const json = JSON.parse(readFileSync(join(dir, "table.json"), "utf8"));
     expect(json.format).toBe("steercode-table/1");
