@@ -210,7 +210,7 @@ export interface BuildOptions {
  * place; an existing folder is replaced only when it is an earlier steercode build.
  */
 export async function build(s: Scenario, outDir: string, opts: BuildOptions = {}): Promise<{ dir: string; manifest: Manifest }> {
-  checkTarget(outDir);
+  checkTarget(outDir, "build");
   const r = await runBuild(s.loaded, outDir, { analysis: opts.analysis ?? true, jobs: opts.jobs ?? 1, ...(opts.onProgress ? { onProgress: opts.onProgress } : {}) });
   return { dir: r.dir, manifest: r.manifest };
 }

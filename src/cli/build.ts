@@ -21,7 +21,7 @@ export interface BuildArgs {
 }
 
 export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
-  checkTarget(args.out);
+  checkTarget(args.out, "build");
   if (args.compare) readManifest(args.compare);
   // start the analysis workers now: their start-up overlaps loading the scenario
   const pool = new WorkerPool(args.analysis ? args.jobs - 1 : 0);

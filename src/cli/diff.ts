@@ -1,7 +1,7 @@
 import { join } from "node:path";
 import { diffBuilds, writeChangesCsv, type CalibrationRef, type DiffResult } from "../io/diff.js";
 import { idList } from "../core/facts.js";
-import { StagedDir } from "../io/outdir.js";
+import { checkTarget, StagedDir } from "../io/outdir.js";
 import { stableJson } from "../io/build.js";
 import { writeFileSync } from "node:fs";
 import { sha256 } from "../io/files.js";
@@ -44,9 +44,10 @@ export function hexWord(w: number, bits: number): string {
 }
 
 export function diffCommand(io: Io, a: string, b: string, out: string | undefined): number {
+  if (out) checkTarget(out, "diff");
   const r = diffBuilds(a, b);
   if (out) {
-    const stage = new StagedDir(out);
+    const stage = new StagedDir(out, "diff");
     try {
       writeDiffFiles(stage.tmp, r, a, b);
       stage.commit();

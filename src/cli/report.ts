@@ -1,7 +1,8 @@
-import { existsSync, statSync } from "node:fs";
+import { existsSync } from "node:fs";
 import { dirname, join } from "node:path";
 import { InputError } from "../core/errors.js";
 import { makeReport, writeReport } from "../report/page.js";
+import { checkReportTarget } from "../io/outdir.js";
 import { printJson, type Io } from "./shared.js";
 import { parseQuantity } from "../core/units.js";
 import { checkFolder, readManifest } from "../io/readbuild.js";
@@ -27,7 +28,7 @@ export function frequencyIndex(dir: string, raw: string | null): number | null {
 export async function reportCommand(io: Io, a: { dir: string; out: string | null; beam: number | null; frequency: string | null }): Promise<number> {
   checkFolder(a.dir);
   const out = a.out ?? join(a.dir, "report.html");
-  if (existsSync(out) && statSync(out).isDirectory()) throw new InputError({ file: out, message: "is a folder; expected a file name for the report (e.g. report.html)" });
+  checkReportTarget(out);
   if (!existsSync(dirname(out))) throw new InputError({ file: out, message: `the folder ${dirname(out)} does not exist` });
   const r = await makeReport(a.dir, { beam: a.beam, frequencyIndex: frequencyIndex(a.dir, a.frequency) });
   writeReport(out, r.html);

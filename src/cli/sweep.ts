@@ -44,7 +44,7 @@ export function parseQuantizers(text: string): QuantizerMethod[] {
 
 export async function sweepCommand(io: Io, a: { scenario: string; out: string; phaseBits: string; attenStep: string | null; quantizer: string | null; jobs: number }): Promise<number> {
   const phaseBits = parseBits(a.phaseBits);
-  checkTarget(a.out);
+  checkTarget(a.out, "sweep");
   const pool = new WorkerPool(a.jobs - 1);
   try {
     return await sweepWith(io, a, phaseBits, pool);

@@ -271,7 +271,7 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
 }
 
 export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
-  const stage = new StagedDir(outDir);
+  const stage = new StagedDir(outDir, "build");
   try {
     const tmp = stage.tmp;
     mkdirSync(join(tmp, "inputs"));

@@ -1,8 +1,9 @@
 /**
  * Atomic output folders. Everything is written into a fresh sibling folder
  * `.<name>.steercode-tmp-<pid>-<n>`, then renamed into place. An existing target is
- * replaced only when it is a steercode output (it holds a steercode manifest);
- * anything else is refused before a byte is written. On SIGINT/SIGTERM or an error
+ * replaced only when it is an earlier output of the same command (its marker file —
+ * manifest.json, sweep.json or diff.json — records which); anything else is refused
+ * before a byte is written. On SIGINT/SIGTERM or an error
  * the temporary folder is removed and the previous output stays as it was.
  */
 import { existsSync, lstatSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync } from "node:fs";
@@ -11,24 +12,53 @@ import { InputError } from "../core/errors.js";
 
 export const MANIFEST_FORMATS = ["steercode-manifest/1", "steercode-sweep/1", "steercode-diff/1"];
 
-/** Is `dir` a folder steercode wrote (or an empty folder)? */
-export function isOurs(dir: string): boolean {
+/** The command that wrote an output folder; its marker file's `format` records it. */
+export type OutputCommand = "build" | "sweep" | "diff";
+
+const MARKERS: { command: OutputCommand; file: string; format: string; what: string }[] = [
+  { command: "build", file: "manifest.json", format: "steercode-manifest/1", what: "a steercode build (manifest.json)" },
+  { command: "sweep", file: "sweep.json", format: "steercode-sweep/1", what: "a steercode sweep (sweep.json)" },
+  { command: "diff", file: "diff.json", format: "steercode-diff/1", what: "a steercode diff (diff.json)" },
+];
+
+/**
+ * What an existing folder holds: "empty", the commands whose outputs it holds (a build
+ * made with --compare also holds a diff.json: it counts as a build), or [] when it
+ * holds no steercode marker (or one that cannot be read).
+ */
+export function outputCommands(dir: string): "empty" | OutputCommand[] {
+  let entries: string[];
   try {
-    const entries = readdirSync(dir);
-    if (entries.length === 0) return true;
-    for (const m of ["manifest.json", "sweep.json", "diff.json"]) {
-      if (!entries.includes(m)) continue;
-      const doc = JSON.parse(readFileSync(join(dir, m), "utf8")) as { format?: string };
-      if (doc.format && MANIFEST_FORMATS.includes(doc.format)) return true;
-    }
+    entries = readdirSync(dir);
   } catch {
-    return false;
+    return [];
   }
-  return false;
+  if (entries.length === 0) return "empty";
+  const found: OutputCommand[] = [];
+  for (const m of MARKERS) {
+    if (!entries.includes(m.file)) continue;
+    try {
+      const doc = JSON.parse(readFileSync(join(dir, m.file), "utf8")) as { format?: string };
+      if (doc.format === m.format) found.push(m.command);
+    } catch {
+      /* not ours */
+    }
+  }
+  return found.includes("build") ? ["build", ...found.filter((c) => c === "sweep")] : found;
 }
 
-/** Refuse early (before any work) when the target exists and is not ours. */
-export function checkTarget(target: string): void {
+/** Is `dir` a folder steercode wrote (or an empty folder)? */
+export function isOurs(dir: string): boolean {
+  const k = outputCommands(dir);
+  return k === "empty" || k.length > 0;
+}
+
+/**
+ * Refuse early (before any work) unless the target is new, empty, or an earlier output
+ * of the same command: `sweep -o` never replaces a build's tables, `diff -o` never a
+ * build, `build -o` never a sweep.
+ */
+export function checkTarget(target: string, command: OutputCommand): void {
   const abs = resolve(target);
   // a link (dangling or not) is never written through nor replaced: the rename would replace the link itself
   if (isLink(abs)) throw new InputError({ file: target, message: "is a symbolic link; expected a new folder or an earlier steercode output (steercode does not write through links)" });
@@ -37,8 +67,13 @@ export function checkTarget(target: string): void {
     if (!existsSync(parent)) throw new InputError({ file: target, message: `the parent folder ${parent} does not exist` });
     return;
   }
-  if (!statSync(abs).isDirectory()) throw new InputError({ file: target, message: "exists and is not a folder; expected a new folder or an earlier steercode output" });
-  if (!isOurs(abs)) throw new InputError({ file: target, message: "exists and was not written by steercode (no steercode manifest inside); refusing to overwrite it. Choose another -o folder or remove it yourself" });
+  if (!statSync(abs).isDirectory()) throw new InputError({ file: target, message: `exists and is not a folder; expected a new folder or an earlier steercode ${command} output` });
+  const k = outputCommands(abs);
+  if (k === "empty") return;
+  if (!k.length) throw new InputError({ file: target, message: "exists and was not written by steercode (no steercode manifest inside); refusing to overwrite it. Choose another -o folder or remove it yourself" });
+  if (k.length === 1 && k[0] === command) return;
+  const what = k.map((c) => MARKERS.find((m) => m.command === c)!.what).join(" and ");
+  throw new InputError({ file: target, message: `exists and holds ${what}; ${command} -o may replace only an earlier ${command} output, so nothing was written. Choose another -o folder` });
 }
 
 function isLink(abs: string): boolean {
@@ -78,6 +113,27 @@ export function writeProblem(e: NodeJS.ErrnoException, target: string, what = "c
   const code = e.code ?? "";
   return new InputError({ file: target, message: `${what}: ${ERRNO_TEXT[code] ?? code} (${code}, ${e.syscall}${e.path ? ` ${e.path}` : ""}); nothing was written, an earlier output is unchanged` });
 }
+
+/**
+ * `report -o FILE`: refuse (before any work) to replace anything but an earlier
+ * steercode report, so a report never overwrites a manifest, a table or a scenario.
+ */
+export function checkReportTarget(out: string): void {
+  if (!existsSync(out)) return;
+  if (statSync(out).isDirectory()) throw new InputError({ file: out, message: "is a folder; expected a file name for the report (e.g. report.html)" });
+  let head = "";
+  try {
+    head = readFileSync(out, "utf8").slice(0, 4096);
+  } catch {
+    /* unreadable: refused below */
+  }
+  if (REPORT_MARKER.test(head)) return;
+  throw new InputError({ file: out, message: `exists and is not a steercode report${/\.json$/i.test(out) && /"format":\s*"steercode-/.test(head) ? " (it is a steercode output file)" : ""}; report -o may replace only an earlier report, so nothing was written. Choose another file name` });
+}
+
+/** The generator tag every report carries in its <head> (see makeReport). */
+export const REPORT_GENERATOR = '<meta name="generator" content="steercode report">';
+const REPORT_MARKER = /<meta name="generator" content="steercode report">|<title>steercode (?:sweep )?report/;
 
 let counter = 0;
 const live = new Set<string>();
@@ -154,7 +210,7 @@ export function recoverStale(abs: string): void {
 export class StagedDir {
   readonly tmp: string;
   private done = false;
-  constructor(readonly target: string) {
+  constructor(readonly target: string, readonly command: OutputCommand) {
     hookExit();
     const abs = resolve(target);
     try {
@@ -162,7 +218,7 @@ export class StagedDir {
     } catch (e) {
       throw isSystemError(e) ? writeProblem(e, target, "cannot restore the earlier output left by an interrupted build") : e;
     }
-    checkTarget(target);
+    checkTarget(target, command);
     this.tmp = join(dirname(abs), `.${basename(abs)}.steercode-tmp-${process.pid}-${counter++}`);
     try {
       mkdirSync(this.tmp);
@@ -180,7 +236,7 @@ export class StagedDir {
       let old: string | null = null;
       try {
         if (existsSync(abs) || isLink(abs)) {
-          checkTarget(this.target);
+          checkTarget(this.target, this.command);
           old = join(dirname(abs), `.${basename(abs)}.steercode-old-${process.pid}-${counter++}`);
           renameSync(abs, old);
         }

@@ -26,6 +26,7 @@ const folderText = (dir: string, rel: string, max: number): Buffer | null => rea
 import { chartSvg, MARKERS, PALETTE, type Panel, type Series } from "../io/svg.js";
 import { SAFETY } from "../cli/shared.js";
 import { encodeTyped, type PageData } from "./model.js";
+import { REPORT_GENERATOR } from "../io/outdir.js";
 
 export interface ReportOptions {
   beam: number | null;
@@ -350,7 +351,7 @@ export async function makeReport(dir: string, o: ReportOptions): Promise<{ html:
   }
   const script = data ? `<script type="application/json" id="steercode-data">${scriptJson(data)}</script>\n<script>${(await explorerBundle()).replace(/<\/script/gi, "<\\/script")}</script>` : "";
   const html = `<!DOCTYPE html>
-<html lang="en"><head><meta charset="utf-8"><title>${esc(title)}</title>
+<html lang="en"><head><meta charset="utf-8">${REPORT_GENERATOR}<title>${esc(title)}</title>
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <meta http-equiv="Content-Security-Policy" content="default-src 'none'; script-src 'unsafe-inline'; style-src 'unsafe-inline'; img-src data:">
 <style>${CSS}</style></head><body>

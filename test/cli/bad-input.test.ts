@@ -145,6 +145,26 @@ const cases: Case[] = [
   { name: "frequency unit in the wrong case (mHz or MHz?)", doc: B({ frequency: "28000 mhz" }), expect: [/\/frequency: .*units are case-sensitive.*write "MHz", not "mhz".*got "28000 mhz"/] },
   { name: "length unit in the wrong case (mm or Mm?)", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5 Mm", dy: "5 mm" } } }), expect: [/\/array\/lattice\/dx: .*units are case-sensitive.*write "mm", not "Mm"/] },
   { name: "sidelobe level string without dB", doc: B({ taper: { kind: "chebyshev", sidelobe: "-30" } }), expect: [/\/taper\/sidelobe: expected a level in dB.*a string needs its unit.*got "-30"/] },
+  // issue 8 item 7: an output replaces only an earlier output of the same command (README: output folders)
+  {
+    name: "sweep -o onto a build folder",
+    doc: B(),
+    prepare: (d) => { mkdirSync(join(d, "out")); writeFileSync(join(d, "out", "manifest.json"), '{"format": "steercode-manifest/1"}'); writeFileSync(join(d, "out", "table.bin"), "x"); },
+    args: (d) => ["sweep", join(d, "scenario.json"), "--phase-bits", "3", "-o", join(d, "out")],
+    expect: [/out: exists and holds a steercode build \(manifest\.json\); sweep -o may replace only an earlier sweep output/],
+  },
+  {
+    name: "build -o onto a sweep folder",
+    doc: B(),
+    prepare: (d) => { mkdirSync(join(d, "out")); writeFileSync(join(d, "out", "sweep.json"), '{"format": "steercode-sweep/1"}'); },
+    expect: [/out: exists and holds a steercode sweep \(sweep\.json\); build -o may replace only an earlier build output/],
+  },
+  {
+    name: "report -o onto a file that is not a report",
+    prepare: (d) => { mkdirSync(join(d, "out")); writeFileSync(join(d, "out", "manifest.json"), '{"format": "steercode-manifest/1"}'); },
+    args: (d) => ["report", join(d, "out"), "-o", join(d, "out", "manifest.json")],
+    expect: [/manifest\.json: exists and is not a steercode report \(it is a steercode output file\); report -o may replace only an earlier report/],
+  },
 ];
 
 describe("bad input: exit 2, a message naming file and field or line, nothing written", () => {
