@@ -9,7 +9,8 @@ import { diffBuilds, incompatibility, type DiffResult } from "../io/diff.js";
 import { readManifest } from "../io/readbuild.js";
 import { WorkerPool } from "../io/analysis-pool.js";
 import { diffLines, writeDiffFiles } from "./diff.js";
-import type { Theory } from "../core/theory.js";
+import { negativeGainLossNote, theoryRows, type Theory } from "../core/theory.js";
+import { M, METRICS } from "../core/pattern/analyze.js";
 import type { OptimizedSummary } from "../core/quantize/optimized.js";
 
 export interface BuildArgs {
@@ -63,8 +64,9 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
     bar.stop();
   }
   const m = result.manifest;
+  const gainNote = result.metrics ? negativeGainLossNote(result.theory, countNegative(result.metrics), m.counts.beams * m.counts.frequencies) : null;
   if (io.json) {
-    printJson(io, { ok: true, dir: args.out, manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffResult).identical, summary: (diff as DiffResult).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, ...(result.optimized ? { optimized: result.optimized.summary } : {}), theory: result.theory, warnings: facts.warnings, safety: SAFETY });
+    printJson(io, { ok: true, dir: args.out, notes: gainNote ? [gainNote] : [], manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffResult).identical, summary: (diff as DiffResult).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, ...(result.optimized ? { optimized: result.optimized.summary } : {}), theory: result.theory, warnings: facts.warnings, safety: SAFETY });
     return 0;
   }
   const lines = [
@@ -74,13 +76,24 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
       .map(([k, f]) => `  ${k.padEnd(12)} ${String(f.bytes).padStart(10)} bytes  sha256 ${f.sha256.slice(0, 16)}…${f.crc32 ? `  crc32 ${f.crc32}` : ""}`),
     ...m.perFrequency.map((p) => `  ${(Number(p.frequencyHz) / 1e9).toPrecision(6)} GHz: G_ref ${fmt(p.gRefDb, 3)} dB (element ${p.gRefElement}), ${p.clipped} clipped`),
   ];
-  if (result.summary) lines.push("", ...summaryLines(result.summary, m.counts.beams, m.frequenciesHz), "", ...theoryLines(result.theory));
+  if (result.summary) {
+    lines.push("", ...summaryLines(result.summary, m.counts.beams, m.frequenciesHz));
+    if (gainNote) lines.push(`note: ${gainNote}.`);
+    lines.push("", ...theoryLines(result.theory));
+  }
   if (result.optimized) lines.push("", ...optimizedLines(result.optimized.summary, m));
   if (diff) lines.push("", `compared with ${args.compare} (changes.csv, diff.json):`, ...diffLines(diff).map((l) => "  " + l));
   for (const w of facts.warnings) lines.push(warn(io, `warning: ${w}`));
   lines.push("", SAFETY);
   io.stdout(lines.join("\n") + "\n");
   return 0;
+}
+
+/** Beams whose gain loss is negative (realized louder than the tapered ideal at the commanded direction). */
+export function countNegative(metrics: Float64Array): number {
+  let n = 0;
+  for (let o = M.gain_loss_db; o < metrics.length; o += METRICS) if (metrics[o]! < 0) n++;
+  return n;
 }
 
 const SHOWN: [string, string, number][] = [
@@ -128,12 +141,13 @@ export function optimizedLines(o: OptimizedSummary, m: Manifest): string[] {
 }
 
 export function theoryLines(t: Theory): string[] {
-  return [
-    "published estimates for this part:",
-    `  gain loss, phase quantisation  ${fmt(t.gainLossDb.value, 3)} dB   ${t.gainLossDb.formula}; ${t.gainLossDb.source}`,
-    `  rms phase error                ${fmt(t.rmsPhaseErrorDeg.value, 3)} deg  ${t.rmsPhaseErrorDeg.formula}; ${t.rmsPhaseErrorDeg.source}`,
-    `  rms amplitude error            ${fmt(t.rmsAmpErrorDb.value, 3)} dB   ${t.rmsAmpErrorDb.formula}; ${t.rmsAmpErrorDb.source}`,
-    `  random-error sidelobe floor    ${fmt(t.randomSidelobeFloorDb.value, 1)} dB   ${t.randomSidelobeFloorDb.formula}, η = ${fmt(t.taperEfficiency, 3)}; ${t.randomSidelobeFloorDb.source}`,
-    `  periodic quantisation lobe     ${fmt(t.quantizationLobeDb.value, 1)} dB   ${t.quantizationLobeDb.formula}; ${t.quantizationLobeDb.source} (only without calibration spread)`,
-  ];
+  const lines = [`estimates for this quantizer (${t.quantizer}) and part, beside the measurements above:`];
+  for (const r of theoryRows(t)) {
+    const v = r.v;
+    const value = v.value === null ? "n/a".padEnd(11) : `${fmt(v.value, r.digits)} ${v.unit}`.padEnd(11);
+    const eta = r.key === "randomSidelobeFloorDb" && v.value !== null ? `, η = ${fmt(t.taperEfficiency, 3)}` : "";
+    const text = v.value === null ? (v.note ?? "") : `${v.formula}${eta}; ${v.source}${v.note ? ` (${v.note})` : ""}`;
+    lines.push(`  ${r.label.padEnd(30)} ${value} ${text}`);
+  }
+  return lines;
 }

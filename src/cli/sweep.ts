@@ -2,7 +2,7 @@ import type { QuantizerMethod } from "../core/plan.js";
 import { parseQuantity } from "../core/units.js";
 import { loadScenario, MAX_ATTEN_STEP_DB } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
-import { runSweep } from "../io/sweep.js";
+import { jsonRows, runSweep } from "../io/sweep.js";
 import { WorkerPool } from "../io/analysis-pool.js";
 import { fmt, printJson, progress, SAFETY, type Io } from "./shared.js";
 import { UsageError } from "./usage.js";
@@ -65,13 +65,13 @@ async function sweepWith(io: Io, a: { scenario: string; out: string; attenStep: 
     bar.stop();
   }
   if (io.json) {
-    printJson(io, { ok: true, dir: a.out, rows: r.rows });
+    printJson(io, { ok: true, dir: a.out, rows: jsonRows(r.rows) });
     return 0;
   }
   const lines = [
     `wrote ${a.out}: sweep.csv, sweep.json, sweep.svg (${r.rows.length} parts × ${loaded.plan.beams.count * loaded.plan.frequenciesHz.length} beams)`,
     "",
-    `${"bits".padStart(4)} ${"step dB".padStart(7)} ${"q".padEnd(10)} ${"PSL max".padStart(8)} ${"rise p95".padStart(8)} ${"rise max".padStart(8)} ${"point max°".padStart(10)} ${"loss med".padStart(8)} ${"theory".padStart(7)} ${"rms φ°".padStart(7)} ${"LSB/√12".padStart(7)}`,
+    `${"bits".padStart(4)} ${"step dB".padStart(7)} ${"q".padEnd(10)} ${"PSL max".padStart(8)} ${"rise p95".padStart(8)} ${"rise max".padStart(8)} ${"point max°".padStart(10)} ${"loss med".padStart(8)} ${"theory".padStart(7)} ${"rms φ°".padStart(7)} ${"theory".padStart(7)}`,
   ];
   // quantizers side by side: rows grouped by (step, bits), one line per quantizer
   const qOrder = (q: unknown) => quantizers.indexOf(q as QuantizerMethod);
@@ -80,7 +80,17 @@ async function sweepWith(io: Io, a: { scenario: string; out: string; attenStep: 
     lines.push(
       `${String(row.phase_bits).padStart(4)} ${String(row.atten_step_db).padStart(7)} ${String(row.quantizer).padEnd(10)} ${fmt(Number(row.psl_db_max), 2).padStart(8)} ${fmt(Number(row.sll_rise_db_p95), 2).padStart(8)} ${fmt(Number(row.sll_rise_db_max), 2).padStart(8)} ${fmt(Number(row.pointing_error_deg_max), 4).padStart(10)} ${fmt(Number(row.gain_loss_db_median), 3).padStart(8)} ${fmt(Number(row.theory_gain_loss_db), 3).padStart(7)} ${fmt(Number(row.rms_phase_error_deg), 3).padStart(7)} ${fmt(Number(row.theory_rms_phase_error_deg), 3).padStart(7)}`,
     );
-  lines.push("", "theory: gain loss [sin(π/2^B)/(π/2^B)]² and quantisation lobe 2^(−2B): Mailloux ch. 7 (from memory); rms LSB/√12: common practice", "", SAFETY);
+  lines.push("");
+  const qs = new Set(r.rows.map((row) => String(row.quantizer)));
+  if (qs.has("nearest")) lines.push("theory, nearest: gain loss −10·log10([sin(π/2^B)/(π/2^B)]²) and quantisation lobe 10·log10(2^(−2B)) = −6.0206·B dB: Mailloux ch. 7 (from memory); rms LSB/√12: common practice");
+  if (qs.has("randomized")) lines.push("theory, randomized: gain loss −10·log10([sin(π/2^B)/(π/2^B)]⁴) and rms LSB/√6: derived for stochastic rounding (README); no periodic quantisation lobe");
+  if (loaded.plan.phaseStates || loaded.plan.attenStates) lines.push("theory: n/a with measured state tables (the nearest-weight search over measured states has no uniform-step estimate)");
+  const neg = r.rows.filter((row) => Number(row.gain_loss_db_median) < 0);
+  if (neg.length) {
+    const clipped = neg.some((row) => Number(row.clipped_elements) > 0);
+    lines.push(`note: the median gain loss is negative for ${neg.length} part(s): gain loss is referred to the tapered ideal${clipped ? ", and clipped elements (more attenuation needed than the attenuator's range) run louder than the taper asks; the same clipping raises the rms amplitude error (sweep.json: theory_atten_gain_change_db, theory_rms_amp_error_db, clipped_elements)" : ""}`);
+  }
+  lines.push("", SAFETY);
   io.stdout(lines.join("\n") + "\n");
   return 0;
 }

@@ -6,7 +6,7 @@ import type { QuantizerMethod } from "./plan.js";
 import { M, METRICS } from "./pattern/analyze.js";
 import { quantile } from "./pattern/summary.js";
 import type { Plan } from "./plan.js";
-import { theoryFor } from "./theory.js";
+import { planForPart, theoryFor } from "./theory.js";
 
 export interface SweepVariantSpec {
   phaseBits: number;
@@ -41,6 +41,10 @@ export type SweepRow = Record<(typeof SWEEP_COLUMNS)[number], number | string> &
   psl_ideal_db_max: number;
   theory_random_floor_db: number;
   theory_rms_amp_error_db: number;
+  theory_atten_gain_change_db: number;
+  theory_expected_gain_loss_db: number;
+  /** enabled elements the attenuator clips, summed over the frequencies */
+  clipped_elements: number;
 };
 
 /**
@@ -65,7 +69,7 @@ export function sweepRow(plan: Plan, v: SweepVariantSpec, block: Float64Array, i
   const ra = col(M.rms_amp_error_db);
   const rms = (a: Float64Array) => Math.sqrt(a.reduce((s, x) => s + x * x, 0) / a.length);
   const max = (a: Float64Array) => a.reduce((m, x) => Math.max(m, x), -Infinity);
-  const t = theoryFor(plan, v.phaseBits, v.attenStepDb);
+  const t = theoryFor(planForPart(plan, v));
   return {
     phase_bits: v.phaseBits,
     atten_step_db: v.attenStepDb,
@@ -82,12 +86,16 @@ export function sweepRow(plan: Plan, v: SweepVariantSpec, block: Float64Array, i
     // every beam has the same enabled elements, so the rms over all beams and elements is the rms of the per-beam rms values
     rms_phase_error_deg: rms(rp),
     rms_amp_error_db: rms(ra),
-    theory_gain_loss_db: t.gainLossDb.value,
-    theory_rms_phase_error_deg: t.rmsPhaseErrorDeg.value,
-    theory_quantization_lobe_db: t.quantizationLobeDb.value,
+    // n/a (no estimate fits this quantizer or part) is NaN: an empty cell in sweep.csv, null in sweep.json
+    theory_gain_loss_db: t.gainLossDb.value ?? NaN,
+    theory_rms_phase_error_deg: t.rmsPhaseErrorDeg.value ?? NaN,
+    theory_quantization_lobe_db: t.quantizationLobeDb.value ?? NaN,
     quantizer: v.quantizer,
     psl_ideal_db_max: max(idealPsl.filter((x) => !Number.isNaN(x))),
-    theory_random_floor_db: t.randomSidelobeFloorDb.value,
-    theory_rms_amp_error_db: t.rmsAmpErrorDb.value,
+    theory_random_floor_db: t.randomSidelobeFloorDb.value ?? NaN,
+    theory_rms_amp_error_db: t.rmsAmpErrorDb.value ?? NaN,
+    theory_atten_gain_change_db: t.attenGainChangeDb.value ?? NaN,
+    theory_expected_gain_loss_db: t.expectedGainLossDb.value ?? NaN,
+    clipped_elements: t.clippedElements,
   };
 }

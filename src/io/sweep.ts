@@ -7,7 +7,7 @@ import { InputError } from "../core/errors.js";
 import { METRICS } from "../core/pattern/analyze.js";
 import { BeamAnalyzer } from "../core/pattern/analyze.js";
 import { attenBitsFor, SWEEP_COLUMNS, sweepRow, type SweepRow, type SweepVariantSpec } from "../core/sweep.js";
-import { theoryFor } from "../core/theory.js";
+import { planForPart, theoryFor, type TheoryValue } from "../core/theory.js";
 import { startAnalysis, type WorkerPool } from "./analysis-pool.js";
 import { stableJson } from "./build.js";
 import { sha256 } from "./files.js";
@@ -71,7 +71,21 @@ export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepO
     writeFileSync(join(stage.tmp, "sweep.csv"), csvText);
     const svg = sweepSvg(loaded, rows);
     writeFileSync(join(stage.tmp, "sweep.svg"), svg);
-    const t = theoryFor(plan);
+    // formulas and sources per quantizer: they differ (nearest: published; randomized: derived)
+    const theorySources: Record<string, Record<string, { formula: string; source: string; note?: string }>> = {};
+    for (const q of o.quantizers) {
+      const t = theoryFor(planForPart(plan, { phaseBits: plan.phaseBits, attenBits: plan.attenBits, attenStepDb: plan.attenStepDb, attenStepExact: plan.attenStepExact, quantizer: q }));
+      const src = (v: TheoryValue) => ({ formula: v.formula, source: v.source, ...(v.note ? { note: v.note } : {}) });
+      theorySources[q] = {
+        theory_gain_loss_db: src(t.gainLossDb),
+        theory_rms_phase_error_deg: src(t.rmsPhaseErrorDeg),
+        theory_quantization_lobe_db: src(t.quantizationLobeDb),
+        theory_random_floor_db: src(t.randomSidelobeFloorDb),
+        theory_rms_amp_error_db: src(t.rmsAmpErrorDb),
+        theory_atten_gain_change_db: src(t.attenGainChangeDb),
+        theory_expected_gain_loss_db: src(t.expectedGainLossDb),
+      };
+    }
     const doc = {
       format: "steercode-sweep/1",
       tool: { name: "steercode", version: toolVersion() },
@@ -81,14 +95,8 @@ export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepO
       grid: { beams: nb, frequenciesHz: plan.frequenciesExact, elements: plan.elements.count },
       attenuatorRangeDb: (2 ** plan.attenBits - 1) * plan.attenStepDb,
       seed: o.quantizers.includes("randomized") || o.quantizers.includes("optimized") ? plan.quantizer.seed : null,
-      rows,
-      theorySources: {
-        theory_gain_loss_db: t.gainLossDb.source,
-        theory_rms_phase_error_deg: t.rmsPhaseErrorDeg.source,
-        theory_quantization_lobe_db: t.quantizationLobeDb.source,
-        theory_random_floor_db: t.randomSidelobeFloorDb.source,
-        theory_rms_amp_error_db: t.rmsAmpErrorDb.source,
-      },
+      rows: jsonRows(rows),
+      theorySources,
       files: { "sweep.csv": { sha256: sha256(csvText) }, "sweep.svg": { sha256: sha256(svg) } },
     };
     writeFileSync(join(stage.tmp, "sweep.json"), stableJson(doc, null, 2) + "\n");
@@ -99,6 +107,11 @@ export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepO
     stage.abort();
     throw e;
   }
+}
+
+/** Rows for JSON: a value that does not exist (NaN: no sidelobe, or no estimate fits) is null. */
+export function jsonRows(rows: SweepRow[]): Record<string, number | string | null>[] {
+  return rows.map((r) => Object.fromEntries(Object.entries(r).map(([k, v]) => [k, typeof v === "number" && !Number.isFinite(v) ? null : v])));
 }
 
 function cell(v: number | string): string {
@@ -124,8 +137,14 @@ export function sweepSvg(loaded: LoadedScenario, rows: SweepRow[]): string {
       };
     });
   const bits = [...new Set(rows.map((r) => Number(r.phase_bits)))].sort((a, b) => a - b);
-  const theory = (label: string, fn: (b: number) => number, dash: string): Series => ({ label, points: bits.map((b) => [b, fn(b)]), colour: "#555555", dash, marker: "none", width: 1.4 });
-  const t = (b: number) => theoryFor(plan, b, plan.attenStepDb);
+  const quantizers = [...new Set(rows.map((r) => String(r.quantizer)))];
+  const t = (b: number, q: string) => theoryFor(planForPart(plan, { phaseBits: b, attenBits: plan.attenBits, attenStepDb: plan.attenStepDb, attenStepExact: plan.attenStepExact, quantizer: q }));
+  // one curve per quantizer whose estimate exists (n/a points are left out)
+  const theory = (label: string, fn: (b: number, q: string) => number | null, dash: string): Series[] =>
+    quantizers
+      .map((q) => ({ q, points: bits.flatMap((b) => { const v = fn(b, q); return v === null ? [] : [[b, v] as [number, number]]; }) }))
+      .filter((s) => s.points.length)
+      .map((s) => ({ label: `${label}${quantizers.length > 1 || s.q !== "nearest" ? `, ${s.q}` : ""}`, points: s.points, colour: "#555555", dash, marker: "none", width: 1.4 }));
   const idealPsl = Number(rows[0]?.psl_ideal_db_max);
   const panels: Panel[] = [
     {
@@ -134,8 +153,8 @@ export function sweepSvg(loaded: LoadedScenario, rows: SweepRow[]): string {
       yLabel: "PSL, dB (worst beam)",
       series: [
         ...seriesFor("psl_db_max", "worst"),
-        theory("quantisation lobe 2^(-2B) [Mailloux]", (b) => t(b).quantizationLobeDb.value, "2 3"),
-        theory("random-error floor σ²/(ηN) [Mailloux]", (b) => t(b).randomSidelobeFloorDb.value, "8 3 2 3"),
+        ...theory("quantisation lobe 2^(-2B) [Mailloux]", (b, q) => t(b, q).quantizationLobeDb.value, "2 3"),
+        ...theory("random-error floor σ²/(ηN) [Mailloux]", (b, q) => t(b, q).randomSidelobeFloorDb.value, "8 3 2 3"),
         { label: "ideal taper (worst beam)", points: bits.map((b) => [b, idealPsl]), colour: "#999999", dash: "1 2", marker: "none", width: 1.2 },
       ],
     },
@@ -145,11 +164,15 @@ export function sweepSvg(loaded: LoadedScenario, rows: SweepRow[]): string {
       title: "Gain loss at the commanded direction",
       xLabel: "phase-shifter bits",
       yLabel: "dB (positive = loss)",
-      series: [...seriesFor("gain_loss_db_max", "max"), ...seriesFor("gain_loss_db_median", "median", "3 3"), theory("[sin(π/2^B)/(π/2^B)]² [Mailloux]", (b) => t(b).gainLossDb.value, "2 3")],
+      series: [
+        ...seriesFor("gain_loss_db_max", "max"),
+        ...seriesFor("gain_loss_db_median", "median", "3 3"),
+        ...theory("phase quantisation (nearest: sinc² [Mailloux]; randomized: sinc⁴, derived)", (b, q) => t(b, q).gainLossDb.value, "2 3"),
+      ],
     },
   ];
   return chartSvg(`Bit-depth trade-off: ${plan.name || "scenario"} (${plan.elements.count} elements, ${plan.beams.count} beams)`, panels, [
-    "Theory curves: Mailloux, Phased Array Antenna Handbook, ch. 7 (from memory); quantisation lobes appear only when rounding errors are periodic (no calibration spread).",
+    "Theory curves: Mailloux, Phased Array Antenna Handbook, ch. 7 (from memory), for nearest rounding; randomized rounding's loss is derived (sinc⁴) and it has no periodic quantisation lobe. Quantisation lobes appear only when rounding errors are periodic (no calibration spread).",
     "Attenuator keeps its dB range; each step gets the bits it needs. Generated by steercode sweep.",
   ]);
 }

@@ -320,6 +320,15 @@ function apertureViews(an: BeamAnalyzer): void {
 }
 
 // ---------------------------------------------------------------- metrics, heading
+/** The rms phase estimate that fits this build's quantizer and part (README, "Theory beside measurement"). */
+function phaseTheoryText(): string {
+  const lsb = 360 / 2 ** plan.phaseBits;
+  if (plan.phaseStates || plan.attenStates) return "enabled elements; measured states: no uniform-step estimate applies";
+  if (plan.quantizer.method === "randomized") return `enabled elements; LSB/√6 = ${fmt(lsb / Math.sqrt(6), 3)}° for randomized (stochastic) rounding, derived`;
+  if (plan.quantizer.method === "nearest") return `enabled elements; LSB/√12 = ${fmt(lsb / Math.sqrt(12), 3)}° for nearest rounding`;
+  return "enabled elements";
+}
+
 function metricsTable(fi: number, b: number): void {
   const row = (k: string, v: string, src: string) => `<tr><th scope="row">${esc(k)}</th><td>${v}</td><td class="src">${esc(src)}</td></tr>`;
   const csv = (col: string): number => {
@@ -336,9 +345,9 @@ ${row("realized peak (u, v)", `${fmt(met[M.peak_u]!, 5)}, ${fmt(met[M.peak_v]!, 
 ${row("PSL realized", `${fmt(met[M.psl_db]!, 2)} dB`, "largest lobe outside the main lobe, visible space incl. horizon")}
 ${row("PSL ideal", `${fmt(met[M.psl_ideal_db]!, 2)} dB`, "tapered, unquantised weights")}
 ${row("sidelobe rise", `${fmt(met[M.sll_rise_db]!, 2)} dB`, "realized − ideal")}
-${row("gain loss", `${fmt(met[M.gain_loss_db]!, 3)} dB`, "at the commanded direction; negative when clipping raised edge elements")}
-${row("rms phase error", `${fmt(met[M.rms_phase_error_deg]!, 3)}°`, `enabled elements; LSB/√12 = ${fmt(360 / 2 ** plan.phaseBits / Math.sqrt(12), 3)}° for rounding`)}
-${row("rms amplitude error", `${fmt(met[M.rms_amp_error_db]!, 3)} dB`, "enabled elements, realized vs ideal")}
+${row("gain loss", `${fmt(met[M.gain_loss_db]!, 3)} dB`, "at the commanded direction, referred to the tapered ideal: negative when clipped elements (more attenuation needed than the range) run louder than the taper asks")}
+${row("rms phase error", `${fmt(met[M.rms_phase_error_deg]!, 3)}°`, phaseTheoryText())}
+${row("rms amplitude error", `${fmt(met[M.rms_amp_error_db]!, 3)} dB`, "enabled elements, realized vs ideal; a clipped element adds its whole excess over the attenuator's range")}
 ${row("clipped elements", String(met[M.clipped]!), "attenuation past the attenuator's range")}
 ${extra}
 ${row("computed in", `${shown.ms.toFixed(0)} ms`, "this page, steercode's own engine")}

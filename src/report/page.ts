@@ -27,6 +27,7 @@ import { chartSvg, MARKERS, PALETTE, type Panel, type Series } from "../io/svg.j
 import { SAFETY } from "../cli/shared.js";
 import { encodeTyped, type PageData } from "./model.js";
 import { REPORT_GENERATOR } from "../io/outdir.js";
+import { negativeGainLossNote, theoryFor, theoryRows } from "../core/theory.js";
 
 export interface ReportOptions {
   beam: number | null;
@@ -170,7 +171,16 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
     ["G_ref, clipped elements", m.perFrequency.map((p, i) => `${Number(((plan.frequenciesHz[i] ?? NaN) / 1e9).toPrecision(9))} GHz: ${fin(p?.gRefDb, 3)} dB, ${fin(p?.clipped, 0)} clipped`).join("; ")],
     ["table.bin CRC-32", typeof binCrc === "string" ? binCrc : "no table.bin in this build"],
   ];
-  const html = `<section id="summary"><h2>What was built</h2><table class="kv">${summary.map(([k, v]) => `<tr><th scope="row">${esc(k)}</th><td>${esc(v)}</td></tr>`).join("")}</table></section>
+  // estimates that fit this quantizer and part, and why a gain loss is negative (issue 8 items 3, 4)
+  const t = theoryFor(plan);
+  const gl = metricColumns.indexOf("gain_loss_db");
+  let negatives = 0;
+  if (metrics && gl >= 0) for (let k = gl; k < metrics.length; k += metricColumns.length) if (metrics[k]! < 0) negatives++;
+  const gainNote = negativeGainLossNote(t, negatives, F * B);
+  const estimates = `<table><thead><tr><th>estimate for this quantizer (${esc(t.quantizer)}) and part</th><th>value</th><th>formula</th><th>source, or why n/a</th></tr></thead><tbody>${theoryRows(t)
+    .map((r) => `<tr><th scope="row">${esc(r.label)}</th><td>${r.v.value === null ? "n/a" : `${r.v.value.toFixed(r.digits)} ${esc(r.v.unit)}`}</td><td class="src">${r.v.value === null ? "" : esc(r.v.formula)}</td><td class="src">${esc(r.v.value === null ? (r.v.note ?? "") : `${r.v.source}${r.v.note ? ` (${r.v.note})` : ""}`)}</td></tr>`)
+    .join("")}</tbody></table>${gainNote ? `<p class="note" id="gain-note">Note: ${esc(gainNote)}.</p>` : ""}`;
+  const html = `<section id="summary"><h2>What was built</h2><table class="kv">${summary.map(([k, v]) => `<tr><th scope="row">${esc(k)}</th><td>${esc(v)}</td></tr>`).join("")}</table>${estimates}</section>
 <section id="explorer"><h2>Beam explorer</h2>
 <div class="controls"><label>frequency <select id="freq-select" aria-label="frequency"></select></label>
 <label>beam <select id="beam-select" aria-label="beam"></select></label>
@@ -212,7 +222,15 @@ function comparisonPart(dir: string, m: Manifest | null): string {
   const str = (x: unknown) => (typeof x === "string" ? x : "");
   const lines: string[] = [];
   lines.push(doc.identical === true ? `identical: all ${num(s.wordsCompared)} words agree` : `${num(s.wordsChanged)} of ${num(s.wordsCompared)} words changed, in ${num(s.beamsTouched)} beam(s) and ${num(s.elementsTouched)} element(s); largest phase change ${num(s.largestPhaseChangeLsb)} LSB, largest attenuation change ${num(s.largestAttenChangeSteps)} step(s)`);
-  if (s.calibrationChanged === true) lines.push(`calibration: ${str(s.oldCalibration) || "none"} → ${str(s.newCalibration) || "none"}`);
+  const cal = (x: unknown) => {
+    if (typeof x === "string") return x;
+    const c = x as { ref?: unknown; sha256?: unknown; comments?: unknown } | null;
+    if (!c || typeof c !== "object") return "none";
+    const comments = Array.isArray(c.comments) ? c.comments.filter((t): t is string => typeof t === "string") : [];
+    return `${str(c.ref)} (SHA-256 ${str(c.sha256)})${comments.length ? ` — ${comments.join(" | ")}` : ""}`;
+  };
+  if (Array.isArray(s.elementsChanged) && s.elementsChanged.length) lines.push(`changed element ids: ${s.elementsChanged.slice(0, 40).join(", ")}${s.elementsChanged.length > 40 ? ` … and ${s.elementsChanged.length - 40} more` : ""}`);
+  if (s.calibrationChanged === true) lines.push(`calibration: ${cal(s.oldCalibration)} → ${cal(s.newCalibration)}`);
   // beams × elements map of changed words, from changes.csv (first frequency with changes)
   let map = "";
   const cpath = join(dir, "changes.csv");
@@ -274,17 +292,20 @@ function sweepPart(dir: string): string {
       const rs = rows.filter((r) => `${n(r.atten_step_db)}|${String(r.quantizer ?? "nearest")}` === k).sort((a, b) => n(a.phase_bits) - n(b.phase_bits));
       return { label: `${tag}, step ${step} dB, ${q}`, points: rs.map((r) => [n(r.phase_bits), n(r[col])] as [number, number]).filter((p) => Number.isFinite(p[1])), colour: PALETTE[i % PALETTE.length]!, marker: MARKERS[i % MARKERS.length]!, ...(dash ? { dash } : {}) };
     });
-  const theory = (col: string, label: string, dash: string): Series => {
-    const pts = bits.map((b) => [b, n(rows.find((r) => n(r.phase_bits) === b)?.[col])] as [number, number]).filter((p) => Number.isFinite(p[1]));
-    return { label, points: pts, colour: "#555555", dash, marker: "none", width: 1.4 };
-  };
+  // one theory curve per quantizer (nearest and randomized rounding have different estimates; n/a points are left out)
+  const quantizers = [...new Set(rows.map((r) => String(r.quantizer ?? "nearest")))];
+  const theory = (col: string, label: string, dash: string): Series[] =>
+    quantizers
+      .map((q) => ({ q, pts: bits.map((b) => [b, n(rows.find((r) => n(r.phase_bits) === b && String(r.quantizer ?? "nearest") === q)?.[col])] as [number, number]).filter((p) => Number.isFinite(p[1])) }))
+      .filter((x) => x.pts.length)
+      .map((x) => ({ label: `${label}, ${x.q}`, points: x.pts, colour: "#555555", dash, marker: "none", width: 1.4 }));
   const panels: Panel[] = [
-    { title: "Worst sidelobe level over the grid", xLabel: "phase-shifter bits", yLabel: "PSL, dB (worst beam)", series: [...seriesFor("psl_db_max", "worst"), theory("theory_quantization_lobe_db", "quantisation lobe 2^(−2B) (theory)", "2 3")] },
+    { title: "Worst sidelobe level over the grid", xLabel: "phase-shifter bits", yLabel: "PSL, dB (worst beam)", series: [...seriesFor("psl_db_max", "worst"), ...theory("theory_quantization_lobe_db", "quantisation lobe 2^(−2B) (theory)", "2 3")] },
     { title: "Sidelobe rise from quantisation", xLabel: "phase-shifter bits", yLabel: "PSL rise, dB", series: [...seriesFor("sll_rise_db_max", "worst"), ...seriesFor("sll_rise_db_p95", "p95", "3 3")] },
     { title: "Pointing error", xLabel: "phase-shifter bits", yLabel: "degrees", series: [...seriesFor("pointing_error_deg_max", "max"), ...seriesFor("pointing_error_deg_rms", "rms", "3 3")] },
-    { title: "Gain loss at the commanded direction", xLabel: "phase-shifter bits", yLabel: "dB (positive = loss)", series: [...seriesFor("gain_loss_db_max", "max"), ...seriesFor("gain_loss_db_median", "median", "3 3"), theory("theory_gain_loss_db", "phase-quantisation loss (theory)", "2 3")] },
+    { title: "Gain loss at the commanded direction", xLabel: "phase-shifter bits", yLabel: "dB (positive = loss)", series: [...seriesFor("gain_loss_db_max", "max"), ...seriesFor("gain_loss_db_median", "median", "3 3"), ...theory("theory_gain_loss_db", "phase-quantisation loss (theory)", "2 3")] },
   ];
-  const svg = chartSvg(`Bit-depth trade-off: ${typeof doc.name === "string" ? doc.name : "sweep"}`, panels, ["Theory curves: the published estimates recorded in sweep.json (sources in README, \"Theory beside measurement\")."]);
+  const svg = chartSvg(`Bit-depth trade-off: ${typeof doc.name === "string" ? doc.name : "sweep"}`, panels, ["Theory curves: the estimates recorded in sweep.json for each row's quantizer (nearest: published; randomized: derived; sources in README, \"Theory beside measurement\")."]);
   const f = (x: unknown, d: number) => (Number.isFinite(n(x)) ? n(x).toFixed(d) : "n/a");
   const table = rows
     .map((r) => `<tr><td>${f(r.phase_bits, 0)}</td><td>${f(r.atten_step_db, 3)}</td><td>${esc(String(r.quantizer ?? "nearest"))}</td><td>${f(r.psl_db_max, 2)}</td><td>${f(r.sll_rise_db_p95, 2)}</td><td>${f(r.pointing_error_deg_max, 4)}</td><td>${f(r.gain_loss_db_median, 3)}</td><td>${f(r.theory_gain_loss_db, 3)}</td></tr>`)
@@ -358,7 +379,7 @@ export async function makeReport(dir: string, o: ReportOptions): Promise<{ html:
 <h1>${esc(title)}</h1>
 <div class="safety" id="safety">${esc(SAFETY)}</div>
 ${parts.join("\n")}
-<p class="note">Generated by steercode ${esc(m?.tool.version ?? "")} from the files in this folder; the explorer recomputes each beam with steercode's own engine. Theory values are published estimates, each named with its source in README.</p>
+<p class="note">Generated by steercode ${esc(m?.tool.version ?? "")} from the files in this folder; the explorer recomputes each beam with steercode's own engine. Theory values are estimates for this quantizer and part (published, or derived here; "n/a" says why none applies), each named with its source in README.</p>
 ${script}
 </body></html>
 `;
