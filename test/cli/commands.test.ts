@@ -139,3 +139,34 @@ describe("tiny arrays", () => {
     expect(cli(["report", out]).code).toBe(0); // the page itself: test/cli/report.test.ts
   });
 });
+
+describe("printed theory fits the quantizer and the part; negative gain loss is explained where printed (issue 8 items 3, 4)", () => {
+  it("a clipped, randomized build: console, --json and report say why gain loss is negative and print stochastic theory, n/a for the lobe", () => {
+    const s = writeScenario(baseScenario({
+      array: { lattice: { kind: "rectangular", columns: 10, rows: 10, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      taper: { kind: "taylor", sidelobe: "-30 dB", nbar: 4 },
+      attenuator: { bits: 2, step: "0.5 dB" },
+      phaseShifter: { bits: 4 },
+      quantizer: { method: "randomized", seed: 2 },
+    }));
+    const out = join(tempDir(), "b");
+    const r = cli(["build", s, "-o", out]);
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/note: gain loss is negative on 3 of 3 beam\(s\): it is referred to the tapered ideal/);
+    expect(r.stdout).toMatch(/\d+ element\(s\) are clipped: .* the same clipping puts [\d.]+ dB rms into the amplitude error/);
+    // derived (README): stochastic rounding, LSB/√6 = 22.5°/√6 = 9.186°
+    expect(r.stdout).toMatch(/rms phase error +9\.186 deg +LSB\/√6; derived/);
+    expect(r.stdout).toMatch(/periodic quantisation lobe +n\/a +randomized rounding leaves no periodic error/);
+    expect(r.stdout).not.toMatch(/LSB\/√12|step\/√12;/);
+    const j = cli(["build", s, "-o", out, "--json"]);
+    expect(JSON.parse(j.stdout).notes[0]).toMatch(/^gain loss is negative on 3 of 3 beam\(s\)/);
+    const m = JSON.parse(readFileSync(join(out, "manifest.json"), "utf8"));
+    expect(m.extra.theory.rmsPhaseErrorDeg.formula).toBe("LSB/√6");
+    expect(m.extra.theory.quantizationLobeDb.value).toBeNull();
+    const html = join(tempDir(), "r.html");
+    expect(cli(["report", out, "-o", html]).code).toBe(0);
+    const page = readFileSync(html, "utf8");
+    expect(page).toMatch(/Note: gain loss is negative on 3 of 3 beam\(s\)/);
+    expect(page).toMatch(/LSB\/√6/);
+  });
+});
