@@ -177,10 +177,10 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   let negatives = 0;
   if (metrics && gl >= 0) for (let k = gl; k < metrics.length; k += metricColumns.length) if (metrics[k]! < 0) negatives++;
   const gainNote = negativeGainLossNote(t, negatives, F * B);
-  const estimates = `<table><thead><tr><th>estimate for this quantizer (${esc(t.quantizer)}) and part</th><th>value</th><th>formula</th><th>source, or why n/a</th></tr></thead><tbody>${theoryRows(t)
+  const estimates = `<section id="estimates"><h2>Estimates beside the measurements</h2><table><thead><tr><th>estimate for this quantizer (${esc(t.quantizer)}) and part</th><th>value</th><th>formula</th><th>source, or why n/a</th></tr></thead><tbody>${theoryRows(t)
     .map((r) => `<tr><th scope="row">${esc(r.label)}</th><td>${r.v.value === null ? "n/a" : `${r.v.value.toFixed(r.digits)} ${esc(r.v.unit)}`}</td><td class="src">${r.v.value === null ? "" : esc(r.v.formula)}</td><td class="src">${esc(r.v.value === null ? (r.v.note ?? "") : `${r.v.source}${r.v.note ? ` (${r.v.note})` : ""}`)}</td></tr>`)
-    .join("")}</tbody></table>${gainNote ? `<p class="note" id="gain-note">Note: ${esc(gainNote)}.</p>` : ""}`;
-  const html = `<section id="summary"><h2>What was built</h2><table class="kv">${summary.map(([k, v]) => `<tr><th scope="row">${esc(k)}</th><td>${esc(v)}</td></tr>`).join("")}</table>${estimates}</section>
+    .join("")}</tbody></table>${gainNote ? `<p class="note" id="gain-note">Note: ${esc(gainNote)}.</p>` : ""}</section>`;
+  const html = `<section id="summary"><h2>What was built</h2><table class="kv">${summary.map(([k, v]) => `<tr><th scope="row">${esc(k)}</th><td>${esc(v)}</td></tr>`).join("")}</table></section>${estimates}
 <section id="explorer"><h2>Beam explorer</h2>
 <div class="controls"><label>frequency <select id="freq-select" aria-label="frequency"></select></label>
 <label>beam <select id="beam-select" aria-label="beam"></select></label>
