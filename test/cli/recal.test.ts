@@ -79,6 +79,13 @@ describe("recalibration loop: build, change calibration, build --compare, diff, 
     expect(doc.summary.newCalibration.sha256).toMatch(/^[0-9a-f]{64}$/);
     expect(doc.summary.newCalibration.comments.join(" ")).toMatch(/2026-11-27/);
     expect(doc.summary.elementsChanged).toEqual([5, 6, 200]);
+    // the report of the diff folder reads the same summary: ids, full hashes, header comments
+    const page = join(t, "diff-report.html");
+    expect(cli(["report", join(t, "d"), "-o", page]).code).toBe(0);
+    const html = readFileSync(page, "utf8");
+    expect(html).toContain("changed element ids: 5, 6, 200");
+    expect(html).toContain(`SHA-256 ${m2.calibration.sha256}`);
+    expect(html).toMatch(/date: 2026-11-27/);
   });
 
   it("builds with different element sets cannot be compared (exit 2, said plainly)", () => {
