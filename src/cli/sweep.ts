@@ -84,6 +84,7 @@ async function sweepWith(io: Io, a: { scenario: string; out: string; attenStep: 
   const qs = new Set(r.rows.map((row) => String(row.quantizer)));
   if (qs.has("nearest")) lines.push("theory, nearest: gain loss −10·log10([sin(π/2^B)/(π/2^B)]²) and quantisation lobe 10·log10(2^(−2B)) = −6.0206·B dB: Mailloux ch. 7 (from memory); rms LSB/√12: common practice");
   if (qs.has("randomized")) lines.push("theory, randomized: gain loss −10·log10([sin(π/2^B)/(π/2^B)]⁴) and rms LSB/√6: derived for stochastic rounding (README); no periodic quantisation lobe");
+  if (qs.has("optimized")) lines.push("theory, optimized: n/a (it moves codes per beam on purpose, so no rounding estimate describes them; compare its rows with nearest's)");
   if (loaded.plan.phaseStates || loaded.plan.attenStates) lines.push("theory: n/a with measured state tables (the nearest-weight search over measured states has no uniform-step estimate)");
   const neg = r.rows.filter((row) => Number(row.gain_loss_db_median) < 0);
   if (neg.length) {

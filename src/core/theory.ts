@@ -162,7 +162,7 @@ export function theoryFor(plan: Plan): Theory {
     quantLobe = na("dB", why);
     sawtooth = na("dB", why);
   } else {
-    const why = `no published estimate for the ${method} quantizer`;
+    const why = `no published estimate for the ${method} quantizer (it moves codes per beam on purpose; compare it with nearest rounding)`;
     gainLossDb = na("dB", why);
     rmsPhaseErrorDeg = na("deg", why);
     quantLobe = na("dB", why);
@@ -177,6 +177,11 @@ export function theoryFor(plan: Plan): Theory {
   if (plan.attenStates) {
     rmsAmpErrorDb = na("dB", measuredWhy);
     attenGainChangeDb = na("dB", measuredWhy);
+  } else if (method !== "nearest" && method !== "randomized") {
+    // a searching quantizer (optimized) moves attenuation codes per beam: the codes here are not its codes
+    const why = `the ${method} quantizer chooses attenuation codes per beam, so no estimate from the rounded codes applies`;
+    rmsAmpErrorDb = na("dB", why);
+    attenGainChangeDb = na("dB", why);
   } else {
     const f = attenFacts(plan);
     clippedElements = f.clipped;

@@ -120,6 +120,15 @@ describe("the attenuator's part: rounding, clipping, no attenuator, measured sta
     for (const v of column(m, M.rms_amp_error_db)) expect(v).toBe(0);
   });
 
+  it("the optimized quantizer moves codes per beam: every rounding and attenuator estimate is n/a, with the reason", () => {
+    const L = load(baseScenario({ taper: taylor, quantizer: { method: "optimized", objective: "psl", seed: 1 } }));
+    const t = theoryFor(L.plan);
+    for (const v of [t.gainLossDb, t.rmsPhaseErrorDeg, t.quantizationLobeDb, t.rmsAmpErrorDb, t.attenGainChangeDb, t.expectedGainLossDb]) {
+      expect(v.value).toBeNull();
+      expect(v.note).toMatch(/optimized quantizer/);
+    }
+  });
+
   it("measured state tables: the rounding estimates are n/a, with the reason", () => {
     const ps = "code,phase_deg,gain_db\n" + Array.from({ length: 8 }, (_, p) => `${p},${p * 45 + (p % 3) - 1},0`).join("\n") + "\n";
     const L = load(baseScenario({ phaseShifter: { bits: 3, states: "ps.csv" } }), { "ps.csv": ps });
