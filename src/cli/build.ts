@@ -12,6 +12,7 @@ import { diffLines, writeDiffFiles } from "./diff.js";
 import { negativeGainLossNote, theoryRows, type Theory } from "../core/theory.js";
 import { M, METRICS } from "../core/pattern/analyze.js";
 import type { OptimizedSummary } from "../core/quantize/optimized.js";
+import type { BandReport } from "../io/build.js";
 
 export interface BuildArgs {
   scenario: string;
@@ -66,7 +67,7 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
   const m = result.manifest;
   const gainNote = result.metrics ? negativeGainLossNote(result.theory, countNegative(result.metrics), m.counts.beams * m.counts.frequencies) : null;
   if (io.json) {
-    printJson(io, { ok: true, dir: args.out, notes: gainNote ? [gainNote] : [], manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffResult).identical, summary: (diff as DiffResult).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, ...(result.optimized ? { optimized: result.optimized.summary } : {}), theory: result.theory, warnings: facts.warnings, safety: SAFETY });
+    printJson(io, { ok: true, dir: args.out, notes: gainNote ? [gainNote] : [], manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffResult).identical, summary: (diff as DiffResult).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, ...(result.optimized ? { optimized: result.optimized.summary } : {}), band: result.band, theory: result.theory, warnings: facts.warnings, safety: SAFETY });
     return 0;
   }
   const lines = [
@@ -82,6 +83,7 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
     lines.push("", ...theoryLines(result.theory));
   }
   if (result.optimized) lines.push("", ...optimizedLines(result.optimized.summary, m));
+  if (result.band) lines.push("", ...bandLines(result.band, m.counts.beams, m.frequenciesHz));
   if (diff) lines.push("", `compared with ${args.compare} (changes.csv, diff.json):`, ...diffLines(diff).map((l) => "  " + l));
   for (const w of facts.warnings) lines.push(warn(io, `warning: ${w}`));
   lines.push("", SAFETY);
@@ -149,5 +151,18 @@ export function theoryLines(t: Theory): string[] {
     const text = v.value === null ? (v.note ?? "") : `${v.formula}${eta}; ${v.source}${v.note ? ` (${v.note})` : ""}`;
     lines.push(`  ${r.label.padEnd(30)} ${value} ${text}`);
   }
+  return lines;
+}
+
+/** The band analysis: per beam, its worst pointing error and gain loss across the band; their spread over the beams. */
+export function bandLines(b: BandReport, beams: number, freqs: string[]): string[] {
+  const ghz = (x: number | string | null) => (x === null ? "n/a" : `${(Number(x) / 1e9).toPrecision(6)} GHz`);
+  const f = b.frequenciesHz;
+  const lines = [`band ${ghz(f[0]!)} … ${ghz(f[f.length - 1]!)}, ${f.length} point(s) (squint.csv): each beam's worst value across the band`];
+  lines.push(`${"over every beam".padEnd(24)} ${"median".padStart(10)} ${"p95".padStart(10)} ${"max".padStart(10)}  worst`);
+  const row = (label: string, d: BandReport["worstPointingDeg"], digits: number, at: (i: number) => number | null) =>
+    `${label.padEnd(24)} ${fmt(d.median, digits).padStart(10)} ${fmt(d.p95, digits).padStart(10)} ${fmt(d.max, digits).padStart(10)}  ${d.worst >= 0 ? `${where(d.worst, beams, freqs)} played at ${ghz(at(d.worst))}` : "n/a"}`;
+  lines.push(row("pointing error (deg)", b.worstPointingDeg, 4, (i) => b.perBeam[i]!.worstPointingAtHz));
+  lines.push(row("gain loss (dB)", b.worstGainLossDb, 3, (i) => b.perBeam[i]!.worstGainLossAtHz));
   return lines;
 }

@@ -20,6 +20,8 @@ export function checkCommand(io: Io, scenario: string): number {
   lines.push(`attenuator ${plan.attenBits} bits × ${plan.attenStepDb} dB = ${fmt(f.attenRangeDb, 2)} dB range${plan.attenStates ? ", measured states" : ""}`);
   lines.push(`taper      ${plan.taper.kind}${"sidelobeDb" in plan.taper ? ` ${plan.taper.sidelobeDb} dB` : ""}${"nbar" in plan.taper ? `, n̄ = ${plan.taper.nbar}` : ""}`);
   lines.push(`aperture   D = ${fmt(f.apertureM * 1000, 2)} mm (largest dimension)`);
+  if (plan.element) lines.push(`element    ${plan.element.pattern === "cosine" ? `cos^${plan.element.exponent} θ power pattern` : `measured pattern table (${plan.element.thetaDeg.length} θ × ${plan.element.phiDeg.length} φ)`}`);
+  if (plan.band) lines.push(`band       ${(plan.band.frequenciesHz[0]! / 1e9).toPrecision(6)} … ${(plan.band.frequenciesHz[plan.band.frequenciesHz.length - 1]! / 1e9).toPrecision(6)} GHz, ${plan.band.frequenciesHz.length} point(s)`);
   if (cal) lines.push(`calibration ${cal.ref} (sha256 ${cal.file.sha256.slice(0, 12)}…)${cal.comments.length ? `: ${cal.comments.join(" | ")}` : ""}`);
   for (const pf of f.perFrequency) {
     lines.push("");
@@ -28,6 +30,15 @@ export function checkCommand(io: Io, scenario: string): number {
     if (pf.scanLimitXDeg !== null) lines.push(`  grating-free scan ±${fmt(pf.scanLimitXDeg, 1)}° along x (az plane), ±${fmt(pf.scanLimitYDeg, 1)}° along y (el plane)`);
     lines.push(`  far field        2D²/λ = ${fmt(pf.farFieldM, 3)} m`);
     lines.push(`  G_ref            ${fmt(pf.gRefDb, 3)} dB; ${pf.clipped} element(s) clipped`);
+    const sq = pf.squint;
+    if (sq) {
+      const ghz = (x: number) => `${(x / 1e9).toPrecision(6)} GHz`;
+      lines.push(`  widest scan      beam ${sq.beam}, θ = ${fmt(sq.thetaDeg, 2)}°, φ = ${fmt(sq.phiDeg, 1)}°: 3-dB beamwidth ${fmt(sq.beamwidthDeg, 3)}° (ideal taper, scan plane)`);
+      lines.push(
+        `  inst. bandwidth  ${sq.bandwidthHz === null ? `no upper edge (θ ≤ half the beamwidth); lower edge ${ghz(sq.lowHz)}` : `${fmt(sq.bandwidthHz / 1e6, 1)} MHz (${fmt((100 * sq.bandwidthHz) / pf.frequencyHz, 2)} %), ${ghz(sq.lowHz)} … ${ghz(sq.highHz!)}`} for a squint of half the beamwidth (phase steering; first order 2·f0·(θ3/2)/tan θ0 = ${fmt(sq.firstOrderHz / 1e6, 1)} MHz)`,
+      );
+      lines.push(`  fill time        ${fmt(sq.fillTimeS * 1e12, 1)} ps across the aperture at that scan${pf.bandNeedsTrueTimeDelay === null ? "" : pf.bandNeedsTrueTimeDelay ? "; the band reaches past these edges: it asks for true time delay" : "; the band stays within these edges"}`);
+    } else lines.push(`  inst. bandwidth  every beam at broadside: phase steering does not squint`);
   }
   if (f.warnings.length) {
     lines.push("");

@@ -3,6 +3,7 @@ import { gratingFreeScanDeg, gratingLobeVisible, pointSetDiameter, reciprocalVec
 import { enabledCount, type Plan } from "./plan.js";
 import { prepareFrequency } from "./quantize/prepare.js";
 import { SPEED_OF_LIGHT } from "./units.js";
+import { squintBandwidth, type SquintBandwidth } from "./band.js";
 
 export interface FrequencyFacts {
   frequencyHz: number;
@@ -18,6 +19,10 @@ export interface FrequencyFacts {
   clipped: number;
   /** Beams that put a grating lobe into visible space. */
   gratingBeams: number[];
+  /** Instantaneous bandwidth at the grid's widest scan (null: every beam at broadside). */
+  squint: SquintBandwidth | null;
+  /** With a band: whether it reaches past the edges of that bandwidth (phase steering squints too far: true time delay). */
+  bandNeedsTrueTimeDelay: boolean | null;
 }
 
 export interface Facts {
@@ -81,12 +86,19 @@ export function deriveFacts(plan: Plan): Facts {
       gRefDb: prep.gRefDb,
       clipped: prep.clipped,
       gratingBeams,
+      ...squintFacts(plan, fi),
     };
   });
   for (const pf of perFrequency) {
     const fGHz = (pf.frequencyHz / 1e9).toPrecision(6);
     if (pf.gratingBeams.length)
       warnings.push(`${fGHz} GHz: ${pf.gratingBeams.length} of ${plan.beams.count} beams put a grating lobe into visible space (first: beam ${pf.gratingBeams[0]}); their psl_db will sit near 0 dB`);
+    if (pf.bandNeedsTrueTimeDelay && plan.band && pf.squint) {
+      const band = plan.band.frequenciesHz;
+      warnings.push(
+        `${fGHz} GHz table: the band ${(band[0]! / 1e9).toPrecision(6)}–${(band[band.length - 1]! / 1e9).toPrecision(6)} GHz reaches past ${(pf.squint.lowHz / 1e9).toPrecision(6)}–${pf.squint.highHz === null ? "∞" : (pf.squint.highHz / 1e9).toPrecision(6) + " GHz"}, where the beam at θ = ${pf.squint.thetaDeg.toFixed(1)}° squints by half its ${pf.squint.beamwidthDeg.toFixed(2)}° beamwidth: the band asks for true time delay (or one table per sub-band)`,
+      );
+    }
     if (pf.clipped)
       warnings.push(`${fGHz} GHz: ${pf.clipped} element(s) need more attenuation than the attenuator's ${((2 ** plan.attenBits - 1) * plan.attenStepDb).toFixed(2)} dB range; their codes are clipped to the last step`);
   }
@@ -112,4 +124,13 @@ export function deriveFacts(plan: Plan): Facts {
     perFrequency,
     warnings,
   };
+}
+
+function squintFacts(plan: Plan, fi: number): { squint: SquintBandwidth | null; bandNeedsTrueTimeDelay: boolean | null } {
+  const squint = squintBandwidth(plan, fi);
+  if (!plan.band) return { squint, bandNeedsTrueTimeDelay: null };
+  const band = plan.band.frequenciesHz;
+  const lo = band[0]!, hi = band[band.length - 1]!;
+  const needs = squint !== null && (lo < squint.lowHz || (squint.highHz !== null && hi > squint.highHz));
+  return { squint, bandNeedsTrueTimeDelay: needs };
 }

@@ -7,6 +7,7 @@ import type { BeamSet } from "./beams.js";
 import type { Elements, LatticeSpec } from "./geometry.js";
 import type { TaperSpec } from "./taper/index.js";
 import type { WordLayout } from "./words.js";
+import type { ElementSpec } from "./element.js";
 
 export type OutputKind = "csv" | "bin" | "c" | "mem" | "json";
 export const OUTPUT_KINDS: readonly OutputKind[] = ["csv", "bin", "c", "mem", "json"];
@@ -63,6 +64,16 @@ export interface Plan {
   quantizer: QuantizerSpec;
   word: WordLayout;
   outputs: OutputKind[];
+  /** Element pattern (interface contract v2); null: isotropic elements. */
+  element: ElementSpec | null;
+  /** Band analysis (squint.csv); null: none. */
+  band: BandSpec | null;
+}
+
+/** The band the tables are played over: from … to inclusive in steps (exact decimal strings beside the floats). */
+export interface BandSpec {
+  frequenciesHz: number[];
+  frequenciesExact: string[];
 }
 
 export function enabledCount(plan: Plan): number {

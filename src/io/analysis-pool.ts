@@ -12,6 +12,7 @@ import type { Plan } from "../core/plan.js";
 import type { CodeSource } from "../core/engine.js";
 import { METRICS } from "../core/pattern/analyze.js";
 import { analyseRange, type AnalyzerCache } from "../core/pattern/run.js";
+import { SQUINT_METRICS } from "../core/band.js";
 import { OptimizedQuantizer, OPT_FIELDS, writeReport } from "../core/quantize/optimized.js";
 
 export const CHUNK_BEAMS = 8;
@@ -36,6 +37,8 @@ export interface SharedAnalysis {
   ideal: boolean;
   /** optimized builds: codes handed to the table writer through a bounded ring (see CodeRing) */
   ring: CodeRing | null;
+  /** band analysis (build only, no variants): [frequency][beam][band point][SQUINT_METRICS] */
+  squint: Float64Array | null;
 }
 
 /**
@@ -142,13 +145,15 @@ export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: 
     const base = (v * s.frequencies + fi) * s.beams;
     const ring = s.ring;
     const slot = ring ? id % ring.slots : 0;
+    const per = s.squint ? s.squint.length / (s.frequencies * s.beams) : 0;
+    const squint = s.squint ? s.squint.subarray((base + from) * per, (base + to) * per) : null;
     analyseRange(plans.get(v)!, fi, from, to, s.metrics.subarray((base + from) * METRICS, (base + to) * METRICS), cache, s.ideal, ring ? (b, codes, q) => {
       const n = ring.elements;
       const o = (slot * CHUNK_BEAMS + (b - from)) * n * 2;
       ring.codes.set(codes.phaseCode, o);
       ring.codes.set(codes.attenCode, o + n);
       if (q instanceof OptimizedQuantizer) writeReport(q.report, ring.records, (slot * CHUNK_BEAMS + (b - from)) * OPT_FIELDS);
-    } : undefined);
+    } : undefined, squint);
     if (ring) {
       Atomics.store(ring.ready, slot, id + 1);
       Atomics.notify(ring.ready, slot);
@@ -170,6 +175,8 @@ export interface AnalysisJob {
   cancel(): void;
   /** optimized builds: where the table writer takes its codes from */
   ring: CodeRing | null;
+  /** The band analysis (valid after finish), null without a band. */
+  readonly squint: Float64Array | null;
   /** The calling thread computes one chunk if one may be claimed now; returns the beams done. Throws a worker's failure. */
   help(): number;
 }
@@ -210,7 +217,7 @@ export class WorkerPool {
   }
 }
 
-export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean; variants?: Variant[]; ideal?: boolean; pool?: WorkerPool; ring?: boolean } = {}): AnalysisJob {
+export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean; variants?: Variant[]; ideal?: boolean; pool?: WorkerPool; ring?: boolean; band?: boolean } = {}): AnalysisJob {
   const beams = plan.beams.count;
   const frequencies = plan.frequenciesHz.length;
   const total = beams * frequencies * (opts.variants?.length ?? 1);
@@ -222,6 +229,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
     variants: opts.variants ?? null,
     ideal: opts.ideal ?? true,
     ring: opts.ring && !opts.variants ? allocRing(4 * Math.max(1, jobs), plan.elements.count) : null,
+    squint: opts.band && plan.band && !opts.variants ? new Float64Array(new SharedArrayBuffer(beams * frequencies * plan.band.frequenciesHz.length * SQUINT_METRICS * 8)) : null,
   };
   const nWorkers = Math.max(0, Math.min(jobs - 1, chunkCount(shared) - 1));
   let done = 0;
@@ -258,6 +266,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   const helpCache: { c: AnalyzerCache | null; v?: number } = { c: null };
   return {
     ring: shared.ring,
+    squint: shared.squint,
     help() {
       if (failure) throw failure;
       return drainChunks(plan, shared, tick, helpCache, 1, false);

@@ -17,11 +17,12 @@ import { crc32 } from "node:zlib";
 import { D } from "../core/exact.js";
 import { stringify } from "csv-stringify/sync";
 import { METRIC_COLUMNS, METRICS } from "../core/pattern/analyze.js";
-import { summarise, type Distribution } from "../core/pattern/summary.js";
+import { quantile, summarise, type Distribution } from "../core/pattern/summary.js";
 import { theoryFor, type Theory } from "../core/theory.js";
 import { ringSource, startAnalysis, type WorkerPool } from "./analysis-pool.js";
 import { setTimeout as sleep } from "node:timers/promises";
 import { fixed } from "./format.js";
+import { bandSummary, SQUINT_COLUMNS, SQUINT_METRICS, type BandBeamSummary } from "../core/band.js";
 import { OPT, OPT_FIELDS, POINTING_ALLOWANCE_DEG, DEFAULT_EXTRA_LOSS_DB, summariseOptimized, type OptimizedSummary } from "../core/quantize/optimized.js";
 
 export { stableJson } from "./json.js";
@@ -33,6 +34,7 @@ export const INPUT_COPY: Record<InputRole, string> = {
   beams: "inputs/beams.csv",
   phaseStates: "inputs/phase-states.csv",
   attenStates: "inputs/atten-states.csv",
+  element: "inputs/element.csv",
 };
 export const SCENARIO_COPY = "inputs/scenario.json";
 
@@ -132,6 +134,16 @@ export interface BuildResult {
   theory: Theory;
   /** optimized quantizer: per-beam records (OPT_FIELDS a beam) and their grid-wide summary */
   optimized: { records: Float64Array; summary: OptimizedSummary } | null;
+  /** With a band: per (table frequency, beam) the worst pointing and gain loss across it. */
+  band: BandReport | null;
+}
+
+export interface BandReport {
+  frequenciesHz: string[];
+  /** over all (table frequency, beam): the distribution of each beam's worst value across the band */
+  worstPointingDeg: Distribution;
+  worstGainLossDb: Distribution;
+  perBeam: BandBeamSummary[];
 }
 
 export function makeManifest(loaded: LoadedScenario, scenarioSource: string, perFrequency: FrequencySummary[], files: Record<string, ManifestFile>, analysis: boolean): Manifest {
@@ -195,6 +207,7 @@ export interface Produced {
   summary: Record<string, Distribution> | null;
   theory: Theory;
   optimized: Float64Array | null;
+  band: BandReport | null;
 }
 
 /**
@@ -213,7 +226,7 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
     const total = plan.frequenciesHz.length * plan.beams.count;
     // an optimized build computes each beam's codes once, in the analysis chunks, and the tables take them from there
     const ring = opts.analysis && plan.quantizer.method === "optimized";
-    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}), ring }) : null;
+    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}), ring, band: true }) : null;
     if (!job) opts.pool?.release();
     const writers = makeWriters(dir, { plan, frequencyText: ft }, open);
     const run = new TableRun(plan, (fi, b, words, codes) => {
@@ -250,20 +263,26 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
     }
     let metrics: Float64Array | null = null;
     let summary: Record<string, Distribution> | null = null;
+    let band: BandReport | null = null;
     if (job) {
       opts.onProgress?.(0, total);
       metrics = await job.finish();
       const d = writeBeamsCsv(join(dir, "beams.csv"), plan, ft, metrics, run.optimized, open);
       files["beams.csv"] = { bytes: d.bytes, sha256: d.sha256 };
-      summary = summarise(metrics);
+      summary = summarise(metrics, plan.element ? [] : ["scan_loss_db"]);
+      if (job.squint && plan.band) {
+        const s = writeSquintCsv(join(dir, "squint.csv"), plan, ft, job.squint, open);
+        files["squint.csv"] = { bytes: s.bytes, sha256: s.sha256 };
+        band = bandReport(plan, job.squint);
+      }
     }
     const theory = theoryFor(plan);
     for (const i of loaded.inputs) files[INPUT_COPY[i.role]] = { bytes: i.file.bytes.length, sha256: i.file.sha256 };
     files[SCENARIO_COPY] = { bytes: loaded.scenario.bytes.length, sha256: loaded.scenario.sha256 };
     const manifest = makeManifest(loaded, scenarioSource, perFrequency, files, opts.analysis);
-    if (summary) manifest.extra = { summary, theory };
+    if (summary) manifest.extra = { summary, theory, ...(band ? { band } : {}) };
     if (run.optimized) manifest.optimized = optimizedManifest(plan, ft, run.optimized);
-    return { manifest, files, perFrequency, metrics, summary, theory, optimized: run.optimized };
+    return { manifest, files, perFrequency, metrics, summary, theory, optimized: run.optimized, band };
   } catch (e) {
     job?.cancel();
     throw e;
@@ -292,7 +311,7 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     }
     writeFileSync(join(tmp, "manifest.json"), stableJson(manifest, null, 2) + "\n", { flag: "wx" });
     stage.commit();
-    return { dir: outDir, manifest, perFrequency: p.perFrequency, metrics: p.metrics, summary: p.summary, theory: p.theory, optimized: p.optimized ? { records: p.optimized, summary: manifest.optimized!.summary } : null };
+    return { dir: outDir, manifest, perFrequency: p.perFrequency, metrics: p.metrics, summary: p.summary, theory: p.theory, optimized: p.optimized ? { records: p.optimized, summary: manifest.optimized!.summary } : null, band: p.band };
   } catch (e) {
     stage.abort();
     // a full disk, a quota, a folder made read-only meanwhile: the environment, not a bug
@@ -320,12 +339,18 @@ export const BEAMS_COLUMNS = ["frequency_hz", "beam", "az_deg", "el_deg", "u", "
 export const OPTIMIZED_COLUMNS = ["nearest_psl_db", "nearest_gain_loss_db", "nearest_pointing_error_deg", "changed_elements"] as const;
 const OPTIMIZED_SOURCE: [number, number][] = [[OPT.pslBeforeDb, 4], [OPT.gainLossBeforeDb, 4], [OPT.pointingBeforeDeg, 7], [OPT.changed, 0]];
 
+/** beams.csv columns for a plan: scan_loss_db only with an element pattern (v1 bytes otherwise). */
+export function beamsColumns(plan: Plan): string[] {
+  return BEAMS_COLUMNS.filter((c) => c !== "scan_loss_db" || plan.element !== null);
+}
+
 /** beams.csv: one row per (frequency, beam). A metric that does not exist (no sidelobe in visible space) is an empty cell. */
 export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: Float64Array, optimized: Float64Array | null = null, open: OpenSink = openHashedFile): FileDigest {
   const f = open(path, "beams.csv");
-  f.write(stringify([[...BEAMS_COLUMNS, ...(optimized ? OPTIMIZED_COLUMNS : [])]]));
+  f.write(stringify([[...beamsColumns(plan), ...(optimized ? OPTIMIZED_COLUMNS : [])]]));
   const nb = plan.beams.count;
-  const digits = [9, 9, 7, 4, 4, 4, 5, 4, 4, 0];
+  const digits = [9, 9, 7, 4, 4, 4, 5, 4, 4, 0, 4];
+  const shown = plan.element ? METRICS : METRICS - 1;
   for (let fi = 0; fi < ft.length; fi++) {
     // rows go out in slices of 4096: memory does not grow with the beam count
     let rows: string[][] = [];
@@ -336,7 +361,7 @@ export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: F
       }
       const o = (fi * nb + b) * METRICS;
       const row = [ft[fi]!, String(b), fixed(plan.beams.azDeg[b]!, 6), fixed(plan.beams.elDeg[b]!, 6), fixed(plan.beams.u[b]!, 9), fixed(plan.beams.v[b]!, 9)];
-      for (let k = 0; k < METRICS; k++) {
+      for (let k = 0; k < shown; k++) {
         const v = metrics[o + k]!;
         row.push(Number.isFinite(v) ? fixed(v, digits[k]!) : "");
       }
@@ -350,4 +375,48 @@ export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: F
     f.write(stringify(rows));
   }
   return f.close();
+}
+
+/** squint.csv: one row per (table frequency, beam, band frequency), table frequency outer, band frequency inner. */
+export function writeSquintCsv(path: string, plan: Plan, ft: string[], squint: Float64Array, open: OpenSink = openHashedFile): FileDigest {
+  const f = open(path, "squint.csv");
+  f.write(stringify([SQUINT_COLUMNS as unknown as string[]]));
+  const band = plan.band!;
+  const bt = band.frequenciesExact.map((x) => new D(x).toFixed());
+  const nb = plan.beams.count;
+  const nk = bt.length;
+  const digits = [9, 9, 7, 5];
+  for (let fi = 0; fi < ft.length; fi++)
+    for (let b = 0; b < nb; b++) {
+      const rows: string[][] = [];
+      for (let k = 0; k < nk; k++) {
+        const o = ((fi * nb + b) * nk + k) * SQUINT_METRICS;
+        const row = [ft[fi]!, String(b), bt[k]!];
+        for (let m = 0; m < SQUINT_METRICS; m++) {
+          const v = squint[o + m]!;
+          row.push(Number.isFinite(v) ? fixed(v, digits[m]!) : "");
+        }
+        rows.push(row);
+      }
+      f.write(stringify(rows));
+    }
+  return f.close();
+}
+
+function distribution(values: number[]): Distribution {
+  let worst = -1;
+  for (let i = 0; i < values.length; i++) if (!Number.isNaN(values[i]!) && (worst < 0 || values[i]! > values[worst]!)) worst = i;
+  const s = Float64Array.from(values.filter((v) => !Number.isNaN(v))).sort();
+  return s.length ? { median: quantile(s, 0.5), p95: quantile(s, 0.95), max: s[s.length - 1]!, worst } : { median: null, p95: null, max: null, worst: -1 };
+}
+
+/** The band's summary for the console and the manifest: per beam its worst values across the band, and their distribution. */
+export function bandReport(plan: Plan, squint: Float64Array): BandReport {
+  const perBeam = bandSummary(plan, squint);
+  return {
+    frequenciesHz: plan.band!.frequenciesExact.map((x) => new D(x).toFixed()),
+    worstPointingDeg: distribution(perBeam.map((p) => p.worstPointingDeg ?? NaN)),
+    worstGainLossDb: distribution(perBeam.map((p) => p.worstGainLossDb ?? NaN)),
+    perBeam,
+  };
 }

@@ -8,7 +8,9 @@ import { axisCount, makeBeamSet, type AxisSpec, type BeamSpec } from "../core/be
 import { InputError, type Problem } from "../core/errors.js";
 import { D } from "../core/exact.js";
 import { emptyElements, latticeElements, type Elements, type LatticeSpec } from "../core/geometry.js";
-import { OUTPUT_KINDS, type Calibration, type OutputKind, type Plan, type QuantizerSpec, type StateTable } from "../core/plan.js";
+import { MAX_BAND_POINTS, MAX_SQUINT_ROWS } from "../core/band.js";
+import type { ElementSpec } from "../core/element.js";
+import { OUTPUT_KINDS, type BandSpec, type Calibration, type OutputKind, type Plan, type QuantizerSpec, type StateTable } from "../core/plan.js";
 import { makeTaper, type TaperSpec } from "../core/taper/index.js";
 import { C_EXACT, parseQuantity, type QuantityKind } from "../core/units.js";
 import { checkLayout, wordBytes, type WordLayout } from "../core/words.js";
@@ -18,7 +20,7 @@ import { JsonError, parseJsonStrict } from "./jsonparse.js";
 import { ProblemList } from "./problems.js";
 import { validateScenarioJson } from "./schema.js";
 
-export type InputRole = "elements" | "calibration" | "beams" | "phaseStates" | "attenStates";
+export type InputRole = "elements" | "calibration" | "beams" | "phaseStates" | "attenStates" | "element";
 
 export interface ScenarioInput {
   role: InputRole;
@@ -139,6 +141,7 @@ class Loader {
       beams: { required: [["az_deg", "el_deg"], ["u", "v"]], optional: ["beam"] },
       phaseStates: { required: [["code", "phase_deg", "gain_db"]], optional: ["element"] },
       attenStates: { required: [["code", "atten_db", "phase_deg"]], optional: ["element"] },
+      element: { required: [["theta_deg", "phi_deg", "gain_db"]], optional: [] },
     } as const;
     const shape = shapes[role];
     const before = this.problems.count;
@@ -202,6 +205,18 @@ class Loader {
     const word: WordLayout = { bits: d.word.bits, bytes: wordBytes(d.word.bits), off: d.word.off ?? 0, fields: d.word.fields };
     for (const p of checkLayout(word, phaseBits, attenBits, "/word")) this.problems.push({ file: this.display, ...p });
     const outputs: OutputKind[] = d.outputs ? OUTPUT_KINDS.filter((k) => (d.outputs as string[]).includes(k)) : [...OUTPUT_KINDS];
+    const element = this.element();
+    const band = this.band();
+    if (element && beams && !(element.pattern === "cosine" && element.exponent === 0)) {
+      // the element pattern is zero on the horizon: a beam there has no gain to analyse
+      const onHorizon: number[] = [];
+      for (let b = 0; b < beams.count; b++) if (element.pattern === "cosine" && beams.u[b]! ** 2 + beams.v[b]! ** 2 >= 1 - 1e-12) onHorizon.push(b);
+      if (onHorizon.length) this.problem("/beams", `${onHorizon.length} beam(s) on the horizon (first: beam ${onHorizon[0]}), where the cosine element pattern is zero; expected every beam above the horizon (θ < 90°) with "element"`);
+    }
+    if (band && beams && freqs.length) {
+      const rows = freqs.length * beams.count * band.frequenciesHz.length;
+      if (rows > MAX_SQUINT_ROWS) this.problem("/band", `${freqs.length} table frequencies × ${beams.count} beams × ${band.frequenciesHz.length} band points = ${rows} squint.csv rows; expected at most ${MAX_SQUINT_ROWS}: use fewer band points or beams`);
+    }
 
     // ---- sizes
     if (beams && elements) {
@@ -236,6 +251,8 @@ class Loader {
       quantizer,
       word,
       outputs,
+      element,
+      band,
     };
     return { plan, scenario: this.scenario, doc: d, inputs: this.inputs };
   }
@@ -425,6 +442,83 @@ class Loader {
       return null;
     }
     return set;
+  }
+
+  /** `element`: a cosine^q power pattern or a measured table covering the upper hemisphere. */
+  private element(): ElementSpec | null {
+    const e = this.d.element as { pattern: string; exponent?: number; file?: string } | undefined;
+    if (!e) return null;
+    if (e.pattern === "cosine") return { pattern: "cosine", exponent: e.exponent! };
+    const t = this.file(e.file!, "element", "/element/file");
+    if (!t) return null;
+    const before = this.problems.length;
+    const cells = new Map<string, { line: number; g: number }>();
+    const thetas = new Map<number, string>();
+    const phis = new Map<number, string>();
+    for (const r of t.rows) {
+      const th = numberCell(t, r, "theta_deg", this.problems);
+      const ph = numberCell(t, r, "phi_deg", this.problems);
+      const g = numberCell(t, r, "gain_db", this.problems);
+      if (!th || !ph || !g) continue;
+      if (th.value < 0 || th.value > 180) { this.problems.push({ file: t.file, line: r.line, column: "theta_deg", message: `expected θ from 0 to 180 degrees, got "${th.text}"` }); continue; }
+      if (ph.value < 0 || ph.value > 360) { this.problems.push({ file: t.file, line: r.line, column: "phi_deg", message: `expected φ from 0 to 360 degrees, got "${ph.text}"` }); continue; }
+      if (Math.abs(g.value) > 300) { this.problems.push({ file: t.file, line: r.line, column: "gain_db", message: `expected a gain within ±300 dB, got "${g.text}"` }); continue; }
+      if (th.value > 90) continue; // below the horizon: nothing radiates there in the analysis
+      const key = `${th.value}/${ph.value}`;
+      const prev = cells.get(key);
+      if (prev) { this.problems.push({ file: t.file, line: r.line, message: `θ = ${th.text}°, φ = ${ph.text}° is listed twice (also on line ${prev.line})` }); continue; }
+      cells.set(key, { line: r.line, g: g.value });
+      thetas.set(th.value, th.text);
+      phis.set(ph.value, ph.text);
+    }
+    if (this.problems.length > before) return null;
+    const thetaDeg = Float64Array.from([...thetas.keys()].sort((a, b) => a - b));
+    let phiDeg = Float64Array.from([...phis.keys()].sort((a, b) => a - b));
+    const cover: string[] = [];
+    if (!thetaDeg.length || thetaDeg[0] !== 0) cover.push(`θ starts at ${thetaDeg[0] ?? "nothing"}°, not at 0° (boresight)`);
+    if (!thetaDeg.length || thetaDeg[thetaDeg.length - 1]! < 90) cover.push(`θ ends at ${thetaDeg[thetaDeg.length - 1] ?? "nothing"}°, below 90° (the horizon)`);
+    // φ = 360 repeats φ = 0 (when both are given they must agree)
+    if (phiDeg.length > 1 && phiDeg[0] === 0 && phiDeg[phiDeg.length - 1] === 360) {
+      for (const th of thetaDeg) {
+        const a = cells.get(`${th}/0`), b = cells.get(`${th}/360`);
+        if (a && b && a.g !== b.g) cover.push(`at θ = ${th}° the gain at φ = 360° (line ${b.line}) differs from φ = 0° (line ${a.line}); they are the same direction`);
+      }
+      phiDeg = phiDeg.subarray(0, phiDeg.length - 1).slice();
+    }
+    const missing: string[] = [];
+    for (const th of thetaDeg) for (const ph of phiDeg) if (!cells.has(`${th}/${ph}`)) missing.push(`θ = ${th}°, φ = ${ph}°`);
+    if (missing.length) cover.push(`the θ/φ grid has ${missing.length} hole(s): ${missing.slice(0, 4).join("; ")}${missing.length > 4 ? "; …" : ""}`);
+    if (cover.length) {
+      this.problems.push({ file: t.file, message: `does not cover the upper hemisphere: ${cover.join("; ")}; expected gain_db at every θ of a grid from 0 to 90° for every φ of a grid (one φ: rotationally symmetric)` });
+      return null;
+    }
+    const np = phiDeg.length;
+    const gainDb = new Float64Array(thetaDeg.length * np);
+    thetaDeg.forEach((th, i) => phiDeg.forEach((ph, j) => (gainDb[i * np + j] = cells.get(`${th}/${ph}`)!.g)));
+    return { pattern: "table", thetaDeg, phiDeg, gainDb };
+  }
+
+  /** `band`: from … to inclusive in steps, all > 0, at most MAX_BAND_POINTS points. */
+  private band(): BandSpec | null {
+    const b = this.d.band as { from: unknown; to: unknown; step: unknown } | undefined;
+    if (!b) return null;
+    const positive = (v: number) => (v > 0 && Number.isFinite(v) ? null : "expected a frequency in (0, ∞)");
+    const from = this.quantity(b.from, "frequency", "/band/from", positive);
+    const to = this.quantity(b.to, "frequency", "/band/to", positive);
+    const step = this.quantity(b.step, "frequency", "/band/step", positive);
+    if (!from || !to || !step) return null;
+    if (to.exact.lt(from.exact)) {
+      this.problem("/band", `"to" (${to.exact.toString()} Hz) is below "from" (${from.exact.toString()} Hz); expected from ≤ to`);
+      return null;
+    }
+    const count = axisCount(from.exact.toString(), to.exact.toString(), step.exact.toString());
+    if (count > MAX_BAND_POINTS) {
+      this.problem("/band/step", `step ${step.exact.toString()} Hz gives ${count} band points; expected at most ${MAX_BAND_POINTS}`);
+      return null;
+    }
+    const frequenciesExact: string[] = [];
+    for (let i = 0; i < count; i++) frequenciesExact.push(from.exact.plus(step.exact.times(i)).toString());
+    return { frequenciesExact, frequenciesHz: frequenciesExact.map(Number) };
   }
 
   private taper(): TaperSpec | null {

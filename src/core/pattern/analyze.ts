@@ -10,7 +10,8 @@ import { prepareFrequency, type FrequencyPrep } from "../quantize/prepare.js";
 import { elementStates, type ElementStates } from "../quantize/states.js";
 import { SPEED_OF_LIGHT } from "../units.js";
 import { AfEvaluator } from "./evaluator.js";
-import { allocWindow, PatternGrid, type PowerWindow } from "./grid.js";
+import { allocWindow, applyWeight, elementWindow, PatternGrid, type PowerWindow } from "./grid.js";
+import { makeElementPattern, scanLossDb, type ElementPattern } from "../element.js";
 import { LobeFinder } from "./lobes.js";
 import { IdealLobes } from "./ideal-lobes.js";
 
@@ -25,6 +26,8 @@ export const METRIC_COLUMNS = [
   "rms_phase_error_deg",
   "rms_amp_error_db",
   "clipped",
+  // only in beams.csv when the scenario has an element pattern (NaN otherwise)
+  "scan_loss_db",
 ] as const;
 export const METRICS = METRIC_COLUMNS.length;
 export const M = Object.fromEntries(METRIC_COLUMNS.map((c, i) => [c, i])) as Record<(typeof METRIC_COLUMNS)[number], number>;
@@ -61,6 +64,10 @@ export class BeamAnalyzer {
   /** per element: the attenuation code whose amplitude is in qAmp (ideal parts) */
   private readonly lastQ: Int32Array;
   private readonly qAmp: Float64Array;
+  /** Element pattern (null: isotropic) and its weights on the current beam's window frame. */
+  readonly element: ElementPattern | null;
+  private readonly winE: Float64Array | null;
+  private winEKey = "";
 
   constructor(private readonly plan: Plan, readonly fi: number) {
     this.prep = prepareFrequency(plan, fi);
@@ -72,6 +79,10 @@ export class BeamAnalyzer {
     this.finder = new LobeFinder(this.grid.cap);
     this.winR = allocWindow(this.grid.cap);
     this.winI = allocWindow(this.grid.cap);
+    this.element = plan.element ? makeElementPattern(plan.element) : null;
+    this.evR.element = this.element;
+    this.evI.element = this.element;
+    this.winE = this.element ? new Float64Array(this.grid.cap) : null;
     const n = el.count;
     const scale = Math.pow(10, this.prep.gRefDb / 20);
     this.idealAmp = new Float64Array(n);
@@ -128,18 +139,31 @@ export class BeamAnalyzer {
     }
   }
 
+  /** With an element pattern: weight a sampled window by it (the total pattern |AF|²·E). */
+  private weigh(win: PowerWindow, u0: number, v0: number): void {
+    if (!this.element) return;
+    const key = `${u0},${v0},${win.m0},${win.n0},${win.wm},${win.wn}`;
+    if (key !== this.winEKey) {
+      elementWindow(this.element, win, u0, v0, this.grid.du, this.grid.dv, this.winE!);
+      this.winEKey = key;
+    }
+    applyWeight(win, this.winE!);
+  }
+
   /** PSL (dB) of the ideal tapered pattern of beam b; it does not depend on the quantizer or part. */
   idealPsl(b: number): number {
     const plan = this.plan;
     const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
     const g = this.grid;
     this.evI.setBeam(u0, v0, w0);
-    if (this.idealPeriodic && !this.evI.lockU && !this.evI.lockV) {
+    // the cached lobe structure assumes a beam-independent pattern: not so with an element pattern
+    if (this.idealPeriodic && !this.evI.lockU && !this.evI.lockV && !this.element) {
       if (!this.idealLobes) this.idealLobes = new IdealLobes(this.idealPeriodic, g.fftSize[0], g.fftSize[1], g.du, g.dv, this.evI);
       return 10 * Math.log10(this.idealLobes.sidelobePower(u0, v0) / this.idealLobes.peakPower);
     }
     if (this.idealPeriodic) g.fillFromPeriodic(this.idealPeriodic, u0, v0, this.winI);
     else g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
+    this.weigh(this.winI, u0, v0);
     const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0);
     return 10 * Math.log10(id.sidelobePower / id.peakPower);
   }
@@ -157,6 +181,7 @@ export class BeamAnalyzer {
     this.evR.setBeam(u0, v0, w0);
     this.evI.setBeam(u0, v0, w0);
     g.fill(this.evR.wr, this.evR.wi, u0, v0, w0, this.winR);
+    this.weigh(this.winR, u0, v0);
     const r = this.finder.analyse(this.winR, this.evR, g.du, g.dv, u0, v0);
     const pslI = opts.ideal === false ? NaN : this.idealPsl(b);
     const pu = u0 + r.peakDu, pv = v0 + r.peakDv;
@@ -181,6 +206,30 @@ export class BeamAnalyzer {
     out[off + M.rms_phase_error_deg] = Math.sqrt(sp / n);
     out[off + M.rms_amp_error_db] = Math.sqrt(sa / n);
     out[off + M.clipped] = codes.clipped;
+    out[off + M.scan_loss_db] = this.element ? scanLossDb(this.element, u0, v0) : NaN;
+  }
+
+  /**
+   * The main-lobe peak and gain of beam b played with `codes` at this analyzer's
+   * frequency (the band analysis: codes of another table frequency played here).
+   * Writes peak_u, peak_v, pointing_error_deg, gain_loss_db into out[off …]; the
+   * peak, pointing and gain are found exactly as in analyse().
+   */
+  analysePeak(b: number, codes: BeamCodes, out: Float64Array, off: number): void {
+    const plan = this.plan;
+    const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
+    this.realized(b, codes);
+    const g = this.grid;
+    this.evR.setBeam(u0, v0, w0);
+    this.evI.setBeam(u0, v0, w0);
+    g.fill(this.evR.wr, this.evR.wi, u0, v0, w0, this.winR);
+    this.weigh(this.winR, u0, v0);
+    const r = this.finder.peak(this.winR, this.evR, g.du, g.dv);
+    const pu = u0 + r.du, pv = v0 + r.dv;
+    out[off] = pu;
+    out[off + 1] = pv;
+    out[off + 2] = angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) });
+    out[off + 3] = -10 * Math.log10(this.evR.power(0, 0) / this.evI.power(0, 0));
   }
 
   /**

@@ -5,6 +5,8 @@
  * distinct coordinate (a lattice has only `columns` distinct x and `rows` distinct y),
  * so one evaluation costs a few dozen sin/cos and one pass over the elements.
  */
+import { weightDerivs, type ElementDerivs, type ElementPattern } from "../element.js";
+
 export interface Distinct {
   values: Float64Array;
   index: Int32Array;
@@ -57,6 +59,12 @@ export class AfEvaluator {
   v0 = 0;
   w0 = 1;
   readonly out: PowerDerivs = { p: 0, pu: 0, pv: 0, puu: 0, pvv: 0, puv: 0 };
+  /**
+   * Element pattern: when set, power() and derivs() give the total pattern
+   * |AF|²·E(d̂ + Δ) (field() stays the array factor alone). null: isotropic elements.
+   */
+  element: ElementPattern | null = null;
+  private readonly eOut: ElementDerivs = { p: 0, pu: 0, pv: 0, puu: 0, pvv: 0, puv: 0 };
   /** elements ordered by distinct-y group; group g spans order[groupStart[g] … groupStart[g+1]) */
   private readonly order: Int32Array;
   private readonly groupStart: Int32Array;
@@ -112,10 +120,11 @@ export class AfEvaluator {
     }
   }
 
-  /** |F(Δ)|² */
+  /** |F(Δ)|² (times the element power pattern when there is one) */
   power(du: number, dv: number): number {
     const f = this.field(du, dv);
-    return f[0] * f[0] + f[1] * f[1];
+    const p = f[0] * f[0] + f[1] * f[1];
+    return this.element ? p * this.element.power(this.u0 + du, this.v0 + dv) : p;
   }
 
   private readonly fOut: [number, number] = [0, 0];
@@ -172,8 +181,18 @@ export class AfEvaluator {
     return this.fOut;
   }
 
-  /** |F|² and its first and second derivatives in (Δu, Δv). Planar arrays analytically; others by central differences. */
+  /**
+   * |F|² and its first and second derivatives in (Δu, Δv). Planar arrays analytically;
+   * others by central differences. With an element pattern: the total pattern's
+   * (product rule with the element's own derivatives).
+   */
   derivs(du: number, dv: number): PowerDerivs {
+    const o = this.afDerivs(du, dv);
+    if (!this.element || !this.planar) return o; // non-planar: power() already includes E
+    return weightDerivs(o, this.element.derivs(this.u0 + du, this.v0 + dv, this.eOut));
+  }
+
+  private afDerivs(du: number, dv: number): PowerDerivs {
     const o = this.out;
     if (!this.planar) {
       const h = 1e-5;

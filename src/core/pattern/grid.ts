@@ -8,6 +8,7 @@
 import type { Plan } from "../plan.js";
 import { SPEED_OF_LIGHT } from "../units.js";
 import { PowerFft2, nextPow2 } from "./fft.js";
+import type { ElementPattern } from "../element.js";
 
 export const OVERSAMPLE = 4;
 
@@ -196,4 +197,22 @@ export class PatternGrid {
       }
     }
   }
+}
+
+/**
+ * The element power pattern on the cells of a framed window (cell (i, j) at the
+ * absolute direction u0 + (m0+i)·du, v0 + (n0+j)·dv); 0 past the horizon.
+ */
+export function elementWindow(e: ElementPattern, win: PowerWindow, u0: number, v0: number, du: number, dv: number, out: Float64Array): void {
+  for (let j = 0; j < win.wn; j++) {
+    const v = v0 + (win.n0 + j) * dv;
+    const o = j * win.wm;
+    for (let i = 0; i < win.wm; i++) out[o + i] = win.visible[o + i] ? e.power(u0 + (win.m0 + i) * du, v) : 0;
+  }
+}
+
+/** Weight the sampled |AF|² cell by cell (the total pattern |AF|²·E). */
+export function applyWeight(win: PowerWindow, weight: Float64Array): void {
+  const n = win.wm * win.wn;
+  for (let q = 0; q < n; q++) win.p[q]! *= weight[q]!;
 }

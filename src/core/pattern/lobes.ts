@@ -80,8 +80,12 @@ export class LobeFinder {
     this.stack = new Int32Array(cap);
   }
 
-  analyse(win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): LobeResult {
-    const { wm, wn, p, visible } = win;
+  /**
+   * The main-lobe peak alone (steps 1–2 of analyse): the grid peak nearest the
+   * commanded direction, refined on the exact pattern. `top` is its grid cell.
+   */
+  peak(win: PowerWindow, ev: AfEvaluator, du: number, dv: number): Refined & { top: number } {
+    const { wm, wn, p } = win;
     // 1. grid peak nearest the commanded direction: hill-climb from Δ = 0
     const top = hillClimb(p, wm, wn, -win.m0, -win.n0);
     const i = top % wm;
@@ -89,6 +93,13 @@ export class LobeFinder {
     // 2. exact peak (a line array keeps the commanded value across its normal plane)
     const [oi, oj] = parabolic(p, wm, wn, i, j);
     const pk = refine(ev, ev.lockU ? 0 : (win.m0 + i + oi) * du, ev.lockV ? 0 : (win.n0 + j + oj) * dv, du, dv, null);
+    return { ...pk, top };
+  }
+
+  analyse(win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): LobeResult {
+    const { wm, wn, p, visible } = win;
+    const pk = this.peak(win, ev, du, dv);
+    const top = pk.top;
     // 3. main lobe: monotone flood fill from the grid peak
     const mask = this.mask;
     floodMainLobe(p, wm, wn, top, mask, this.stack);

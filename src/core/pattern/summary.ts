@@ -21,11 +21,11 @@ export function quantile(sorted: Float64Array | number[], q: number): number {
 }
 
 /** For each metric (skipping NaN): median, p95, max and where the max is. Pointing, PSL rise, gain loss and errors: larger is worse. */
-export function summarise(all: Float64Array): Record<string, Distribution> {
+export function summarise(all: Float64Array, omit: readonly string[] = []): Record<string, Distribution> {
   const n = all.length / METRICS;
   const out: Record<string, Distribution> = {};
   METRIC_COLUMNS.forEach((name, k) => {
-    if (name === "peak_u" || name === "peak_v") return;
+    if (name === "peak_u" || name === "peak_v" || omit.includes(name)) return;
     const vals: number[] = [];
     let worst = -1;
     let wv = -Infinity;
