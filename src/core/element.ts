@@ -4,7 +4,8 @@
  * so the total power pattern is |AF|² × E, with E the element's power pattern:
  * - `cosine`: E(θ) = cos^q θ = (1 − u² − v²)^(q/2) (field cos^(q/2) θ), 0 below the horizon;
  * - `table`: a measured power pattern in dB on a θ/φ grid, interpolated bilinearly in
- *   (θ, φ) on the sphere (φ periodic), then turned into linear power; 0 below the horizon.
+ *   (θ, φ) by piecewise cubic Hermite (φ periodic; see TablePattern.gainDb), then turned
+ *   into linear power; 0 below the horizon.
  * Without an element pattern the elements are isotropic (E ≡ 1, version 1).
  *
  * The pattern code applies E as a weight: to every sampled |AF|² cell (weightWindow)
@@ -40,6 +41,8 @@ export interface ElementPattern {
   power(u: number, v: number): number;
   /** Power and its first and second derivatives in (u, v). */
   derivs(u: number, v: number, out: ElementDerivs): ElementDerivs;
+  /** power() for the sampled lobe-search grids (may be a fast close approximation). */
+  gridPower(u: number, v: number): number;
 }
 
 const DEG = Math.PI / 180;
@@ -54,6 +57,9 @@ class CosinePattern implements ElementPattern {
     if (t < 0) return 0;
     if (this.a === 0) return 1;
     return t === 0 ? 0 : Math.pow(t, this.a);
+  }
+  gridPower(u: number, v: number): number {
+    return this.power(u, v);
   }
   derivs(u: number, v: number, o: ElementDerivs): ElementDerivs {
     const t = 1 - u * u - v * v;
@@ -92,37 +98,88 @@ function interval(x: Float64Array, t: number): number {
   return lo;
 }
 
+/** Cubic Hermite on [x0, x0 + h] with values p0, p1 and slopes m0, m1, at fraction s. */
+function hermite(h: number, p0: number, p1: number, m0: number, m1: number, s: number): number {
+  const s2 = s * s, s3 = s2 * s;
+  return (2 * s3 - 3 * s2 + 1) * p0 + (s3 - 2 * s2 + s) * h * m0 + (3 * s2 - 2 * s3) * p1 + (s3 - s2) * h * m1;
+}
+
+/**
+ * Keep a knot slope m between secants da and db from overshooting: 0 at a local
+ * extremum of the data, else at most 3·min(|da|, |db|) (the monotone cubic limiter of
+ * Fritsch & Carlson, SIAM J. Numer. Anal. 17, 1980; from memory). A measured table's
+ * floor (e.g. −60 dB at the horizon) then cannot make the interpolant ring above the data.
+ */
+function limit(m: number, da: number, db: number): number {
+  if (!(da * db > 0) || !(m * da > 0)) return 0;
+  const lim = 3 * Math.min(Math.abs(da), Math.abs(db));
+  return Math.abs(m) > lim ? Math.sign(m) * lim : m;
+}
+
+/** Slope at the middle knot of three (spacings ha, hb): the parabola through them (exact for quadratics), limited. */
+function slope3(ha: number, hb: number, pa: number, p: number, pb: number): number {
+  const da = (p - pa) / ha, db = (pb - p) / hb;
+  return limit((hb * da + ha * db) / (ha + hb), da, db);
+}
+
+/** Grid raster for the sampled windows: side of the u-v raster of the interpolant. */
+const RASTER = 513;
+
 class TablePattern implements ElementPattern {
   private readonly nt: number;
   private readonly np: number;
-  /** φ knots with the wrap-around knot appended (φ0 + 360) */
-  private readonly phi: Float64Array;
+  private raster: Float64Array | null = null;
   constructor(readonly spec: ElementSpec & { pattern: "table" }) {
     this.nt = spec.thetaDeg.length;
     this.np = spec.phiDeg.length;
-    const p = spec.phiDeg;
-    this.phi = new Float64Array(this.np + 1);
-    this.phi.set(p);
-    this.phi[this.np] = p[0]! + 360;
   }
-  /** Interpolated gain (dB) at (θ, φ) in degrees, θ ≤ 90. */
-  gainDb(thetaDeg: number, phiDeg: number): number {
-    const { thetaDeg: th, gainDb: g } = this.spec;
+  /** Gain (dB) at θ row i, interpolated along φ (periodic cubic Hermite; one φ: the row's value). */
+  private row(i: number, ph: number): number {
+    const { phiDeg: phi, gainDb: g } = this.spec;
     const np = this.np;
-    const i = interval(th, thetaDeg);
-    const ft = th.length > 1 ? (thetaDeg - th[i]!) / (th[i + 1]! - th[i]!) : 0;
-    const i1 = Math.min(i + 1, this.nt - 1);
-    if (np === 1) return g[i]! + ft * (g[i1]! - g[i]!);
+    if (np === 1) return g[i]!;
     // φ into [φ0, φ0 + 360)
-    let ph = phiDeg - this.phi[0]!;
-    ph -= 360 * Math.floor(ph / 360);
-    ph += this.phi[0]!;
-    const j = interval(this.phi, ph);
-    const fp = (ph - this.phi[j]!) / (this.phi[j + 1]! - this.phi[j]!);
-    const j1 = (j + 1) % np;
-    const a = g[i * np + j]! + fp * (g[i * np + j1]! - g[i * np + j]!);
-    const b = g[i1 * np + j]! + fp * (g[i1 * np + j1]! - g[i1 * np + j]!);
-    return a + ft * (b - a);
+    let x = ph - phi[0]!;
+    x -= 360 * Math.floor(x / 360);
+    x += phi[0]!;
+    const j = x >= phi[np - 1]! ? np - 1 : interval(phi, x);
+    const at = (k: number) => g[i * np + ((k % np) + np) % np]!;
+    const knot = (k: number) => phi[((k % np) + np) % np]! + 360 * Math.floor(k / np);
+    const x0 = knot(j), x1 = knot(j + 1);
+    const h = x1 - x0;
+    const m0 = slope3(x0 - knot(j - 1), h, at(j - 1), at(j), at(j + 1));
+    const m1 = slope3(h, knot(j + 2) - x1, at(j), at(j + 1), at(j + 2));
+    return hermite(h, at(j), at(j + 1), m0, m1, (x - x0) / h);
+  }
+  /**
+   * Interpolated gain (dB) at (θ, φ) in degrees, θ ≤ 90: piecewise cubic Hermite along
+   * φ (periodic) and then along θ, with slopes from the parabola through neighbouring
+   * knots (one-sided at θ's ends), limited so that it never overshoots the data. It
+   * passes through every table value, has a continuous slope, and reproduces a smooth
+   * monotone quadratic exactly.
+   */
+  gainDb(thetaDeg: number, phiDeg: number): number {
+    const th = this.spec.thetaDeg;
+    const nt = this.nt;
+    if (nt === 1) return this.row(0, phiDeg);
+    const i = Math.min(interval(th, thetaDeg), nt - 2);
+    const h = th[i + 1]! - th[i]!;
+    const p0 = this.row(i, phiDeg), p1 = this.row(i + 1, phiDeg);
+    const pm = i > 0 ? this.row(i - 1, phiDeg) : NaN;
+    const pp = i + 2 < nt ? this.row(i + 2, phiDeg) : NaN;
+    let m0: number, m1: number;
+    if (i > 0) m0 = slope3(th[i]! - th[i - 1]!, h, pm, p0, p1);
+    else if (nt > 2) {
+      const d0 = (p1 - p0) / h, d1 = (pp - p1) / (th[2]! - th[1]!);
+      m0 = limit(d0 - (h * (d1 - d0)) / (h + th[2]! - th[1]!), d0, d0);
+    } else m0 = (p1 - p0) / h;
+    if (i + 2 < nt) m1 = slope3(h, th[i + 2]! - th[i + 1]!, p0, p1, pp);
+    else if (nt > 2) {
+      const hp = th[i]! - th[i - 1]!;
+      const dp = (p0 - pm) / hp, d0 = (p1 - p0) / h;
+      m1 = limit(d0 + (h * (d0 - dp)) / (hp + h), d0, d0);
+    } else m1 = (p1 - p0) / h;
+    return hermite(h, p0, p1, m0, m1, (thetaDeg - th[i]!) / h);
   }
   power(u: number, v: number): number {
     const s = u * u + v * v;
@@ -132,9 +189,33 @@ class TablePattern implements ElementPattern {
     return Math.pow(10, this.gainDb(theta, phi) / 10);
   }
   /**
-   * The interpolant is piecewise smooth: its derivatives are taken by central
-   * differences (the refinement only needs them to steer Newton steps; every accepted
-   * step is judged on exact values of the total pattern).
+   * For the sampled grids only (lobe search): bilinear lookup in a RASTER² u-v raster
+   * of power(). Every refined value (peaks, sidelobes, gain) uses power() itself.
+   */
+  gridPower(u: number, v: number): number {
+    if (u * u + v * v > 1) return 0;
+    if (!this.raster) {
+      const r = (this.raster = new Float64Array(RASTER * RASTER));
+      for (let j = 0; j < RASTER; j++)
+        for (let i = 0; i < RASTER; i++) {
+          const uu = -1 + (2 * i) / (RASTER - 1), vv = -1 + (2 * j) / (RASTER - 1);
+          // just past the horizon: the horizon's value, so cells near it interpolate sensibly
+          const s = Math.hypot(uu, vv);
+          r[j * RASTER + i] = s > 1 ? this.power(uu / s, vv / s) : this.power(uu, vv);
+        }
+    }
+    const x = ((u + 1) * (RASTER - 1)) / 2, y = ((v + 1) * (RASTER - 1)) / 2;
+    const i = Math.min(RASTER - 2, Math.floor(x)), j = Math.min(RASTER - 2, Math.floor(y));
+    const fx = x - i, fy = y - j;
+    const r = this.raster;
+    const a = r[j * RASTER + i]! + fx * (r[j * RASTER + i + 1]! - r[j * RASTER + i]!);
+    const b = r[(j + 1) * RASTER + i]! + fx * (r[(j + 1) * RASTER + i + 1]! - r[(j + 1) * RASTER + i]!);
+    return a + fy * (b - a);
+  }
+  /**
+   * Derivatives by central differences of the interpolant (smooth within a cell, with
+   * a continuous slope across cells): they steer the Newton steps, and every accepted
+   * step is judged on exact values of the total pattern.
    */
   derivs(u: number, v: number, o: ElementDerivs): ElementDerivs {
     const h = 1e-5;
@@ -152,8 +233,12 @@ class TablePattern implements ElementPattern {
   }
 }
 
+const made = new WeakMap<ElementSpec, ElementPattern>();
+/** One pattern object per spec (the analyzers of every frequency share a table's raster). */
 export function makeElementPattern(spec: ElementSpec): ElementPattern {
-  return spec.pattern === "cosine" ? new CosinePattern(spec) : new TablePattern(spec);
+  let e = made.get(spec);
+  if (!e) made.set(spec, (e = spec.pattern === "cosine" ? new CosinePattern(spec) : new TablePattern(spec)));
+  return e;
 }
 
 /** scan_loss_db: element power at boresight minus at (u, v), dB. */

@@ -207,7 +207,7 @@ export function elementWindow(e: ElementPattern, win: PowerWindow, u0: number, v
   for (let j = 0; j < win.wn; j++) {
     const v = v0 + (win.n0 + j) * dv;
     const o = j * win.wm;
-    for (let i = 0; i < win.wm; i++) out[o + i] = win.visible[o + i] ? e.power(u0 + (win.m0 + i) * du, v) : 0;
+    for (let i = 0; i < win.wm; i++) out[o + i] = win.visible[o + i] ? e.gridPower(u0 + (win.m0 + i) * du, v) : 0;
   }
 }
 
