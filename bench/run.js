@@ -188,6 +188,41 @@ if (!ONLY || ONLY === "scale") {
   rmSync(out, { recursive: true, force: true });
 }
 
+// ---- 8. band analysis (BENCH_ONLY=band runs it alone): the 32×32, 441-beam scenario with a cos^1.2 element, played at 9 band points
+//         (27 … 29 GHz in 0.25 GHz steps): the same per-beam machinery finds each band point's peak
+if (!ONLY || ONLY === "band") {
+  const plain = scenario("band-plain-32x32", 32, { kind: "azel", az: { from: -50, to: 50, step: 5 }, el: { from: -50, to: 50, step: 5 } }, ["bin"]);
+  const doc = JSON.parse(readFileSync(plain, "utf8"));
+  const withElement = join(tmp, "band-plain-32x32", "element.json");
+  writeFileSync(withElement, JSON.stringify({ ...doc, element: { pattern: "cosine", exponent: 1.2 } }));
+  const withBand = join(tmp, "band-plain-32x32", "band.json");
+  writeFileSync(withBand, JSON.stringify({ ...doc, element: { pattern: "cosine", exponent: 1.2 }, band: { from: "27 GHz", to: "29 GHz", step: "0.25 GHz" } }));
+  const t = { plain: [], element: [], band: [] };
+  const cpu = { plain: [], element: [], band: [] };
+  const out = join(tmp, "band-out");
+  for (let i = 0; i < RUNS; i++)
+    for (const [k, s] of [["plain", plain], ["element", withElement], ["band", withBand]]) {
+      const c = childBuild(s, out, true, jobs);
+      t[k].push(c.buildMs);
+      cpu[k].push(c.cpuMs);
+    }
+  const rows = parse(readFileSync(join(out, "squint.csv")), { columns: true }).length;
+  results.band = {
+    elements: 1024,
+    beams: 441,
+    bandPoints: 9,
+    squintRows: rows,
+    plainBuildMs: median(t.plain),
+    elementBuildMs: median(t.element),
+    bandBuildMs: median(t.band),
+    plainCpuMs: median(cpu.plain),
+    elementCpuMs: median(cpu.element),
+    bandCpuMs: median(cpu.band),
+    cpuMsPerSquintRow: (median(cpu.band) - median(cpu.element)) / rows,
+    note: "in-process build (load excluded), tables to table.bin only, all cores; CPU = user + system of the whole process (worker threads included), robust to other load on the machine",
+  };
+}
+
 writeFileSync(join(ROOT, "bench", "results.json"), JSON.stringify(results, null, 2) + "\n");
 const f = (x, d = 0) => Number(x).toFixed(d);
 if (!ONLY) {
@@ -218,5 +253,12 @@ const sv = results.scaleVerify;
 console.log(`\n| 64×64 × ${sv.beams} beams (${f(sv.words / 1e6, 1)} M words, table.bin + analysis) | time | peak RSS (MB) |\n|---|---|---|`);
 console.log(`| build | ${f(sv.buildMs / 1000, 1)} s | ${f(sv.buildPeakRssMB)} |`);
 console.log(`| verify (every file regenerated, analysis rerun) | ${f(sv.verifyMs / 1000, 1)} s = ${f(sv.ratio, 2)} × build | ${f(sv.verifyPeakRssMB)} |`);
+const bd = results.band;
+if (bd) {
+  console.log(`\n| band benchmark (32×32, 441 beams, table.bin only) | build (ms) | CPU (ms) |\n|---|---|---|`);
+  console.log(`| isotropic elements, no band | ${f(bd.plainBuildMs)} | ${f(bd.plainCpuMs)} |`);
+  console.log(`| cos^1.2 element | ${f(bd.elementBuildMs)} | ${f(bd.elementCpuMs)} |`);
+  console.log(`| cos^1.2 element + 9-point band (${bd.squintRows} squint.csv rows) | ${f(bd.bandBuildMs)} | ${f(bd.bandCpuMs)} (${f(bd.cpuMsPerSquintRow, 3)} ms a row) |`);
+}
 rmSync(tmp, { recursive: true, force: true });
 if (!ONLY) await import("./inputs.js");

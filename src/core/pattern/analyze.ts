@@ -12,7 +12,7 @@ import { SPEED_OF_LIGHT } from "../units.js";
 import { AfEvaluator } from "./evaluator.js";
 import { allocWindow, applyWeight, elementWindow, PatternGrid, type PowerWindow } from "./grid.js";
 import { makeElementPattern, scanLossDb, type ElementPattern } from "../element.js";
-import { LobeFinder } from "./lobes.js";
+import { LobeFinder, peakOnDemand } from "./lobes.js";
 import { IdealLobes } from "./ideal-lobes.js";
 
 export const METRIC_COLUMNS = [
@@ -213,18 +213,17 @@ export class BeamAnalyzer {
    * The main-lobe peak and gain of beam b played with `codes` at this analyzer's
    * frequency (the band analysis: codes of another table frequency played here).
    * Writes peak_u, peak_v, pointing_error_deg, gain_loss_db into out[off …]; the
-   * peak, pointing and gain are found exactly as in analyse().
+   * peak (hill-climb on the same grid from Δ = 0, refined on the exact pattern),
+   * pointing and gain are found as in analyse(), with the grid cells evaluated on
+   * demand instead of by a whole-pattern FFT.
    */
   analysePeak(b: number, codes: BeamCodes, out: Float64Array, off: number): void {
     const plan = this.plan;
     const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
     this.realized(b, codes);
-    const g = this.grid;
     this.evR.setBeam(u0, v0, w0);
     this.evI.setBeam(u0, v0, w0);
-    g.fill(this.evR.wr, this.evR.wi, u0, v0, w0, this.winR);
-    this.weigh(this.winR, u0, v0);
-    const r = this.finder.peak(this.winR, this.evR, g.du, g.dv);
+    const r = peakOnDemand(this.evR, this.grid.du, this.grid.dv, u0, v0);
     const pu = u0 + r.du, pv = v0 + r.dv;
     out[off] = pu;
     out[off + 1] = pv;

@@ -160,6 +160,49 @@ export class LobeFinder {
 
 interface Refined { du: number; dv: number; p: number }
 
+/**
+ * The main-lobe peak as LobeFinder.peak finds it, without a sampled window: the same
+ * grid (cells Δ = (m·du, n·dv), the window's bounds for beam (u0, v0)), the same
+ * hill-climb from Δ = 0 and parabolic start, but every cell it visits is evaluated
+ * exactly on demand (the evaluator's total pattern; an FFT cell is the same sample).
+ * Used where only the peak is wanted (the band analysis): a few dozen evaluations
+ * instead of a whole pattern.
+ */
+export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): Refined {
+  const mLo = Math.floor((-1 - u0) / du) - 1, mHi = Math.floor((1 - u0) / du) + 1;
+  const nLo = Math.floor((-1 - v0) / dv) - 1, nHi = Math.floor((1 - v0) / dv) + 1;
+  const seen = new Map<number, number>();
+  const W = mHi - mLo + 1;
+  const at = (m: number, n: number): number => {
+    if (m < mLo || m > mHi || n < nLo || n > nHi) return NaN;
+    const key = (n - nLo) * W + (m - mLo);
+    let v = seen.get(key);
+    if (v === undefined) seen.set(key, (v = ev.power(m * du, n * dv)));
+    return v;
+  };
+  let i = 0, j = 0;
+  for (;;) {
+    let bi = i, bj = j, bp = at(i, j);
+    for (let dj = -1; dj <= 1; dj++)
+      for (let di = -1; di <= 1; di++) {
+        const v = at(i + di, j + dj);
+        if (v > bp) { bp = v; bi = i + di; bj = j + dj; }
+      }
+    if (bi === i && bj === j) break;
+    i = bi;
+    j = bj;
+  }
+  const lg = (m: number, n: number) => Math.log(at(m, n) + 1e-300);
+  const fit = (l: number, c: number, r: number) => {
+    const den = l - 2 * c + r;
+    const o = den < 0 ? (0.5 * (l - r)) / den : 0;
+    return Number.isFinite(o) ? Math.max(-0.5, Math.min(0.5, o)) : 0;
+  };
+  const c = lg(i, j);
+  const oi = fit(lg(i - 1, j), c, lg(i + 1, j)), oj = fit(lg(i, j - 1), c, lg(i, j + 1));
+  return refine(ev, ev.lockU ? 0 : (i + oi) * du, ev.lockV ? 0 : (j + oj) * dv, du, dv, null);
+}
+
 /** Sub-cell offset of a grid maximum from a parabola through log|AF|² of its neighbours (±½ cell). */
 function parabolic(p: Float64Array, wm: number, wn: number, a: number, b: number): [number, number] {
   const at = (x: number, y: number) => (x < 0 || y < 0 || x >= wm || y >= wn ? NaN : Math.log(p[y * wm + x]! + 1e-300));
