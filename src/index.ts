@@ -164,6 +164,8 @@ export interface BeamMetrics {
   rmsPhaseErrorDeg: number;
   rmsAmpErrorDb: number;
   clipped: number;
+  /** With an element pattern: element power at boresight minus at the beam direction, dB; null for isotropic elements. */
+  scanLossDb: number | null;
 }
 
 const finiteOrNull = (x: number): number | null => (Number.isFinite(x) ? x : null);
@@ -188,6 +190,7 @@ export function analyzeBeam(s: Scenario, ref: BeamRef): BeamMetrics {
     rmsPhaseErrorDeg: m[M.rms_phase_error_deg]!,
     rmsAmpErrorDb: m[M.rms_amp_error_db]!,
     clipped: m[M.clipped]!,
+    scanLossDb: finiteOrNull(m[M.scan_loss_db]!),
   };
 }
 

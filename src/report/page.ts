@@ -14,7 +14,7 @@ import { crc32 } from "node:zlib";
 import { parse } from "csv-parse/sync";
 import { InputError } from "../core/errors.js";
 import type { Plan } from "../core/plan.js";
-import type { Manifest } from "../io/build.js";
+import type { BandReport, Manifest } from "../io/build.js";
 import { checkFolder, folderEntry, loadBuildScenario, openFolderFile, readFolderFile, readManifest } from "../io/readbuild.js";
 import { enabledCount } from "../core/plan.js";
 
@@ -346,6 +346,32 @@ a.beam-link{color:var(--head);font-weight:600}
 @media print{.controls,.hint{display:none}body{max-width:none;padding:0}figure{break-inside:avoid;background:#fff}.safety{background:#fff}}
 `;
 
+/** The band analysis (manifest extra.band, from squint.csv): each beam's worst pointing and gain loss across the band. */
+function bandPart(m: Manifest): string {
+  const b = (m.extra as { band?: BandReport } | undefined)?.band;
+  if (!b) return "";
+  const ghz = (x: number | string | null) => (x === null ? "n/a" : `${Number((Number(x) / 1e9).toPrecision(9))} GHz`);
+  const num = (x: number | null, d: number) => (x === null || !Number.isFinite(x) ? "n/a" : x.toFixed(d));
+  const F = m.frequenciesHz;
+  const beams = m.counts.beams;
+  const dist = (label: string, d: BandReport["worstPointingDeg"], digits: number) => `<tr><th scope="row">${esc(label)}</th><td>${num(d.median, digits)}</td><td>${num(d.p95, digits)}</td><td>${num(d.max, digits)}</td></tr>`;
+  const worst = (key: "worstPointingDeg" | "worstGainLossDb", at: "worstPointingAtHz" | "worstGainLossAtHz", digits: number, unit: string) =>
+    b.perBeam
+      .map((r, i) => ({ r, i }))
+      .filter((x) => x.r[key] !== null)
+      .sort((x, y) => y.r[key]! - x.r[key]! || x.i - y.i)
+      .slice(0, 8)
+      .map(({ r, i }) => {
+        const fi = Math.floor(i / beams);
+        return `<tr><td>${num(r[key], digits)} ${unit}</td><td><a class="beam-link" href="#f=${fi}&amp;beam=${r.beam}">beam ${r.beam}</a></td><td>${esc(ghz(F[fi] ?? null))} table</td><td>played at ${esc(ghz(r[at]))}</td></tr>`;
+      })
+      .join("");
+  return `<section id="band"><h2>Across the band</h2><p>Every table played at ${b.frequenciesHz.length} band frequencies, ${esc(ghz(b.frequenciesHz[0]!))} to ${esc(ghz(b.frequenciesHz[b.frequenciesHz.length - 1]!))} (squint.csv): phase steering is not true time delay, so the beam squints away from the commanded direction off the table's frequency. Per beam, its worst value across the band:</p>
+<table><thead><tr><th></th><th>median</th><th>p95</th><th>max</th></tr></thead><tbody>${dist("pointing error, deg", b.worstPointingDeg, 4)}${dist("gain loss, dB", b.worstGainLossDb, 3)}</tbody></table>
+<h3>Beams that squint most</h3><table><tbody>${worst("worstPointingDeg", "worstPointingAtHz", 4, "°")}</tbody></table>
+<h3>Beams that lose most gain across the band</h3><table><tbody>${worst("worstGainLossDb", "worstGainLossAtHz", 3, "dB")}</tbody></table></section>`;
+}
+
 export async function makeReport(dir: string, o: ReportOptions): Promise<{ html: string; beam: number | null }> {
   checkFolder(dir);
   const has = (name: string) => folderEntry(dir, name).kind === "file";
@@ -362,6 +388,7 @@ export async function makeReport(dir: string, o: ReportOptions): Promise<{ html:
     title = `steercode report: ${m.name || "build"}`;
     const r = buildPart(dir, m, o);
     parts.push(r.html);
+    parts.push(bandPart(m));
     beam = r.beam;
     data = r.data;
   }

@@ -50,6 +50,11 @@ describe("build with an element pattern and a band", () => {
     expect(m.extra.band.worstPointingDeg.max).toBeCloseTo(worst, 6);
     const v = cli(["verify", out]);
     expect(v.code, v.stdout + v.stderr).toBe(0);
+    const rp = cli(["report", out, "-o", join(out, "..", "r.html")]);
+    expect(rp.code, rp.stderr).toBe(0);
+    const html = readFileSync(join(out, "..", "r.html"), "utf8");
+    expect(html).toMatch(/<section id="band"><h2>Across the band<\/h2>/);
+    expect(html).toContain(`<td>${m.extra.band.worstPointingDeg.max.toFixed(4)} °</td>`);
   });
 
   it("a scenario without element or band writes the version 1 columns and no squint.csv", () => {
