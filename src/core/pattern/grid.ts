@@ -40,10 +40,34 @@ export class PatternGrid {
   // direct mode
   private readonly mMax: number = 0;
   private readonly nMax: number = 0;
-  private readonly exr: Float64Array | null = null;
-  private readonly exi: Float64Array | null = null;
-  private readonly eyr: Float64Array | null = null;
-  private readonly eyi: Float64Array | null = null;
+  // direct-mode phasor tables, built on the first fill (an analyzer that only refines peaks never needs them)
+  private exr: Float64Array | null = null;
+  private exi: Float64Array | null = null;
+  private eyr: Float64Array | null = null;
+  private eyi: Float64Array | null = null;
+
+  private phasorTables(): void {
+    const el = this.plan.elements;
+    const n = el.count;
+    const W = 2 * this.mMax + 1;
+    const H = 2 * this.nMax + 1;
+    this.exr = new Float64Array(W * n);
+    this.exi = new Float64Array(W * n);
+    this.eyr = new Float64Array(H * n);
+    this.eyi = new Float64Array(H * n);
+    for (let m = -this.mMax; m <= this.mMax; m++)
+      for (let i = 0; i < n; i++) {
+        const a = this.k * el.x[i]! * m * this.du;
+        this.exr[(m + this.mMax) * n + i] = Math.cos(a);
+        this.exi[(m + this.mMax) * n + i] = Math.sin(a);
+      }
+    for (let q = -this.nMax; q <= this.nMax; q++)
+      for (let i = 0; i < n; i++) {
+        const a = this.k * el.y[i]! * q * this.dv;
+        this.eyr[(q + this.nMax) * n + i] = Math.cos(a);
+        this.eyi[(q + this.nMax) * n + i] = Math.sin(a);
+      }
+  }
   private readonly planar: boolean;
 
   constructor(private readonly plan: Plan, fi: number) {
@@ -84,25 +108,6 @@ export class PatternGrid {
       this.dv = lambda / (OVERSAMPLE * ly);
       this.mMax = Math.ceil(2 / this.du) + 2;
       this.nMax = Math.ceil(2 / this.dv) + 2;
-      const n = el.count;
-      const W = 2 * this.mMax + 1;
-      const H = 2 * this.nMax + 1;
-      this.exr = new Float64Array(W * n);
-      this.exi = new Float64Array(W * n);
-      this.eyr = new Float64Array(H * n);
-      this.eyi = new Float64Array(H * n);
-      for (let m = -this.mMax; m <= this.mMax; m++)
-        for (let i = 0; i < n; i++) {
-          const a = this.k * el.x[i]! * m * this.du;
-          this.exr[(m + this.mMax) * n + i] = Math.cos(a);
-          this.exi[(m + this.mMax) * n + i] = Math.sin(a);
-        }
-      for (let q = -this.nMax; q <= this.nMax; q++)
-        for (let i = 0; i < n; i++) {
-          const a = this.k * el.y[i]! * q * this.dv;
-          this.eyr[(q + this.nMax) * n + i] = Math.cos(a);
-          this.eyi[(q + this.nMax) * n + i] = Math.sin(a);
-        }
     }
     this.cap = (Math.ceil(2 / this.du) + 4) * (Math.ceil(2 / this.dv) + 4);
   }
@@ -165,6 +170,7 @@ export class PatternGrid {
       return;
     }
     const n = el.count;
+    if (!this.exr) this.phasorTables();
     const { exr, exi, eyr, eyi, mMax, nMax } = this;
     for (let j = 0; j < win.wn; j++) {
       const q = win.n0 + j;
