@@ -262,3 +262,4 @@ if (bd) {
 }
 rmSync(tmp, { recursive: true, force: true });
 if (!ONLY) await import("./inputs.js");
+if (!ONLY || ONLY === "report") await import("./report.js");

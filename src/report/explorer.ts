@@ -563,6 +563,7 @@ function select(fi: number, b: number, fromHash = false): void {
   apertureViews(an);
   $("phase-histogram").innerHTML = histogram(an);
   shown.ms = performance.now() - t0;
+  document.body.dataset.ms = shown.ms.toFixed(1);
   metricsTable(fi, b);
   drawGridMaps(fi, b);
   $<HTMLSelectElement>("freq-select").value = String(fi);
