@@ -19,7 +19,7 @@ import { stringify } from "csv-stringify/sync";
 import { METRIC_COLUMNS, METRICS } from "../core/pattern/analyze.js";
 import { summarise, type Distribution } from "../core/pattern/summary.js";
 import { theoryFor, type Theory } from "../core/theory.js";
-import { ringSource, startAnalysis, type WorkerPool } from "./analysis-pool.js";
+import { refuseOversizedAnalysis, ringSource, startAnalysis, type WorkerPool } from "./analysis-pool.js";
 import { setTimeout as sleep } from "node:timers/promises";
 import { fixed } from "./format.js";
 import { OPT, OPT_FIELDS, POINTING_ALLOWANCE_DEG, DEFAULT_EXTRA_LOSS_DB, summariseOptimized, type OptimizedSummary } from "../core/quantize/optimized.js";
@@ -271,6 +271,8 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
 }
 
 export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
+  // the optimized quantizer searches on the analysis grid: it needs it even with --no-analysis
+  if (opts.analysis || loaded.plan.quantizer.method === "optimized") refuseOversizedAnalysis(loaded.plan, loaded.scenario.name);
   const stage = new StagedDir(outDir);
   try {
     const tmp = stage.tmp;

@@ -2,13 +2,12 @@ import { describe, expect, it } from "vitest";
 import { BeamAnalyzer, METRICS, M } from "../../src/core/pattern/analyze.js";
 import { AfEvaluator } from "../../src/core/pattern/evaluator.js";
 import { refine } from "../../src/core/pattern/lobes.js";
-import { allocBeamCodes, makeQuantizer, prepareFrequency } from "../../src/core/quantize/index.js";
+import { allocBeamCodes, makeQuantizer } from "../../src/core/quantize/index.js";
 import { phaseQuantGainLossDb } from "../../src/core/theory.js";
-import { angleBetweenDeg, uvToW } from "../../src/core/geometry.js";
 import type { Plan } from "../../src/core/plan.js";
-import { SPEED_OF_LIGHT } from "../../src/core/units.js";
 import { baseScenario, load } from "../helpers.js";
 import { mulberry32 } from "../../src/core/quantize/randomized.js";
+import { bruteForce, denseReference } from "./pattern-ref.js";
 
 function analyseAll(plan: Plan, fi = 0): Float64Array {
   const an = new BeamAnalyzer(plan, fi);
@@ -20,106 +19,6 @@ function analyseAll(plan: Plan, fi = 0): Float64Array {
     an.analyse(b, c, out, b * METRICS);
   }
   return out;
-}
-
-/**
- * Brute-force reference, independent of the engine: realized weights straight from the
- * channel model formula, |AF|² by direct summation on a dense u-v grid, main lobe by a
- * monotone flood from the peak nearest the commanded direction, then zoomed dense grids
- * (no derivatives, no FFT) around the peak and the top sidelobe.
- */
-function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = "realized") {
-  const el = plan.elements;
-  const prep = prepareFrequency(plan, 0);
-  const q = makeQuantizer(plan, 0, prep);
-  const codes = allocBeamCodes(el.count);
-  q.beam(b, codes);
-  const k = (2 * Math.PI * plan.frequenciesHz[0]!) / SPEED_OF_LIGHT;
-  const lsb = 360 / 2 ** plan.phaseBits;
-  const wr: number[] = [], wi: number[] = [];
-  for (let i = 0; i < el.count; i++) {
-    let amp: number, ph: number;
-    if (which === "realized") {
-      amp = el.enabled[i] ? Math.pow(10, (plan.cal.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0;
-      ph = ((plan.cal.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180;
-    } else {
-      // ideal: a_n·exp(jφ_n), φ_n = −k r_n·d̂ (interface contract)
-      amp = el.enabled[i] ? plan.amplitude[i]! : 0;
-      ph = -k * (el.x[i]! * plan.beams.u[b]! + el.y[i]! * plan.beams.v[b]!);
-    }
-    wr.push(amp * Math.cos(ph));
-    wi.push(amp * Math.sin(ph));
-  }
-  const P = (u: number, v: number) => {
-    let re = 0, im = 0;
-    for (let i = 0; i < el.count; i++) {
-      const a = k * (el.x[i]! * u + el.y[i]! * v);
-      const c = Math.cos(a), s = Math.sin(a);
-      re += wr[i]! * c - wi[i]! * s;
-      im += wr[i]! * s + wi[i]! * c;
-    }
-    return re * re + im * im;
-  };
-  return denseReference(P, plan.beams.u[b]!, plan.beams.v[b]!, 401);
-}
-
-/**
- * The reference metrics of a pattern P(u, v) = |AF|²: a dense u-v grid over the disc, the
- * peak nearest (u0, v0) by hill-climbing, the main lobe by a monotone flood, then zoomed
- * dense grids (no derivatives, no FFT) around the peak and the top sidelobe.
- */
-function denseReference(P: (u: number, v: number) => number, u0: number, v0: number, G: number) {
-  const h = 2 / (G - 1);
-  const grid = new Float64Array(G * G);
-  for (let j = 0; j < G; j++) for (let i = 0; i < G; i++) grid[j * G + i] = P(-1 + i * h, -1 + j * h);
-  const vis = (i: number, j: number) => (-1 + i * h) ** 2 + (-1 + j * h) ** 2 <= 1;
-  let ci = Math.round((u0 + 1) / h), cj = Math.round((v0 + 1) / h);
-  for (;;) {
-    let bi = ci, bj = cj;
-    for (let dj = -1; dj <= 1; dj++) for (let di = -1; di <= 1; di++) {
-      const a = ci + di, c = cj + dj;
-      if (a >= 0 && c >= 0 && a < G && c < G && grid[c * G + a]! > grid[bj * G + bi]!) { bi = a; bj = c; }
-    }
-    if (bi === ci && bj === cj) break;
-    ci = bi; cj = bj;
-  }
-  const main = new Uint8Array(G * G);
-  const stack = [cj * G + ci];
-  main[cj * G + ci] = 1;
-  while (stack.length) {
-    const c = stack.pop()!;
-    const x = c % G, y = (c - x) / G;
-    for (let dj = -1; dj <= 1; dj++) for (let di = -1; di <= 1; di++) {
-      const a = x + di, d = y + dj;
-      if (a < 0 || d < 0 || a >= G || d >= G) continue;
-      const qq = d * G + a;
-      if (!main[qq] && grid[qq]! <= grid[c]!) { main[qq] = 1; stack.push(qq); }
-    }
-  }
-  let si = -1, sv = -Infinity;
-  for (let j = 0; j < G; j++) for (let i = 0; i < G; i++) if (vis(i, j) && !main[j * G + i] && grid[j * G + i]! > sv) { sv = grid[j * G + i]!; si = j * G + i; }
-  const zoom = (u: number, v: number, span: number, inDisc: boolean) => {
-    let bu = u, bv = v, bp = P(u, v);
-    for (let level = 0; level < 7; level++) {
-      const n = 20;
-      let nu = bu, nv = bv, np = bp;
-      for (let j = -n; j <= n; j++) for (let i = -n; i <= n; i++) {
-        const uu = bu + (i * span) / n, vv = bv + (j * span) / n;
-        if (inDisc && uu * uu + vv * vv > 1) continue;
-        const p = P(uu, vv);
-        if (p > np) { np = p; nu = uu; nv = vv; }
-      }
-      bu = nu; bv = nv; bp = np;
-      span /= 8;
-    }
-    return { u: bu, v: bv, p: bp };
-  };
-  const pk = zoom(-1 + ci * h, -1 + cj * h, 2 * h, false);
-  const sl = zoom(-1 + (si % G) * h, -1 + Math.floor(si / G) * h, 2 * h, true);
-  return {
-    pslDb: 10 * Math.log10(sl.p / pk.p),
-    pointingDeg: angleBetweenDeg({ u: u0, v: v0, w: uvToW(u0, v0) }, { u: pk.u, v: pk.v, w: uvToW(pk.u, pk.v) }),
-  };
 }
 
 describe("pattern engine against a brute-force direct sum", () => {

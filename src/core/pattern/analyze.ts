@@ -12,6 +12,7 @@ import { SPEED_OF_LIGHT } from "../units.js";
 import { AfEvaluator } from "./evaluator.js";
 import { allocWindow, PatternGrid, type PowerWindow } from "./grid.js";
 import { LobeFinder } from "./lobes.js";
+import { allocTrace, traceExact, traceLattice, type HorizonTrace, type LatticeSpectra } from "./horizon.js";
 import { IdealLobes } from "./ideal-lobes.js";
 
 export const METRIC_COLUMNS = [
@@ -56,6 +57,10 @@ export class BeamAnalyzer {
   /** The ideal de-steered weights do not depend on the beam: on lattices their FFT is taken once. */
   private readonly idealPeriodic: Float64Array | null = null;
   private idealLobes: IdealLobes | null = null;
+  /** the ideal weights' 1-D transforms (lattices), for the horizon trace */
+  private readonly idealSpectra: LatticeSpectra | null = null;
+  private readonly traceR: HorizonTrace = allocTrace();
+  private readonly traceI: HorizonTrace = allocTrace();
   readonly phaseErr: Float64Array;
   readonly ampErr: Float64Array;
   /** per element: the attenuation code whose amplitude is in qAmp (ideal parts) */
@@ -84,7 +89,17 @@ export class BeamAnalyzer {
     this.ampErr = new Float64Array(n);
     this.lastQ = new Int32Array(n).fill(-1);
     this.qAmp = new Float64Array(n);
-    if (this.grid.mode === "fft") this.idealPeriodic = this.grid.periodicPower(this.idealAmp, this.zero);
+    if (this.grid.mode === "fft") {
+      this.idealPeriodic = this.grid.periodicPower(this.idealAmp, this.zero);
+      this.idealSpectra = this.grid.spectra(this.idealAmp, this.zero, true);
+    }
+  }
+
+  /** The horizon trace of the weights last sampled into the grid (lattices) or of `ev` (direct). */
+  private traceHorizon(ev: AfEvaluator, spectra: LatticeSpectra | null, u0: number, v0: number, out: HorizonTrace): HorizonTrace {
+    if (spectra) traceLattice(spectra, u0, v0, out);
+    else traceExact(ev, u0, v0, Math.min(this.grid.du, this.grid.dv), out);
+    return out;
   }
 
   /** Realized de-steered weights of a beam from its codes; fills phaseErr/ampErr. */
@@ -135,12 +150,12 @@ export class BeamAnalyzer {
     const g = this.grid;
     this.evI.setBeam(u0, v0, w0);
     if (this.idealPeriodic && !this.evI.lockU && !this.evI.lockV) {
-      if (!this.idealLobes) this.idealLobes = new IdealLobes(this.idealPeriodic, g.fftSize[0], g.fftSize[1], g.du, g.dv, this.evI);
+      if (!this.idealLobes) this.idealLobes = new IdealLobes(this.idealPeriodic, g.fftSize[0], g.fftSize[1], g.du, g.dv, this.evI, this.idealSpectra!);
       return 10 * Math.log10(this.idealLobes.sidelobePower(u0, v0) / this.idealLobes.peakPower);
     }
     if (this.idealPeriodic) g.fillFromPeriodic(this.idealPeriodic, u0, v0, this.winI);
     else g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
-    const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0);
+    const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0, this.traceHorizon(this.evI, this.idealSpectra, u0, v0, this.traceI));
     return 10 * Math.log10(id.sidelobePower / id.peakPower);
   }
 
@@ -157,7 +172,8 @@ export class BeamAnalyzer {
     this.evR.setBeam(u0, v0, w0);
     this.evI.setBeam(u0, v0, w0);
     g.fill(this.evR.wr, this.evR.wi, u0, v0, w0, this.winR);
-    const r = this.finder.analyse(this.winR, this.evR, g.du, g.dv, u0, v0);
+    const spR = g.mode === "fft" ? g.spectra(this.evR.wr, this.evR.wi, false) : null;
+    const r = this.finder.analyse(this.winR, this.evR, g.du, g.dv, u0, v0, this.traceHorizon(this.evR, spR, u0, v0, this.traceR));
     const pslI = opts.ideal === false ? NaN : this.idealPsl(b);
     const pu = u0 + r.peakDu, pv = v0 + r.peakDv;
     const pointing = angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) });
