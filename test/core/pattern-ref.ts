@@ -14,7 +14,7 @@ import { SPEED_OF_LIGHT } from "../../src/core/units.js";
  * monotone flood from the peak nearest the commanded direction, then zoomed dense grids
  * (no derivatives, no FFT) around the peak and the top sidelobe.
  */
-export function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = "realized", fi = 0) {
+export function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = "realized", fi = 0, G = 401) {
   const el = plan.elements;
   const prep = prepareFrequency(plan, fi);
   const q = makeQuantizer(plan, fi, prep);
@@ -38,7 +38,10 @@ export function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = 
     wi.push(amp * Math.sin(ph));
   }
   const P = (u: number, v: number) => {
-    // past the horizon (no direction; the sidelobe search never looks there) w is taken as 0
+    // past the horizon there is no direction: a planar array's pattern continues analytically; a
+    // non-planar one's takes the value at the horizon point radially inward (flat beyond the horizon)
+    const r = Math.hypot(u, v);
+    if (!planar && r > 1) { u /= r; v /= r; }
     const w = uvToW(u, v);
     let re = 0, im = 0;
     for (let i = 0; i < el.count; i++) {
@@ -49,7 +52,7 @@ export function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = 
     }
     return re * re + im * im;
   };
-  return denseReference(P, plan.beams.u[b]!, plan.beams.v[b]!, 401, planar ? { horizon: 20000 } : { horizon: 20000, band: { toDeg: 20, stepDeg: 0.25 } });
+  return denseReference(P, plan.beams.u[b]!, plan.beams.v[b]!, G, planar ? { horizon: 8000 } : { horizon: 8000, band: { toDeg: 20, stepDeg: 0.5 } });
 }
 
 /**
@@ -67,6 +70,8 @@ export function denseReference(P: (u: number, v: number) => number, u0: number, 
   const grid = new Float64Array(G * G);
   for (let j = 0; j < G; j++) for (let i = 0; i < G; i++) grid[j * G + i] = P(-1 + i * h, -1 + j * h);
   const vis = (i: number, j: number) => (-1 + i * h) ** 2 + (-1 + j * h) ** 2 <= 1;
+  // the main lobe is a feature of the pattern: climb from (u0, v0) through all cells (past the horizon
+  // too), flood from there; the peak is a direction: the best visible point of that lobe
   let ci = Math.round((u0 + 1) / h), cj = Math.round((v0 + 1) / h);
   for (;;) {
     let bi = ci, bj = cj;
@@ -110,7 +115,8 @@ export function denseReference(P: (u: number, v: number) => number, u0: number, 
       }
     }
   }
-  const zoom = (u: number, v: number, span: number, inDisc: boolean) => {
+  // the sidelobe's zoom stays outside the main lobe (nearest dense cell not in it)
+  const zoom = (u: number, v: number, span: number, inDisc: boolean, outsideMain = false) => {
     let bu = u, bv = v, bp = P(u, v);
     for (let level = 0; level < (span > 0 ? 7 : 0); level++) {
       const n = 20;
@@ -118,6 +124,7 @@ export function denseReference(P: (u: number, v: number) => number, u0: number, 
       for (let j = -n; j <= n; j++) for (let i = -n; i <= n; i++) {
         const uu = bu + (i * span) / n, vv = bv + (j * span) / n;
         if (inDisc && uu * uu + vv * vv > 1) continue;
+        if (outsideMain && inMain(uu, vv)) continue;
         const p = P(uu, vv);
         if (p > np) { np = p; nu = uu; nv = vv; }
       }
@@ -132,7 +139,7 @@ export function denseReference(P: (u: number, v: number) => number, u0: number, 
         for (let i = -20; i <= 20; i++) {
           const t = a + (i * s) / 20;
           const p = P(Math.cos(t), Math.sin(t));
-          if (p > np) { np = p; na = t; }
+          if (p > np && !(outsideMain && inMain(Math.cos(t), Math.sin(t)))) { np = p; na = t; }
         }
         if (np > bp) { bp = np; bu = Math.cos(na); bv = Math.sin(na); }
         a = na;
@@ -141,10 +148,14 @@ export function denseReference(P: (u: number, v: number) => number, u0: number, 
     }
     return { u: bu, v: bv, p: bp };
   };
-  const pk = zoom(-1 + ci * h, -1 + cj * h, 2 * h, true);
-  const sl = onCircle ? zoom(su, sv, 0, true) : zoom(su, sv, 2 * h, true);
+  let pi = -1;
+  for (let q = 0; q < G * G; q++) if (main[q] && vis(q % G, Math.floor(q / G)) && (pi < 0 || grid[q]! > grid[pi]!)) pi = q;
+  const pk = zoom(-1 + (pi % G) * h, -1 + Math.floor(pi / G) * h, 2 * h, true);
+  const sl = onCircle ? zoom(su, sv, 0, true, true) : zoom(su, sv, 2 * h, true, true);
   return {
     pslDb: 10 * Math.log10(sl.p / pk.p),
+    sidelobeU: sl.u,
+    sidelobeV: sl.v,
     peakU: pk.u,
     peakV: pk.v,
     pointingDeg: angleBetweenDeg({ u: u0, v: v0, w: uvToW(u0, v0) }, { u: pk.u, v: pk.v, w: uvToW(pk.u, pk.v) }),

@@ -126,10 +126,10 @@ export interface HorizonMax {
 /**
  * Only trace maxima within this factor of the best sample are refined. Consecutive
  * samples are at most one grid cell apart along each axis, so a maximum along the
- * circle is at most half a cell from a sample (≤ 0.45 dB below it on a 4× grid); 3 dB
- * (×0.5) leaves a wide margin for the few extra 1-D searches it costs.
+ * circle lies within half a step of a sample, at most ~0.45 dB above it on a 4× grid
+ * (as for the grid's own lobes, lobes.ts): 1 dB (×0.794) keeps every one that can win.
  */
-export const HORIZON_REFINE_WITHIN = 0.5;
+export const HORIZON_REFINE_WITHIN = 0.794;
 
 /**
  * The largest |AF|² along the horizon outside the main lobe: the trace's local maxima
@@ -173,7 +173,7 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     let bp = pi, ba = ai;
     let x1 = hi - g * (hi - lo), x2 = lo + g * (hi - lo);
     let f1 = at(x1), f2 = at(x2);
-    const tol = 1e-5 * (hi - lo); // value then within ~1e-10 relative of the maximum
+    const tol = 1e-4 * (hi - lo); // the value is then within ~1e-8 (relative) of the maximum
     for (let it = 0; it < 48 && hi - lo > tol; it++) {
       if (f1 < f2) { lo = x1; x1 = x2; f1 = f2; x2 = lo + g * (hi - lo); f2 = at(x2); }
       else { hi = x2; x2 = x1; f2 = f1; x1 = hi - g * (hi - lo); f1 = at(x1); }
