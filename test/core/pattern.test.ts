@@ -145,6 +145,10 @@ describe("the analysis grid's size (issue 9: unbounded analysis)", () => {
       expect(s.cells).toBe(g.cap);
     }
     expect(analysisSizeProblem(lat)).toBeNull();
+    // README: a 256 × 256 lattice at 0.5 λ (the element limit) fits: (1024 + 4)² cells
+    const max = load(baseScenario({ array: { lattice: { kind: "rectangular", columns: 256, rows: 256, dx: "0.5 lambda", dy: "0.5 lambda" } } })).plan;
+    expect(gridShape(max, 0).cells).toBe(1028 * 1028);
+    expect(analysisSizeProblem(max)).toBeNull();
     const big = load(baseScenario({ frequency: ["28 GHz", "28 THz"], array: { lattice: { kind: "rectangular", columns: 4, rows: 4, dx: "5.2 mm", dy: "5.2 mm" } } })).plan;
     const p = analysisSizeProblem(big)!;
     expect(p.frequencyIndex).toBe(1);
