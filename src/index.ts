@@ -9,6 +9,7 @@
 import { InputError, formatProblem, type Problem } from "./core/errors.js";
 import { BeamPacker, TableRun } from "./core/engine.js";
 import { BeamAnalyzer, METRICS, M } from "./core/pattern/analyze.js";
+import { analysisSizeProblem } from "./core/pattern/grid.js";
 import { allocBeamCodes, makeQuantizer, prepareFrequency, type BeamCodes } from "./core/quantize/index.js";
 import { packPlan, unpackWord } from "./core/words.js";
 import { theoryFor, type Theory } from "./core/theory.js";
@@ -174,6 +175,8 @@ const finiteOrNull = (x: number): number | null => (Number.isFinite(x) ? x : nul
 export function analyzeBeam(s: Scenario, ref: BeamRef): BeamMetrics {
   checkRef(s, ref);
   const plan = s.loaded.plan;
+  const big = analysisSizeProblem(plan);
+  if (big) throw new InputError({ file: s.path, pointer: "/frequency", message: big.message });
   const an = new BeamAnalyzer(plan, ref.frequency);
   const codes = allocBeamCodes(plan.elements.count);
   makeQuantizer(plan, ref.frequency, an.prep).beam(ref.beam, codes);

@@ -4,6 +4,7 @@ import { enabledCount, type Plan } from "./plan.js";
 import { prepareFrequency } from "./quantize/prepare.js";
 import { SPEED_OF_LIGHT } from "./units.js";
 import { squintBandwidth, type SquintBandwidth } from "./band.js";
+import { analysisSizeProblem } from "./pattern/grid.js";
 
 export interface FrequencyFacts {
   frequencyHz: number;
@@ -102,6 +103,8 @@ export function deriveFacts(plan: Plan): Facts {
     if (pf.clipped)
       warnings.push(`${fGHz} GHz: ${pf.clipped} element(s) need more attenuation than the attenuator's ${((2 ** plan.attenBits - 1) * plan.attenStepDb).toFixed(2)} dB range; their codes are clipped to the last step`);
   }
+  const big = analysisSizeProblem(plan);
+  if (big) warnings.push(`build, sweep and report refuse to analyse this scenario: ${big.message}`);
   if (!plan.lattice && plan.elements.count > 1) warnings.push("element list: grating-lobe limits are not computed for arbitrary geometries");
   if (plan.attenBits === 0 && plan.taper.kind !== "uniform") warnings.push("no attenuator: the taper cannot be applied; every tapered element is clipped");
   const disabledIds = Array.from(plan.elements.ids).filter((_, i) => !plan.elements.enabled[i]);

@@ -14,6 +14,14 @@ import { METRICS } from "../core/pattern/analyze.js";
 import { analyseRange, type AnalyzerCache } from "../core/pattern/run.js";
 import { SQUINT_METRICS } from "../core/band.js";
 import { OptimizedQuantizer, OPT_FIELDS, writeReport } from "../core/quantize/optimized.js";
+import { analysisSizeProblem } from "../core/pattern/grid.js";
+import { InputError } from "../core/errors.js";
+
+/** Refuse (exit 2, before any work) an analysis whose grid would pass its stated size (grid.ts MAX_ANALYSIS_CELLS). */
+export function refuseOversizedAnalysis(plan: Plan, file: string): void {
+  const p = analysisSizeProblem(plan);
+  if (p) throw new InputError({ file, pointer: "/frequency", message: p.message });
+}
 
 export const CHUNK_BEAMS = 8;
 

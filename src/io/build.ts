@@ -19,7 +19,7 @@ import { stringify } from "csv-stringify/sync";
 import { METRIC_COLUMNS, METRICS } from "../core/pattern/analyze.js";
 import { quantile, summarise, type Distribution } from "../core/pattern/summary.js";
 import { theoryFor, type Theory } from "../core/theory.js";
-import { ringSource, startAnalysis, type WorkerPool } from "./analysis-pool.js";
+import { refuseOversizedAnalysis, ringSource, startAnalysis, type WorkerPool } from "./analysis-pool.js";
 import { setTimeout as sleep } from "node:timers/promises";
 import { fixed } from "./format.js";
 import { bandSummary, SQUINT_COLUMNS, SQUINT_METRICS, type BandBeamSummary } from "../core/band.js";
@@ -290,6 +290,8 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
 }
 
 export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
+  // the optimized quantizer searches on the analysis grid: it needs it even with --no-analysis
+  if (opts.analysis || loaded.plan.quantizer.method === "optimized") refuseOversizedAnalysis(loaded.plan, loaded.scenario.name);
   const stage = new StagedDir(outDir, "build");
   try {
     const tmp = stage.tmp;

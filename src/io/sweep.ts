@@ -8,7 +8,7 @@ import { METRICS } from "../core/pattern/analyze.js";
 import { BeamAnalyzer } from "../core/pattern/analyze.js";
 import { attenBitsFor, SWEEP_COLUMNS, sweepRow, type SweepRow, type SweepVariantSpec } from "../core/sweep.js";
 import { planForPart, theoryFor, type TheoryValue } from "../core/theory.js";
-import { startAnalysis, type WorkerPool } from "./analysis-pool.js";
+import { refuseOversizedAnalysis, startAnalysis, type WorkerPool } from "./analysis-pool.js";
 import { stableJson } from "./build.js";
 import { sha256 } from "./files.js";
 import { fixed } from "./format.js";
@@ -47,6 +47,7 @@ export function sweepVariants(loaded: LoadedScenario, o: SweepOptions): SweepVar
 export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepOptions): Promise<SweepResult> {
   const plan = loaded.plan;
   const variants = sweepVariants(loaded, o);
+  refuseOversizedAnalysis(plan, loaded.scenario.name);
   const stage = new StagedDir(outDir, "sweep");
   const nb = plan.beams.count, nf = plan.frequenciesHz.length;
   const job = startAnalysis(plan, o.jobs, o.onProgress, {

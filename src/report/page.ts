@@ -8,6 +8,7 @@
  * reader picks. Everything from the folder is parsed into numbers or escaped text; no
  * markup from the folder is embedded.
  */
+import { refuseOversizedAnalysis } from "../io/analysis-pool.js";
 import { closeSync, existsSync, readFileSync, readSync, renameSync, rmSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { crc32 } from "node:zlib";
@@ -104,6 +105,8 @@ interface BuildPart {
 function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   const loaded = loadBuildScenario(dir, m);
   const plan = loaded.plan;
+  // the page runs the analysis engine: refuse a scenario whose analysis grid is past its limit
+  refuseOversizedAnalysis(plan, dir);
   const F = plan.frequenciesHz.length, B = plan.beams.count;
   let metricColumns: string[] = [];
   let metrics: Float64Array | null = null;

@@ -56,6 +56,19 @@ describe("check", () => {
     expect(r.stdout).toMatch(/warning: .*element\(s\) need more attenuation than the attenuator's 3\.00 dB range/);
     expect(r.stdout).toMatch(/RF safety/);
   });
+
+  it("warns when the analysis grid would pass its limit (28 THz on a 4 × 4 lattice); build --no-analysis still writes the tables", () => {
+    // derived: the grid has (⌈2/du⌉ + 4)(⌈2/dv⌉ + 4) cells, du = λ/(5.2 mm·16) at 28 THz → 2.42e8 > 2048²
+    const s = writeScenario(baseScenario({ frequency: "28 THz", array: { lattice: { kind: "rectangular", columns: 4, rows: 4, dx: "5.2 mm", dy: "5.2 mm" } } }));
+    const r = cli(["check", s]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/warning: build, sweep and report refuse to analyse this scenario: the analysis grid would need 2\.42e\+8 cells .* at 28 THz the array spans 1943 λ × 1943 λ .*--no-analysis/);
+    const out = join(tempDir(), "out");
+    const b = cli(["build", s, "-o", out, "--no-analysis"]);
+    expect(b.code, b.stderr).toBe(0);
+    expect(existsSync(join(out, "table.bin"))).toBe(true);
+    expect(existsSync(join(out, "beams.csv"))).toBe(false);
+  });
 });
 
 describe("builds beyond the demo", () => {

@@ -1,14 +1,14 @@
 import { describe, expect, it } from "vitest";
 import { BeamAnalyzer, METRICS, M } from "../../src/core/pattern/analyze.js";
 import { AfEvaluator } from "../../src/core/pattern/evaluator.js";
+import { analysisSizeProblem, gridShape, MAX_ANALYSIS_CELLS, PatternGrid } from "../../src/core/pattern/grid.js";
 import { refine } from "../../src/core/pattern/lobes.js";
-import { allocBeamCodes, makeQuantizer, prepareFrequency } from "../../src/core/quantize/index.js";
+import { allocBeamCodes, makeQuantizer } from "../../src/core/quantize/index.js";
 import { phaseQuantGainLossDb } from "../../src/core/theory.js";
-import { angleBetweenDeg, uvToW } from "../../src/core/geometry.js";
 import type { Plan } from "../../src/core/plan.js";
-import { SPEED_OF_LIGHT } from "../../src/core/units.js";
 import { baseScenario, load } from "../helpers.js";
 import { mulberry32 } from "../../src/core/quantize/randomized.js";
+import { bruteForce, denseReference } from "./pattern-ref.js";
 
 function analyseAll(plan: Plan, fi = 0): Float64Array {
   const an = new BeamAnalyzer(plan, fi);
@@ -20,106 +20,6 @@ function analyseAll(plan: Plan, fi = 0): Float64Array {
     an.analyse(b, c, out, b * METRICS);
   }
   return out;
-}
-
-/**
- * Brute-force reference, independent of the engine: realized weights straight from the
- * channel model formula, |AF|² by direct summation on a dense u-v grid, main lobe by a
- * monotone flood from the peak nearest the commanded direction, then zoomed dense grids
- * (no derivatives, no FFT) around the peak and the top sidelobe.
- */
-function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = "realized") {
-  const el = plan.elements;
-  const prep = prepareFrequency(plan, 0);
-  const q = makeQuantizer(plan, 0, prep);
-  const codes = allocBeamCodes(el.count);
-  q.beam(b, codes);
-  const k = (2 * Math.PI * plan.frequenciesHz[0]!) / SPEED_OF_LIGHT;
-  const lsb = 360 / 2 ** plan.phaseBits;
-  const wr: number[] = [], wi: number[] = [];
-  for (let i = 0; i < el.count; i++) {
-    let amp: number, ph: number;
-    if (which === "realized") {
-      amp = el.enabled[i] ? Math.pow(10, (plan.cal.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0;
-      ph = ((plan.cal.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180;
-    } else {
-      // ideal: a_n·exp(jφ_n), φ_n = −k r_n·d̂ (interface contract)
-      amp = el.enabled[i] ? plan.amplitude[i]! : 0;
-      ph = -k * (el.x[i]! * plan.beams.u[b]! + el.y[i]! * plan.beams.v[b]!);
-    }
-    wr.push(amp * Math.cos(ph));
-    wi.push(amp * Math.sin(ph));
-  }
-  const P = (u: number, v: number) => {
-    let re = 0, im = 0;
-    for (let i = 0; i < el.count; i++) {
-      const a = k * (el.x[i]! * u + el.y[i]! * v);
-      const c = Math.cos(a), s = Math.sin(a);
-      re += wr[i]! * c - wi[i]! * s;
-      im += wr[i]! * s + wi[i]! * c;
-    }
-    return re * re + im * im;
-  };
-  return denseReference(P, plan.beams.u[b]!, plan.beams.v[b]!, 401);
-}
-
-/**
- * The reference metrics of a pattern P(u, v) = |AF|²: a dense u-v grid over the disc, the
- * peak nearest (u0, v0) by hill-climbing, the main lobe by a monotone flood, then zoomed
- * dense grids (no derivatives, no FFT) around the peak and the top sidelobe.
- */
-function denseReference(P: (u: number, v: number) => number, u0: number, v0: number, G: number) {
-  const h = 2 / (G - 1);
-  const grid = new Float64Array(G * G);
-  for (let j = 0; j < G; j++) for (let i = 0; i < G; i++) grid[j * G + i] = P(-1 + i * h, -1 + j * h);
-  const vis = (i: number, j: number) => (-1 + i * h) ** 2 + (-1 + j * h) ** 2 <= 1;
-  let ci = Math.round((u0 + 1) / h), cj = Math.round((v0 + 1) / h);
-  for (;;) {
-    let bi = ci, bj = cj;
-    for (let dj = -1; dj <= 1; dj++) for (let di = -1; di <= 1; di++) {
-      const a = ci + di, c = cj + dj;
-      if (a >= 0 && c >= 0 && a < G && c < G && grid[c * G + a]! > grid[bj * G + bi]!) { bi = a; bj = c; }
-    }
-    if (bi === ci && bj === cj) break;
-    ci = bi; cj = bj;
-  }
-  const main = new Uint8Array(G * G);
-  const stack = [cj * G + ci];
-  main[cj * G + ci] = 1;
-  while (stack.length) {
-    const c = stack.pop()!;
-    const x = c % G, y = (c - x) / G;
-    for (let dj = -1; dj <= 1; dj++) for (let di = -1; di <= 1; di++) {
-      const a = x + di, d = y + dj;
-      if (a < 0 || d < 0 || a >= G || d >= G) continue;
-      const qq = d * G + a;
-      if (!main[qq] && grid[qq]! <= grid[c]!) { main[qq] = 1; stack.push(qq); }
-    }
-  }
-  let si = -1, sv = -Infinity;
-  for (let j = 0; j < G; j++) for (let i = 0; i < G; i++) if (vis(i, j) && !main[j * G + i] && grid[j * G + i]! > sv) { sv = grid[j * G + i]!; si = j * G + i; }
-  const zoom = (u: number, v: number, span: number, inDisc: boolean) => {
-    let bu = u, bv = v, bp = P(u, v);
-    for (let level = 0; level < 7; level++) {
-      const n = 20;
-      let nu = bu, nv = bv, np = bp;
-      for (let j = -n; j <= n; j++) for (let i = -n; i <= n; i++) {
-        const uu = bu + (i * span) / n, vv = bv + (j * span) / n;
-        if (inDisc && uu * uu + vv * vv > 1) continue;
-        const p = P(uu, vv);
-        if (p > np) { np = p; nu = uu; nv = vv; }
-      }
-      bu = nu; bv = nv; bp = np;
-      span /= 8;
-    }
-    return { u: bu, v: bv, p: bp };
-  };
-  const pk = zoom(-1 + ci * h, -1 + cj * h, 2 * h, false);
-  const sl = zoom(-1 + (si % G) * h, -1 + Math.floor(si / G) * h, 2 * h, true);
-  return {
-    pslDb: 10 * Math.log10(sl.p / pk.p),
-    pointingDeg: angleBetweenDeg({ u: u0, v: v0, w: uvToW(u0, v0) }, { u: pk.u, v: pk.v, w: uvToW(pk.u, pk.v) }),
-  };
 }
 
 describe("pattern engine against a brute-force direct sum", () => {
@@ -165,6 +65,96 @@ describe("pattern engine against a brute-force direct sum", () => {
       expect(Math.abs(a[i * METRICS + M.pointing_error_deg]! - b[i * METRICS + M.pointing_error_deg]!)).toBeLessThan(1e-4);
       expect(a[i * METRICS + M.gain_loss_db]).toBeCloseTo(b[i * METRICS + M.gain_loss_db]!, 9);
     }
+  });
+});
+
+describe("the horizon: lobes it cuts off, peaks beside it (derived: our own brute force, pattern-ref.ts)", () => {
+  const tol = { pslDb: 0.001, pointingDeg: 0.001 };
+  it("8×6 at 0.5 λ, 2 bits, uniform, 30 GHz, beams out to the horizon: PSL within 0.001 dB, pointing within 0.001°, peaks visible", () => {
+    const L = load(baseScenario({
+      frequency: "30 GHz",
+      array: { lattice: { kind: "rectangular", columns: 8, rows: 6, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      phaseShifter: { bits: 2 },
+      beams: { kind: "azel", az: { from: -90, to: 90, step: 30 }, el: { from: -30, to: 0, step: 30 } },
+    }));
+    const plan = L.plan;
+    const out = analyseAll(plan);
+    // the issue's beam, az −60° el 0° (el is the outer loop: beam 7 + 1): its PSL is the lobe cut off at (u, v) = (1, 0)
+    expect(plan.beams.u[8]).toBeCloseTo(-Math.sqrt(3) / 2, 12);
+    expect(out[8 * METRICS + M.psl_db]).toBeCloseTo(-5.2437, 3);
+    for (let b = 0; b < plan.beams.count; b++) {
+      const ref = bruteForce(plan, b, "realized", 0, 301);
+      const o = b * METRICS;
+      if (process.env.DEBUG_PSL) console.log(b, out[o + M.psl_db], ref.pslDb, out[o + M.pointing_error_deg], ref.pointingDeg, out[o + M.peak_u], out[o + M.peak_v], ref.peakU, ref.peakV);
+      expect(Math.abs(out[o + M.psl_db]! - ref.pslDb), `beam ${b} psl`).toBeLessThan(tol.pslDb);
+      expect(Math.abs(out[o + M.pointing_error_deg]! - ref.pointingDeg), `beam ${b} pointing`).toBeLessThan(tol.pointingDeg);
+      // a peak is a direction: never past the horizon
+      expect(out[o + M.peak_u]! ** 2 + out[o + M.peak_v]! ** 2, `beam ${b} peak`).toBeLessThanOrEqual(1 + 1e-12);
+      const refI = bruteForce(plan, b, "ideal", 0, 301);
+      expect(Math.abs(out[o + M.psl_ideal_db]! - refI.pslDb), `beam ${b} ideal psl`).toBeLessThan(tol.pslDb);
+    }
+  });
+});
+
+describe("the horizon of a non-planar element list (derived: our own brute force, pattern-ref.ts)", () => {
+  it("48 elements bent along x (z ≠ 0), 3 frequencies, θ to 60°: PSL within 0.001 dB, pointing within 0.001°; θ = 90°: peaks visible, pointing within 0.001°", () => {
+    // invented: an 8 × 6 list at 5 mm (½ λ at 30 GHz), bent into a parabolic cylinder z = 0.6 λ·(x / 2λ)²
+    const lambda = 299792458 / 30e9;
+    const rows: string[] = [];
+    for (let j = 0; j < 6; j++)
+      for (let i = 0; i < 8; i++) {
+        const x = (i - 3.5) * 0.5 * lambda, y = (j - 2.5) * 0.5 * lambda;
+        rows.push(`${j * 8 + i},${x.toFixed(6)},${y.toFixed(6)},${(0.6 * lambda * (x / (2 * lambda)) ** 2).toFixed(6)}`);
+      }
+    const L = load(baseScenario({
+      frequency: ["26 GHz", "30 GHz", "34 GHz"],
+      array: { elements: "el.csv" },
+      phaseShifter: { bits: 3 },
+      beams: { kind: "thetaphi", theta: { from: 30, to: 90, step: 30 }, phi: { from: 0, to: 300, step: 60 } },
+    }), { "el.csv": "element,x_m,y_m,z_m\n" + rows.join("\n") + "\n" });
+    // beams commanded onto the horizon (θ = 90°) can have a main lobe that merges into a
+    // shoulder without a trough; where the main lobe ends there is a matter of grid
+    // resolution, so their PSL is not compared (their peak and pointing are)
+    const plan = L.plan;
+    for (let fi = 0; fi < 3; fi++) {
+      const out = analyseAll(plan, fi);
+      for (let b = 0; b < plan.beams.count; b++) {
+        const ref = bruteForce(plan, b, "realized", fi, 241);
+        const o = b * METRICS;
+        if (process.env.DEBUG_PSL) console.log(fi, b, out[o + M.psl_db], ref.pslDb, out[o + M.pointing_error_deg], ref.pointingDeg);
+        const onHorizon = plan.beams.u[b]! ** 2 + plan.beams.v[b]! ** 2 > 1 - 1e-12;
+        if (!onHorizon) expect(Math.abs(out[o + M.psl_db]! - ref.pslDb), `f ${fi} beam ${b} psl`).toBeLessThan(0.001);
+        expect(Math.abs(out[o + M.pointing_error_deg]! - ref.pointingDeg), `f ${fi} beam ${b} pointing`).toBeLessThan(0.001);
+        expect(out[o + M.peak_u]! ** 2 + out[o + M.peak_v]! ** 2, `f ${fi} beam ${b} peak`).toBeLessThanOrEqual(1 + 1e-12);
+      }
+    }
+  });
+});
+
+describe("the analysis grid's size (issue 9: unbounded analysis)", () => {
+  it("gridShape() predicts the grid PatternGrid builds; analysisSizeProblem names the frequency and the aperture in λ", () => {
+    // derived: cells = (⌈2/du⌉ + 4)(⌈2/dv⌉ + 4), du = λ/(px·nx) on lattices, λ/(4·(span + λ/2)) on lists
+    const lat = load(baseScenario({ frequency: ["10 GHz", "30 GHz"], array: { lattice: { kind: "triangular", columns: 7, rows: 5, dx: "0.6 lambda", dy: "0.5 lambda", offset: 0.5 } } })).plan;
+    const list = load(baseScenario({ array: { elements: "el.csv" } }), { "el.csv": "element,x_m,y_m\n0,0,0\n1,0.02,0\n2,0,0.05\n" }).plan;
+    for (const [plan, fi] of [[lat, 0], [lat, 1], [list, 0]] as const) {
+      const g = new PatternGrid(plan, fi);
+      const s = gridShape(plan, fi);
+      expect(s.mode).toBe(g.mode);
+      expect(s.du).toBe(g.du);
+      expect(s.dv).toBe(g.dv);
+      expect(s.cells).toBe(g.cap);
+    }
+    expect(analysisSizeProblem(lat)).toBeNull();
+    // README: a 256 × 256 lattice at 0.5 λ (the element limit) fits: (1024 + 4)² cells
+    const max = load(baseScenario({ array: { lattice: { kind: "rectangular", columns: 256, rows: 256, dx: "0.5 lambda", dy: "0.5 lambda" } } })).plan;
+    expect(gridShape(max, 0).cells).toBe(1028 * 1028);
+    expect(analysisSizeProblem(max)).toBeNull();
+    const big = load(baseScenario({ frequency: ["28 GHz", "28 THz"], array: { lattice: { kind: "rectangular", columns: 4, rows: 4, dx: "5.2 mm", dy: "5.2 mm" } } })).plan;
+    const p = analysisSizeProblem(big)!;
+    expect(p.frequencyIndex).toBe(1);
+    expect(p.message).toMatch(/at 28 THz the array spans 1943 λ × 1943 λ/);
+    expect(gridShape(big, 1).cells).toBeGreaterThan(MAX_ANALYSIS_CELLS);
+    expect(() => new PatternGrid(big, 1)).toThrow(/analysisSizeProblem/);
   });
 });
 

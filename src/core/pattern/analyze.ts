@@ -13,6 +13,7 @@ import { AfEvaluator } from "./evaluator.js";
 import { allocWindow, applyWeight, elementWindow, PatternGrid, type PowerWindow } from "./grid.js";
 import { makeElementPattern, scanLossDb, type ElementPattern } from "../element.js";
 import { LobeFinder, peakOnDemand } from "./lobes.js";
+import { allocTrace, traceExact, traceLattice, type HorizonTrace, type LatticeSpectra } from "./horizon.js";
 import { IdealLobes } from "./ideal-lobes.js";
 
 export const METRIC_COLUMNS = [
@@ -59,6 +60,10 @@ export class BeamAnalyzer {
   /** The ideal de-steered weights do not depend on the beam: on lattices their FFT is taken once. */
   private readonly idealPeriodic: Float64Array | null = null;
   private idealLobes: IdealLobes | null = null;
+  /** the ideal weights' 1-D transforms (lattices), for the horizon trace */
+  private readonly idealSpectra: LatticeSpectra | null = null;
+  private readonly traceR: HorizonTrace = allocTrace();
+  private readonly traceI: HorizonTrace = allocTrace();
   readonly phaseErr: Float64Array;
   readonly ampErr: Float64Array;
   /** per element: the attenuation code whose amplitude is in qAmp (ideal parts) */
@@ -95,7 +100,22 @@ export class BeamAnalyzer {
     this.ampErr = new Float64Array(n);
     this.lastQ = new Int32Array(n).fill(-1);
     this.qAmp = new Float64Array(n);
-    if (this.grid.mode === "fft") this.idealPeriodic = this.grid.periodicPower(this.idealAmp, this.zero);
+    if (this.grid.mode === "fft") {
+      this.idealPeriodic = this.grid.periodicPower(this.idealAmp, this.zero);
+      this.idealSpectra = this.grid.spectra(this.idealAmp, this.zero, true);
+    }
+  }
+
+  /** The horizon trace of the weights last sampled into the grid (lattices) or of `ev` (direct). */
+  private traceHorizon(ev: AfEvaluator, spectra: LatticeSpectra | null, u0: number, v0: number, out: HorizonTrace): HorizonTrace {
+    if (spectra) {
+      traceLattice(spectra, u0, v0, out);
+      // the spectra hold |AF|² alone: weigh the horizon samples by the element pattern
+      // (traceExact evaluates ev.power, which already includes it)
+      const el = this.element;
+      if (el) for (let k = 0; k < out.n; k++) out.p[k] = out.p[k]! * el.power(u0 + out.du[k]!, v0 + out.dv[k]!);
+    } else traceExact(ev, u0, v0, Math.min(this.grid.du, this.grid.dv), out);
+    return out;
   }
 
   /** Realized de-steered weights of a beam from its codes; fills phaseErr/ampErr. */
@@ -158,13 +178,13 @@ export class BeamAnalyzer {
     this.evI.setBeam(u0, v0, w0);
     // the cached lobe structure assumes a beam-independent pattern: not so with an element pattern
     if (this.idealPeriodic && !this.evI.lockU && !this.evI.lockV && !this.element) {
-      if (!this.idealLobes) this.idealLobes = new IdealLobes(this.idealPeriodic, g.fftSize[0], g.fftSize[1], g.du, g.dv, this.evI);
+      if (!this.idealLobes) this.idealLobes = new IdealLobes(this.idealPeriodic, g.fftSize[0], g.fftSize[1], g.du, g.dv, this.evI, this.idealSpectra!);
       return 10 * Math.log10(this.idealLobes.sidelobePower(u0, v0) / this.idealLobes.peakPower);
     }
     if (this.idealPeriodic) g.fillFromPeriodic(this.idealPeriodic, u0, v0, this.winI);
     else g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
     this.weigh(this.winI, u0, v0);
-    const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0);
+    const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0, this.traceHorizon(this.evI, this.idealSpectra, u0, v0, this.traceI));
     return 10 * Math.log10(id.sidelobePower / id.peakPower);
   }
 
@@ -182,7 +202,8 @@ export class BeamAnalyzer {
     this.evI.setBeam(u0, v0, w0);
     g.fill(this.evR.wr, this.evR.wi, u0, v0, w0, this.winR);
     this.weigh(this.winR, u0, v0);
-    const r = this.finder.analyse(this.winR, this.evR, g.du, g.dv, u0, v0);
+    const spR = g.mode === "fft" ? g.spectra(this.evR.wr, this.evR.wi, false) : null;
+    const r = this.finder.analyse(this.winR, this.evR, g.du, g.dv, u0, v0, this.traceHorizon(this.evR, spR, u0, v0, this.traceR));
     const pslI = opts.ideal === false ? NaN : this.idealPsl(b);
     const pu = u0 + r.peakDu, pv = v0 + r.peakDv;
     const pointing = angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) });

@@ -58,4 +58,31 @@ export class PowerFft2 {
     }
     return power;
   }
+
+  /** After run(): the row transforms, row r (< usedRows) interleaved at 2·nx·r. Overwritten by the next run(). */
+  get rowSpectra(): Float64Array {
+    return this.grid;
+  }
+
+  /**
+   * The column transforms of the same weights (conj, as run()) for grid columns < usedCols,
+   * column c interleaved at 2·ny·c, into `out` (length ≥ 2·ny·usedCols).
+   */
+  columnSpectra(cells: Int32Array, wr: Float64Array, wi: Float64Array, usedCols: number, out: Float64Array): Float64Array {
+    const { nx, ny, colIn, colOut } = this;
+    out.fill(0, 0, 2 * ny * usedCols);
+    for (let i = 0; i < cells.length; i++) {
+      const q = cells[i]!;
+      const c = q % nx, r = (q - c) / nx;
+      out[2 * (c * ny + r)] = wr[i]!;
+      out[2 * (c * ny + r) + 1] = -wi[i]!;
+    }
+    for (let c = 0; c < usedCols; c++) {
+      const col = out.subarray(2 * ny * c, 2 * ny * (c + 1));
+      colIn.set(col);
+      this.fy.transform(colOut, colIn);
+      col.set(colOut);
+    }
+    return out;
+  }
 }

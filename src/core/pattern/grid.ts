@@ -9,8 +9,89 @@ import type { Plan } from "../plan.js";
 import { SPEED_OF_LIGHT } from "../units.js";
 import { PowerFft2, nextPow2 } from "./fft.js";
 import type { ElementPattern } from "../element.js";
+import type { LatticeSpectra } from "./horizon.js";
 
 export const OVERSAMPLE = 4;
+
+/**
+ * The largest analysis grid: cells of the window over visible space that every pattern
+ * is sampled on, (⌈2/du⌉ + 4)·(⌈2/dv⌉ + 4), at most 2048 × 2048. The cell is
+ * λ/(4·aperture) (lattices: up to 2× finer, the FFT size being a power of two): 8 to 16
+ * cells per wavelength of aperture along each axis, so the limit is reached between 128
+ * and 256 λ along an axis. An analysis thread needs roughly 75 bytes a cell.
+ */
+export const MAX_ANALYSIS_CELLS = 2048 * 2048;
+/** Element lists also keep per-element phasor tables, (2⌈2/du⌉ + 2⌈2/dv⌉ + 10)·elements entries of 16 bytes. */
+export const MAX_DIRECT_TABLE_ENTRIES = 2 ** 25;
+
+export interface GridShape {
+  mode: "fft" | "direct";
+  du: number;
+  dv: number;
+  /** cells of the visible-space window (the analysis grid) */
+  cells: number;
+  /** direct mode: phasor table entries (0 for lattices) */
+  tableEntries: number;
+  /** the aperture along x and y in wavelengths, as the grid sees it */
+  apertureX: number;
+  apertureY: number;
+}
+
+/** The grid's cell and size for frequency fi, without allocating it. */
+export function gridShape(plan: Plan, fi: number): GridShape {
+  const lambda = SPEED_OF_LIGHT / plan.frequenciesHz[fi]!;
+  const l = plan.lattice;
+  let du: number, dv: number, ax: number, ay: number, mode: "fft" | "direct";
+  if (l && (l.offset === 0 || l.offset === 0.5)) {
+    mode = "fft";
+    const tri = l.offset === 0.5 && l.rows > 1;
+    const px = tri ? l.dx / 2 : l.dx;
+    const gw = tri ? 2 * l.columns + 1 : l.columns;
+    // resolution λ/(OVERSAMPLE·aperture) in both embeddings (aperture = gw·px)
+    du = lambda / (px * nextPow2(OVERSAMPLE * gw));
+    dv = lambda / (l.dy * nextPow2(Math.max(OVERSAMPLE * l.rows, 1)));
+    ax = (gw * px) / lambda;
+    ay = (l.rows * l.dy) / lambda;
+  } else {
+    mode = "direct";
+    const el = plan.elements;
+    const span = (a: Float64Array) => {
+      let lo = Infinity, hi = -Infinity;
+      for (const v of a) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
+      return hi - lo;
+    };
+    const lx = span(el.x) + lambda / 2;
+    const ly = span(el.y) + lambda / 2;
+    du = lambda / (OVERSAMPLE * lx);
+    dv = lambda / (OVERSAMPLE * ly);
+    ax = lx / lambda;
+    ay = ly / lambda;
+  }
+  const cells = (Math.ceil(2 / du) + 4) * (Math.ceil(2 / dv) + 4);
+  const tableEntries = mode === "direct" ? (2 * (Math.ceil(2 / du) + 2) + 2 * (Math.ceil(2 / dv) + 2) + 2) * plan.elements.count : 0;
+  return { mode, du, dv, cells, tableEntries, apertureX: ax, apertureY: ay };
+}
+
+/**
+ * Why the analysis cannot run (a grid past MAX_ANALYSIS_CELLS or phasor tables past
+ * MAX_DIRECT_TABLE_ENTRIES at some frequency), naming the frequency and the aperture in
+ * wavelengths that cause it; null when it can.
+ */
+export function analysisSizeProblem(plan: Plan): { frequencyIndex: number; message: string } | null {
+  for (let fi = 0; fi < plan.frequenciesHz.length; fi++) {
+    const g = gridShape(plan, fi);
+    const over = g.cells > MAX_ANALYSIS_CELLS ? `${g.cells.toExponential(2)} cells (limit ${MAX_ANALYSIS_CELLS}, 2048 × 2048)` : g.tableEntries > MAX_DIRECT_TABLE_ENTRIES ? `${g.tableEntries.toExponential(2)} phasor-table entries (limit ${MAX_DIRECT_TABLE_ENTRIES})` : null;
+    if (!over) continue;
+    const f = plan.frequenciesHz[fi]!;
+    const fTxt = f >= 1e12 ? `${+(f / 1e12).toPrecision(6)} THz` : f >= 1e9 ? `${+(f / 1e9).toPrecision(6)} GHz` : `${+(f / 1e6).toPrecision(6)} MHz`;
+    const ap = `${+g.apertureX.toPrecision(4)} λ × ${+g.apertureY.toPrecision(4)} λ`;
+    return {
+      frequencyIndex: fi,
+      message: `the analysis grid would need ${over}: at ${fTxt} the array spans ${ap} (8 to 16 cells per wavelength of aperture along each axis: about 128 to 256 λ fit); ${plan.quantizer.method === "optimized" ? "the optimized quantizer searches on this grid, so use another quantizer (then --no-analysis builds the tables)" : "build the tables without analysis (--no-analysis)"}, or check the frequency and the element positions' units`,
+    };
+  }
+  return null;
+}
 
 export interface PowerWindow {
   /** first offset index along u and v; cell (i, j) is Δu = (m0+i)·du, Δv = (n0+j)·dv */
@@ -37,6 +118,8 @@ export class PatternGrid {
   private readonly nx: number = 0;
   private readonly ny: number = 0;
   private readonly cell: Int32Array | null = null; // element → grid index
+  private readonly usedCols: number = 0;
+  private readonly px: number = 0;
   // direct mode
   private readonly mMax: number = 0;
   private readonly nMax: number = 0;
@@ -71,6 +154,9 @@ export class PatternGrid {
   private readonly planar: boolean;
 
   constructor(private readonly plan: Plan, fi: number) {
+    const shape = gridShape(plan, fi);
+    if (shape.cells > MAX_ANALYSIS_CELLS || shape.tableEntries > MAX_DIRECT_TABLE_ENTRIES)
+      throw new Error(`analysis grid past its limit (${shape.cells} cells, ${shape.tableEntries} table entries): callers check analysisSizeProblem() first`);
     const lambda = SPEED_OF_LIGHT / plan.frequenciesHz[fi]!;
     this.k = (2 * Math.PI) / lambda;
     const el = plan.elements;
@@ -82,12 +168,14 @@ export class PatternGrid {
       const tri = l.offset === 0.5 && l.rows > 1;
       const px = tri ? l.dx / 2 : l.dx;
       const gw = tri ? 2 * l.columns + 1 : l.columns;
-      // resolution λ/(OVERSAMPLE·aperture) in both embeddings (aperture = gw·px)
+      // resolution λ/(OVERSAMPLE·aperture) in both embeddings (aperture = gw·px); gridShape() has the same
       this.nx = nextPow2(OVERSAMPLE * gw);
       this.ny = nextPow2(Math.max(OVERSAMPLE * l.rows, 1));
       this.du = lambda / (px * this.nx);
       this.dv = lambda / (l.dy * this.ny);
       this.fft = new PowerFft2(this.nx, this.ny, l.rows);
+      this.usedCols = gw;
+      this.px = px;
       this.cell = new Int32Array(el.count);
       for (let i = 0; i < el.count; i++) {
         const r = el.row[i]!;
@@ -140,6 +228,30 @@ export class PatternGrid {
   periodicPower(wr: Float64Array, wi: Float64Array): Float64Array {
     if (this.mode !== "fft") throw new Error("periodicPower needs a lattice");
     return this.fft!.run(this.cell!, wr, wi).slice();
+  }
+
+  private colSpec: Float64Array | null = null;
+  /**
+   * FFT mode: the 1-D transforms the horizon trace needs (horizon.ts). With `copy`
+   * false they are views valid until the next fill(), whose weights they must be;
+   * with `copy` true they are transformed afresh from (wr, wi) into new arrays.
+   */
+  spectra(wr: Float64Array, wi: Float64Array, copy: boolean): LatticeSpectra {
+    if (this.mode !== "fft") throw new Error("spectra need a lattice");
+    const fft = this.fft!;
+    const rows = this.plan.lattice!.rows;
+    let R: Float64Array, C: Float64Array;
+    if (copy) {
+      fft.run(this.cell!, wr, wi);
+      R = fft.rowSpectra.slice(0, 2 * this.nx * rows);
+      C = fft.columnSpectra(this.cell!, wr, wi, this.usedCols, new Float64Array(2 * this.ny * this.usedCols));
+    } else {
+      R = fft.rowSpectra;
+      this.colSpec ??= new Float64Array(2 * this.ny * this.usedCols);
+      C = fft.columnSpectra(this.cell!, wr, wi, this.usedCols, this.colSpec);
+    }
+    const dy = this.plan.lattice!.dy;
+    return { nx: this.nx, ny: this.ny, rows, cols: this.usedCols, kpx: this.k * this.px, kdy: this.k * dy, du: this.du, dv: this.dv, R, C };
   }
 
   private colIndex = new Int32Array(0);

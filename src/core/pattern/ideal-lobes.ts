@@ -5,12 +5,13 @@
  * covering every beam's visible disc (|Δu|, |Δv| ≤ 2), and refined on demand (cached).
  * Per beam only the visible disc changes:
  *   PSL_ideal = max( lobes whose exact peak lies in the disc,
- *                    the horizon: cells on the disc's edge, refined along the circle ).
+ *                    the maximum along the horizon circle (horizon.ts) ).
  * Lobes are visited in decreasing grid value and the search stops 1 dB (factor 0.794)
  * below the best visible one found, as in LobeFinder (4× oversampling scallops < 0.45 dB).
  */
 import type { AfEvaluator } from "./evaluator.js";
 import { floodMainLobe, hillClimb, refine } from "./lobes.js";
+import { allocTrace, horizonMax, traceLattice, type HorizonMax, type LatticeSpectra } from "./horizon.js";
 
 const REFINE_WITHIN = 0.794;
 
@@ -19,7 +20,6 @@ export class IdealLobes {
   private readonly H: number;
   private readonly M: number;
   private readonly N: number;
-  private readonly p: Float64Array;
   private readonly main: Uint8Array;
   /** lobe cells sorted by grid value, descending */
   private readonly lobeCell: Int32Array;
@@ -28,13 +28,15 @@ export class IdealLobes {
   private readonly refV: Float64Array;
   private readonly refP: Float64Array;
   readonly peakPower: number;
+  private readonly trace = allocTrace();
+  private readonly hz: HorizonMax = { p: NaN, du: NaN, dv: NaN };
 
-  constructor(periodic: Float64Array, nx: number, ny: number, private readonly du: number, private readonly dv: number, private readonly ev: AfEvaluator) {
+  constructor(periodic: Float64Array, nx: number, ny: number, private readonly du: number, private readonly dv: number, private readonly ev: AfEvaluator, private readonly spectra: LatticeSpectra) {
     this.M = Math.ceil(2 / du) + 2;
     this.N = Math.ceil(2 / dv) + 2;
     const W = (this.W = 2 * this.M + 1);
     const H = (this.H = 2 * this.N + 1);
-    const p = (this.p = new Float64Array(W * H));
+    const p = new Float64Array(W * H);
     for (let j = 0; j < H; j++) {
       const row = ((((j - this.N) % ny) + ny) % ny) * nx;
       for (let i = 0; i < W; i++) p[j * W + i] = periodic[row + ((((i - this.M) % nx) + nx) % nx)]!;
@@ -88,11 +90,7 @@ export class IdealLobes {
 
   /** Largest ideal |AF|² over the visible disc of beam (u0, v0) outside the main lobe (NaN if none). */
   sidelobePower(u0: number, v0: number): number {
-    const { du, dv, W, M, N, p, main } = this;
-    const vis = (a: number, b: number) => {
-      const u = u0 + (a - M) * du, v = v0 + (b - N) * dv;
-      return u * u + v * v <= 1;
-    };
+    const { du, dv, W, M, N, main } = this;
     let best = NaN;
     let bestGrid = 0;
     for (let k = 0; k < this.lobeCell.length; k++) {
@@ -108,57 +106,13 @@ export class IdealLobes {
       if (!(this.refP[k]! <= best)) best = this.refP[k]!;
       if (bestGrid === 0) bestGrid = this.lobeGrid[k]!;
     }
-    // the horizon: visible cells with a neighbour past it
-    const jLo = Math.max(1, Math.ceil((-1 - v0) / dv) + N - 1);
-    const jHi = Math.min(this.H - 2, Math.floor((1 - v0) / dv) + N + 1);
-    const edge: number[] = [];
-    // right end of the visible cells of row b (or -Infinity when the row is past the horizon)
-    const rowHi = (b: number) => {
-      const v = v0 + (b - N) * dv;
-      return v * v > 1 ? -Infinity : Math.floor((Math.sqrt(1 - v * v) - u0) / du) + M;
-    };
-    for (let b = jLo; b <= jHi; b++) {
-      const v = v0 + (b - N) * dv;
-      if (v * v > 1) continue;
-      const half = Math.sqrt(1 - v * v);
-      const aLo = Math.max(1, Math.ceil((-half - u0) / du) + M);
-      const aHi = Math.min(W - 2, Math.floor((half - u0) / du) + M);
-      // cells right of both neighbour rows' ends have an invisible neighbour
-      const suffix = Math.min(rowHi(b - 1), rowHi(b + 1), aHi);
-      for (let a = aLo; a <= aHi; a++) {
-        if (!vis(a, b)) continue;
-        let onEdge = false;
-        for (let dj = -1; dj <= 1 && !onEdge; dj++) for (let di = -1; di <= 1; di++) if (!vis(a + di, b + dj)) { onEdge = true; break; }
-        if (!onEdge) {
-          // the prefix of edge cells is over: skip to where the suffix can start
-          if (a < suffix - 1) a = suffix - 1;
-          continue;
-        }
-        const q = b * W + a;
-        if (!main[q]) edge.push(q);
-      }
-    }
-    let edgeBest = 0;
-    for (const q of edge) edgeBest = Math.max(edgeBest, p[q]!);
-    const bar = REFINE_WITHIN * Math.max(edgeBest, Number.isNaN(best) ? 0 : best);
-    for (const q of edge) {
-      if (p[q]! < bar) continue;
-      // only local maxima along the edge set are worth refining
-      const a = q % W, b = (q - a) / W;
-      let isMax = true;
-      for (let dj = -1; dj <= 1 && isMax; dj++)
-        for (let di = -1; di <= 1; di++) {
-          if (!di && !dj) continue;
-          const r = (b + dj) * W + a + di;
-          if (vis(a + di, b + dj) && !main[r] && p[r]! > p[q]!) { isMax = false; break; }
-        }
-      if (!isMax) continue;
-      const r = refine(this.ev, (a - M) * du, (b - N) * dv, du, dv, { u0, v0 });
-      const ra = Math.round(r.du / du) + M, rb = Math.round(r.dv / dv) + N;
-      const inMain = ra >= 0 && rb >= 0 && ra < W && rb < this.H && main[rb * W + ra] === 1;
-      const val = inMain || !(r.p >= p[q]!) ? p[q]! : r.p;
-      if (!(val <= best)) best = val;
-    }
+    // the horizon, traced and searched along the circle (horizon.ts)
+    traceLattice(this.spectra, u0, v0, this.trace);
+    const h = horizonMax(this.trace, this.ev, u0, v0, (x, y) => {
+      const ra = Math.round(x / du) + M, rb = Math.round(y / dv) + N;
+      return ra < 0 || rb < 0 || ra >= W || rb >= this.H || main[rb * W + ra] === 1;
+    }, Number.isNaN(best) ? 0 : best, this.hz);
+    if (h.p > best || (Number.isNaN(best) && h.p >= 0)) best = h.p;
     return best;
   }
 }

@@ -4,12 +4,16 @@
  *   which |AF|² falls monotonically, out to the ring of nulls or troughs around it
  *   (found by a monotone flood fill on the sampled grid);
  * - the peak and the top sidelobe candidates are refined on the exact array factor
- *   (Newton in u-v; sidelobes whose maximum lies past the horizon are maximised along
- *   the horizon circle), so neither is limited by the grid;
- * - PSL is the largest |AF|² over visible space (horizon included) outside the main lobe.
+ *   (Newton in u-v), so neither is limited by the grid; both stay in visible space (a
+ *   peak is a direction): a maximum past the horizon is replaced by the maximum along it;
+ * - PSL is the largest |AF|² over visible space outside the main lobe: the larger of the
+ *   refined interior lobes and the maximum along the horizon circle, which is traced
+ *   and searched on its own (horizon.ts), so a lobe cut off by the horizon is never
+ *   missed for want of a grid cell near it.
  */
 import type { AfEvaluator } from "./evaluator.js";
 import type { PowerWindow } from "./grid.js";
+import { horizonMax, type HorizonMax, type HorizonTrace } from "./horizon.js";
 
 export interface LobeResult {
   peakDu: number;
@@ -75,6 +79,7 @@ const REFINE_WITHIN = 0.794;
 export class LobeFinder {
   private mask: Uint8Array;
   private stack: Int32Array;
+  private readonly hz: HorizonMax = { p: NaN, du: NaN, dv: NaN };
   constructor(cap: number) {
     this.mask = new Uint8Array(cap);
     this.stack = new Int32Array(cap);
@@ -82,9 +87,9 @@ export class LobeFinder {
 
   /**
    * The main-lobe peak alone (steps 1–2 of analyse): the grid peak nearest the
-   * commanded direction, refined on the exact pattern. `top` is its grid cell.
+   * commanded direction, refined on the exact pattern and kept in visible space. `top` is its grid cell.
    */
-  peak(win: PowerWindow, ev: AfEvaluator, du: number, dv: number): Refined & { top: number } {
+  peak(win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): Refined & { top: number } {
     const { wm, wn, p } = win;
     // 1. grid peak nearest the commanded direction: hill-climb from Δ = 0
     const top = hillClimb(p, wm, wn, -win.m0, -win.n0);
@@ -92,13 +97,14 @@ export class LobeFinder {
     const j = (top - i) / wm;
     // 2. exact peak (a line array keeps the commanded value across its normal plane)
     const [oi, oj] = parabolic(p, wm, wn, i, j);
-    const pk = refine(ev, ev.lockU ? 0 : (win.m0 + i + oi) * du, ev.lockV ? 0 : (win.n0 + j + oj) * dv, du, dv, null);
+    const pk = refine(ev, ev.lockU ? 0 : (win.m0 + i + oi) * du, ev.lockV ? 0 : (win.n0 + j + oj) * dv, du, dv, { u0, v0 });
     return { ...pk, top };
   }
 
-  analyse(win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): LobeResult {
+  /** `trace`: the pattern along the horizon (horizon.ts), taken from the same weights as `win`. */
+  analyse(win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number, trace: HorizonTrace): LobeResult {
     const { wm, wn, p, visible } = win;
-    const pk = this.peak(win, ev, du, dv);
+    const pk = this.peak(win, ev, du, dv, u0, v0);
     const top = pk.top;
     // 3. main lobe: monotone flood fill from the grid peak
     const mask = this.mask;
@@ -154,6 +160,12 @@ export class LobeFinder {
       if (inside || !(r.p >= candP[k]!)) { val = candP[k]!; vu = (win.m0 + a) * du; vv = (win.n0 + b) * dv; }
       if (!(val <= sl)) { sl = val; sdu = vu; sdv = vv; }
     }
+    // 5. the horizon, searched along the circle
+    const h = horizonMax(trace, ev, u0, v0, (a, b) => {
+      const ra = Math.round(a / du) - win.m0, rb = Math.round(b / dv) - win.n0;
+      return ra >= 0 && rb >= 0 && ra < wm && rb < wn && mask[rb * wm + ra] === 1;
+    }, bestGrid, this.hz);
+    if (h.p > sl || (Number.isNaN(sl) && h.p >= 0)) { sl = h.p; sdu = h.du; sdv = h.dv; }
     return { peakDu: pk.du, peakDv: pk.dv, peakPower: pk.p, sidelobePower: sl, sidelobeDu: sdu, sidelobeDv: sdv };
   }
 }
@@ -200,7 +212,7 @@ export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number
   };
   const c = lg(i, j);
   const oi = fit(lg(i - 1, j), c, lg(i + 1, j)), oj = fit(lg(i, j - 1), c, lg(i, j + 1));
-  return refine(ev, ev.lockU ? 0 : (i + oi) * du, ev.lockV ? 0 : (j + oj) * dv, du, dv, null);
+  return refine(ev, ev.lockU ? 0 : (i + oi) * du, ev.lockV ? 0 : (j + oj) * dv, du, dv, { u0, v0 });
 }
 
 /** Sub-cell offset of a grid maximum from a parabola through log|AF|² of its neighbours (±½ cell). */
@@ -215,6 +227,25 @@ function parabolic(p: Float64Array, wm: number, wn: number, a: number, b: number
   return [fit(at(a - 1, b), c, at(a + 1, b)), fit(at(a, b - 1), c, at(a, b + 1))];
 }
 
+/** The point of the horizon radially outward of Δ (locked arrays: along the free coordinate only). */
+function ontoDisc(ev: AfEvaluator, disc: { u0: number; v0: number }, du: number, dv: number): [number, number] {
+  const { u0, v0 } = disc;
+  const ONE = 1 - 1e-15;
+  if (ev.lockU || ev.lockV) {
+    if (ev.lockU && ev.lockV) return [0, 0];
+    if (ev.lockV) {
+      const h = Math.sqrt(Math.max(0, ONE - v0 * v0));
+      return [Math.max(-h, Math.min(h, u0 + du)) - u0, 0];
+    }
+    const h = Math.sqrt(Math.max(0, ONE - u0 * u0));
+    return [0, Math.max(-h, Math.min(h, v0 + dv)) - v0];
+  }
+  const u = u0 + du, v = v0 + dv;
+  const r = Math.hypot(u, v);
+  if (r <= ONE) return [du, dv];
+  return [(u / r) * ONE - u0, (v / r) * ONE - v0];
+}
+
 /**
  * Maximise |F|² from a grid point by damped Newton steps (at most one cell long).
  * With `disc`, the point is kept in visible space: a maximum past the horizon is
@@ -224,6 +255,11 @@ export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv
   let du = du0, dv = dv0;
   const inDisc = (a: number, b: number) => !disc || (disc.u0 + a) ** 2 + (disc.v0 + b) ** 2 <= 1;
   let hitEdge = false;
+  if (disc && !inDisc(du, dv)) {
+    // start on the horizon (locked arrays: on the line through the commanded point)
+    hitEdge = true;
+    [du, dv] = ontoDisc(ev, disc, du, dv);
+  }
   const d = { ...ev.derivs(du, dv) };
   let p = d.p;
   for (let it = 0; it < 40; it++) {
@@ -267,7 +303,12 @@ export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv
     }
     if (!accepted) break;
   }
-  if (disc && hitEdge) {
+  if (disc && hitEdge && (ev.lockU || ev.lockV)) {
+    // a line array keeps the commanded value across its normal plane: the end of the line
+    const [eu, ev2] = ontoDisc(ev, disc, du + (ev.lockU ? 0 : Math.sign(d.pu) * 4 * cu), dv + (ev.lockV ? 0 : Math.sign(d.pv) * 4 * cv));
+    const pe = ev.power(eu, ev2);
+    if (pe > p) return { du: eu, dv: ev2, p: pe };
+  } else if (disc && hitEdge) {
     // maximise along the horizon near the current point
     const { u0, v0 } = disc;
     const a0 = Math.atan2(v0 + dv, u0 + du);

@@ -1,0 +1,191 @@
+/**
+ * The horizon u² + v² = 1 as part of the sidelobe search, by construction.
+ *
+ * The largest |AF|² over the closed visible disc outside the main lobe lies either at an
+ * interior local maximum (found on the sampled u-v grid) or on the horizon circle, where
+ * a lobe that peaks in invisible space is cut off. The grid alone cannot see the second
+ * kind: the last visible cell can sit a whole cell inside the circle, on a steep flank.
+ * So every pattern is also traced along the circle itself, densely enough for its
+ * aperture (consecutive samples at most one grid cell apart along u and along v, the
+ * grid's own density), with exact values at exact horizon points, and the local maxima
+ * of the trace are refined along the circle by a 1-D search in the azimuth angle α
+ * (u = cos α, v = sin α) on the exact array factor.
+ *
+ * Lattices (FFT mode) sample the circle where it crosses the grid's lines: at a grid
+ * column u_m the field is Σ_rows R_r(m)·e^{−jk·dy·r·Δv} from the row transforms the 2-D
+ * FFT has already taken, at a grid row v_n it is Σ_cols C_c(n)·e^{−jk·px·c·Δu} from the
+ * column transforms of the weights; columns are used where the circle runs across the
+ * columns (|tan α| ≥ du/dv), rows elsewhere. Other geometries (direct mode) are
+ * sampled at equal steps of α with the exact evaluator (z ≠ 0 included: on the horizon
+ * w = 0 for every point, so the z term is exact there).
+ */
+import type { AfEvaluator } from "./evaluator.js";
+
+export interface HorizonTrace {
+  n: number;
+  du: Float64Array;
+  dv: Float64Array;
+  alpha: Float64Array;
+  p: Float64Array;
+}
+
+export function allocTrace(cap = 256): HorizonTrace {
+  return { n: 0, du: new Float64Array(cap), dv: new Float64Array(cap), alpha: new Float64Array(cap), p: new Float64Array(cap) };
+}
+
+function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number): void {
+  if (t.n === t.p.length) {
+    const grow = (a: Float64Array) => { const b = new Float64Array(a.length * 2); b.set(a); return b; };
+    t.du = grow(t.du);
+    t.dv = grow(t.dv);
+    t.alpha = grow(t.alpha);
+    t.p = grow(t.p);
+  }
+  t.du[t.n] = du;
+  t.dv[t.n] = dv;
+  t.alpha[t.n] = alpha;
+  t.p[t.n] = p;
+  t.n++;
+}
+
+/**
+ * A lattice's one-dimensional transforms (FFT mode): R, row r at 2·nx·r, interleaved,
+ * R_r(m) = Σ_x conj(w)·e^{−2πi·m·x/nx}; C, grid column c at 2·ny·c, the same along y.
+ * Grid index x sits at x_0 + x·px and row r at y_0 + r·dy.
+ */
+export interface LatticeSpectra {
+  nx: number;
+  ny: number;
+  rows: number;
+  cols: number;
+  kpx: number;
+  kdy: number;
+  du: number;
+  dv: number;
+  R: Float64Array;
+  C: Float64Array;
+}
+
+/** |Σ_i s_i·e^{−jθi}|² for s interleaved at s[off + stride·i], i < n. */
+function phasedSum(s: Float64Array, off: number, stride: number, n: number, theta: number): number {
+  const cr = Math.cos(theta), ci = -Math.sin(theta);
+  let er = 1, ei = 0, re = 0, im = 0;
+  for (let i = 0, o = off; i < n; i++, o += stride) {
+    const a = s[o]!, b = s[o + 1]!;
+    re += a * er - b * ei;
+    im += a * ei + b * er;
+    const t = er * cr - ei * ci;
+    ei = er * ci + ei * cr;
+    er = t;
+  }
+  return re * re + im * im;
+}
+
+/** Trace the horizon of beam (u0, v0) from a lattice's transforms, in increasing α (one turn from −π). */
+export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: HorizonTrace): void {
+  out.n = 0;
+  const { nx, ny, du, dv, R, C } = s;
+  // rows where the circle runs across the rows (|v| < sa), columns elsewhere
+  const sa = Math.sin(Math.atan(du / dv));
+  const ca = Math.sqrt(1 - sa * sa);
+  const colAt = (m: number, v: number) => {
+    const mm = ((m % nx) + nx) % nx;
+    push(out, m * du, v - v0, Math.atan2(v, u0 + m * du), phasedSum(R, 2 * mm, 2 * nx, s.rows, s.kdy * (v - v0)));
+  };
+  const rowAt = (n: number, u: number) => {
+    const nn = ((n % ny) + ny) % ny;
+    push(out, u - u0, n * dv, Math.atan2(v0 + n * dv, u), phasedSum(C, 2 * nn, 2 * ny, s.cols, s.kpx * (u - u0)));
+  };
+  const mLo = Math.ceil((-ca - u0) / du), mHi = Math.floor((ca - u0) / du);
+  const nLo = Math.ceil((-sa - v0) / dv), nHi = Math.floor((sa - v0) / dv);
+  const vis = (x: number) => Math.sqrt(Math.max(0, 1 - x * x));
+  // one turn in increasing α, starting at the bottom arc (α ≈ −3π/4); the left arc crosses α = ±π
+  for (let m = mLo; m <= mHi; m++) { const u = u0 + m * du; if (Math.abs(u) <= ca) colAt(m, -vis(u)); } // bottom, α ∈ [−3π/4, −π/4]
+  for (let n = nLo; n <= nHi; n++) { const v = v0 + n * dv; if (Math.abs(v) < sa) rowAt(n, vis(v)); } // right
+  for (let m = mHi; m >= mLo; m--) { const u = u0 + m * du; if (Math.abs(u) <= ca) colAt(m, vis(u)); } // top
+  for (let n = nHi; n >= nLo; n--) { const v = v0 + n * dv; if (Math.abs(v) < sa) rowAt(n, -vis(v)); } // left
+}
+
+/** Trace the horizon with the exact evaluator at equal steps of α no larger than `step` (radians). */
+export function traceExact(ev: AfEvaluator, u0: number, v0: number, step: number, out: HorizonTrace): void {
+  out.n = 0;
+  const n = Math.max(16, Math.ceil((2 * Math.PI) / step));
+  for (let i = 0; i < n; i++) {
+    const a = -Math.PI + (2 * Math.PI * i) / n;
+    const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
+    push(out, du, dv, a, ev.power(du, dv));
+  }
+}
+
+export interface HorizonMax {
+  p: number;
+  du: number;
+  dv: number;
+}
+
+/**
+ * Only trace maxima within this factor of the best sample are refined. Consecutive
+ * samples are at most one grid cell apart along each axis, so a maximum along the
+ * circle lies within half a step of a sample, at most ~0.45 dB above it on a 4× grid
+ * (as for the grid's own lobes, lobes.ts): 1 dB (×0.794) keeps every one that can win.
+ */
+export const HORIZON_REFINE_WITHIN = 0.794;
+
+/**
+ * The largest |AF|² along the horizon outside the main lobe: the trace's local maxima
+ * (main-lobe samples excluded) within HORIZON_REFINE_WITHIN of max(best sample, `floor`)
+ * are refined by golden-section search in α between their neighbours. Returns p = NaN
+ * when every sample is in the main lobe.
+ */
+export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: number, isMain: (du: number, dv: number) => boolean, floor: number, out: HorizonMax): HorizonMax {
+  out.p = NaN;
+  out.du = NaN;
+  out.dv = NaN;
+  const n = t.n;
+  if (n === 0) return out;
+  const val = (i: number) => {
+    const k = ((i % n) + n) % n;
+    return t.p[k]!;
+  };
+  const main = new Uint8Array(n);
+  let best = 0;
+  for (let i = 0; i < n; i++) {
+    main[i] = isMain(t.du[i]!, t.dv[i]!) ? 1 : 0;
+    if (!main[i] && t.p[i]! > best) best = t.p[i]!;
+  }
+  const bar = HORIZON_REFINE_WITHIN * Math.max(best, Number.isFinite(floor) ? floor : 0);
+  const at = (a: number) => ev.power(Math.cos(a) - u0, Math.sin(a) - v0);
+  const g = (Math.sqrt(5) - 1) / 2;
+  for (let i = 0; i < n; i++) {
+    if (main[i]) continue;
+    const pi = t.p[i]!;
+    if (!(out.p >= pi)) { out.p = pi; out.du = t.du[i]!; out.dv = t.dv[i]!; }
+    if (pi < bar) continue;
+    const l = (i - 1 + n) % n, r = (i + 1) % n;
+    if ((!main[l] && val(l) > pi) || (!main[r] && val(r) > pi)) continue;
+    // bracket [α_l, α_r] around α_i (unwrapped)
+    const ai = t.alpha[i]!;
+    let lo = t.alpha[l]!, hi = t.alpha[r]!;
+    while (lo > ai) lo -= 2 * Math.PI;
+    while (lo < ai - Math.PI) lo += 2 * Math.PI;
+    while (hi < ai) hi += 2 * Math.PI;
+    while (hi > ai + Math.PI) hi -= 2 * Math.PI;
+    let bp = pi, ba = ai;
+    let x1 = hi - g * (hi - lo), x2 = lo + g * (hi - lo);
+    let f1 = at(x1), f2 = at(x2);
+    const tol = 1e-4 * (hi - lo); // the value is then within ~1e-8 (relative) of the maximum
+    for (let it = 0; it < 48 && hi - lo > tol; it++) {
+      if (f1 < f2) { lo = x1; x1 = x2; f1 = f2; x2 = lo + g * (hi - lo); f2 = at(x2); }
+      else { hi = x2; x2 = x1; f2 = f1; x1 = hi - g * (hi - lo); f1 = at(x1); }
+    }
+    const a = f1 > f2 ? x1 : x2;
+    const pa = Math.max(f1, f2);
+    if (pa > bp) {
+      const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
+      // the search must not have climbed into the main lobe
+      if (!isMain(du, dv)) { bp = pa; ba = a; }
+    }
+    if (bp > out.p) { out.p = bp; out.du = Math.cos(ba) - u0; out.dv = Math.sin(ba) - v0; }
+  }
+  return out;
+}
