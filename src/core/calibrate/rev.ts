@@ -1,0 +1,302 @@
+/**
+ * The rotating-element electric-field-vector (REV) method: Mano & Katagi, "A method for
+ * measuring amplitude and phase of each radiating element of a phased array antenna",
+ * Electronics and Communications in Japan (IEICE Trans., Japanese edition), 1982 (venue
+ * details from memory). Every element sits at phase code 0 except the one under test,
+ * which steps through its codes while the total power is read.
+ *
+ * Derivation (done here, in the paper's spirit; derived): let E0 be the total field with
+ * every element at code 0 and e the field of the element under test at code 0. With its
+ * phase shifter at code k the element's field becomes e·s_k, s_k = ρ_k·e^{jΔ_k} the
+ * realized state relative to code 0 (ideal parts: ρ_k = 1, Δ_k = k·360°/2^B), so
+ *   E(k) = E0 + e·(s_k − 1),   P(k) = K·|1 + x·(s_k − 1)|²,   x = e/E0,
+ * K an unknown scale (the readings share any common reference). Writing a = 1 − x and
+ * b = x (so a + b = 1): P(k) = K·(|a|² + ρ_k²|b|² + 2ρ_k|a||b|·cos(Δ_k + ∠b − ∠a)).
+ * With ρ_k = 1 this is a sinusoid in Δ, P = α + β·cosΔ + γ·sinΔ, linear in (α, β, γ)
+ * and solved by least squares over all codes (code 0 plus ≥ 3 others, any spacing). Then
+ *   K = α + β (the reading at Δ = 0, where a + b = 1), R = √(β² + γ²), θ = atan2(γ, β),
+ *   |a| + |b| = √((α + R)/K),  ||a| − |b|| = √((α − R)/K),  ∠b − ∠a = −θ,
+ *   x = t/(1 + t),  t = b/a = (|b|/|a|)·e^{−jθ}.
+ * The readings are symmetric in |a| and |b|: the second root is x' = conj(1 − x), which
+ * predicts exactly the same powers. An element's field is far smaller than the whole
+ * array's, so the root with the smaller |x| is kept; when the two |x| are within the
+ * fit's uncertainty of each other the choice cannot be decided and is flagged.
+ * With measured states (ρ_k ≠ 1) the closed form gives the start (ρ_k² taken as its
+ * mean) and both roots are refined on the exact model. Every fit is then refined by
+ * Gauss–Newton/Levenberg–Marquardt on (10·log10 K, Re x, Im x), least squares in dB
+ * (the readings' own unit), so all codes count alike.
+ */
+import type { Complex, Flag, MethodField } from "./contract.js";
+
+const C_DB = 10 / Math.LN10;
+
+export interface RevReadings {
+  /** realized phase of each code minus that of code 0 (rad) */
+  delta: Float64Array;
+  /** realized amplitude of each code relative to code 0 */
+  rho: Float64Array;
+  /** total power (dB, any common reference) */
+  powerDb: Float64Array;
+}
+
+export interface RevRoot {
+  /** x = e/E0: the element's field relative to the whole array's (all at code 0) */
+  x: Complex;
+  /** 10·log10 K: the total power with every element at code 0 (dB, the readings' reference) */
+  referenceDb: number;
+  /** rms of reading − model over the codes (dB) */
+  residualDb: number;
+}
+
+export interface RevFit {
+  /** the linear least-squares sinusoid P = α + β·cosΔ + γ·sinΔ (linear power, ρ-weighted) */
+  linear: { alpha: number; beta: number; gamma: number };
+  roots: [RevRoot, RevRoot];
+  kept: 0 | 1;
+  decided: boolean;
+  why: string;
+  /** one-sigma uncertainty of |x| (relative) and of ∠x (rad), from the fit's residual and Jacobian */
+  relStd: number;
+  phaseStdRad: number;
+}
+
+export type RevResult = { ok: true; fit: RevFit } | { ok: false; message: string };
+
+/** Solve a small dense system A·u = b (n×n, row-major) by Gaussian elimination with partial pivoting; null if singular. */
+export function solveSmall(A: number[], b: number[], n: number): number[] | null {
+  const a = A.slice();
+  const y = b.slice();
+  let scale = 0;
+  for (const v of a) scale = Math.max(scale, Math.abs(v));
+  for (let c = 0; c < n; c++) {
+    let p = c;
+    for (let r = c + 1; r < n; r++) if (Math.abs(a[r * n + c]!) > Math.abs(a[p * n + c]!)) p = r;
+    if (!(Math.abs(a[p * n + c]!) > 1e-13 * scale)) return null;
+    if (p !== c) {
+      for (let k = 0; k < n; k++) [a[c * n + k], a[p * n + k]] = [a[p * n + k]!, a[c * n + k]!];
+      [y[c], y[p]] = [y[p]!, y[c]!];
+    }
+    for (let r = c + 1; r < n; r++) {
+      const f = a[r * n + c]! / a[c * n + c]!;
+      for (let k = c; k < n; k++) a[r * n + k]! -= f * a[c * n + k]!;
+      y[r]! -= f * y[c]!;
+    }
+  }
+  const u = new Array<number>(n).fill(0);
+  for (let r = n - 1; r >= 0; r--) {
+    let s = y[r]!;
+    for (let k = r + 1; k < n; k++) s -= a[r * n + k]! * u[k]!;
+    u[r] = s / a[r * n + r]!;
+  }
+  return u;
+}
+
+/** The linear least-squares sinusoid over all codes: P = α + β·ρcosΔ + γ·ρsinΔ in linear power. */
+export function revLinear(r: RevReadings): { alpha: number; beta: number; gamma: number } | null {
+  const A = new Array<number>(9).fill(0);
+  const b = [0, 0, 0];
+  for (let k = 0; k < r.delta.length; k++) {
+    const f = [1, r.rho[k]! * Math.cos(r.delta[k]!), r.rho[k]! * Math.sin(r.delta[k]!)];
+    const p = Math.pow(10, r.powerDb[k]! / 10);
+    for (let i = 0; i < 3; i++) {
+      b[i]! += f[i]! * p;
+      for (let j = 0; j < 3; j++) A[i * 3 + j]! += f[i]! * f[j]!;
+    }
+  }
+  const u = solveSmall(A, b, 3);
+  return u ? { alpha: u[0]!, beta: u[1]!, gamma: u[2]! } : null;
+}
+
+/** The two closed-form roots (smaller |x| first) from the sinusoid's coefficients. */
+export function revClosedForm(l: { alpha: number; beta: number; gamma: number }): { K: number; roots: [Complex, Complex] } | null {
+  const K = l.alpha + l.beta;
+  const R = Math.hypot(l.beta, l.gamma);
+  if (!(K > 0) || !(R > 0)) return null;
+  const theta = Math.atan2(l.gamma, l.beta);
+  const S = Math.sqrt(Math.max(0, (l.alpha + R) / K));
+  const Dd = Math.sqrt(Math.max(0, (l.alpha - R) / K));
+  const small = (S - Dd) / 2, large = (S + Dd) / 2;
+  if (!(large > 0)) return null;
+  const m = small / large;
+  const t = { re: m * Math.cos(-theta), im: m * Math.sin(-theta) };
+  // x = t / (1 + t)
+  const dr = 1 + t.re, di = t.im, d2 = dr * dr + di * di;
+  const x = { re: (t.re * dr + t.im * di) / d2, im: (t.im * dr - t.re * di) / d2 };
+  return { K, roots: [x, { re: 1 - x.re, im: x.im }] }; // conj(1 − x) = (1 − Re x) + j·Im x
+}
+
+interface Refined {
+  L: number;
+  x: Complex;
+  ssr: number;
+  /** (JᵀJ)⁻¹ at the solution, 3×3 row-major, or null */
+  inv: number[] | null;
+}
+
+function model(r: RevReadings, k: number, xr: number, xi: number): { z2: number; gr: number; gi: number } {
+  // z = 1 + x·d, d = ρe^{jΔ} − 1
+  const dr = r.rho[k]! * Math.cos(r.delta[k]!) - 1, di = r.rho[k]! * Math.sin(r.delta[k]!);
+  const zr = 1 + xr * dr - xi * di, zi = xr * di + xi * dr;
+  const z2 = zr * zr + zi * zi;
+  // ∂|z|²/∂xr = 2·Re(z̄·d), ∂|z|²/∂xi = 2·Re(z̄·jd) = −2·Im(z̄·d)
+  const re = zr * dr + zi * di, im = zr * di - zi * dr;
+  return { z2, gr: 2 * re, gi: -2 * im };
+}
+
+function cost(r: RevReadings, L: number, xr: number, xi: number): number {
+  let s = 0;
+  for (let k = 0; k < r.delta.length; k++) {
+    const m = model(r, k, xr, xi);
+    if (!(m.z2 > 0)) return Infinity;
+    const e = r.powerDb[k]! - L - C_DB * Math.log(m.z2);
+    s += e * e;
+  }
+  return s;
+}
+
+/** Levenberg–Marquardt on (L, Re x, Im x), least squares in dB. */
+function refine(r: RevReadings, L0: number, x0: Complex): Refined {
+  let L = L0, xr = x0.re, xi = x0.im;
+  let c = cost(r, L, xr, xi);
+  let lambda = 1e-3;
+  const n = r.delta.length;
+  const normal = (L: number, xr: number, xi: number) => {
+    const A = new Array<number>(9).fill(0);
+    const g = [0, 0, 0];
+    for (let k = 0; k < n; k++) {
+      const m = model(r, k, xr, xi);
+      const e = r.powerDb[k]! - L - C_DB * Math.log(m.z2);
+      const J = [1, (C_DB * m.gr) / m.z2, (C_DB * m.gi) / m.z2];
+      for (let i = 0; i < 3; i++) {
+        g[i]! += J[i]! * e;
+        for (let j = 0; j < 3; j++) A[i * 3 + j]! += J[i]! * J[j]!;
+      }
+    }
+    return { A, g };
+  };
+  for (let it = 0; it < 100 && Number.isFinite(c); it++) {
+    const { A, g } = normal(L, xr, xi);
+    let improved = false;
+    for (let tries = 0; tries < 30; tries++) {
+      const Ad = A.slice();
+      for (let i = 0; i < 3; i++) Ad[i * 4]! *= 1 + lambda;
+      const step = solveSmall(Ad, g, 3);
+      if (!step) {
+        lambda *= 10;
+        continue;
+      }
+      const nc = cost(r, L + step[0]!, xr + step[1]!, xi + step[2]!);
+      if (nc <= c) {
+        const small = Math.abs(step[0]!) < 1e-13 * (1 + Math.abs(L)) && Math.hypot(step[1]!, step[2]!) < 1e-13 * (1 + Math.hypot(xr, xi));
+        L += step[0]!;
+        xr += step[1]!;
+        xi += step[2]!;
+        const done = c - nc <= 1e-15 * (c + 1e-30) || small;
+        c = nc;
+        lambda = Math.max(lambda / 10, 1e-12);
+        improved = !done;
+        break;
+      }
+      lambda *= 10;
+    }
+    if (!improved) break;
+  }
+  const { A } = normal(L, xr, xi);
+  const inv: number[] = [];
+  for (let j = 0; j < 3; j++) {
+    const col = solveSmall(A, [0, 1, 2].map((i) => (i === j ? 1 : 0)), 3);
+    if (!col) return { L, x: { re: xr, im: xi }, ssr: c, inv: null };
+    for (let i = 0; i < 3; i++) inv[i * 3 + j] = col[i]!;
+  }
+  return { L, x: { re: xr, im: xi }, ssr: c, inv };
+}
+
+/** Fit one element's readings: both roots, the kept one and why. */
+export function revFitElement(r: RevReadings): RevResult {
+  const n = r.delta.length;
+  let lo = Infinity, hi = -Infinity;
+  for (const p of r.powerDb) {
+    lo = Math.min(lo, p);
+    hi = Math.max(hi, p);
+  }
+  if (!(hi > lo)) return { ok: false, message: "the power does not vary with the code (no solution): the element may be dead or its phase shifter stuck" };
+  const lin = revLinear(r);
+  if (!lin) return { ok: false, message: "the codes' realized phases do not give three distinct points on the circle; expected code 0 and at least three codes whose phases differ" };
+  const cf = revClosedForm(lin);
+  if (!cf) return { ok: false, message: "the readings do not fit a field that rotates with the code (no solution)" };
+  const ideal = r.rho.every((v) => v === 1);
+  const L0 = 10 * Math.log10(cf.K);
+  const a = refine(r, L0, cf.roots[0]);
+  // ideal states: the second root predicts exactly the same powers (x' = conj(1 − x));
+  // measured states break the symmetry a little, so that root is refined on its own
+  const b: Refined = ideal ? { L: a.L, x: { re: 1 - a.x.re, im: a.x.im }, ssr: a.ssr, inv: null } : refine(r, L0, cf.roots[1]);
+  const rootOf = (f: Refined): RevRoot => ({ x: f.x, referenceDb: f.L, residualDb: Math.sqrt(f.ssr / n) });
+  const roots: [RevRoot, RevRoot] = [rootOf(a), rootOf(b)];
+  const ma = Math.hypot(a.x.re, a.x.im), mb = Math.hypot(b.x.re, b.x.im);
+  const kept: 0 | 1 = ma <= mb ? 0 : 1;
+  const k = kept === 0 ? a : b;
+  const mk = Math.min(ma, mb), mo = Math.max(ma, mb);
+  // uncertainty of x along and across its direction, from s²·(JᵀJ)⁻¹ (s² = ssr/(n − 3))
+  const inv = k.inv ?? a.inv;
+  const s2 = n > 3 ? k.ssr / (n - 3) : 0;
+  let varRad = NaN, varTan = NaN;
+  if (inv) {
+    const ur = k.x.re / mk, ui = k.x.im / mk;
+    // the mirrored root of an ideal fit, x' = (1 − Re x) + j·Im x: same variances, covariance negated
+    const c11 = inv[4]!, c12 = k.inv ? inv[5]! : -inv[5]!, c22 = inv[8]!;
+    varRad = s2 * (ur * ur * c11 + 2 * ur * ui * c12 + ui * ui * c22);
+    varTan = s2 * (ui * ui * c11 - 2 * ur * ui * c12 + ur * ur * c22);
+  }
+  const sigmaAbs = Math.sqrt(Math.max(0, varRad));
+  const decided = mo - mk > 3 * sigmaAbs && mo - mk > 1e-9;
+  const why = decided
+    ? `kept |e/E0| = ${mk.toPrecision(3)} over ${mo.toPrecision(3)}: an element's field is far smaller than the whole array's`
+    : `cannot be decided: the two roots give element fields of ${mk.toPrecision(3)} and ${mo.toPrecision(3)} of the array's, within the fit's uncertainty (${(3 * sigmaAbs).toPrecision(2)}, 3σ); kept the smaller`;
+  return { ok: true, fit: { linear: lin, roots, kept, decided, why, relStd: sigmaAbs / mk, phaseStdRad: Math.sqrt(Math.max(0, varTan)) / mk } };
+}
+
+export interface RevElementData {
+  index: number;
+  id: number;
+  readings: RevReadings;
+}
+
+export interface RevElementResult {
+  index: number;
+  fit: RevFit;
+}
+
+/**
+ * All elements of one frequency. Per element its field relative to the whole array's
+ * (the common factor E0 is removed by referring), with flags and advice.
+ * Returns the per-element errors instead when any element cannot be solved.
+ */
+export function revMethod(data: RevElementData[]): { ok: true; fields: MethodField[]; fits: RevElementResult[] } | { ok: false; errors: { index: number; message: string }[] } {
+  const errors: { index: number; message: string }[] = [];
+  const fits: RevElementResult[] = [];
+  for (const d of data) {
+    const r = revFitElement(d.readings);
+    if (!r.ok) errors.push({ index: d.index, message: r.message });
+    else fits.push({ index: d.index, fit: r.fit });
+  }
+  if (errors.length) return { ok: false, errors };
+  const res = fits.map((f) => f.fit.roots[f.fit.kept].residualDb).sort((a, b) => a - b);
+  const medianRes = res.length ? res[Math.floor((res.length - 1) / 2)]! : 0;
+  const ids = new Map(data.map((d) => [d.index, d.id]));
+  const fields = fits.map(({ index, fit }): MethodField => {
+    const root = fit.roots[fit.kept];
+    const flags: Flag[] = [];
+    const advice: string[] = [];
+    const id = ids.get(index)!;
+    if (root.residualDb > Math.max(4 * medianRes, 0.01)) {
+      flags.push("poor-fit");
+      advice.push(`element ${id}: rms fit residual ${root.residualDb.toFixed(3)} dB against a median of ${medianRes.toFixed(3)} dB: re-measure it, and check its phase shifter (a stuck or skipped bit)`);
+    }
+    if (!fit.decided) {
+      flags.push("ambiguous-root");
+      advice.push(`element ${id}: ${fit.why}; re-measure with more codes, or with part of the array switched off so this element's field is small against the rest`);
+    }
+    return { index, field: root.x, residualDb: root.residualDb, relStd: fit.relStd, phaseStdRad: fit.phaseStdRad, flags, advice };
+  });
+  return { ok: true, fields, fits };
+}
