@@ -89,7 +89,7 @@ export function fieldShare(plan: Plan, truth: Truth, states: StateFn, probe: Sim
 
 export function revCsv(rows: { element: number; code: number; powerDb: number; frequencyHz?: string }[]): string {
   const perF = rows.some((r) => r.frequencyHz !== undefined);
-  return (perF ? "frequency_hz,element,phase_code,power_db\n" : "element,phase_code,power_db\n") + rows.map((r) => `${perF ? r.frequencyHz + "," : ""}${r.element},${r.code},${r.powerDb.toFixed(6)}`).join("\n") + "\n";
+  return (perF ? "frequency_hz,element,phase_code,power_db\n" : "element,phase_code,power_db\n") + rows.map((r) => `${perF ? r.frequencyHz + "," : ""}${r.element},${r.code},${r.powerDb.toFixed(9)}`).join("\n") + "\n";
 }
 
 /** Truth referred as the tool refers: circular mean phase 0° and mean gain 0 dB over enabled elements. */
