@@ -57,6 +57,7 @@ export function calibrateCommand(io: Io, a: CalibrateArgs): number {
         (f.fieldSum ? `, Σ element fields / whole array = ${fmt(Math.hypot(f.fieldSum.re, f.fieldSum.im), 4)} (expected 1)` : "") +
         (ambiguous ? `, ${ambiguous} root choice(s) undecided` : ""),
     );
+    for (const w of f.warnings) lines.push(warn(io, `warning: ${f.frequencyHz} Hz: ${w}`));
   }
   if (r.placeholders.length) lines.push(`  no readings for disabled element(s) ${r.placeholders.join(", ")}: written as 0, 0`);
   if (r.flagged.length) {

@@ -56,8 +56,9 @@ export interface FrequencyReport {
   commonPhaseDeg: number;
   commonGainDb: number;
   enabledUsed: number;
-  /** rev: Σ x_n over the enabled elements, which should be 1 (their fields add up to the whole array's) */
-  fieldSum: { re: number; im: number; error: number } | null;
+  /** rev: Σ x_n over the enabled elements, which should be 1 (their fields add up to the whole array's), and its 1σ from the fits */
+  fieldSum: { re: number; im: number; error: number; sigma: number } | null;
+  warnings: string[];
 }
 
 export interface CalibrateResult {
@@ -187,6 +188,7 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
         return {
           index: i,
           id: el.ids[i]!,
+          enabled: !!el.enabled[i],
           readings: { delta: Float64Array.from(list, (x) => m.delta(x.code)), rho: Float64Array.from(list, (x) => m.rho(x.code)), powerDb: Float64Array.from(list, (x) => x.a) },
         };
       });
@@ -218,10 +220,20 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
     }
     const ref = referOffsets(fields, { elements: el, probe: o.probe, k, codeZero: (i) => models[i]!.codeZero });
     let fieldSum: FrequencyReport["fieldSum"] = null;
+    const warnings: string[] = [];
     if (o.method === "rev") {
-      let sr = 0, si = 0;
-      for (const f of fields) if (el.enabled[f.index]) { sr += f.field.re; si += f.field.im; }
-      fieldSum = { re: sr, im: si, error: Math.hypot(sr - 1, si) };
+      let sr = 0, si = 0, v = 0;
+      for (const f of fields) {
+        if (!el.enabled[f.index]) continue;
+        sr += f.field.re;
+        si += f.field.im;
+        const m2 = f.field.re * f.field.re + f.field.im * f.field.im;
+        const a = Number.isFinite(f.relStd) ? f.relStd! : 0, b = Number.isFinite(f.phaseStdRad) ? f.phaseStdRad! : 0;
+        v += m2 * (a * a + b * b);
+      }
+      fieldSum = { re: sr, im: si, error: Math.hypot(sr - 1, si), sigma: Math.sqrt(v) };
+      if (fieldSum.error > Math.max(5 * fieldSum.sigma, 0.05))
+        warnings.push(`the kept element fields do not add up to the whole array's (Σ e_n/E0 = ${sr.toFixed(3)}${si < 0 ? " − " : " + "}${Math.abs(si).toFixed(3)}j, expected 1 within ${(5 * fieldSum.sigma).toFixed(3)}): some root choices are wrong or the readings drifted; re-measure with the array phased up toward the probe`);
     }
     ssrAll += ssr;
     nAll += readings;
@@ -234,6 +246,7 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
       commonGainDb: ref.commonGainDb,
       enabledUsed: ref.enabledUsed,
       fieldSum,
+      warnings,
     });
   }
   const rmsResidualDb = o.method === "rev" ? Math.sqrt(ssrAll / nAll) : null;
@@ -272,6 +285,7 @@ export function renderCalCsv(r: Omit<CalibrateResult, "calCsv">, ids: ArrayLike<
   } else L.push("# rms fit residual: none (the field method reads each channel directly; nothing is fitted)");
   L.push(`# referred: circular mean phase 0 deg and mean gain 0 dB over ${r.frequencies[0]?.enabledUsed ?? 0} enabled elements`);
   if (r.flagged.length) L.push(`# flagged: ${r.flagged.map((f) => `element ${f.element}${r.perFrequency ? ` at ${f.frequencyHz} Hz` : ""} ${f.flags.join("+")}`).join("; ")}`);
+  for (const f of r.frequencies) for (const w of f.warnings) L.push(`# warning${r.perFrequency ? ` at ${f.frequencyHz} Hz` : ""}: ${w}`);
   if (r.placeholders.length) L.push(`# no readings (disabled): elements ${compactIds(r.placeholders, Infinity)} written as 0, 0`);
   L.push(r.perFrequency ? "frequency_hz,element,phase_offset_deg,gain_offset_db" : "element,phase_offset_deg,gain_offset_db");
   for (const f of r.frequencies) {

@@ -175,6 +175,23 @@ describe("simulated range: REV recovers known offsets within the accuracy the no
   });
 });
 
+describe("REV root ambiguity on a whole array", () => {
+  it("when the elements' fields cancel at the probe (|E0| small) every choice is flagged undecided and the sum check warns", () => {
+    // invented: 15 random offsets whose fields happen to nearly cancel at boresight (|e_n/E0| ≈ 2–3)
+    const doc = baseScenario({ array: { lattice: { kind: "rectangular", columns: 4, rows: 4, dx: "0.5 lambda", dy: "0.5 lambda" }, disabled: [15] }, phaseShifter: { bits: 3 } });
+    const plan = load(doc).plan;
+    const t = randomTruth(16, 99);
+    expect(Math.min(...fieldShare(plan, t, idealStates(3), BORESIGHT).slice(0, 15))).toBeGreaterThan(1);
+    const r = calibrate(simulateRev(plan, t, { states: idealStates(3), probe: BORESIGHT, codes: [0, 1, 2, 3, 4, 5, 6, 7], noiseDb: 0.01, seed: 7 }), BORESIGHT, {}, doc);
+    const els = r.frequencies[0]!.elements;
+    expect(els.every((e) => e.flags.includes("ambiguous-root") && e.decided === false)).toBe(true);
+    expect(els[0]!.why).toMatch(/cannot be decided/);
+    expect(els[0]!.advice.join(" ")).toMatch(/phased up toward the probe/);
+    expect(r.frequencies[0]!.warnings.join(" ")).toMatch(/do not add up to the whole array's/);
+    expect(r.calCsv).toMatch(/# warning: the kept element fields do not add up/);
+  });
+});
+
 describe("build with the produced cal.csv equals build with the true offsets, but for codes within the fit error of a rounding boundary", () => {
   it("counts and bounds the codes that differ", () => {
     const rows = simulateRev(plan0, truth, { states: idealStates(BITS), probe: BORESIGHT, codes: ALL, noiseDb: SIGMA, seed: 1 });

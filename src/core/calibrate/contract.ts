@@ -151,8 +151,8 @@ export function referOffsets(fields: MethodField[], o: ReferOptions): Referred {
       gainDb: r.gainDb - commonGainDb,
       fieldDb: r.fieldDb,
       residualDb: r.f.residualDb,
-      phaseStdDeg: r.f.phaseStdRad === null ? null : r.f.phaseStdRad / DEG,
-      gainStdDb: r.f.relStd === null ? null : (20 / Math.LN10) * r.f.relStd,
+      phaseStdDeg: r.f.phaseStdRad === null || !Number.isFinite(r.f.phaseStdRad) ? null : r.f.phaseStdRad / DEG,
+      gainStdDb: r.f.relStd === null || !Number.isFinite(r.f.relStd) ? null : (20 / Math.LN10) * r.f.relStd,
       flags,
       advice,
     };

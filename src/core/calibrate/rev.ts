@@ -19,8 +19,10 @@
  *   x = t/(1 + t),  t = b/a = (|b|/|a|)·e^{−jθ}.
  * The readings are symmetric in |a| and |b|: the second root is x' = conj(1 − x), which
  * predicts exactly the same powers. An element's field is far smaller than the whole
- * array's, so the root with the smaller |x| is kept; when the two |x| are within the
- * fit's uncertainty of each other the choice cannot be decided and is flagged.
+ * array's, so the root with the smaller |x| is kept when the other is at least twice as
+ * large and the two are told apart beyond the fit's uncertainty. Otherwise a second fact
+ * decides: the enabled elements' fields add up to the whole array's, Σ x_n = 1
+ * (resolveBySum). A choice neither decides is flagged: it cannot be decided.
  * With measured states (ρ_k ≠ 1) the closed form gives the start (ρ_k² taken as its
  * mean) and both roots are refined on the exact model. Every fit is then refined by
  * Gauss–Newton/Levenberg–Marquardt on (10·log10 K, Re x, Im x), least squares in dB
@@ -248,16 +250,24 @@ export function revFitElement(r: RevReadings): RevResult {
     varTan = s2 * (ui * ui * c11 - 2 * ur * ui * c12 + ur * ur * c22);
   }
   const sigmaAbs = Math.sqrt(Math.max(0, varRad));
-  const decided = mo - mk > 3 * sigmaAbs && mo - mk > 1e-9;
+  // the rule holds only when the kept field is smaller than the whole array's (|x| < 1) and the
+  // two roots are told apart beyond the fit's uncertainty
+  const separated = mo - mk > 3 * sigmaAbs && mo - mk > 1e-9;
+  const far = mk < 1 && mo >= 2 * mk;
+  const decided = separated && far;
   const why = decided
     ? `kept |e/E0| = ${mk.toPrecision(3)} over ${mo.toPrecision(3)}: an element's field is far smaller than the whole array's`
-    : `cannot be decided: the two roots give element fields of ${mk.toPrecision(3)} and ${mo.toPrecision(3)} of the array's, within the fit's uncertainty (${(3 * sigmaAbs).toPrecision(2)}, 3σ); kept the smaller`;
+    : !separated
+      ? `cannot be decided: the two roots give element fields of ${mk.toPrecision(3)} and ${mo.toPrecision(3)} of the array's, within the fit's uncertainty (${(3 * sigmaAbs).toPrecision(2)}, 3σ); kept the smaller`
+      : `cannot be decided: the roots give element fields of ${mk.toPrecision(3)} and ${mo.toPrecision(3)} of the whole array's, not one far smaller than the other (the elements' fields largely cancel at the probe), so the smaller-field rule does not hold; kept the smaller`;
   return { ok: true, fit: { linear: lin, roots, kept, decided, why, relStd: sigmaAbs / mk, phaseStdRad: Math.sqrt(Math.max(0, varTan)) / mk } };
 }
 
 export interface RevElementData {
   index: number;
   id: number;
+  /** enabled elements make up E0: their fields must add up to it */
+  enabled: boolean;
   readings: RevReadings;
 }
 
@@ -280,6 +290,7 @@ export function revMethod(data: RevElementData[]): { ok: true; fields: MethodFie
     else fits.push({ index: d.index, fit: r.fit });
   }
   if (errors.length) return { ok: false, errors };
+  resolveBySum(fits, new Set(data.filter((d) => d.enabled).map((d) => d.index)));
   const res = fits.map((f) => f.fit.roots[f.fit.kept].residualDb).sort((a, b) => a - b);
   const medianRes = res.length ? res[Math.floor((res.length - 1) / 2)]! : 0;
   const ids = new Map(data.map((d) => [d.index, d.id]));
@@ -294,9 +305,60 @@ export function revMethod(data: RevElementData[]): { ok: true; fields: MethodFie
     }
     if (!fit.decided) {
       flags.push("ambiguous-root");
-      advice.push(`element ${id}: ${fit.why}; re-measure with more codes, or with part of the array switched off so this element's field is small against the rest`);
+      advice.push(`element ${id}: ${fit.why}. Re-measure with the array phased up toward the probe (the previous calibration as the code-0 settings) so the whole array's field is large, or with more codes`);
     }
     return { index, field: root.x, residualDb: root.residualDb, relStd: fit.relStd, phaseStdRad: fit.phaseStdRad, flags, advice };
   });
   return { ok: true, fields, fits };
+}
+
+/**
+ * The fields of the enabled elements add up to the whole array's: Σ x_n = 1 (derived:
+ * E0 = Σ e_n). Swapping element n's root changes the sum by x' − x = 1 − 2·Re x (a real
+ * shift). Every combination of root choices of the undecided elements (up to 16 of them)
+ * is tried, and, when the kept roots miss the sum by more than 5σ of the fits, every
+ * single swap of a decided one too. When exactly one combination lands within 5σ it is
+ * applied, and the elements it covers are marked as decided by the sum; otherwise the
+ * choices stay as they are (and stay flagged).
+ */
+function resolveBySum(fits: RevElementResult[], enabled: Set<number>): void {
+  const used = fits.filter((f) => enabled.has(f.index));
+  if (used.length < 2) return;
+  let sr = 0, si = 0, v = 0;
+  for (const f of used) {
+    const x = f.fit.roots[f.fit.kept].x;
+    sr += x.re;
+    si += x.im;
+    const m2 = x.re * x.re + x.im * x.im;
+    const a = Number.isFinite(f.fit.relStd) ? f.fit.relStd : 0, b = Number.isFinite(f.fit.phaseStdRad) ? f.fit.phaseStdRad : 0;
+    v += m2 * (a * a + b * b);
+  }
+  const tol = Math.max(5 * Math.sqrt(v), 1e-9);
+  const miss = (re: number) => Math.hypot(re - 1, si);
+  const shift = (f: RevElementResult) => f.fit.roots[1 - f.fit.kept]!.x.re - f.fit.roots[f.fit.kept].x.re;
+  const undecided = used.filter((f) => !f.fit.decided);
+  if (undecided.length > 16) return;
+  const solutions: RevElementResult[][] = [];
+  for (let mask = 0; mask < 1 << undecided.length; mask++) {
+    let re = sr;
+    const set: RevElementResult[] = [];
+    undecided.forEach((f, i) => {
+      if (mask & (1 << i)) {
+        re += shift(f);
+        set.push(f);
+      }
+    });
+    if (miss(re) <= tol) solutions.push(set);
+  }
+  if (miss(sr) > tol) for (const f of used) if (f.fit.decided && miss(sr + shift(f)) <= tol) solutions.push([f]);
+  if (solutions.length !== 1) return;
+  const swap = new Set(solutions[0]);
+  for (const f of new Set([...undecided, ...swap])) {
+    const fit = f.fit;
+    if (swap.has(f)) fit.kept = (1 - fit.kept) as 0 | 1;
+    const mk = Math.hypot(fit.roots[fit.kept].x.re, fit.roots[fit.kept].x.im);
+    const mo = Math.hypot(fit.roots[1 - fit.kept]!.x.re, fit.roots[1 - fit.kept]!.x.im);
+    fit.decided = true;
+    fit.why = `kept |e/E0| = ${mk.toPrecision(3)} over ${mo.toPrecision(3)}: the only choice with which the enabled elements' fields add up to the whole array's (Σ e_n = E0, within 5σ of the fits)`;
+  }
 }
