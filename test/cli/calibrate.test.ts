@@ -112,3 +112,42 @@ describe("steercode calibrate → build → check → diff → verify", () => {
     expect(readFileSync(join(dir, "field-cal.csv"), "utf8")).toMatch(/# rms fit residual: none/);
   });
 });
+
+describe("the demo walk-through (README): two simulated range sessions", () => {
+  it("calibrate → build → calibrate → build --compare: the swapped channels move, noise flips codes by one step", () => {
+    const d = tempDir();
+    expect(cli(["init", join(d, "demo")]).code).toBe(0);
+    const S = join(d, "demo", "scenario.json");
+    const sess = (n: number) => {
+      const r = cli(["calibrate", S, "--data", join(d, "demo", `range-rev-${n}.csv`), "--method", "rev", "-o", join(d, "demo", "cal.csv"), "--json"]);
+      expect(r.code, r.stderr).toBe(0);
+      return JSON.parse(r.stdout);
+    };
+    const s1 = sess(1);
+    expect(cli(["build", S, "-o", join(d, "b1"), "--no-analysis"]).code).toBe(0);
+    const s2 = sess(2);
+    const b = cli(["build", S, "-o", join(d, "b2"), "--no-analysis", "--compare", join(d, "b1"), "--json"]);
+    expect(b.code, b.stderr).toBe(0);
+    const cmp = JSON.parse(b.stdout).compare.summary;
+    const med = (a: number[]) => [...a].sort((x, y) => x - y)[a.length >> 1]!;
+    const ph = med(s1.frequencies[0].elements.map((e: { phaseStdDeg: number }) => e.phaseStdDeg));
+    const g = med(s1.frequencies[0].elements.map((e: { gainStdDb: number }) => e.gainStdDb));
+    // README: "about 0.3° and 0.05 dB (1σ, median channel)", "about a fifth of the words, by 1 LSB or 1 step; swapped channels up to 2 LSB"
+    expect(ph).toBeGreaterThan(0.2);
+    expect(ph).toBeLessThan(0.5);
+    expect(g).toBeGreaterThan(0.03);
+    expect(g).toBeLessThan(0.1);
+    expect(cmp.wordsChanged / cmp.wordsCompared).toBeGreaterThan(0.12);
+    expect(cmp.wordsChanged / cmp.wordsCompared).toBeLessThan(0.28);
+    expect(cmp.largestPhaseChangeLsb).toBeLessThanOrEqual(2);
+    expect(cmp.largestAttenChangeSteps).toBeLessThanOrEqual(1);
+    // the swapped channels (+7.5°, −0.4 dB) show in the offsets themselves
+    const by = (s: { frequencies: { elements: { element: number; phaseDeg: number; gainDb: number }[] }[] }, id: number) => s.frequencies[0]!.elements.find((e) => e.element === id)!;
+    for (const id of [5, 6, 200]) {
+      const dp = by(s2, id).phaseDeg - by(s1, id).phaseDeg;
+      expect(Math.abs(dp - 360 * Math.round(dp / 360) - 7.5)).toBeLessThan(3);
+      expect(Math.abs(by(s2, id).gainDb - by(s1, id).gainDb + 0.4)).toBeLessThan(0.3);
+    }
+    console.log(`demo: median 1σ ${ph.toFixed(2)}° / ${g.toFixed(3)} dB; ${cmp.wordsChanged} of ${cmp.wordsCompared} words changed`);
+  }, 120_000);
+});
