@@ -114,6 +114,7 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
     problems.push({ file, line: 1, message: `the data have no frequency_hz column but the scenario lists ${plan.frequenciesHz.length} frequencies; expected a frequency_hz column saying which frequency each reading was taken at` });
   const groups = new Map<string, Group>();
   const seen = new Map<string, number>();
+  const keyOf = new Map<string, string>();
   const [ca, cb] = o.method === "rev" ? ["power_db", "power_db"] : ["amplitude_db", "phase_deg"];
   for (const r of t.rows) {
     const id = numberCell(t, r, "element", problems, { integer: true, min: 0 });
@@ -138,7 +139,8 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
       problems.push({ file, line: r.line, column: "phase_code", message: `code ${code.value} does not exist on the scenario's ${plan.phaseBits}-bit phase shifter; expected 0 … ${states - 1}` });
       continue;
     }
-    const key = new D(f.text).toString();
+    let key = keyOf.get(f.text);
+    if (key === undefined) keyOf.set(f.text, (key = new D(f.text).toString()));
     const dupKey = `${key}/${id.value}/${code.value}`;
     const prev = seen.get(dupKey);
     if (prev !== undefined) {

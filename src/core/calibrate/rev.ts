@@ -64,33 +64,19 @@ export interface RevFit {
 
 export type RevResult = { ok: true; fit: RevFit } | { ok: false; message: string };
 
-/** Solve a small dense system A·u = b (n×n, row-major) by Gaussian elimination with partial pivoting; null if singular. */
-export function solveSmall(A: number[], b: number[], n: number): number[] | null {
-  const a = A.slice();
-  const y = b.slice();
+/** A 3×3 system by Cramer's rule into `out`; false when (nearly) singular. No allocation. */
+function solve3(a: ArrayLike<number>, b: ArrayLike<number>, out: number[] | Float64Array): boolean {
+  const a0 = a[0]!, a1 = a[1]!, a2 = a[2]!, a3 = a[3]!, a4 = a[4]!, a5 = a[5]!, a6 = a[6]!, a7 = a[7]!, a8 = a[8]!;
+  const c0 = a4 * a8 - a5 * a7, c1 = a5 * a6 - a3 * a8, c2 = a3 * a7 - a4 * a6;
+  const det = a0 * c0 + a1 * c1 + a2 * c2;
   let scale = 0;
-  for (const v of a) scale = Math.max(scale, Math.abs(v));
-  for (let c = 0; c < n; c++) {
-    let p = c;
-    for (let r = c + 1; r < n; r++) if (Math.abs(a[r * n + c]!) > Math.abs(a[p * n + c]!)) p = r;
-    if (!(Math.abs(a[p * n + c]!) > 1e-13 * scale)) return null;
-    if (p !== c) {
-      for (let k = 0; k < n; k++) [a[c * n + k], a[p * n + k]] = [a[p * n + k]!, a[c * n + k]!];
-      [y[c], y[p]] = [y[p]!, y[c]!];
-    }
-    for (let r = c + 1; r < n; r++) {
-      const f = a[r * n + c]! / a[c * n + c]!;
-      for (let k = c; k < n; k++) a[r * n + k]! -= f * a[c * n + k]!;
-      y[r]! -= f * y[c]!;
-    }
-  }
-  const u = new Array<number>(n).fill(0);
-  for (let r = n - 1; r >= 0; r--) {
-    let s = y[r]!;
-    for (let k = r + 1; k < n; k++) s -= a[r * n + k]! * u[k]!;
-    u[r] = s / a[r * n + r]!;
-  }
-  return u;
+  for (let i = 0; i < 9; i++) scale = Math.max(scale, Math.abs(a[i]!));
+  if (!(Math.abs(det) > 1e-13 * scale * scale * scale)) return false;
+  const b0 = b[0]!, b1 = b[1]!, b2 = b[2]!;
+  out[0] = (b0 * c0 + b1 * (a2 * a7 - a1 * a8) + b2 * (a1 * a5 - a2 * a4)) / det;
+  out[1] = (b0 * c1 + b1 * (a0 * a8 - a2 * a6) + b2 * (a2 * a3 - a0 * a5)) / det;
+  out[2] = (b0 * c2 + b1 * (a1 * a6 - a0 * a7) + b2 * (a0 * a4 - a1 * a3)) / det;
+  return true;
 }
 
 /** The linear least-squares sinusoid over all codes: P = α + β·ρcosΔ + γ·ρsinΔ in linear power. */
@@ -105,8 +91,8 @@ export function revLinear(r: RevReadings): { alpha: number; beta: number; gamma:
       for (let j = 0; j < 3; j++) A[i * 3 + j]! += f[i]! * f[j]!;
     }
   }
-  const u = solveSmall(A, b, 3);
-  return u ? { alpha: u[0]!, beta: u[1]!, gamma: u[2]! } : null;
+  const u = [0, 0, 0];
+  return solve3(A, b, u) ? { alpha: u[0]!, beta: u[1]!, gamma: u[2]! } : null;
 }
 
 /** The two closed-form roots (smaller |x| first) from the sinusoid's coefficients. */
@@ -135,22 +121,31 @@ interface Refined {
   inv: number[] | null;
 }
 
-function model(r: RevReadings, k: number, xr: number, xi: number): { z2: number; gr: number; gi: number } {
-  // z = 1 + x·d, d = ρe^{jΔ} − 1
-  const dr = r.rho[k]! * Math.cos(r.delta[k]!) - 1, di = r.rho[k]! * Math.sin(r.delta[k]!);
-  const zr = 1 + xr * dr - xi * di, zi = xr * di + xi * dr;
-  const z2 = zr * zr + zi * zi;
-  // ∂|z|²/∂xr = 2·Re(z̄·d), ∂|z|²/∂xi = 2·Re(z̄·jd) = −2·Im(z̄·d)
-  const re = zr * dr + zi * di, im = zr * di - zi * dr;
-  return { z2, gr: 2 * re, gi: -2 * im };
+/** d_k = ρ_k·e^{jΔ_k} − 1, computed once per fit */
+interface Prepared {
+  dr: Float64Array;
+  di: Float64Array;
+  y: Float64Array;
 }
 
-function cost(r: RevReadings, L: number, xr: number, xi: number): number {
+function prepare(r: RevReadings): Prepared {
+  const n = r.delta.length;
+  const dr = new Float64Array(n), di = new Float64Array(n);
+  for (let k = 0; k < n; k++) {
+    dr[k] = r.rho[k]! * Math.cos(r.delta[k]!) - 1;
+    di[k] = r.rho[k]! * Math.sin(r.delta[k]!);
+  }
+  return { dr, di, y: r.powerDb };
+}
+
+function cost(p: Prepared, L: number, xr: number, xi: number): number {
   let s = 0;
-  for (let k = 0; k < r.delta.length; k++) {
-    const m = model(r, k, xr, xi);
-    if (!(m.z2 > 0)) return Infinity;
-    const e = r.powerDb[k]! - L - C_DB * Math.log(m.z2);
+  for (let k = 0; k < p.y.length; k++) {
+    const dr = p.dr[k]!, di = p.di[k]!;
+    const zr = 1 + xr * dr - xi * di, zi = xr * di + xi * dr;
+    const z2 = zr * zr + zi * zi;
+    if (!(z2 > 0)) return Infinity;
+    const e = p.y[k]! - L - C_DB * Math.log(z2);
     s += e * e;
   }
   return s;
@@ -158,56 +153,72 @@ function cost(r: RevReadings, L: number, xr: number, xi: number): number {
 
 /** Levenberg–Marquardt on (L, Re x, Im x), least squares in dB. */
 function refine(r: RevReadings, L0: number, x0: Complex): Refined {
+  const p = prepare(r);
   let L = L0, xr = x0.re, xi = x0.im;
-  let c = cost(r, L, xr, xi);
+  let c = cost(p, L, xr, xi);
   let lambda = 1e-3;
-  const n = r.delta.length;
+  const n = p.y.length;
+  const A = new Array<number>(9);
+  const g = [0, 0, 0];
   const normal = (L: number, xr: number, xi: number) => {
-    const A = new Array<number>(9).fill(0);
-    const g = [0, 0, 0];
+    A.fill(0);
+    g[0] = g[1] = g[2] = 0;
     for (let k = 0; k < n; k++) {
-      const m = model(r, k, xr, xi);
-      const e = r.powerDb[k]! - L - C_DB * Math.log(m.z2);
-      const J = [1, (C_DB * m.gr) / m.z2, (C_DB * m.gi) / m.z2];
-      for (let i = 0; i < 3; i++) {
-        g[i]! += J[i]! * e;
-        for (let j = 0; j < 3; j++) A[i * 3 + j]! += J[i]! * J[j]!;
-      }
+      const dr = p.dr[k]!, di = p.di[k]!;
+      const zr = 1 + xr * dr - xi * di, zi = xr * di + xi * dr;
+      const z2 = zr * zr + zi * zi;
+      const e = p.y[k]! - L - C_DB * Math.log(z2);
+      // ∂|z|²/∂xr = 2·Re(z̄·d), ∂|z|²/∂xi = 2·Re(z̄·jd) = −2·Im(z̄·d)
+      const j1 = (C_DB * 2 * (zr * dr + zi * di)) / z2, j2 = (C_DB * -2 * (zr * di - zi * dr)) / z2;
+      g[0]! += e;
+      g[1]! += j1 * e;
+      g[2]! += j2 * e;
+      A[0]! += 1;
+      A[1]! += j1;
+      A[2]! += j2;
+      A[4]! += j1 * j1;
+      A[5]! += j1 * j2;
+      A[8]! += j2 * j2;
     }
-    return { A, g };
+    A[3] = A[1]!;
+    A[6] = A[2]!;
+    A[7] = A[5]!;
   };
-  for (let it = 0; it < 100 && Number.isFinite(c); it++) {
-    const { A, g } = normal(L, xr, xi);
-    let improved = false;
-    for (let tries = 0; tries < 30; tries++) {
-      const Ad = A.slice();
-      for (let i = 0; i < 3; i++) Ad[i * 4]! *= 1 + lambda;
-      const step = solveSmall(Ad, g, 3);
-      if (!step) {
+  const Ad = new Float64Array(9);
+  const step = new Float64Array(3);
+  for (let it = 0; it < 50 && Number.isFinite(c); it++) {
+    normal(L, xr, xi);
+    let moved = false;
+    for (let tries = 0; tries < 20; tries++) {
+      Ad.set(A);
+      Ad[0]! *= 1 + lambda;
+      Ad[4]! *= 1 + lambda;
+      Ad[8]! *= 1 + lambda;
+      if (!solve3(Ad, g, step)) {
         lambda *= 10;
         continue;
       }
-      const nc = cost(r, L + step[0]!, xr + step[1]!, xi + step[2]!);
+      const nc = cost(p, L + step[0]!, xr + step[1]!, xi + step[2]!);
       if (nc <= c) {
-        const small = Math.abs(step[0]!) < 1e-13 * (1 + Math.abs(L)) && Math.hypot(step[1]!, step[2]!) < 1e-13 * (1 + Math.hypot(xr, xi));
         L += step[0]!;
         xr += step[1]!;
         xi += step[2]!;
-        const done = c - nc <= 1e-15 * (c + 1e-30) || small;
+        const gain = c - nc;
         c = nc;
         lambda = Math.max(lambda / 10, 1e-12);
-        improved = !done;
+        // converged: the step no longer changes x beyond 1e-12 of its size, nor the cost
+        moved = Math.hypot(step[1]!, step[2]!) > 1e-12 * Math.hypot(xr, xi) && gain > 1e-14 * (c + 1e-300);
         break;
       }
       lambda *= 10;
     }
-    if (!improved) break;
+    if (!moved) break;
   }
-  const { A } = normal(L, xr, xi);
+  normal(L, xr, xi);
   const inv: number[] = [];
+  const col = [0, 0, 0];
   for (let j = 0; j < 3; j++) {
-    const col = solveSmall(A, [0, 1, 2].map((i) => (i === j ? 1 : 0)), 3);
-    if (!col) return { L, x: { re: xr, im: xi }, ssr: c, inv: null };
+    if (!solve3(A, [j === 0 ? 1 : 0, j === 1 ? 1 : 0, j === 2 ? 1 : 0], col)) return { L, x: { re: xr, im: xi }, ssr: c, inv: null };
     for (let i = 0; i < 3; i++) inv[i * 3 + j] = col[i]!;
   }
   return { L, x: { re: xr, im: xi }, ssr: c, inv };
