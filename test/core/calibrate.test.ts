@@ -165,3 +165,19 @@ describe("calibration per frequency: interpolation checked by hand", () => {
     if (!r.ok) expect(r.message).toMatch(/outside the calibrated span 27000000000 … 29000000000 Hz/);
   });
 });
+
+describe("library: calibrationAt on a loaded scenario", () => {
+  it("listed, interpolated (by hand) and refused frequencies", async () => {
+    const { writeScenario, baseScenario } = await import("../helpers.js");
+    const api = await import("../../src/index.js");
+    const cal = "frequency_hz,element,phase_offset_deg,gain_offset_db\n" + ["9e9", "11e9"].flatMap((f, j) => Array.from({ length: 8 }, (_, i) => `${f},${i},${j ? 170 : -170},${j ? 1 : 0}`)).join("\n") + "\n";
+    const s = api.loadScenario(writeScenario(baseScenario({ calibration: "cal.csv" }), { "cal.csv": cal }));
+    const r = api.calibrationAt(s, 10.5e9);
+    if (!r.ok) throw new Error(r.message);
+    // derived: t = 0.75 from −170° to 170° the short way (−20°): −185° ≡ 175°; gain 0 → 1 dB: 0.75 dB
+    expect(((r.phaseDeg[3]! % 360) + 360) % 360).toBeCloseTo(175, 9);
+    expect(r.gainDb[3]).toBeCloseTo(0.75, 12);
+    expect(r.served!.interpolated).toBe(true);
+    expect(api.calibrationAt(s, 12e9).ok).toBe(false);
+  });
+});
