@@ -2,7 +2,7 @@
  * `steercode calibrate` from the command line, and calibration per frequency through
  * build, check, diff and verify (simulated readings: test/calibrate-sim.ts; invented).
  */
-import { readFileSync, writeFileSync } from "node:fs";
+import { cpSync, readFileSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, load, tempDir } from "../helpers.js";
@@ -68,7 +68,13 @@ describe("steercode calibrate → build → check → diff → verify", () => {
     expect(c.stdout).toMatch(/calibration +interpolated: 0\.5 × the 9500000000 Hz set \(lines 10–25\) \+ 0\.5 × the 10500000000 Hz set \(lines 26–41\)/);
     const v = cli(["verify", join(dir, "b1"), "--json"]);
     expect(v.code, v.stdout).toBe(0);
-    expect(JSON.parse(v.stdout).checks.find((x: { check: string }) => /calibration rows per frequency/.test(x.check)).ok).toBe(true);
+    // verify regenerates manifest.json from the recorded inputs: an edited record of the rows is caught
+    const bad = join(dir, "b1-edited");
+    cpSync(join(dir, "b1"), bad, { recursive: true });
+    const mp = join(bad, "manifest.json");
+    writeFileSync(mp, readFileSync(mp, "utf8").replace('"weight": "0.5"', '"weight": "0.6"'));
+    expect(readFileSync(mp, "utf8")).toMatch(/"weight": "0.6"/);
+    expect(cli(["verify", bad]).code).not.toBe(0);
   });
 
   it("diff names the calibration rows that served each frequency before and after", () => {
