@@ -19,7 +19,7 @@ import { diffBuilds as diffBuildFolders, type DiffResult } from "./io/diff.js";
 import { verifyBuild as verifyBuildFolder, type VerifyResult } from "./io/verify.js";
 import { checkTarget } from "./io/outdir.js";
 import { toolVersion } from "./io/version.js";
-import { calibrationAt as calibrationAtTable, type CalibrationServed } from "./core/calibrate/per-frequency.js";
+import { planCalibrationAt, type CalibrationServed } from "./core/calibrate/per-frequency.js";
 import type { Probe } from "./core/calibrate/contract.js";
 import { runCalibrate, type CalibrateOptions, type CalibrateResult } from "./workflows/calibrate.js";
 
@@ -240,9 +240,7 @@ export const version: string = toolVersion();
 
 /** Calibration of every element at one frequency (Hz): the scenario's own set, or (cal.csv with frequency_hz) the listed or interpolated one. */
 export function calibrationAt(s: Scenario, frequencyHz: number | string): { ok: true; phaseDeg: Float64Array; gainDb: Float64Array; served: CalibrationServed | null } | { ok: false; message: string } {
-  const plan = s.loaded.plan;
-  if (!plan.calTable) return { ok: true, phaseDeg: plan.cals[0]!.phaseDeg, gainDb: plan.cals[0]!.gainDb, served: null };
-  const r = calibrationAtTable(plan.calTable, frequencyHz);
+  const r = planCalibrationAt(s.loaded.plan, frequencyHz);
   return r.ok ? { ok: true, phaseDeg: r.cal.phaseDeg, gainDb: r.cal.gainDb, served: r.served } : r;
 }
 

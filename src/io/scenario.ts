@@ -222,6 +222,17 @@ class Loader {
       const rows = freqs.length * beams.count * band.frequenciesHz.length;
       if (rows > MAX_SQUINT_ROWS) this.problem("/band", `${freqs.length} table frequencies × ${beams.count} beams × ${band.frequenciesHz.length} band points = ${rows} squint.csv rows; expected at most ${MAX_SQUINT_ROWS}: use fewer band points or beams`);
     }
+    if (band && calSets?.calTable) {
+      // the band is played with the calibration at each band frequency: listed or interpolated, never extrapolated
+      const t = calSets.calTable;
+      const lo = new D(t.frequenciesExact[0]!), hi = new D(t.frequenciesExact[t.frequenciesExact.length - 1]!);
+      const outside = band.frequenciesExact.filter((f) => new D(f).lt(lo) || new D(f).gt(hi));
+      if (outside.length)
+        this.problem(
+          "/band",
+          `${outside.length} of ${band.frequenciesExact.length} band point(s) (${outside.slice(0, 3).map((f) => `${f} Hz`).join(", ")}${outside.length > 3 ? ", …" : ""}) lie outside the span ${t.frequenciesExact[0]} … ${t.frequenciesExact[t.frequenciesExact.length - 1]} Hz of the frequency_hz sets in ${String(d.calibration)}; expected a band within the calibrated span (calibration is interpolated, never extrapolated)`,
+        );
+    }
 
     // ---- sizes
     if (beams && elements) {

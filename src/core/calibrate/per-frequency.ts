@@ -8,7 +8,7 @@
  * cell texts, so the exact strings the boundary decisions use stay exact.
  */
 import { D, type Dec } from "../exact.js";
-import type { Calibration } from "../plan.js";
+import type { Calibration, Plan } from "../plan.js";
 
 /** The sets of a cal.csv with a frequency_hz column, in ascending frequency. */
 export interface CalibrationTable {
@@ -87,4 +87,15 @@ export function calibrationAt(table: CalibrationTable, frequencyHz: string | num
       ],
     },
   };
+}
+
+/**
+ * The calibration a plan gives at any frequency (Hz, exact decimal string or number): its
+ * one set when cal.csv has no frequency_hz column (that set serves every frequency;
+ * `served` is null), else the listed set or the one interpolated between the two listed
+ * around it (calibrationAt on the table, the way the loader serves the table frequencies).
+ */
+export function planCalibrationAt(plan: Pick<Plan, "cals" | "calTable">, frequencyHz: string | number): { ok: true; cal: Calibration; served: CalibrationServed | null } | { ok: false; message: string } {
+  if (!plan.calTable) return { ok: true, cal: plan.cals[0]!, served: null };
+  return calibrationAt(plan.calTable, frequencyHz);
 }
