@@ -8,6 +8,7 @@ import { tmpdir, cpus, totalmem, loadavg } from "node:os";
 import { join } from "node:path";
 import { parse } from "csv-parse/sync";
 import { mulberry32 } from "../dist/core/quantize/randomized.js";
+import { benchCalibrate } from "./calibrate.js";
 
 const ROOT = new URL("..", import.meta.url).pathname;
 const BIN = join(ROOT, "bin", "steercode.js");
@@ -223,6 +224,9 @@ if (!ONLY || ONLY === "band") {
   };
 }
 
+// ---- 9. calibration: 4096-element REV data set, 16 codes per element (bench/calibrate.js)
+if (!ONLY || ONLY === "calibrate") results.calibrate = benchCalibrate(RUNS);
+
 writeFileSync(join(ROOT, "bench", "results.json"), JSON.stringify(results, null, 2) + "\n");
 const f = (x, d = 0) => Number(x).toFixed(d);
 if (!ONLY) {
@@ -239,6 +243,8 @@ console.log(`| sweep 6 bit depths × 3 steps (18 parts × 441 beams), CLI wall |
 console.log(`| bad input refused (4096-element scenario, broken calibration), exit 2 | ${f(results.badInput.cliWallMs)} ms | < 1 s |`);
 console.log(`| baseline vs steercode: PSL |Δ| median / max | ${f(an.baselineVsSteercode.pslAbsDiffDbMedian, 3)} / ${f(an.baselineVsSteercode.pslAbsDiffDbMax, 3)} dB | — |`);
 console.log(`| baseline vs steercode: pointing |Δ| median / max | ${f(an.baselineVsSteercode.pointingAbsDiffDegMedian, 4)} / ${f(an.baselineVsSteercode.pointingAbsDiffDegMax, 4)} deg | — |`);
+console.log(`| REV calibration, 4096 elements × 16 codes: solve (in process) | ${f(results.calibrate.solveMs)} ms | well under 1 s |`);
+console.log(`| same, CSV parse + solve + cal.csv text (in process) / whole CLI process | ${f(results.calibrate.inProcessMs)} / ${f(results.calibrate.cliWallMs)} ms | — |`);
 console.log(`\n| elements | beams | build with analysis (ms) | ms / beam | peak RSS (MB) |\n|---|---|---|---|---|`);
 for (const r of results.scaling) console.log(`| ${r.elements} | ${r.beams} | ${f(r.buildMs)} | ${f(r.msPerBeam, 2)} | ${f(r.peakRssMB)} |`);
 const o = results.optimized;

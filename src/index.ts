@@ -20,6 +20,9 @@ import { diffBuilds as diffBuildFolders, type DiffResult } from "./io/diff.js";
 import { verifyBuild as verifyBuildFolder, type VerifyResult } from "./io/verify.js";
 import { checkTarget } from "./io/outdir.js";
 import { toolVersion } from "./io/version.js";
+import { planCalibrationAt, type CalibrationServed } from "./core/calibrate/per-frequency.js";
+import type { Probe } from "./core/calibrate/contract.js";
+import { runCalibrate, type CalibrateOptions, type CalibrateResult } from "./workflows/calibrate.js";
 
 export { InputError, formatProblem };
 export type { Problem, Manifest, DiffResult, VerifyResult, Theory };
@@ -237,3 +240,15 @@ export async function verifyBuild(dir: string, opts: { jobs?: number } = {}): Pr
 
 /** The package's version. */
 export const version: string = toolVersion();
+
+/** Calibration of every element at one frequency (Hz): the scenario's own set, or (cal.csv with frequency_hz) the listed or interpolated one. */
+export function calibrationAt(s: Scenario, frequencyHz: number | string): { ok: true; phaseDeg: Float64Array; gainDb: Float64Array; served: CalibrationServed | null } | { ok: false; message: string } {
+  const r = planCalibrationAt(s.loaded.plan, frequencyHz);
+  return r.ok ? { ok: true, phaseDeg: r.cal.phaseDeg, gainDb: r.cal.gainDb, served: r.served } : r;
+}
+
+/** `steercode calibrate` as a value: offsets, per-element report and the cal.csv text (nothing is written). */
+export function calibrate(options: CalibrateOptions): CalibrateResult {
+  return runCalibrate(options);
+}
+export type { CalibrateOptions, CalibrateResult, CalibrationServed, Probe };

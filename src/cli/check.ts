@@ -1,6 +1,13 @@
+import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
 import { deriveFacts } from "../core/facts.js";
 import { loadScenario } from "../io/scenario.js";
 import { fmt, printJson, SAFETY, type Io } from "./shared.js";
+
+/** "listed set (lines 5–260)" or "interpolated: 0.75 × 27 GHz set (lines …) + 0.25 × 29 GHz set (lines …)" */
+export function servedText(s: CalibrationServed): string {
+  if (!s.interpolated) return `the ${s.from[0]!.frequencyHz} Hz set (lines ${s.from[0]!.lines})`;
+  return `interpolated: ${s.from.map((f) => `${f.weight} × the ${f.frequencyHz} Hz set (lines ${f.lines})`).join(" + ")} (gain linear in dB, phase the shorter way round)`;
+}
 
 export function checkCommand(io: Io, scenario: string): number {
   const loaded = loadScenario(scenario);
@@ -8,7 +15,7 @@ export function checkCommand(io: Io, scenario: string): number {
   const f = deriveFacts(plan);
   const cal = loaded.inputs.find((i) => i.role === "calibration");
   if (io.json) {
-    printJson(io, { ok: true, scenario, name: plan.name, facts: f, calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments } : null, warnings: f.warnings });
+    printJson(io, { ok: true, scenario, name: plan.name, facts: f, calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments, ...(plan.calServed ? { perFrequency: plan.calServed } : {}) } : null, warnings: f.warnings });
     return 0;
   }
   const lines: string[] = [];
@@ -39,6 +46,8 @@ export function checkCommand(io: Io, scenario: string): number {
       );
       lines.push(`  fill time        ${fmt(sq.fillTimeS * 1e12, 1)} ps across the aperture at that scan${pf.bandNeedsTrueTimeDelay === null ? "" : pf.bandNeedsTrueTimeDelay ? "; the band reaches past these edges: it asks for true time delay" : "; the band stays within these edges"}`);
     } else lines.push(`  inst. bandwidth  every beam at broadside: phase steering does not squint`);
+    const served = plan.calServed?.[f.perFrequency.indexOf(pf)];
+    if (served) lines.push(`  calibration      ${servedText(served)}`);
   }
   if (f.warnings.length) {
     lines.push("");

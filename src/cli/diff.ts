@@ -6,6 +6,7 @@ import { stableJson } from "../io/build.js";
 import { writeFileSync } from "node:fs";
 import { sha256 } from "../io/files.js";
 import { fmt, printJson, type Io } from "./shared.js";
+import { servedText } from "./check.js";
 
 /** Write changes.csv and diff.json into `dir` (used by `diff -o` and `build --compare`). Returns file digests. */
 export function writeDiffFiles(dir: string, r: DiffResult, a: string, b: string) {
@@ -35,6 +36,8 @@ export function diffLines(r: DiffResult): string[] {
     if (s.calibrationChanged) lines.push("calibration changed:", ...calLines("  old", s.oldCalibration), ...calLines("  new", s.newCalibration));
     else lines.push(...calLines("calibration (unchanged)", s.oldCalibration));
   }
+  for (const c of s.calibrationServed ?? [])
+    lines.push(`calibration at ${c.frequencyHz} Hz: ${c.old ? servedText(c.old) : "one set for every frequency"}${c.changed ? ` → ${c.new ? servedText(c.new) : "one set for every frequency"}` : " (same rows)"}`);
   return lines;
 }
 

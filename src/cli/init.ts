@@ -5,7 +5,7 @@ import { InputError } from "../core/errors.js";
 import { printJson, type Io } from "./shared.js";
 
 export const DEMO_DIR = fileURLToPath(new URL("../../fixtures/demo/", import.meta.url));
-const DEMO_FILES = ["scenario.json", "cal.csv"];
+const DEMO_FILES = ["scenario.json", "cal.csv", "range-rev-1.csv", "range-rev-2.csv"];
 
 export function initCommand(io: Io, dir: string): number {
   if (existsSync(dir) && readdirSync(dir).some((f) => DEMO_FILES.includes(f)))

@@ -32,6 +32,7 @@ const COMMAND_LINES: Record<string, string> = {
   check: "check <scenario>",
   build: "build <scenario> [-o dir]",
   sweep: "sweep <scenario> [--phase-bits 3..8] [--atten-step 0.25,0.5,1] [-o dir]",
+  calibrate: "calibrate <scenario> --data <file.csv> --method rev|field [--probe-direction AZ,EL | --probe-position X,Y,Z] [-o cal.csv]",
   diff: "diff <dirA> <dirB> [-o dir]",
   verify: "verify <dir>",
   report: "report <dir> [-o file]",
@@ -166,6 +167,31 @@ export async function main(argv: string[]): Promise<number> {
           const jobs = jobsOption(a.jobs);
           return (await import("./sweep.js")).sweepCommand(io, { scenario: String(a.scenario), out: String(a.o), phaseBits: String(a["phase-bits"]), attenStep: a["atten-step"] === undefined ? null : String(a["atten-step"]), quantizer: a.quantizer === undefined ? null : String(a.quantizer), jobs });
         })(),
+    })
+    .command({
+      command: "calibrate <scenario>",
+      describe: "calibration offsets from range readings (REV or per-channel field) → cal.csv",
+      builder: (y) =>
+        y
+          .positional("scenario", { type: "string", demandOption: true, describe: "the scenario file (geometry, enabled elements, measured states; its calibration file is not read)" })
+          .option("data", { type: "string", demandOption: true, describe: "readings: rev element,phase_code,power_db[,frequency_hz]; field element,amplitude_db,phase_deg[,frequency_hz]" })
+          .option("method", { type: "string", demandOption: true, describe: "rev or field" })
+          .option("probe-direction", { type: "string", describe: "far-field probe direction AZ,EL in degrees (default 0,0: boresight)" })
+          .option("probe-position", { type: "string", describe: "near-field probe point X,Y,Z in metres, array coordinates" })
+          .option("o", { alias: "out", type: "string", default: "cal.csv", describe: "calibration file to write" })
+          .example("$0 calibrate scenario.json --data range.csv --method rev -o cal.csv", "REV readings, far-field probe at boresight → cal.csv")
+          .example("$0 calibrate scenario.json --data scan.csv --method field --probe-position 0,0,0.5", "per-channel fields read 0.5 m in front of the array"),
+      handler: (a) =>
+        run(async () =>
+          (await import("./calibrate.js")).calibrateCommand(io, {
+            scenario: String(a.scenario),
+            data: String(a.data),
+            method: String(a.method),
+            probeDirection: a["probe-direction"] === undefined ? null : String(a["probe-direction"]),
+            probePosition: a["probe-position"] === undefined ? null : String(a["probe-position"]),
+            out: String(a.o),
+          }),
+        )(),
     })
     .command({
       command: "diff <dirA> <dirB>",

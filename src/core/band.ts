@@ -12,6 +12,7 @@ import type { BeamCodes } from "./quantize/contract.js";
 import { BeamAnalyzer } from "./pattern/analyze.js";
 import { AfEvaluator } from "./pattern/evaluator.js";
 import type { Calibration, Plan } from "./plan.js";
+import { planCalibrationAt } from "./calibrate/per-frequency.js";
 import { SPEED_OF_LIGHT } from "./units.js";
 
 /** Most band points one scenario may ask for. */
@@ -24,22 +25,23 @@ export const SQUINT_COLUMNS = ["table_frequency_hz", "beam", "frequency_hz", "pe
 export const SQUINT_METRICS = 4;
 
 /**
- * The calibration offsets (c_n, g_n) that hold at frequency fHz: the one place the
- * band analysis takes them from.
- *
- * SEAM (per-frequency cal.csv, interface contract "Calibration per frequency"): until
- * the plan carries per-frequency sets, one set serves every frequency, as the contract
- * says for a cal.csv without `frequency_hz`. When it does, look the set up (or
- * interpolate it) here.
+ * The calibration offsets (c_n, g_n) that hold at frequency fHz: the one place the band
+ * analysis takes them from. Without a frequency_hz column in cal.csv one set serves every
+ * frequency (interface contract, "Calibration per frequency"); with it, the set listed at
+ * fHz or the one interpolated between the two listed around it, by the same function the
+ * loader serves the table frequencies with (planCalibrationAt → calibrationAt on the
+ * table). Pass the exact decimal text when there is one. A frequency outside the listed
+ * span throws: the loader refuses such a band (`/band`) before any analysis.
  */
-export function calibrationAt(plan: Plan, fHz: number): Calibration {
-  void fHz;
-  return plan.cal;
+export function calibrationAt(plan: Plan, fHz: number | string): Calibration {
+  const r = planCalibrationAt(plan, fHz);
+  if (!r.ok) throw new Error(`band analysis: no calibration at ${String(fHz)} Hz: ${r.message}`);
+  return r.cal;
 }
 
 /** The plan as seen at one frequency (its only table frequency), with that frequency's calibration. */
 export function planAtFrequency(plan: Plan, fHz: number, exact: string): Plan {
-  return { ...plan, frequenciesHz: [fHz], frequenciesExact: [exact], cal: calibrationAt(plan, fHz) };
+  return { ...plan, frequenciesHz: [fHz], frequenciesExact: [exact], cals: [calibrationAt(plan, exact)], calServed: null };
 }
 
 /** Per table frequency: one analyzer per band frequency (built on first use), fed the table's codes. */

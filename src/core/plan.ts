@@ -8,6 +8,7 @@ import type { Elements, LatticeSpec } from "./geometry.js";
 import type { TaperSpec } from "./taper/index.js";
 import type { WordLayout } from "./words.js";
 import type { ElementSpec } from "./element.js";
+import type { CalibrationServed, CalibrationTable } from "./calibrate/per-frequency.js";
 
 export type OutputKind = "csv" | "bin" | "c" | "mem" | "json";
 export const OUTPUT_KINDS: readonly OutputKind[] = ["csv", "bin", "c", "mem", "json"];
@@ -54,7 +55,15 @@ export interface Plan {
   taper: TaperSpec;
   /** a_n, peak 1 */
   amplitude: Float64Array;
-  cal: Calibration;
+  /**
+   * The calibration of each table frequency (index as frequenciesHz). Without a
+   * frequency_hz column in cal.csv every entry is the same set.
+   */
+  cals: Calibration[];
+  /** The listed sets when cal.csv has a frequency_hz column (else null); see calibrationAt. */
+  calTable: CalibrationTable | null;
+  /** Per table frequency, which listed set(s) served it (null without a frequency_hz column). */
+  calServed: CalibrationServed[] | null;
   phaseBits: number;
   attenBits: number;
   attenStepDb: number;

@@ -24,6 +24,7 @@ import { setTimeout as sleep } from "node:timers/promises";
 import { fixed } from "./format.js";
 import { bandSummary, SQUINT_COLUMNS, SQUINT_METRICS, type BandBeamSummary } from "../core/band.js";
 import { OPT, OPT_FIELDS, POINTING_ALLOWANCE_DEG, DEFAULT_EXTRA_LOSS_DB, summariseOptimized, type OptimizedSummary } from "../core/quantize/optimized.js";
+import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
 
 export { stableJson } from "./json.js";
 import { stableJson } from "./json.js";
@@ -50,7 +51,8 @@ export interface Manifest {
   name: string;
   scenario: { source: string; copy: string; sha256: string };
   inputs: { role: InputRole; ref: string; copy: string; sha256: string; comments: string[] }[];
-  calibration: { ref: string; sha256: string; comments: string[] } | null;
+  /** perFrequency only when cal.csv has a frequency_hz column: which listed set(s) served each table frequency. */
+  calibration: { ref: string; sha256: string; comments: string[]; perFrequency?: CalibrationServed[] } | null;
   counts: { frequencies: number; beams: number; elements: number; enabledElements: number; words: number };
   /** Element ids in table order; disabled ones listed apart. */
   elementIds: number[];
@@ -156,7 +158,7 @@ export function makeManifest(loaded: LoadedScenario, scenarioSource: string, per
     name: plan.name,
     scenario: { source: scenarioSource, copy: SCENARIO_COPY, sha256: loaded.scenario.sha256 },
     inputs: loaded.inputs.map((i) => ({ role: i.role, ref: i.ref, copy: INPUT_COPY[i.role], sha256: i.file.sha256, comments: i.comments })),
-    calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments } : null,
+    calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments, ...(plan.calServed ? { perFrequency: plan.calServed } : {}) } : null,
     counts: {
       frequencies: plan.frequenciesHz.length,
       beams: plan.beams.count,

@@ -6,6 +6,7 @@
 import { InputError } from "../core/errors.js";
 import { packPlan, unpackWord, type WordLayout } from "../core/words.js";
 import type { Manifest } from "./build.js";
+import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
 import { buildWords, readManifest } from "./readbuild.js";
 import { stableJson } from "./build.js";
 import { HashedFile, type FileDigest } from "./hashed.js";
@@ -36,6 +37,8 @@ export interface DiffSummary {
   /** Which calibration produced each build: file, full SHA-256, header comments. */
   oldCalibration: CalibrationRef | null;
   newCalibration: CalibrationRef | null;
+  /** Only when either build's cal.csv has a frequency_hz column: per frequency, the set(s) that served it before and after. */
+  calibrationServed?: { frequencyHz: string; old: CalibrationServed | null; new: CalibrationServed | null; changed: boolean }[];
 }
 
 export interface CalibrationRef {
@@ -123,6 +126,12 @@ export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nam
     oldCalibration: a.calibration ? { ref: a.calibration.ref, sha256: a.calibration.sha256, comments: a.calibration.comments } : null,
     newCalibration: b.calibration ? { ref: b.calibration.ref, sha256: b.calibration.sha256, comments: b.calibration.comments } : null,
   };
+  const sa = a.calibration?.perFrequency, sb = b.calibration?.perFrequency;
+  if (sa || sb)
+    summary.calibrationServed = a.frequenciesHz.map((f, i) => {
+      const o = sa?.[i] ?? null, n = sb?.[i] ?? null;
+      return { frequencyHz: f, old: o, new: n, changed: stableJson(o) !== stableJson(n) };
+    });
   return { identical: changes.length === 0, summary, changes, wordBits: a.layout.bits };
 }
 

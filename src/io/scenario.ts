@@ -6,7 +6,7 @@
 import { dirname, isAbsolute, resolve } from "node:path";
 import { axisCount, makeBeamSet, type AxisSpec, type BeamSpec } from "../core/beams.js";
 import { InputError, type Problem } from "../core/errors.js";
-import { D } from "../core/exact.js";
+import { D, type Dec } from "../core/exact.js";
 import { emptyElements, latticeElements, type Elements, type LatticeSpec } from "../core/geometry.js";
 import { MAX_BAND_POINTS, MAX_SQUINT_ROWS } from "../core/band.js";
 import type { ElementSpec } from "../core/element.js";
@@ -14,7 +14,8 @@ import { OUTPUT_KINDS, type BandSpec, type Calibration, type OutputKind, type Pl
 import { makeTaper, type TaperSpec } from "../core/taper/index.js";
 import { C_EXACT, parseQuantity, type QuantityKind } from "../core/units.js";
 import { checkLayout, wordBytes, type WordLayout } from "../core/words.js";
-import { numberCell, readCsv, type CsvTable } from "./csv.js";
+import { numberCell, readCsv, type CsvRow, type CsvTable } from "./csv.js";
+import { calibrationAt, type CalibrationServed, type CalibrationTable } from "../core/calibrate/per-frequency.js";
 import { MAX_SCENARIO_BYTES, readInput, type InputFile } from "./files.js";
 import { JsonError, parseJsonStrict } from "./jsonparse.js";
 import { ProblemList } from "./problems.js";
@@ -42,6 +43,8 @@ export interface LoadOptions {
   resolveRef?: (ref: string) => string;
   /** Display name for the scenario file (defaults to the path given). */
   displayName?: string;
+  /** Leave the scenario's calibration file unread (calibrate writes it; it may not exist yet). */
+  ignoreCalibration?: boolean;
 }
 
 /** Bounds on physical inputs (README "Limits"): beyond them a value is a typo, not a design. */
@@ -59,6 +62,8 @@ export const MAX_ELEMENT_ID = 2 ** 31 - 1;
 /** Most beams one table may hold, and most bytes one table.bin may take. */
 export const MAX_BEAMS = 1 << 20;
 export const MAX_ELEMENTS = 65536;
+/** Most listed frequencies (sets) in one cal.csv with a frequency_hz column. */
+export const MAX_CAL_FREQUENCIES = 1024;
 export const MAX_TABLE_BYTES = 2 ** 32;
 const DEFAULT_SEED = 1;
 const ID = { integer: true, min: 0, max: MAX_ELEMENT_ID };
@@ -137,7 +142,7 @@ class Loader {
     if (!f) return null;
     const shapes = {
       elements: { required: [["element", "x_m", "y_m"]], optional: ["z_m", "device", "channel", "enabled"] },
-      calibration: { required: [["element", "phase_offset_deg", "gain_offset_db"]], optional: [] },
+      calibration: { required: [["element", "phase_offset_deg", "gain_offset_db"]], optional: ["frequency_hz"] },
       beams: { required: [["az_deg", "el_deg"], ["u", "v"]], optional: ["beam"] },
       phaseStates: { required: [["code", "phase_deg", "gain_db"]], optional: ["element"] },
       attenStates: { required: [["code", "atten_db", "phase_deg"]], optional: ["element"] },
@@ -190,7 +195,7 @@ class Loader {
       }
     }
     const taper = this.taper();
-    const cal = this.calibration(elements);
+    const calSets = this.calibration(elements, freqs);
     const phaseStates = d.phaseShifter.states ? this.states(d.phaseShifter.states, "phaseStates", "/phaseShifter/states", 2 ** phaseBits, elements) : null;
     const attenStates = att?.states ? this.states(att.states, "attenStates", "/attenuator/states", 2 ** attenBits, elements) : null;
     const quantizer: QuantizerSpec = { method: d.quantizer?.method ?? "nearest", seed: d.quantizer?.seed ?? DEFAULT_SEED };
@@ -217,6 +222,17 @@ class Loader {
       const rows = freqs.length * beams.count * band.frequenciesHz.length;
       if (rows > MAX_SQUINT_ROWS) this.problem("/band", `${freqs.length} table frequencies × ${beams.count} beams × ${band.frequenciesHz.length} band points = ${rows} squint.csv rows; expected at most ${MAX_SQUINT_ROWS}: use fewer band points or beams`);
     }
+    if (band && calSets?.calTable) {
+      // the band is played with the calibration at each band frequency: listed or interpolated, never extrapolated
+      const t = calSets.calTable;
+      const lo = new D(t.frequenciesExact[0]!), hi = new D(t.frequenciesExact[t.frequenciesExact.length - 1]!);
+      const outside = band.frequenciesExact.filter((f) => new D(f).lt(lo) || new D(f).gt(hi));
+      if (outside.length)
+        this.problem(
+          "/band",
+          `${outside.length} of ${band.frequenciesExact.length} band point(s) (${outside.slice(0, 3).map((f) => `${f} Hz`).join(", ")}${outside.length > 3 ? ", …" : ""}) lie outside the span ${t.frequenciesExact[0]} … ${t.frequenciesExact[t.frequenciesExact.length - 1]} Hz of the frequency_hz sets in ${String(d.calibration)}; expected a band within the calibrated span (calibration is interpolated, never extrapolated)`,
+        );
+    }
 
     // ---- sizes
     if (beams && elements) {
@@ -226,7 +242,7 @@ class Loader {
     }
     if (elements && elements.count > 0 && !elements.enabled.some((e) => e === 1)) this.problem(this.d.array.elements ? "/array/elements" : "/array/disabled", "every element is disabled; expected at least one enabled element");
 
-    if (this.problems.count || !elements || !beams || !taper || !cal) throw new InputError(this.problems.all());
+    if (this.problems.count || !elements || !beams || !taper || !calSets) throw new InputError(this.problems.all());
     const amplitude = makeTaper(taper).amplitudes({ elements, lattice });
     amplitude.forEach((a, i) => {
       if (!(a > 0)) this.problem("/taper", `the taper gives element ${elements.ids[i]} amplitude ${a}; expected > 0 (try a larger nbar or a milder sidelobe level)`);
@@ -241,7 +257,7 @@ class Loader {
       beams,
       taper,
       amplitude,
-      cal,
+      ...calSets,
       phaseBits,
       attenBits,
       attenStepDb,
@@ -530,7 +546,7 @@ class Loader {
     return { kind: "chebyshev", sidelobeDb: sll.value };
   }
 
-  private coverage(t: CsvTable, elements: Elements, ids: (number | null)[], what: string): void {
+  private coverage(t: CsvTable, elements: Elements, ids: (number | null)[], what: string, at = ""): void {
     const known = new Set(elements.ids);
     const seen = new Map<number, number>();
     t.rows.forEach((r, k) => {
@@ -542,36 +558,73 @@ class Loader {
       else seen.set(id, r.line);
     });
     const missing = Array.from(elements.ids).filter((id) => !seen.has(id));
-    if (missing.length) this.problems.push({ file: t.file, message: `missing ${missing.length} element(s): ${compactIds(missing)}; expected a row for every element of the array` });
+    if (missing.length) this.problems.push({ file: t.file, message: `missing ${missing.length} element(s)${at}: ${compactIds(missing)}; expected a row for every element of the array${at ? " at every listed frequency" : ""}` });
   }
 
-  private calibration(elements: Elements | null): Calibration | null {
+  private calibration(elements: Elements | null, freqs: { value: number; exact: string }[]): Pick<Plan, "cals" | "calTable" | "calServed"> | null {
     const n = elements?.count ?? 0;
-    const cal: Calibration = { phaseDeg: new Float64Array(n), gainDb: new Float64Array(n), phaseExact: new Array<string>(n).fill("0"), gainExact: new Array<string>(n).fill("0") };
-    const ref = this.d.calibration as string | undefined;
-    if (!ref) return elements ? cal : null;
-    const t = this.file(ref, "calibration", "/calibration", MAX_ELEMENTS, "elements in an array");
+    const zero = (): Calibration => ({ phaseDeg: new Float64Array(n), gainDb: new Float64Array(n), phaseExact: new Array<string>(n).fill("0"), gainExact: new Array<string>(n).fill("0") });
+    const single = (cal: Calibration) => ({ cals: freqs.map(() => cal), calTable: null, calServed: null });
+    const ref = this.opts.ignoreCalibration ? undefined : (this.d.calibration as string | undefined);
+    if (!ref) return elements ? single(zero()) : null;
+    const t = this.file(ref, "calibration", "/calibration", MAX_ELEMENTS * MAX_CAL_FREQUENCIES, "rows (elements × listed frequencies)");
     if (!t || !elements) return null;
     const before = this.problems.count;
     const index = new Map<number, number>();
     elements.ids.forEach((id, i) => index.set(id, i));
-    const ids: (number | null)[] = [];
+    const perFrequency = t.header.includes("frequency_hz");
+    // rows grouped by listed frequency (exact decimal); one group without the column
+    const groups = new Map<string, { value: Dec; cal: Calibration; rows: CsvRow[]; ids: (number | null)[] }>();
     for (const r of t.rows) {
+      let key = "";
+      let fval: Dec = new D(0);
+      if (perFrequency) {
+        const f = numberCell(t, r, "frequency_hz", this.problems);
+        if (!f) continue;
+        if (!(f.value >= MIN_FREQUENCY_HZ && f.value <= MAX_FREQUENCY_HZ)) {
+          this.problems.push({ file: t.file, line: r.line, column: "frequency_hz", message: `expected a frequency from 1 Hz to 1000 THz, got "${f.text}"` });
+          continue;
+        }
+        fval = new D(f.text);
+        key = fval.toString();
+      }
+      let g = groups.get(key);
+      if (!g) groups.set(key, (g = { value: fval, cal: zero(), rows: [], ids: [] }));
       const id = numberCell(t, r, "element", this.problems, ID);
       const ph = numberCell(t, r, "phase_offset_deg", this.problems);
-      const g = numberCell(t, r, "gain_offset_db", this.problems);
-      ids.push(id ? id.value : null);
+      const gn = numberCell(t, r, "gain_offset_db", this.problems);
+      g.rows.push(r);
+      g.ids.push(id ? id.value : null);
       if (ph && Math.abs(ph.value) > MAX_PHASE_DEG) this.problems.push({ file: t.file, line: r.line, column: "phase_offset_deg", message: `expected a phase offset within ±1e6 degrees, got "${ph.text}"` });
-      if (g && Math.abs(g.value) > MAX_GAIN_DB) this.problems.push({ file: t.file, line: r.line, column: "gain_offset_db", message: `expected a gain offset within ±200 dB, got "${g.text}"` });
+      if (gn && Math.abs(gn.value) > MAX_GAIN_DB) this.problems.push({ file: t.file, line: r.line, column: "gain_offset_db", message: `expected a gain offset within ±200 dB, got "${gn.text}"` });
       const i = id ? index.get(id.value) : undefined;
-      if (i === undefined || !ph || !g) continue;
-      cal.phaseDeg[i] = ph.value;
-      cal.gainDb[i] = g.value;
-      cal.phaseExact[i] = new D(ph.text).toString();
-      cal.gainExact[i] = new D(g.text).toString();
+      if (i === undefined || !ph || !gn) continue;
+      g.cal.phaseDeg[i] = ph.value;
+      g.cal.gainDb[i] = gn.value;
+      g.cal.phaseExact[i] = new D(ph.text).toString();
+      g.cal.gainExact[i] = new D(gn.text).toString();
     }
-    this.coverage(t, elements, ids, "a calibration file");
-    return this.problems.count > before ? null : cal;
+    for (const g of groups.values()) this.coverage({ ...t, rows: g.rows }, elements, g.ids, "a calibration file", perFrequency ? ` at frequency_hz ${g.value.toFixed()}` : "");
+    if (this.problems.count > before) return null;
+    if (!perFrequency) return single(groups.get("")!.cal);
+    const sorted = [...groups.values()].sort((a, b) => a.value.cmp(b.value));
+    const table: CalibrationTable = {
+      frequenciesExact: sorted.map((g) => g.value.toString()),
+      sets: sorted.map((g) => g.cal),
+      lines: sorted.map((g) => compactIds(g.rows.map((r) => r.line), Infinity)),
+    };
+    const cals: Calibration[] = [];
+    const served: CalibrationServed[] = [];
+    freqs.forEach((f, i) => {
+      const r = calibrationAt(table, f.exact);
+      if (!r.ok) {
+        this.problem(Array.isArray(this.d.frequency) ? `/frequency/${i}` : "/frequency", `${r.message} (the frequency_hz sets of ${ref})`);
+        return;
+      }
+      cals.push(r.cal);
+      served.push(r.served);
+    });
+    return this.problems.count > before ? null : { cals, calTable: table, calServed: served };
   }
 
   private states(ref: string, role: "phaseStates" | "attenStates", pointer: string, states: number, elements: Elements | null): StateTable | null {
@@ -622,10 +675,10 @@ class Loader {
   }
 }
 
-export function compactIds(ids: number[]): string {
+export function compactIds(ids: number[], maxParts = 8): string {
   const parts: string[] = [];
   let i = 0;
-  while (i < ids.length && parts.length < 8) {
+  while (i < ids.length && parts.length < maxParts) {
     let j = i;
     while (j + 1 < ids.length && ids[j + 1] === ids[j]! + 1) j++;
     parts.push(j > i ? `${ids[i]}–${ids[j]}` : String(ids[i]));

@@ -28,6 +28,22 @@ interface Case {
 const B = baseScenario;
 /** The shape of a build manifest, enough to reach the checks on paths (the corpus's verify cases). */
 const MANIFEST = { format: "steercode-manifest/1", tool: { name: "steercode", version: "0.1.0" }, scenario: { source: "scenario.json", copy: "inputs/scenario.json", sha256: "0".repeat(64) }, analysis: false, inputs: [], files: {}, counts: { frequencies: 1, beams: 1, elements: 1, enabledElements: 1, words: 1 }, elementIds: [0], disabledIds: [], frequenciesHz: ["1"], layout: { bits: 8, bytes: 1, off: 0, fields: [{ name: "phase", shift: 0, width: 3 }] }, phaseShifter: { bits: 3 }, perFrequency: [] };
+
+/** REV readings for the 8-element base scenario (3-bit shifter): x = 0.1·e^{j·e rad}, ideal states (derived model) */
+function revRows(skip: (e: number, k: number) => boolean = () => false, elements = 8): string[] {
+  const rows: string[] = [];
+  for (let e = 0; e < elements; e++)
+    for (let k = 0; k < 8; k++) {
+      if (skip(e, k)) continue;
+      const d = (k * Math.PI) / 4, xr = 0.1 * Math.cos(e), xi = 0.1 * Math.sin(e);
+      const zr = 1 + xr * (Math.cos(d) - 1) - xi * Math.sin(d), zi = xr * Math.sin(d) + xi * (Math.cos(d) - 1);
+      rows.push(`${e},${k},${(10 * Math.log10(zr * zr + zi * zi)).toFixed(6)}`);
+    }
+  return rows;
+}
+const REV = (rows: string[]) => "element,phase_code,power_db\n" + rows.join("\n") + "\n";
+const CALIBRATE = (extra: string[] = []) => (d: string) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "cal.csv"), ...extra];
+const CALF = "frequency_hz,element,phase_offset_deg,gain_offset_db\n" + ["9e9", "11e9"].flatMap((f) => Array.from({ length: 8 }, (_, i) => `${f},${i},0,0`)).join("\n") + "\n";
 const cases: Case[] = [
   { name: "broken JSON", doc: '{ "format": "steercode-scenario/1", }', expect: [/scenario\.json, line 1: not valid JSON/] },
   { name: "not an object", doc: "[1, 2]", expect: [/scenario\.json: \/: expected a JSON object/] },
@@ -151,6 +167,24 @@ const cases: Case[] = [
   { name: "analysis grid too large: element positions written in metres where millimetres were meant", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(line8.map((_, i) => `${i},${(i % 4) * 15},${Math.floor(i / 4) * 15}`)) }, expect: [/\/frequency: the analysis grid would need .* cells .* at 10 GHz the array spans 1502 λ × 500\.8 λ/, /--no-analysis/] },
   { name: "analysis grid too large: the optimized quantizer needs the grid even with --no-analysis", doc: B({ frequency: "28 THz", quantizer: { method: "optimized" }, array: { lattice: { kind: "rectangular", columns: 4, rows: 4, dx: "5.2 mm", dy: "5.2 mm" } } }), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--no-analysis"], expect: [/\/frequency: the analysis grid would need .* the optimized quantizer searches on this grid, so use another quantizer/] },
   { name: "analysis grid too large: sweep refuses too", doc: B({ frequency: "28 THz", array: { lattice: { kind: "rectangular", columns: 4, rows: 4, dx: "5.2 mm", dy: "5.2 mm" } } }), args: (d) => ["sweep", join(d, "scenario.json"), "--phase-bits", "3..4", "-o", join(d, "out")], expect: [/\/frequency: the analysis grid would need/] },
+  { name: "calibrate: element not in the array", doc: B(), files: { "rev.csv": REV([...revRows(), "9,0,0", "9,1,0", "9,2,0", "9,3,0"]) }, args: CALIBRATE(), expect: [/rev\.csv, line 66, column element: element 9 is not in the array/] },
+  { name: "calibrate: an enabled element without readings", doc: B(), files: { "rev.csv": REV(revRows((e) => e === 5)) }, args: CALIBRATE(), expect: [/rev\.csv: no readings for 1 enabled element\(s\): 5; expected readings for every enabled element/] },
+  { name: "calibrate: too few codes", doc: B(), files: { "rev.csv": REV(revRows((e, k) => e === 2 && k > 2)) }, args: CALIBRATE(), expect: [/rev\.csv, line 18: element 2 \(lines 18–20\) has 2 code\(s\) besides code 0; expected at least three/] },
+  { name: "calibrate: code 0 missing", doc: B(), files: { "rev.csv": REV(revRows((e, k) => e === 3 && k === 0)) }, args: CALIBRATE(), expect: [/rev\.csv, line 26: element 3 .* has no reading at code 0/] },
+  { name: "calibrate: NaN power", doc: B(), files: { "rev.csv": REV(revRows()).replace(/\n4,2,[-\d.]+/, "\n4,2,NaN") }, args: CALIBRATE(), expect: [/rev\.csv, line 36, column power_db: expected a number, got "NaN"/] },
+  { name: "calibrate: duplicate (element, code)", doc: B(), files: { "rev.csv": REV([...revRows(), "1,3,-0.5"]) }, args: CALIBRATE(), expect: [/rev\.csv, line 66: element 1 code 3 is listed twice \(also on line 13\)/] },
+  { name: "calibrate: power that does not vary", doc: B(), files: { "rev.csv": REV(revRows().map((r) => (r.startsWith("6,") ? r.replace(/,[-\d.]+$/, ",-1.5") : r))) }, args: CALIBRATE(), expect: [/rev\.csv, line 50: element 6 \(lines 50–57\): the power does not vary with the code \(no solution\)/] },
+  { name: "calibrate: code past the phase shifter", doc: B(), files: { "rev.csv": REV([...revRows(), "0,8,0"]) }, args: CALIBRATE(), expect: [/rev\.csv, line 66, column phase_code: code 8 does not exist on the scenario's 3-bit phase shifter/] },
+  { name: "calibrate: several frequencies, no frequency_hz column", doc: B({ frequency: ["9 GHz", "10 GHz"] }), files: { "rev.csv": REV(revRows()) }, args: CALIBRATE(), expect: [/rev\.csv, line 1: the data have no frequency_hz column but the scenario lists 2 frequencies/] },
+  { name: "calibrate: wrong header", doc: B(), files: { "rev.csv": "element,code,power\n0,0,0\n" }, args: CALIBRATE(), expect: [/rev\.csv, line 1, column code: unknown column "code"; expected columns element,phase_code,power_db/] },
+  { name: "calibrate: data file missing", doc: B(), args: CALIBRATE(), expect: [/rev\.csv: file not found/] },
+  { name: "calibrate: unknown method", doc: B(), files: { "rev.csv": REV(revRows()) }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rotate", "-o", join(d, "cal.csv")], expect: [/--method: expected rev or field, got "rotate"/] },
+  { name: "calibrate: probe direction not two numbers", doc: B(), files: { "rev.csv": REV(revRows()) }, args: CALIBRATE(["--probe-direction", "20"]), expect: [/--probe-direction: expected AZ,EL in degrees \(two numbers\), got "20"/] },
+  { name: "calibrate: probe direction and position both", doc: B(), files: { "rev.csv": REV(revRows()) }, args: CALIBRATE(["--probe-direction", "0,0", "--probe-position", "0,0,1"]), expect: [/give --probe-direction or --probe-position, not both/] },
+  { name: "cal.csv per frequency: scenario frequency outside the listed span", doc: B({ frequency: ["10 GHz", "12 GHz"], calibration: "cal.csv" }), files: { "cal.csv": CALF }, expect: [/scenario\.json: \/frequency\/1: frequency 12000000000 Hz lies outside the calibrated span 9000000000 … 11000000000 Hz; expected a frequency within it \(calibration is interpolated, never extrapolated\)/] },
+  { name: "band reaching outside the span of cal.csv's frequency_hz sets", doc: B({ calibration: "cal.csv", band: { from: "10 GHz", to: "11.5 GHz", step: "0.5 GHz" } }), files: { "cal.csv": CALF }, expect: [/scenario\.json: \/band: 1 of 4 band point\(s\) \(11500000000 Hz\) lie outside the span 9000000000 … 11000000000 Hz of the frequency_hz sets in cal\.csv; expected a band within the calibrated span/] },
+  { name: "cal.csv per frequency: an element missing at one frequency", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CALF.replace("11e9,4,0,0\n", "") }, expect: [/cal\.csv: missing 1 element\(s\) at frequency_hz 11000000000: 4; expected a row for every element of the array at every listed frequency/] },
+  { name: "cal.csv per frequency: frequency not positive", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CALF.replace("11e9,4,0,0", "-1,4,0,0") }, expect: [/cal\.csv, line 14, column frequency_hz: expected a frequency from 1 Hz to 1000 THz, got "-1"/] },
   { name: "verify on a folder that is not a build", args: (d) => ["verify", d], expect: [/manifest\.json: not found: expected a steercode build folder/] },
   { name: "verify: manifest.json not valid JSON", prepare: (d) => writeFileSync(join(d, "manifest.json"), "{ nope"), args: (d) => ["verify", d], expect: [/manifest\.json: not valid JSON/] },
   { name: "verify: a manifest input path out of the folder", prepare: (d) => writeFileSync(join(d, "manifest.json"), JSON.stringify({ ...MANIFEST, inputs: [{ role: "calibration", ref: "cal.csv", copy: "../../proc/self/environ" }] })), args: (d) => ["verify", d], expect: [/manifest\.json: \/inputs\/0\/copy: expected "inputs\/calibration\.csv"/] },

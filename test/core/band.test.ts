@@ -83,10 +83,62 @@ describe("squint of a phase-steered table across the band", () => {
     }
   });
 
-  it("uses the one calibration set at every band frequency until cal.csv has frequency_hz (the seam)", () => {
-    // common practice / interface contract: without a frequency_hz column one set serves every frequency
+  it("uses the one calibration set at every band frequency when cal.csv has no frequency_hz", () => {
+    // interface contract ("Calibration per frequency"): without a frequency_hz column one set serves every frequency
     const plan = exactLine();
-    expect(calibrationAt(plan, 9e9)).toBe(plan.cal);
+    expect(calibrationAt(plan, 9e9)).toBe(plan.cals[0]);
+  });
+
+  it("with a two-frequency cal.csv, plays each band point with the calibration at that frequency (listed or interpolated)", () => {
+    // interface contract ("Calibration per frequency"; "Element pattern and band analysis": calibration at the band
+    // frequency): listed → that set; in between → gain linear in dB, phase linear the shorter way round.
+    // 9.5 GHz: c = 170° (element 0), 5·i° (others), g = 0.1·i dB; 10.5 GHz: c = −170° (element 0), 5·i + 40°, g = 0.1·i + 2 dB.
+    const cal =
+      "frequency_hz,element,phase_offset_deg,gain_offset_db\n" +
+      ["9.5e9", "10.5e9"].flatMap((f, j) => Array.from({ length: 16 }, (_, i) => `${f},${i},${i === 0 ? (j ? -170 : 170) : 5 * i + 40 * j},${(0.1 * i + 2 * j).toFixed(1)}`)).join("\n") + "\n";
+    const doc = load(baseScenario({
+      frequency: "10 GHz",
+      array: { lattice: { kind: "rectangular", columns: 16, rows: 1, dx: (SPEED_OF_LIGHT / 10e9) / (4 * Math.sin(60 * DEG)), dy: "0.5 lambda" } },
+      beams: { kind: "thetaphi", theta: { from: 60, to: 60, step: 1 }, phi: { from: 0, to: 0, step: 1 } },
+      phaseShifter: { bits: 3 },
+      calibration: "cal.csv",
+      band: { from: "9.5 GHz", to: "10.5 GHz", step: "0.25 GHz" },
+    }), { "cal.csv": cal });
+    const plan = doc.plan;
+    expect(Array.from(plan.elements.ids)).toEqual(Array.from({ length: 16 }, (_, i) => i));
+    // derived by hand at 9.75 GHz, t = (9.75 − 9.5)/(10.5 − 9.5) = 1/4: element 0 goes 170° → −170° the short way
+    // (+20°), so 170 + 20/4 = 175°; others 5·i + 40/4 = 5·i + 10°; gain 0.1·i + 2/4 = 0.1·i + 0.5 dB
+    const mid = calibrationAt(plan, "9750000000");
+    expect(mid.phaseExact[0]).toBe("175");
+    expect(mid.phaseExact[3]).toBe("25");
+    expect(mid.gainExact[0]).toBe("0.5");
+    expect(mid.gainExact[7]).toBe("1.2");
+    for (let i = 1; i < 16; i++) {
+      expect(mid.phaseDeg[i]).toBeCloseTo(5 * i + 10, 12);
+      expect(mid.gainDb[i]).toBeCloseTo(0.1 * i + 0.5, 12);
+    }
+    // at a listed frequency exactly that set (the same object the loader parsed)
+    const top = calibrationAt(plan, "10500000000");
+    expect(top).toBe(plan.calTable!.sets[1]);
+    expect(top.phaseExact[0]).toBe("-170");
+    expect(top.gainExact[7]).toBe("2.7");
+    // the band analyzer plays the table's codes with those sets: the same numbers as a BeamAnalyzer
+    // handed the hand-checked calibration at 9.75 GHz, and not those with the table frequency's set
+    const q = makeQuantizer(plan, 0);
+    const codes = allocBeamCodes(plan.elements.count);
+    q.beam(0, codes);
+    const out = new Float64Array(5 * SQUINT_METRICS);
+    new BandAnalyzer(plan).analyse(0, codes, out, 0);
+    const at = (cals: Plan["cals"]) => {
+      const m = new Float64Array(SQUINT_METRICS);
+      new BeamAnalyzer({ ...plan, frequenciesHz: [9.75e9], frequenciesExact: ["9750000000"], cals }, 0).analysePeak(0, codes, m, 0);
+      return Array.from(m);
+    };
+    const byHand = at([mid]);
+    const row = Array.from(out.subarray(1 * SQUINT_METRICS, 2 * SQUINT_METRICS));
+    for (let j = 0; j < SQUINT_METRICS; j++) expect(row[j]).toBeCloseTo(byHand[j]!, 12);
+    const wrong = at([plan.cals[0]!]);
+    expect(Math.abs(row[3]! - wrong[3]!) + Math.abs(row[0]! - wrong[0]!)).toBeGreaterThan(1e-3);
   });
 });
 

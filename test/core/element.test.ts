@@ -192,8 +192,8 @@ function bruteForce(plan: Plan, b: number, q: number) {
   const lsb = 360 / 2 ** plan.phaseBits;
   const wr: number[] = [], wi: number[] = [];
   for (let i = 0; i < el.count; i++) {
-    const amp = Math.pow(10, (plan.cal.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20);
-    const ph = (plan.cal.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * DEG;
+    const amp = Math.pow(10, (plan.cals[0]!.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20);
+    const ph = (plan.cals[0]!.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * DEG;
     wr.push(amp * Math.cos(ph));
     wi.push(amp * Math.sin(ph));
   }

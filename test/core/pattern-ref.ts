@@ -28,8 +28,8 @@ export function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = 
   for (let i = 0; i < el.count; i++) {
     let amp: number, ph: number;
     if (which === "realized") {
-      amp = el.enabled[i] ? Math.pow(10, (plan.cal.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0;
-      ph = ((plan.cal.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180;
+      amp = el.enabled[i] ? Math.pow(10, (plan.cals[fi]!.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0;
+      ph = ((plan.cals[fi]!.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180;
     } else {
       // ideal: a_n·exp(jφ_n), φ_n = −k r_n·d̂ (interface contract)
       amp = el.enabled[i] ? plan.amplitude[i]! : 0;

@@ -58,7 +58,7 @@ describe("measured-state selection", () => {
       q.beam(b, codes);
       for (let e = 0; e < n; e++) {
         const s = elementStates(plan, e);
-        const R = Math.pow(10, (prep.gRefDb - plan.cal.gainDb[e]!) / 20) * plan.amplitude[e]!;
+        const R = Math.pow(10, (prep.gRefDb - plan.cals[0]!.gainDb[e]!) / 20) * plan.amplitude[e]!;
         const best = bruteForceNearest(s, R, (codes.phaseDeg[e]! * Math.PI) / 180);
         expect([codes.phaseCode[e], codes.attenCode[e]]).toEqual([best.p, best.q]);
       }

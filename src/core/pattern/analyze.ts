@@ -140,14 +140,14 @@ export class BeamAnalyzer {
       if (this.states) {
         const s = this.states[i]!;
         errDeg = (s.pAng[p]! + s.qAng[q]!) / DEG - t * lsbDeg;
-        amp = Math.pow(10, plan.cal.gainDb[i]! / 20) * s.pMag[p]! * s.qMag[q]!;
+        amp = Math.pow(10, plan.cals[this.fi]!.gainDb[i]! / 20) * s.pMag[p]! * s.qMag[q]!;
         this.ampErr[i] = 20 * Math.log10(amp / this.idealAmp[i]!);
       } else {
         errDeg = (p - t) * lsbDeg;
         // ideal parts: the amplitude depends on the attenuation code only
         if (this.lastQ[i] !== q) {
           this.lastQ[i] = q;
-          this.qAmp[i] = Math.pow(10, (plan.cal.gainDb[i]! - q * plan.attenStepDb) / 20);
+          this.qAmp[i] = Math.pow(10, (plan.cals[this.fi]!.gainDb[i]! - q * plan.attenStepDb) / 20);
           this.ampErr[i] = 20 * Math.log10(this.qAmp[i]! / this.idealAmp[i]!);
         }
         amp = this.qAmp[i]!;

@@ -143,7 +143,7 @@ export class OptimizedQuantizer implements Quantizer {
     this.states = plan.phaseStates || plan.attenStates ? Array.from({ length: n }, (_, e) => elementStates(plan, e)) : null;
     this.np = 2 ** plan.phaseBits;
     this.nq = 2 ** plan.attenBits;
-    this.gLin = Float64Array.from(plan.cal.gainDb, (g) => Math.pow(10, g / 20));
+    this.gLin = Float64Array.from(plan.cals[fi]!.gainDb, (g) => Math.pow(10, g / 20));
     this.qLin = Float64Array.from({ length: this.nq }, (_, q) => Math.pow(10, (-q * plan.attenStepDb) / 20));
     this.k = (2 * Math.PI * plan.frequenciesHz[fi]!) / SPEED_OF_LIGHT;
     this.kx = Float64Array.from(el.x, (x) => this.k * x);

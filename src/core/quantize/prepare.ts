@@ -42,6 +42,7 @@ export function prepareFrequency(plan: Plan, fi: number): FrequencyPrep {
   const Y = new Float64Array(n);
   const Z = new Float64Array(n);
   const C = new Float64Array(n);
+  const cal = plan.cals[fi]!;
   const s = -states / lambdaM; // φ/LSB = −(r·d̂)/λ · 2^B
   let hasZ = false;
   for (let i = 0; i < n; i++) {
@@ -49,14 +50,14 @@ export function prepareFrequency(plan: Plan, fi: number): FrequencyPrep {
     Y[i] = el.y[i]! * s;
     Z[i] = el.z[i]! * s;
     if (el.z[i] !== 0) hasZ = true;
-    C[i] = -plan.cal.phaseDeg[i]! / lsbDeg;
+    C[i] = -cal.phaseDeg[i]! / lsbDeg;
   }
   // G_ref = min over enabled elements of g_n − 20·log10(a_n)
   let gRefDb = Infinity;
   let gRefElement = -1;
   for (let i = 0; i < n; i++) {
     if (!el.enabled[i]) continue;
-    const g = plan.cal.gainDb[i]! - 20 * Math.log10(plan.amplitude[i]!);
+    const g = cal.gainDb[i]! - 20 * Math.log10(plan.amplitude[i]!);
     if (g < gRefDb) {
       gRefDb = g;
       gRefElement = i;
@@ -69,11 +70,11 @@ export function prepareFrequency(plan: Plan, fi: number): FrequencyPrep {
   const maxCode = 2 ** plan.attenBits - 1;
   let clipped = 0;
   for (let i = 0; i < n; i++) {
-    const a = plan.cal.gainDb[i]! - gRefDb - 20 * Math.log10(plan.amplitude[i]!);
+    const a = cal.gainDb[i]! - gRefDb - 20 * Math.log10(plan.amplitude[i]!);
     attenDb[i] = a;
     const t = a / plan.attenStepDb;
     let q = Math.floor(t + 0.5);
-    if (nearHalf(t) && gRefElement >= 0) q = exactAttenCode(plan, i, gRefElement);
+    if (nearHalf(t) && gRefElement >= 0) q = exactAttenCode(plan, fi, i, gRefElement);
     if (q < 0) q = 0;
     if (q > maxCode) {
       q = maxCode;
@@ -92,9 +93,10 @@ export function prepareFrequency(plan: Plan, fi: number): FrequencyPrep {
  * m the element that sets G_ref, decided in decimal with ties going up. Taper
  * amplitudes enter as their float64 values (uniform tapers are exactly 1).
  */
-export function exactAttenCode(plan: Plan, i: number, m: number): number {
-  const a = new D(plan.cal.gainExact[i]!)
-    .minus(plan.cal.gainExact[m]!)
+export function exactAttenCode(plan: Plan, fi: number, i: number, m: number): number {
+  const cal = plan.cals[fi]!;
+  const a = new D(cal.gainExact[i]!)
+    .minus(cal.gainExact[m]!)
     .minus(new D(20).times(D.log10(new D(plan.amplitude[i]!)).minus(D.log10(new D(plan.amplitude[m]!)))));
   return roundHalfUp(a.div(plan.attenStepExact)).toNumber();
 }
@@ -114,7 +116,7 @@ export function exactPhaseT(plan: Plan, fi: number, i: number, d: ExactDirection
   } else throw new Error("element without an exact position");
   const dot = x.times(d.u).plus(y.times(d.v)).plus(z.times(d.w));
   const phi = dot.times(plan.frequenciesExact[fi]!).div(C_EXACT).times(states).neg();
-  return phi.minus(new D(plan.cal.phaseExact[i]!).times(states).div(360));
+  return phi.minus(new D(plan.cals[fi]!.phaseExact[i]!).times(states).div(360));
 }
 
 /** Caches the exact direction of the current beam (computed only when a boundary case needs it). */

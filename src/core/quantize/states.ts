@@ -196,7 +196,7 @@ export function measuredStatesQuantizer(plan: Plan, fi: number, prep: FrequencyP
   const maxAtten = new Float64Array(n);
   for (let e = 0; e < n; e++) {
     const s = elementStates(plan, e);
-    const R = Math.pow(10, (gRefDb - plan.cal.gainDb[e]!) / 20) * plan.amplitude[e]!;
+    const R = Math.pow(10, (gRefDb - plan.cals[fi]!.gainDb[e]!) / 20) * plan.amplitude[e]!;
     searches.push(new NearestStateSearch(s, R));
     let mx = 0;
     for (const a of s.qDb) mx = Math.max(mx, a);

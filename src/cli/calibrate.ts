@@ -1,0 +1,71 @@
+import { runCalibrate, writeCalFile } from "../workflows/calibrate.js";
+import type { MethodName, Probe } from "../core/calibrate/index.js";
+import { fmt, printJson, warn, type Io } from "./shared.js";
+import { UsageError } from "./usage.js";
+
+export interface CalibrateArgs {
+  scenario: string;
+  data: string;
+  method: string;
+  probeDirection: string | null;
+  probePosition: string | null;
+  out: string;
+}
+
+function numbers(raw: string, n: number, opt: string, what: string): number[] {
+  const parts = raw.split(",").map((s) => s.trim());
+  const v = parts.map(Number);
+  if (parts.length !== n || parts.some((p) => p === "") || v.some((x) => !Number.isFinite(x))) throw new UsageError(`${opt}: expected ${what}, got "${raw}"`);
+  return v;
+}
+
+export function parseProbe(direction: string | null, position: string | null): Probe {
+  if (direction !== null && position !== null) throw new UsageError("give --probe-direction or --probe-position, not both");
+  if (position !== null) {
+    const [x, y, z] = numbers(position, 3, "--probe-position", "X,Y,Z in metres (three numbers)");
+    return { kind: "near", x: x!, y: y!, z: z! };
+  }
+  if (direction !== null) {
+    const [az, el] = numbers(direction, 2, "--probe-direction", "AZ,EL in degrees (two numbers)");
+    if (Math.abs(az!) > 90 || Math.abs(el!) > 90) throw new UsageError(`--probe-direction: expected |az| and |el| ≤ 90 degrees (in front of the array), got "${direction}"`);
+    return { kind: "far", azDeg: az!, elDeg: el! };
+  }
+  return { kind: "far", azDeg: 0, elDeg: 0 };
+}
+
+export function calibrateCommand(io: Io, a: CalibrateArgs): number {
+  if (a.method !== "rev" && a.method !== "field") throw new UsageError(`--method: expected rev or field, got "${a.method}"`);
+  const probe = parseProbe(a.probeDirection, a.probePosition);
+  const r = runCalibrate({ scenario: a.scenario, data: a.data, method: a.method as MethodName, probe });
+  const sha = writeCalFile(a.out, r.calCsv);
+  if (io.json) {
+    const { calCsv: _text, ...rest } = r;
+    printJson(io, { ok: true, out: a.out, sha256: sha, ...rest });
+    return 0;
+  }
+  const count = r.frequencies[0]?.elements.length ?? 0;
+  const lines = [
+    `wrote ${a.out} (sha256 ${sha.slice(0, 16)}…): ${count} element(s) × ${r.frequencies.length} frequenc${r.frequencies.length === 1 ? "y" : "ies"}, method ${r.method} (${r.methodName})`,
+    `probe: ${r.probeText}`,
+  ];
+  for (const f of r.frequencies) {
+    const ambiguous = f.elements.filter((e) => e.flags.includes("ambiguous-root")).length;
+    const worstStd = Math.max(0, ...f.elements.map((e) => e.phaseStdDeg ?? 0));
+    lines.push(
+      `  ${f.frequencyHz} Hz: ${f.readings} readings` +
+        (f.rmsResidualDb !== null ? `, rms fit residual ${fmt(f.rmsResidualDb, 4)} dB, largest phase uncertainty ${fmt(worstStd, 2)}° (1σ)` : "") +
+        (f.fieldSum ? `, Σ element fields / whole array = ${fmt(Math.hypot(f.fieldSum.re, f.fieldSum.im), 4)} (expected 1)` : "") +
+        (ambiguous ? `, ${ambiguous} root choice(s) undecided` : ""),
+    );
+    for (const w of f.warnings) lines.push(warn(io, `warning: ${f.frequencyHz} Hz: ${w}`));
+  }
+  if (r.placeholders.length) lines.push(`  no readings for disabled element(s) ${r.placeholders.join(", ")}: written as 0, 0`);
+  if (r.flagged.length) {
+    lines.push("");
+    for (const f of r.flagged.slice(0, 20)) for (const adv of f.advice) lines.push(warn(io, `warning: ${adv}`));
+    if (r.flagged.length > 20) lines.push(`… ${r.flagged.length - 20} more flagged element(s): --json lists them all`);
+  }
+  lines.push("", "per element (amplitude, phase, residual, both REV roots): --json");
+  io.stdout(lines.join("\n") + "\n");
+  return 0;
+}
