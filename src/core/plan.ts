@@ -4,6 +4,7 @@
  * decisions. A Plan is structured-clone safe, so it can be sent to workers.
  */
 import type { BeamSet } from "./beams.js";
+import type { DeviceSpec } from "./devices.js";
 import type { Elements, LatticeSpec } from "./geometry.js";
 import type { TaperSpec } from "./taper/index.js";
 import type { WordLayout } from "./words.js";
@@ -77,6 +78,8 @@ export interface Plan {
   element: ElementSpec | null;
   /** Band analysis (squint.csv); null: none. */
   band: BandSpec | null;
+  /** Per-device beam memories (scenario `devices`); null without. */
+  devices: DeviceSpec | null;
 }
 
 /** The band the tables are played over: from … to inclusive in steps (exact decimal strings beside the floats). */

@@ -25,6 +25,9 @@ import { fixed } from "./format.js";
 import { bandSummary, SQUINT_COLUMNS, SQUINT_METRICS, type BandBeamSummary } from "../core/band.js";
 import { OPT, OPT_FIELDS, POINTING_ALLOWANCE_DEG, DEFAULT_EXTRA_LOSS_DB, summariseOptimized, type OptimizedSummary } from "../core/quantize/optimized.js";
 import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
+import { buildDeviceMap } from "../core/devices.js";
+import { DeviceImageWriter } from "../formats/device-images.js";
+import { deviceManifest, type DeviceManifest } from "../workflows/devices.js";
 
 export { stableJson } from "./json.js";
 import { stableJson } from "./json.js";
@@ -36,6 +39,7 @@ export const INPUT_COPY: Record<InputRole, string> = {
   phaseStates: "inputs/phase-states.csv",
   attenStates: "inputs/atten-states.csv",
   element: "inputs/element.csv",
+  deviceMap: "inputs/devices.csv",
 };
 export const SCENARIO_COPY = "inputs/scenario.json";
 
@@ -69,6 +73,8 @@ export interface Manifest {
   analysis: boolean;
   files: Record<string, ManifestFile>;
   extra?: Record<string, unknown>;
+  /** Per-device beam memories (only when the scenario has `devices`). */
+  devices?: DeviceManifest;
 }
 
 export interface OptimizedManifest {
@@ -223,6 +229,7 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
   const open = opts.open ?? openHashedFile;
   const cursor = opts.cursor ?? { fi: 0, b: 0, inBeam: false };
   let job: ReturnType<typeof startAnalysis> | null = null;
+  let devices: DeviceImageWriter | null = null;
   try {
     const ft = frequencyText(plan);
     const total = plan.frequenciesHz.length * plan.beams.count;
@@ -231,11 +238,16 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
     job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}), ring, band: true }) : null;
     if (!job) opts.pool?.release();
     const writers = makeWriters(dir, { plan, frequencyText: ft }, open);
+    // device images are written with positional writes straight into the folder: a real
+    // build only (no `open`); verify decodes the images itself (workflows/devices.ts)
+    const deviceMap = plan.devices ? buildDeviceMap(plan.devices, total) : null;
+    devices = deviceMap && !opts.open ? new DeviceImageWriter(dir, { map: deviceMap, wordBits: plan.word.bits, wordBytes: plan.word.bytes, beams: plan.beams.count }) : null;
     const run = new TableRun(plan, (fi, b, words, codes) => {
       cursor.fi = fi;
       cursor.b = b;
       cursor.inBeam = true;
       for (const w of writers) w.beam(fi, b, words, codes);
+      devices?.beam(fi, b, words);
       cursor.inBeam = false;
     }, plan.outputs.includes("csv"), job?.ring ? ringSource(job.ring, plan.beams.count) : null);
     // slices of ~a few ms, yielding in between so SIGINT/SIGTERM are handled promptly
@@ -263,6 +275,10 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
       const d = w.end();
       files[w.file] = { bytes: d.bytes, sha256: d.sha256 };
     }
+    if (devices) {
+      for (const [k, d] of Object.entries(devices.end(plan.elements.ids))) files[k] = { bytes: d.bytes, sha256: d.sha256, ...(d.withCrc ? { crc32: hex32(d.crc32) } : {}) };
+      devices = null;
+    }
     let metrics: Float64Array | null = null;
     let summary: Record<string, Distribution> | null = null;
     let band: BandReport | null = null;
@@ -284,9 +300,11 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
     const manifest = makeManifest(loaded, scenarioSource, perFrequency, files, opts.analysis);
     if (summary) manifest.extra = { summary, theory, ...(band ? { band } : {}) };
     if (run.optimized) manifest.optimized = optimizedManifest(plan, ft, run.optimized);
+    if (deviceMap) manifest.devices = deviceManifest(deviceMap, plan.word.bytes);
     return { manifest, files, perFrequency, metrics, summary, theory, optimized: run.optimized, band };
   } catch (e) {
     job?.cancel();
+    devices?.close();
     throw e;
   }
 }

@@ -20,8 +20,9 @@ import { MAX_SCENARIO_BYTES, readInput, type InputFile } from "./files.js";
 import { JsonError, parseJsonStrict } from "./jsonparse.js";
 import { ProblemList } from "./problems.js";
 import { validateScenarioJson } from "./schema.js";
+import { loadDevices } from "./devices-load.js";
 
-export type InputRole = "elements" | "calibration" | "beams" | "phaseStates" | "attenStates" | "element";
+export type InputRole = "elements" | "calibration" | "beams" | "phaseStates" | "attenStates" | "element" | "deviceMap";
 
 export interface ScenarioInput {
   role: InputRole;
@@ -103,6 +104,9 @@ export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenar
 class Loader {
   private readonly problems = new ProblemList();
   private readonly inputs: ScenarioInput[] = [];
+  /** elements.csv line of each element id (device/channel problems name it) */
+  private readonly elementLines = new Map<number, number>();
+  private elementsFile = "";
   private readonly dir: string;
   constructor(
     path: string,
@@ -147,6 +151,7 @@ class Loader {
       phaseStates: { required: [["code", "phase_deg", "gain_db"]], optional: ["element"] },
       attenStates: { required: [["code", "atten_db", "phase_deg"]], optional: ["element"] },
       element: { required: [["theta_deg", "phi_deg", "gain_db"]], optional: [] },
+      deviceMap: { required: [["element", "device", "channel"]], optional: [] },
     } as const;
     const shape = shapes[role];
     const before = this.problems.count;
@@ -233,6 +238,7 @@ class Loader {
           `${outside.length} of ${band.frequenciesExact.length} band point(s) (${outside.slice(0, 3).map((f) => `${f} Hz`).join(", ")}${outside.length > 3 ? ", …" : ""}) lie outside the span ${t.frequenciesExact[0]} … ${t.frequenciesExact[t.frequenciesExact.length - 1]} Hz of the frequency_hz sets in ${String(d.calibration)}; expected a band within the calibrated span (calibration is interpolated, never extrapolated)`,
         );
     }
+    const devices = d.devices ? loadDevices(this.d.devices, { display: this.display, problems: this.problems, file: (ref) => this.file(ref, "deviceMap", "/devices/map", MAX_ELEMENTS, "elements in an array"), elements, elementLines: this.elementLines, elementsFile: this.elementsFile, word, blocks: beams ? freqs.length * beams.count : 0, beams: beams?.count ?? 0 }) : null;
 
     // ---- sizes
     if (beams && elements) {
@@ -269,6 +275,7 @@ class Loader {
       outputs,
       element,
       band,
+      devices,
     };
     return { plan, scenario: this.scenario, doc: d, inputs: this.inputs };
   }
@@ -324,6 +331,7 @@ class Loader {
   private elementList(ref: string): Elements | null {
     const t = this.file(ref, "elements", "/array/elements", MAX_ELEMENTS, "elements in an array");
     if (!t) return null;
+    this.elementsFile = t.file;
     const before = this.problems.count;
     const rows: { id: number; x: string; y: string; z: string; device: string; channel: string; enabled: number; line: number }[] = [];
     const seen = new Map<number, number>();
@@ -347,6 +355,7 @@ class Loader {
         continue;
       }
       seen.set(id.value, r.line);
+      this.elementLines.set(id.value, r.line);
       rows.push({ id: id.value, x: x.text, y: y.text, z: z.text, device: r.cells.get("device") ?? "", channel: r.cells.get("channel") ?? "", enabled, line: r.line });
     }
     if (this.problems.count > before) return null;

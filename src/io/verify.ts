@@ -24,12 +24,15 @@ import { join } from "node:path";
 import { crc32 } from "node:zlib";
 import { InputError } from "../core/errors.js";
 import type { WorkerPool } from "./analysis-pool.js";
-import { frequencyText, INPUT_COPY, produceOutputs, SCENARIO_COPY, stableJson, type BeamCursor, type Manifest, type Produced } from "./build.js";
+import { frequencyText, hex32, INPUT_COPY, produceOutputs, SCENARIO_COPY, stableJson, type BeamCursor, type Manifest, type Produced } from "./build.js";
 import type { FileDigest } from "./hashed.js";
-import { folderEntry, loadBuildScenario, openFolderFile, readFolderFile, readManifest, MAX_MANIFEST_BYTES, type FolderEntry } from "./readbuild.js";
+import { folderEntry, loadBuildScenario, openFolderFile, readFolderFile, readManifest, MAX_FOLDER_FILE_BYTES, MAX_MANIFEST_BYTES, type FolderEntry } from "./readbuild.js";
 import type { LoadedScenario } from "./scenario.js";
 import { TABLE_FILES, type ByteSink, type OpenSink } from "./tables.js";
 import { toolVersion } from "./version.js";
+import { runTables } from "../core/engine.js";
+import { DEVICE_MAP_FILE, deviceFile } from "../formats/device-images.js";
+import { verifyDevices } from "../workflows/devices.js";
 
 export interface Check {
   check: string;
@@ -53,6 +56,10 @@ export interface Mismatch {
   /** what the inputs give and what the file holds there: the line (text) or the word (table.bin) */
   expected: string;
   found: string;
+  /** device images only: the device, the word address in its image, and the channel there (null: an address no channel uses) */
+  device?: number;
+  address?: number;
+  channel?: number | null;
 }
 
 export interface VerifyResult {
@@ -307,22 +314,25 @@ class ComparingSink implements ByteSink {
   }
 }
 
-/** SHA-256 and size of a folder file, streamed, reading at most `limit` + 1 bytes. */
-function hashFolderFile(entry: FolderEntry, limit: number): { bytes: number; sha256: string; longer: boolean } | null {
+/** SHA-256, CRC-32 and size of a folder file, streamed, reading at most `limit` + 1 bytes. */
+function hashFolderFile(entry: FolderEntry, limit: number): { bytes: number; sha256: string; crc32: number; longer: boolean } | null {
   if (entry.kind === "missing") return null;
   const fd = openFolderFile(entry.path);
   try {
     const h = createHash("sha256");
+    let crc = 0;
     const buf = Buffer.allocUnsafe(READ_CHUNK);
     let pos = 0;
     for (;;) {
       const n = readSync(fd, buf, 0, Math.min(buf.length, limit + 1 - pos), pos);
       if (n <= 0) break;
-      h.update(buf.subarray(0, Math.min(n, limit - pos)));
+      const part = buf.subarray(0, Math.min(n, limit - pos));
+      h.update(part);
+      crc = crc32(part, crc);
       pos += n;
-      if (pos > limit) return { bytes: pos, sha256: h.digest("hex"), longer: true };
+      if (pos > limit) return { bytes: pos, sha256: h.digest("hex"), crc32: crc >>> 0, longer: true };
     }
-    return { bytes: pos, sha256: h.digest("hex"), longer: false };
+    return { bytes: pos, sha256: h.digest("hex"), crc32: crc >>> 0, longer: false };
   } finally {
     closeSync(fd);
   }
@@ -457,6 +467,30 @@ export async function verifyBuild(dir: string, opts: VerifyOptions = {}): Promis
       mismatches.push(s.mismatch);
       checks.push({ check: f, ok: false, detail: `differs from the ${what} at ${describe(s.mismatch)}` });
     } else checks.push({ check: f, ok: true, detail: `identical to the ${what} (${files[f]!.bytes} bytes${files[f]!.crc32 ? `, CRC-32 ${files[f]!.crc32}` : ""})` });
+  }
+
+  // 3b. device images: written by build with positional writes, so not regenerated through
+  // sinks; each image is decoded (bin, mem, hex by the formats' own rules) and compared
+  // word by word with the table recomputed from the recorded inputs, and each file's size,
+  // SHA-256 (and CRC-32 of .bin) go into the regenerated manifest, which must match.
+  if (plan.devices && produced.manifest.devices) {
+    const dm = produced.manifest.devices;
+    const names = [DEVICE_MAP_FILE, ...dm.list.flatMap((d) => dm.formats.map((f) => deviceFile(d.id, f)))];
+    for (const name of names) {
+      const h = hashFolderFile(folderEntry(dir, name), m.files[name]?.bytes ?? MAX_FOLDER_FILE_BYTES);
+      if (h) files[name] = { bytes: h.bytes, sha256: h.sha256, ...(name.endsWith(".bin") ? { crc32: hex32(h.crc32) } : {}) };
+    }
+    const B = plan.beams.count;
+    const dev = verifyDevices(dir, { ...m, devices: dm }, plan.devices, {
+      name: `recomputed from ${SCENARIO_COPY}`,
+      run: (sink) => void runTables(plan, (fi, b, words) => sink(fi * B + b, words), undefined, { commanded: false }),
+    });
+    checks.push(...dev.checks);
+    const d = dev.first;
+    if (d) {
+      const hx = (x: number) => (x < 0 ? "(past the end of the image)" : "0x" + (x >>> 0).toString(16).toUpperCase().padStart(2 * plan.word.bytes, "0"));
+      mismatches.push({ file: d.file, byte: d.address * plan.word.bytes, line: null, pointer: null, frequency_hz: d.beam !== null ? d.frequency_hz : null, beam: d.beam, element: d.element, expected: hx(d.expected), found: hx(d.found), device: d.device, address: d.address, channel: d.channel });
+    }
   }
 
   // 4. files build --compare adds: not derivable, checked against their recorded size and hash

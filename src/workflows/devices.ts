@@ -1,0 +1,302 @@
+/**
+ * Device images in the workflows: what the manifest records, the checks `verify`
+ * runs on every image (bin, mem, hex decoded back into words), the per-device view of
+ * a diff (words changed, address ranges to reload) and the per-device facts of `check`.
+ */
+import { existsSync, readFileSync } from "node:fs";
+import { join } from "node:path";
+import { parse } from "csv-parse/sync";
+import { address, addressRanges, buildDeviceMap, loadSeconds, locate, type DeviceFormat, type DeviceInfo, type DeviceMap, type DeviceSpec } from "../core/devices.js";
+import type { Plan } from "../core/plan.js";
+import { DEVICE_MAP_FILE, deviceFile } from "../formats/device-images.js";
+import { ImageFormatError, wordsFromBinImage, wordsFromHexImage, wordsFromMemImage } from "../formats/device-read.js";
+
+export interface DeviceManifest {
+  channels: number;
+  address: { base: number; beamStride: number; channelStride: number };
+  fill: number;
+  formats: DeviceFormat[];
+  source: DeviceSpec["source"];
+  map: string;
+  /** one entry per device, ascending id */
+  list: { id: number; channelsUsed: number; words: number; bytes: number }[];
+}
+
+export function deviceManifest(map: DeviceMap, wordBytes: number): DeviceManifest {
+  const s = map.spec;
+  return {
+    channels: s.channels,
+    address: { base: s.base, beamStride: s.beamStride, channelStride: s.channelStride },
+    fill: s.fill,
+    formats: s.formats,
+    source: s.source,
+    map: DEVICE_MAP_FILE,
+    list: map.devices.map((d) => ({ id: d.id, channelsUsed: d.used.length, words: d.words, bytes: d.words * wordBytes })),
+  };
+}
+
+/** The parts of a manifest the device workflows read. */
+export interface BuildInfo {
+  counts: { frequencies: number; beams: number; elements: number };
+  frequenciesHz: string[];
+  elementIds: number[];
+  layout: { bytes: number };
+  files: Record<string, { sha256: string }>;
+  devices?: DeviceManifest;
+}
+
+/** The device map of a build folder: map.csv and the manifest's address layout. */
+export function readDeviceMap(dir: string, m: BuildInfo): DeviceMap {
+  const dm = m.devices!;
+  const p = join(dir, dm.map);
+  if (!existsSync(p)) throw new ImageFormatError(`${dm.map} is missing`);
+  const rows = parse(readFileSync(p), { from_line: 1 }) as string[][];
+  if (rows[0]?.join(",") !== "device,channel,element") throw new ImageFormatError(`${dm.map}: expected the header "device,channel,element"`);
+  const index = new Map<number, number>();
+  m.elementIds.forEach((id, i) => index.set(id, i));
+  const device = new Int32Array(m.counts.elements).fill(-1);
+  const channel = new Int32Array(m.counts.elements).fill(-1);
+  const taken = new Set<string>();
+  rows.slice(1).forEach((r, k) => {
+    const [d, c, e] = r.map(Number) as [number, number, number];
+    const i = index.get(e);
+    if (r.length !== 3 || ![d, c, e].every((x) => Number.isInteger(x) && x >= 0) || i === undefined || device[i] !== -1 || c >= dm.channels || taken.has(`${d}/${c}`))
+      throw new ImageFormatError(`${dm.map}, line ${k + 2}: "${r.join(",")}" is not a new (device, channel, element) of this build`);
+    taken.add(`${d}/${c}`);
+    device[i] = d;
+    channel[i] = c;
+  });
+  const missing = m.elementIds.filter((_, i) => device[i] === -1);
+  if (missing.length) throw new ImageFormatError(`${dm.map}: element(s) ${missing.slice(0, 8).join(", ")} are missing`);
+  const spec: DeviceSpec = { channels: dm.channels, ...dm.address, fill: dm.fill, formats: dm.formats, source: dm.source, device, channel };
+  return buildDeviceMap(spec, m.counts.frequencies * m.counts.beams);
+}
+
+export interface DeviceCheck {
+  check: string;
+  ok: boolean;
+  detail: string;
+}
+
+export interface DeviceMismatch {
+  file: string;
+  device: number;
+  address: number;
+  frequency_hz: string;
+  beam: number | null;
+  channel: number | null;
+  element: number | null;
+  expected: number;
+  found: number;
+}
+
+/**
+ * The table words recomputed from the recorded inputs, streamed beam block by beam block
+ * ([element] words of block f·beams + b). One call is one full pass of the table engine.
+ */
+export interface WordPass {
+  /** what the words come from, e.g. "recomputed from inputs/scenario.json" */
+  name: string;
+  run(sink: (block: number, words: ArrayLike<number>) => void): void;
+}
+
+const hexw = (w: number, wb: number) => "0x" + (w >>> 0).toString(16).toUpperCase().padStart(2 * wb, "0");
+
+/** Words of decoded images and expected images held at once (each a Uint32: 64 MiB). */
+export const DEVICE_CHECK_BUDGET_WORDS = 1 << 24;
+
+/**
+ * verify's device checks: map.csv against the manifest and the recomputed assignment,
+ * then every image in every format decoded and compared, address by address, with the
+ * recomputed words (padding must hold the fill word). The first disagreement is named by
+ * device, address, beam, channel and element.
+ *
+ * Memory: images are decoded and checked in batches of at most `budgetWords` words
+ * (decoded + expected); each batch takes one pass of the table engine. So memory does
+ * not grow with the build, only with the largest single image; a build whose images
+ * all fit the budget (every build up to ~8 M table words) takes one extra pass.
+ */
+export function verifyDevices(dir: string, m: BuildInfo, fresh: DeviceSpec | null, words: WordPass, budgetWords = DEVICE_CHECK_BUDGET_WORDS): { checks: DeviceCheck[]; first: DeviceMismatch | null } {
+  const checks: DeviceCheck[] = [];
+  let first: DeviceMismatch | null = null;
+  const dm = m.devices!;
+  let map: DeviceMap;
+  try {
+    map = readDeviceMap(dir, m);
+  } catch (e) {
+    checks.push({ check: `devices: ${DEVICE_MAP_FILE}`, ok: false, detail: (e as Error).message });
+    return { checks, first };
+  }
+  const listed = dm.list.map((d) => `${d.id}:${d.channelsUsed}:${d.words}`).join(",");
+  const mapped = map.devices.map((d) => `${d.id}:${d.used.length}:${d.words}`).join(",");
+  checks.push({ check: `devices: ${DEVICE_MAP_FILE} = manifest`, ok: listed === mapped, detail: listed === mapped ? `${map.devices.length} device(s), ${dm.channels} channels each` : "the devices, channels used or image sizes in map.csv differ from the manifest's list" });
+  if (fresh) {
+    let bad = -1;
+    for (let i = 0; i < m.counts.elements; i++) if (fresh.device[i] !== map.spec.device[i] || fresh.channel[i] !== map.spec.channel[i]) { bad = i; break; }
+    const same = bad < 0 && fresh.channels === dm.channels && fresh.base === dm.address.base && fresh.beamStride === dm.address.beamStride && fresh.channelStride === dm.address.channelStride && fresh.fill === dm.fill;
+    checks.push({
+      check: `devices: ${DEVICE_MAP_FILE} and layout = recomputed from the scenario`,
+      ok: same,
+      detail: same ? `${fresh.source === "map" ? "map file" : fresh.source === "elements" ? "elements.csv device/channel columns" : "default order"}` : bad >= 0 ? `element ${m.elementIds[bad]}: map.csv says device ${map.spec.device[bad]} channel ${map.spec.channel[bad]}, the scenario gives device ${fresh.device[bad]} channel ${fresh.channel[bad]}` : "the channels, address layout or fill word differ from the scenario's",
+    });
+  }
+  const wb = m.layout.bytes;
+  const B = m.counts.beams;
+  const decoders: Record<DeviceFormat, (p: string) => Uint32Array> = {
+    bin: (p) => wordsFromBinImage(p, wb),
+    mem: (p) => wordsFromMemImage(p),
+    hex: (p) => wordsFromHexImage(p, wb),
+  };
+  // per format: how many images differ (and the first), which could not be read, words read
+  const result = new Map(dm.formats.map((f) => [f, { mm: null as DeviceMismatch | null, devices: 0, unreadable: [] as string[], words: 0, images: 0 }]));
+  const compare = (fmt: DeviceFormat, d: DeviceInfo, file: string, img: Uint32Array, expected: Uint32Array) => {
+    const r = result.get(fmt)!;
+    r.images++;
+    r.words += img.length;
+    const n = Math.max(expected.length, img.length);
+    for (let a = 0; a < n; a++) {
+      if (expected[a] === img[a] && a < expected.length && a < img.length) continue;
+      const at = a < expected.length ? locate(map, d, a) : null;
+      const mm: DeviceMismatch = {
+        file,
+        device: d.id,
+        address: a,
+        frequency_hz: at ? m.frequenciesHz[Math.floor(at.block / B)]! : "",
+        beam: at ? at.block % B : null,
+        channel: at ? at.channel : null,
+        element: at ? m.elementIds[at.element]! : null,
+        expected: a < expected.length ? expected[a]! : -1,
+        found: a < img.length ? img[a]! : -1,
+      };
+      if (!r.devices) r.mm = mm;
+      r.devices++;
+      return mm;
+    }
+    return null;
+  };
+  // batches of decoded images; one pass of the table engine fills each batch's expected images
+  let batch: { fmt: DeviceFormat; d: DeviceInfo; file: string; img: Uint32Array; expected: Uint32Array }[] = [];
+  let held = 0;
+  const flush = () => {
+    if (!batch.length) return;
+    const spec = map.spec;
+    words.run((blk, w) => {
+      for (const it of batch) for (const c of it.d.used) it.expected[address(spec, blk, c)] = w[it.d.elementOfChannel[c]!]!;
+    });
+    // compared in format order, then device order (the first mismatch is the first in that order)
+    for (const fmt of dm.formats)
+      for (const it of batch) {
+        if (it.fmt !== fmt) continue;
+        const mm = compare(it.fmt, it.d, it.file, it.img, it.expected);
+        if (mm && !first) first = mm;
+      }
+    batch = [];
+    held = 0;
+  };
+  for (const d of map.devices)
+    for (const fmt of dm.formats) {
+      const file = deviceFile(d.id, fmt);
+      let img: Uint32Array;
+      try {
+        img = decoders[fmt](join(dir, file));
+      } catch (e) {
+        result.get(fmt)!.unreadable.push(`${file}: ${e instanceof ImageFormatError ? e.message : (e as Error).message}`);
+        continue;
+      }
+      batch.push({ fmt, d, file, img, expected: new Uint32Array(d.words).fill(map.spec.fill) });
+      held += img.length + d.words;
+      if (held >= budgetWords) flush();
+    }
+  flush();
+  for (const fmt of dm.formats) {
+    const r = result.get(fmt)!;
+    const { unreadable, mm } = r;
+    if (unreadable.length) checks.push({ check: `devices: dev-*.${fmt} readable`, ok: false, detail: unreadable.slice(0, 4).join("; ") + (unreadable.length > 4 ? `; … ${unreadable.length - 4} more` : "") });
+    const what = (x: number) => (x < 0 ? "nothing (past the end)" : hexw(x, wb));
+    const detail = !mm
+      ? `${r.images} image(s), ${r.words} words`
+      : `${r.devices} image(s) differ; first ${mm.file}, address ${mm.address}` +
+        (mm.beam !== null ? ` (frequency ${mm.frequency_hz} Hz, beam ${mm.beam}, channel ${mm.channel}, element ${mm.element})` : mm.expected >= 0 ? " (unused address: expected the fill word)" : " (past the image's end)") +
+        `: expected ${what(mm.expected)}, found ${what(mm.found)}`;
+    checks.push({ check: `devices: dev-*.${fmt} = ${words.name}`, ok: r.devices === 0 && !unreadable.length, detail });
+  }
+  return { checks, first };
+}
+
+export interface DeviceDiff {
+  /** the old build had no devices, or a different map, address layout or fill word */
+  layoutChanged: boolean;
+  devices: number;
+  devicesChanged: number;
+  /** changed devices only, ascending id; address ranges inclusive, in the new build's layout */
+  changed: { device: number; wordsChanged: number; ranges: [number, number][] }[];
+}
+
+/** Per device of the new build: how many words changed and which address ranges to reload. */
+export function deviceDiff(dirA: string, a: BuildInfo, dirB: string, b: BuildInfo, changes: { frequency_hz: string; beam: number; element: number }[]): DeviceDiff | null {
+  if (!b.devices) return null;
+  const map = readDeviceMap(dirB, b);
+  const fIndex = new Map(b.frequenciesHz.map((f, i) => [f, i]));
+  const eIndex = new Map(b.elementIds.map((id, i) => [id, i]));
+  const byDevice = new Map<number, number[]>();
+  for (const c of changes) {
+    const e = eIndex.get(c.element)!;
+    const blk = fIndex.get(c.frequency_hz)! * b.counts.beams + c.beam;
+    const id = map.spec.device[e]!;
+    let list = byDevice.get(id);
+    if (!list) byDevice.set(id, (list = []));
+    list.push(address(map.spec, blk, map.spec.channel[e]!));
+  }
+  const info = new Map(map.devices.map((d) => [d.id, d]));
+  const changed = [...byDevice.entries()]
+    .sort((x, y) => x[0] - y[0])
+    .map(([id, addrs]) => {
+      addrs.sort((x, y) => x - y);
+      return { device: id, wordsChanged: addrs.length, ranges: addressRanges(map, info.get(id)!, addrs) };
+    });
+  const key = (m: BuildInfo) => (m.devices ? JSON.stringify([m.devices.channels, m.devices.address, m.devices.fill, m.files[DEVICE_MAP_FILE]?.sha256]) : "");
+  return { layoutChanged: key(a) !== key(b) || !existsSync(join(dirA, DEVICE_MAP_FILE)), devices: map.devices.length, devicesChanged: changed.length, changed };
+}
+
+export function deviceDiffLines(d: DeviceDiff, limit = 16): string[] {
+  const lines = [`devices: ${d.devicesChanged} of ${d.devices} device image(s) changed${d.layoutChanged ? " (the device layout differs from the old build's: reload every image in full; ranges below are in the new layout)" : ""}`];
+  for (const c of d.changed.slice(0, limit)) {
+    const r = c.ranges.slice(0, 6).map(([s, e]) => (s === e ? `${s}` : `${s}–${e}`));
+    lines.push(`  device ${c.device}: ${c.wordsChanged} word(s) at address${c.ranges.length > 1 || c.ranges[0]![0] !== c.ranges[0]![1] ? "es" : ""} ${r.join(", ")}${c.ranges.length > 6 ? `, … (${c.ranges.length} ranges)` : ""}`);
+  }
+  if (d.changed.length > limit) lines.push(`  … ${d.changed.length - limit} more device(s) (--json lists them all)`);
+  return lines;
+}
+
+export interface BusModel {
+  clockHz: number;
+  /** bits clocked per word (default: the word's bytes × 8) */
+  wordBits: number;
+  /** framing bits per word (command, address, chip select gaps …) */
+  overheadBits: number;
+}
+
+export interface DeviceFact {
+  id: number;
+  channelsUsed: number;
+  addressesUsed: number;
+  words: number;
+  bytes: number;
+  loadSeconds: number | null;
+}
+
+/** check: per device, channels and addresses used, image size, full-load time over the bus. */
+export function deviceFacts(plan: Plan, bus: BusModel | null): { map: DeviceMap; facts: DeviceFact[] } | null {
+  if (!plan.devices) return null;
+  const blocks = plan.frequenciesHz.length * plan.beams.count;
+  const map = buildDeviceMap(plan.devices, blocks);
+  const facts = map.devices.map((d) => ({
+    id: d.id,
+    channelsUsed: d.used.length,
+    addressesUsed: blocks * d.used.length,
+    words: d.words,
+    bytes: d.words * plan.word.bytes,
+    loadSeconds: bus ? loadSeconds(d.words, bus.wordBits, bus.overheadBits, bus.clockHz) : null,
+  }));
+  return { map, facts };
+}
