@@ -2,6 +2,10 @@ import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
 import { deriveFacts } from "../core/facts.js";
 import { loadScenario } from "../io/scenario.js";
 import { fmt, printJson, SAFETY, type Io } from "./shared.js";
+import { parseQuantity } from "../core/units.js";
+import { UsageError } from "./usage.js";
+import { deviceFacts, type BusModel, type DeviceFact } from "../workflows/devices.js";
+import type { Plan } from "../core/plan.js";
 
 /** "listed set (lines 5–260)" or "interpolated: 0.75 × 27 GHz set (lines …) + 0.25 × 29 GHz set (lines …)" */
 export function servedText(s: CalibrationServed): string {
@@ -9,13 +13,61 @@ export function servedText(s: CalibrationServed): string {
   return `interpolated: ${s.from.map((f) => `${f.weight} × the ${f.frequencyHz} Hz set (lines ${f.lines})`).join(" + ")} (gain linear in dB, phase the shorter way round)`;
 }
 
-export function checkCommand(io: Io, scenario: string): number {
+export interface BusOptions {
+  clockHz: number | null;
+  wordBits: number | null;
+  overheadBits: number;
+}
+
+/** --bus-clock (a frequency with a unit), --bus-word-bits, --bus-overhead-bits. */
+export function busOptions(clock: unknown, wordBits: unknown, overhead: unknown): BusOptions {
+  let clockHz: number | null = null;
+  if (clock !== undefined) {
+    const q = parseQuantity(String(clock).replace(/^([0-9.eE+-]+)([a-zA-Z])/, "$1 $2"), "frequency");
+    if (!q.ok || !(q.q.value > 0)) throw new UsageError(`--bus-clock: expected a clock frequency > 0 such as 10MHz, got ${String(clock)}`);
+    clockHz = q.q.value;
+  }
+  const whole = (name: string, v: unknown, min: number) => {
+    const n = Number(v);
+    if (!Number.isInteger(n) || n < min || n > 4096) throw new UsageError(`--${name}: expected a whole number from ${min} to 4096, got ${String(v)}`);
+    return n;
+  };
+  return { clockHz, wordBits: wordBits === undefined ? null : whole("bus-word-bits", wordBits, 1), overheadBits: whole("bus-overhead-bits", overhead ?? 0, 0) };
+}
+
+function busModel(plan: Plan, o: BusOptions): BusModel | null {
+  return o.clockHz === null ? null : { clockHz: o.clockHz, wordBits: o.wordBits ?? plan.word.bytes * 8, overheadBits: o.overheadBits };
+}
+
+function seconds(s: number): string {
+  return s >= 1 ? `${s.toPrecision(4)} s` : s >= 1e-3 ? `${(s * 1e3).toPrecision(4)} ms` : `${(s * 1e6).toPrecision(4)} µs`;
+}
+
+/** One line per run of consecutive devices with the same figures. */
+function deviceLines(facts: DeviceFact[], bus: BusModel | null): string[] {
+  const lines: string[] = [];
+  let i = 0;
+  while (i < facts.length) {
+    const f = facts[i]!;
+    let j = i;
+    while (j + 1 < facts.length && facts[j + 1]!.channelsUsed === f.channelsUsed && facts[j + 1]!.words === f.words && facts[j + 1]!.id === facts[j]!.id + 1) j++;
+    const ids = j > i ? `devices ${f.id}–${facts[j]!.id}` : `device ${f.id}`;
+    lines.push(`  ${ids.padEnd(16)} ${f.channelsUsed} channel(s) used, ${f.addressesUsed} addresses used, image ${f.words} words = ${f.bytes} bytes${bus ? `, full load ${seconds(f.loadSeconds!)}` : ""}${j > i ? " each" : ""}`);
+    i = j + 1;
+  }
+  return lines;
+}
+
+export function checkCommand(io: Io, scenario: string, bus: BusOptions = { clockHz: null, wordBits: null, overheadBits: 0 }): number {
   const loaded = loadScenario(scenario);
   const plan = loaded.plan;
   const f = deriveFacts(plan);
   const cal = loaded.inputs.find((i) => i.role === "calibration");
+  const model = busModel(plan, bus);
+  const dev = deviceFacts(plan, model);
   if (io.json) {
-    printJson(io, { ok: true, scenario, name: plan.name, facts: f, calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments, ...(plan.calServed ? { perFrequency: plan.calServed } : {}) } : null, warnings: f.warnings });
+    const devices = dev ? { channels: dev.map.spec.channels, address: { base: dev.map.spec.base, beamStride: dev.map.spec.beamStride, channelStride: dev.map.spec.channelStride }, fill: dev.map.spec.fill, source: dev.map.spec.source, bus: model, totalLoadSeconds: model ? dev.facts.reduce((a, d) => a + d.loadSeconds!, 0) : null, list: dev.facts } : null;
+    printJson(io, { ok: true, scenario, name: plan.name, facts: f, calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments, ...(plan.calServed ? { perFrequency: plan.calServed } : {}) } : null, warnings: f.warnings, ...(dev ? { devices } : {}) });
     return 0;
   }
   const lines: string[] = [];
@@ -48,6 +100,16 @@ export function checkCommand(io: Io, scenario: string): number {
     } else lines.push(`  inst. bandwidth  every beam at broadside: phase steering does not squint`);
     const served = plan.calServed?.[f.perFrequency.indexOf(pf)];
     if (served) lines.push(`  calibration      ${servedText(served)}`);
+  }
+  if (dev) {
+    const s = dev.map.spec;
+    lines.push("");
+    lines.push(`devices    ${dev.facts.length} device(s) × ${s.channels} channels (${s.source === "map" ? "map file" : s.source === "elements" ? "elements.csv device/channel columns" : "default order"}); address = ${s.base} + (frequency·${plan.beams.count} + beam)·${s.beamStride} + channel·${s.channelStride}; fill ${s.fill}`);
+    if (model) {
+      const total = dev.facts.reduce((a, d) => a + d.loadSeconds!, 0);
+      lines.push(`  bus: ${model.clockHz} Hz clock, ${model.wordBits} + ${model.overheadBits} bits a word; all images one after another ${seconds(total)}`);
+    } else lines.push("  (give --bus-clock, e.g. 10MHz, for each image's full-load time)");
+    lines.push(...deviceLines(dev.facts, model));
   }
   if (f.warnings.length) {
     lines.push("");

@@ -7,6 +7,7 @@ import { writeFileSync } from "node:fs";
 import { sha256 } from "../io/files.js";
 import { fmt, printJson, type Io } from "./shared.js";
 import { servedText } from "./check.js";
+import { deviceDiffLines } from "../workflows/devices.js";
 
 /** Write changes.csv and diff.json into `dir` (used by `diff -o` and `build --compare`). Returns file digests. */
 export function writeDiffFiles(dir: string, r: DiffResult, a: string, b: string) {
@@ -38,6 +39,7 @@ export function diffLines(r: DiffResult): string[] {
   }
   for (const c of s.calibrationServed ?? [])
     lines.push(`calibration at ${c.frequencyHz} Hz: ${c.old ? servedText(c.old) : "one set for every frequency"}${c.changed ? ` → ${c.new ? servedText(c.new) : "one set for every frequency"}` : " (same rows)"}`);
+  if (s.devices) lines.push(...deviceDiffLines(s.devices));
   return lines;
 }
 

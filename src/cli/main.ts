@@ -128,8 +128,16 @@ export async function main(argv: string[]): Promise<number> {
       builder: (y) =>
         y
           .positional("scenario", { type: "string", demandOption: true, describe: "the scenario file (JSON, steercode-scenario/1)" })
-          .example("$0 check fixtures/demo/scenario.json", "every problem at once, then wavelengths, grating-lobe limits, table size"),
-      handler: (a) => run(async () => (await import("./check.js")).checkCommand(io, String(a.scenario)))(),
+          .option("bus-clock", { type: "string", describe: "serial clock that loads the device images, e.g. 10MHz: check prints each device's full-load time" })
+          .option("bus-word-bits", { type: "number", describe: "bits clocked per word (default: the word's bytes × 8)" })
+          .option("bus-overhead-bits", { type: "number", default: 0, describe: "framing bits per word on the bus (command, address, gaps)" })
+          .example("$0 check fixtures/demo/scenario.json", "every problem at once, then wavelengths, grating-lobe limits, table size")
+          .example("$0 check scenario.json --bus-clock 10MHz --bus-overhead-bits 8", "with devices: each image's size and full-load time over the bus"),
+      handler: (a) =>
+        run(async () => {
+          const m = await import("./check.js");
+          return m.checkCommand(io, String(a.scenario), m.busOptions(a["bus-clock"], a["bus-word-bits"], a["bus-overhead-bits"]));
+        })(),
     })
     .command({
       command: "build <scenario>",

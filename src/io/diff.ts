@@ -10,6 +10,8 @@ import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
 import { buildWords, readManifest } from "./readbuild.js";
 import { stableJson } from "./build.js";
 import { HashedFile, type FileDigest } from "./hashed.js";
+import { deviceDiff, type DeviceDiff } from "../workflows/devices.js";
+import { ImageFormatError } from "../formats/device-read.js";
 
 export interface Change {
   frequency_hz: string;
@@ -39,6 +41,8 @@ export interface DiffSummary {
   newCalibration: CalibrationRef | null;
   /** Only when either build's cal.csv has a frequency_hz column: per frequency, the set(s) that served it before and after. */
   calibrationServed?: { frequencyHz: string; old: CalibrationServed | null; new: CalibrationServed | null; changed: boolean }[];
+  /** Per device of the new build (only when it has `devices`): words changed and address ranges to reload. */
+  devices?: DeviceDiff;
 }
 
 export interface CalibrationRef {
@@ -132,6 +136,13 @@ export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nam
       const o = sa?.[i] ?? null, n = sb?.[i] ?? null;
       return { frequencyHz: f, old: o, new: n, changed: stableJson(o) !== stableJson(n) };
     });
+  try {
+    const dd = deviceDiff(dirA, a, dirB, b, changes);
+    if (dd) summary.devices = dd;
+  } catch (e) {
+    if (e instanceof ImageFormatError) throw new InputError({ file: dirB, message: `${e.message}; run steercode verify on it` });
+    throw e;
+  }
   return { identical: changes.length === 0, summary, changes, wordBits: a.layout.bits };
 }
 

@@ -11,6 +11,8 @@ import { baseScenario, cli, tempDir } from "../helpers.js";
 
 const CAL8 = "element,phase_offset_deg,gain_offset_db\n" + Array.from({ length: 8 }, (_, i) => `${i},0,0`).join("\n") + "\n";
 const ELS = (rows: string[]) => "element,x_m,y_m\n" + rows.join("\n") + "\n";
+/** element,device,channel: elements 0–3 on device 0, 4–7 on device 1 */
+const DEVMAP = "element,device,channel\n" + Array.from({ length: 8 }, (_, i) => `${i},${i >> 2},${i & 3}`).join("\n") + "\n";
 const line8 = Array.from({ length: 8 }, (_, i) => `${i},${(i * 0.015).toFixed(3)},0`);
 
 interface Case {
@@ -217,6 +219,25 @@ const cases: Case[] = [
     args: (d) => ["report", join(d, "out"), "-o", join(d, "out", "manifest.json")],
     expect: [/manifest\.json: exists and is not a steercode report \(it is a steercode output file\); report -o may replace only an earlier report/],
   },
+  // devices: one beam memory per beamformer IC (8 elements, 3 beams; default 4 channels → devices 0 and 1)
+  { name: "devices: channel past the device in the map", doc: B({ devices: { channels: 4, map: "dev.csv" } }), files: { "dev.csv": DEVMAP.replace("\n7,1,3", "\n7,1,4") }, expect: [/dev\.csv, line 9, column channel: channel 4 does not exist on a 4-channel device; expected 0 … 3/] },
+  { name: "devices: two elements on one channel", doc: B({ devices: { channels: 4, map: "dev.csv" } }), files: { "dev.csv": DEVMAP.replace("\n7,1,3", "\n7,1,2") }, expect: [/dev\.csv, line 9, column channel: element 7 and element 6 \(line 8\) are both on device 1 channel 2/] },
+  { name: "devices: unknown element in the map", doc: B({ devices: { channels: 4, map: "dev.csv" } }), files: { "dev.csv": DEVMAP + "12,2,0\n" }, expect: [/dev\.csv, line 10, column element: element 12 is not in the array/] },
+  { name: "devices: the map misses an element", doc: B({ devices: { channels: 4, map: "dev.csv" } }), files: { "dev.csv": DEVMAP.replace("\n7,1,3", "") }, expect: [/dev\.csv: missing 1 element\(s\): 7; expected a row for every element/] },
+  { name: "devices: map cell not a whole number", doc: B({ devices: { channels: 4, map: "dev.csv" } }), files: { "dev.csv": DEVMAP.replace("\n7,1,3", "\n7,1,x") }, expect: [/dev\.csv, line 9, column channel: expected a whole number ≥ 0, got "x"/] },
+  { name: "devices: map file missing", doc: B({ devices: { channels: 4, map: "nope.csv" } }), expect: [/nope\.csv: \/devices\/map: file not found/] },
+  { name: "devices: beam stride smaller than the channels it must hold", doc: B({ devices: { channels: 4, address: { beamStride: 2 } } }), expect: [/\/devices\/address\/beamStride: beamStride 2 is smaller than the 4 words the channels of device 0 span .*expected a beamStride ≥ 4/] },
+  { name: "devices: overlapping addresses", doc: B({ devices: { channels: 4, address: { beamStride: 1, channelStride: 2 } } }), expect: [/\/devices\/address: overlapping addresses on device 0: beam 2 channel 0 and beam 0 channel 1 both map to address 2/] },
+  { name: "devices: an image past 4 GiB", doc: B({ devices: { channels: 4, address: { base: 4294967295 } } }), expect: [/\/devices\/address: device 0's image would hold 4294967307 words .*expected at most 4294967296 bytes/] },
+  { name: "devices: fill word too wide", doc: B({ devices: { channels: 4, fill: 70000 } }), expect: [/\/devices\/fill: expected a fill word that fits in 16 bits/] },
+  { name: "devices: no channels", doc: B({ devices: { channels: 0 } }), expect: [/\/devices\/channels: expected a number >= 1/] },
+  { name: "devices: misspelt key", doc: B({ devices: { channels: 4, adress: { base: 0 } } }), expect: [/\/devices: unknown key "adress"; did you mean "address"\?/] },
+  { name: "devices: elements.csv device cell not a number", doc: B({ array: { elements: "el.csv" }, devices: { channels: 4 } }), files: { "el.csv": "element,x_m,y_m,device,channel\n0,0,0,0,0\n1,0.01,0,zero,1\n" }, expect: [/el\.csv, line 3, column device: expected a whole number ≥ 0/] },
+  { name: "devices: elements.csv channel past the device", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device,channel\n0,0,0,0,0\n1,0.01,0,0,2\n" }, expect: [/el\.csv, line 3, column channel: channel 2 does not exist on a 2-channel device/] },
+  { name: "devices: elements.csv two elements on one channel", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device,channel\n0,0,0,3,1\n1,0.01,0,3,1\n" }, expect: [/el\.csv, line 3, column channel: element 1 and element 0 \(line 2\) are both on device 3 channel 1/] },
+  { name: "devices: elements.csv with a device column but no channel column", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device\n0,0,0,3\n1,0.01,0,3\n" }, expect: [/el\.csv: has a device column but no channel column; expected both/] },
+  { name: "check --bus-clock that is not a frequency", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10 parsec"], expect: [/--bus-clock: expected a clock frequency > 0 such as 10MHz, got 10 parsec/] },
+  { name: "check --bus-overhead-bits negative", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10MHz", "--bus-overhead-bits", "-1"], expect: [/--bus-overhead-bits: expected a whole number from 0 to 4096, got -1/] },
 ];
 
 describe("bad input: exit 2, a message naming file and field or line, nothing written", () => {
