@@ -20,7 +20,7 @@ const ONLY = process.env.BENCH_ONLY ?? null;
 const median = (a) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
 
 
-function scenario(name, side, beams, outputs, withCal = true) {
+function scenario(name, side, beams, outputs, withCal = true, extra = {}) {
   const dir = join(tmp, name);
   spawnSync("mkdir", ["-p", dir]);
   const doc = {
@@ -34,6 +34,7 @@ function scenario(name, side, beams, outputs, withCal = true) {
     taper: { kind: "taylor", sidelobe: "-30 dB", nbar: 4 },
     word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 6 }, { name: "atten", shift: 8, width: 6 }] },
     outputs,
+    ...extra,
   };
   if (withCal) {
     const r = mulberry32(side * 7919);
@@ -89,6 +90,25 @@ if (!ONLY) {
     peakRssMB: rss / 1024,
     targets: { wordsPerSecond: 50e6, peakRssMB: 300 },
   };
+}
+
+// ---- 1b. the same build with one beam memory per 4-channel IC (1024 devices): .bin, .mem and .hex each,
+// in the default beam-major layout (streamed in address order) and channel-major (positional writes)
+results.devices = [];
+for (const [label, address] of [["beam-major (default)", undefined], ["channel-major", { beamStride: 1, channelStride: 4096 }]]) {
+  const devices = { channels: 4, ...(address ? { address } : {}) };
+  const s = scenario(`devices-${results.devices.length}`, 64, { kind: "uv", u: { from: -0.63, to: 0.63, step: 0.02 }, v: { from: -0.63, to: 0.63, step: 0.02 } }, ["bin"], false, { devices });
+  const out = join(tmp, "devices-out");
+  const ms = [];
+  let rss = 0, words = 0;
+  for (let i = 0; i < RUNS; i++) {
+    const c = childBuild(s, out, false, 1);
+    ms.push(c.loadMs + c.buildMs);
+    rss = Math.max(rss, c.maxRssKb);
+    words = c.words;
+    rmSync(out, { recursive: true, force: true });
+  }
+  results.devices.push({ layout: label, devices: 1024, formats: ["bin", "mem", "hex"], words, buildMs: median(ms), peakRssMB: rss / 1024, targets: { peakRssMB: 300 } });
 }
 
 // ---- 2. full build with analysis vs the numpy/scipy baseline: 32×32, Taylor, calibration, 21×21 az/el
@@ -236,6 +256,7 @@ console.log(`| benchmark | result | target |\n|---|---|---|`);
 console.log(`| codes-only build, 4096 elements × 4096 beams → table.bin (load + build, in process) | ${f(c.buildMs)} ms, ${f(c.wordsPerSecond / 1e6, 1)} M words/s | ≥ 50 M words/s |`);
 console.log(`| same, whole CLI process (node start-up included) | ${f(c.cliWallMs)} ms, ${f(c.cliWordsPerSecond / 1e6, 1)} M words/s | — |`);
 console.log(`| peak memory of that build | ${f(c.peakRssMB)} MB | < 300 MB |`);
+for (const d of results.devices) console.log(`| same build plus ${d.devices} device images (4 channels each; .bin, .mem, .hex), ${d.layout} layout: load + build / peak memory | ${f(d.buildMs)} ms / ${f(d.peakRssMB)} MB | < 300 MB |`);
 console.log(`| full build with analysis, 32×32, 441 beams, all outputs (CLI wall) | ${f(an.steercodeWallMs)} ms | ≤ baseline |`);
 console.log(`| numpy/scipy baseline, same scenario (wall) | ${f(an.baselineWallMs)} ms | — |`);
 console.log(`| ratio steercode / baseline | ${f(an.ratio, 2)} | ≤ 1 |`);

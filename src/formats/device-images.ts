@@ -13,7 +13,7 @@
  * chunks, to hash it and to derive its .mem and .hex (a .bin that is not an output is a
  * scratch file, removed afterwards).
  */
-import { appendFileSync, closeSync, openSync, readSync, rmSync, writeFileSync, writeSync, mkdirSync } from "node:fs";
+import { closeSync, openSync, readSync, rmSync, writeSync, mkdirSync } from "node:fs";
 import { createHash } from "node:crypto";
 import { crc32 } from "node:zlib";
 import { join } from "node:path";
@@ -26,7 +26,11 @@ export const DEVICE_MAP_FILE = "devices/map.csv";
 export const deviceFile = (id: number, ext: "bin" | "mem" | "hex") => `${DEVICES_DIR}/dev-${id}.${ext}`;
 
 /** Total bytes the per-device write buffers may hold at once. */
-const BUFFER_BUDGET = 8 << 20;
+const BUFFER_BUDGET = 32 << 20;
+/** Up to this many devices keep their .bin open from creation to the end (opening files is slow on some file systems); more reopen per flush. */
+const KEEP_OPEN = 4096;
+/** Largest region a positional flush reads, patches and writes back. */
+const PATCH_REGION = 1 << 20;
 const READ_CHUNK = 48 * 21845; // 1 048 560 bytes: a multiple of 16 (hex records) and of 1, 2, 3 and 4 (word sizes)
 
 export interface DeviceImageContext {
@@ -39,11 +43,22 @@ export interface DeviceImageContext {
 interface Sink {
   dev: DeviceInfo;
   path: string;
-  /** sequential: bytes pending append; positional: pending (address, word) pairs */
+  fd: number | null;
+  /** bytes written so far (sequential) */
+  size: number;
+  /** element index of each used channel */
+  els: Int32Array;
+  /** sequential: byte offset of each used channel inside a beam block */
+  offs: Int32Array;
+  /** sequential: one beam block of fill words (null when a block is too large: written through fill()) */
+  template: Buffer | null;
+  /** sequential: bytes pending append */
   buf: Buffer;
   len: number;
-  addr: Float64Array | null;
-  word: Uint32Array | null;
+  /** positional: pending words, [used channel][pending block] */
+  pend: Uint32Array | null;
+  capBlocks: number;
+  firstBlock: number;
   n: number;
 }
 
@@ -51,31 +66,69 @@ export class DeviceImageWriter {
   private readonly sinks: Sink[] = [];
   private readonly wb: number;
   private readonly fillChunk: Buffer;
+  private readonly keepOpen: boolean;
   constructor(private readonly root: string, private readonly ctx: DeviceImageContext) {
     const map = ctx.map;
-    this.wb = ctx.wordBytes;
+    const spec = map.spec;
+    const wb = (this.wb = ctx.wordBytes);
     mkdirSync(join(root, DEVICES_DIR));
-    this.fillChunk = Buffer.alloc(4096 * this.wb);
-    for (let i = 0; i < 4096; i++) this.fillChunk.writeUIntLE(map.spec.fill, i * this.wb, this.wb);
-    const per = Math.max(64 * this.wb, Math.floor(BUFFER_BUDGET / Math.max(1, map.devices.length)));
-    for (const dev of map.devices) {
-      const path = join(root, deviceFile(dev.id, "bin"));
-      writeFileSync(path, "", { flag: "wx" });
-      if (dev.sequential) {
-        this.sinks.push({ dev, path, buf: Buffer.allocUnsafe(per), len: 0, addr: null, word: null, n: 0 });
-      } else {
-        const pairs = Math.max(dev.used.length, Math.floor(per / 12));
-        const s: Sink = { dev, path, buf: Buffer.allocUnsafe(0), len: 0, addr: new Float64Array(pairs), word: new Uint32Array(pairs), n: 0 };
+    this.fillChunk = Buffer.alloc(4096 * wb);
+    for (let i = 0; i < 4096; i++) this.fillChunk.writeUIntLE(spec.fill, i * wb, wb);
+    this.keepOpen = map.devices.length <= KEEP_OPEN;
+    const per = Math.max(256 * wb, Math.floor(BUFFER_BUDGET / Math.max(1, map.devices.length)));
+    try {
+      for (const dev of map.devices) {
+        const path = join(root, deviceFile(dev.id, "bin"));
+        const fd = openSync(path, "wx+");
+        if (!this.keepOpen) closeSync(fd);
+        const els = Int32Array.from(dev.used, (c) => dev.elementOfChannel[c]!);
+        const blockBytes = spec.beamStride * wb;
+        const s: Sink = { dev, path, fd: this.keepOpen ? fd : null, size: 0, els, offs: Int32Array.from(dev.used, (c) => c * spec.channelStride * wb), template: null, buf: Buffer.allocUnsafe(0), len: 0, pend: null, capBlocks: 0, firstBlock: 0, n: 0 };
         this.sinks.push(s);
-        this.prefill(s);
+        if (dev.sequential) {
+          s.buf = Buffer.allocUnsafe(Math.max(per, blockBytes <= PATCH_REGION ? blockBytes : 0));
+          if (blockBytes <= PATCH_REGION) {
+            s.template = Buffer.allocUnsafe(blockBytes);
+            for (let o = 0; o < blockBytes; o += this.fillChunk.length) this.fillChunk.copy(s.template, o, 0, Math.min(this.fillChunk.length, blockBytes - o));
+          }
+          this.fill(s, spec.base); // sequential images start with `base` words of fill
+        } else {
+          s.capBlocks = Math.max(1, Math.min(Math.floor(per / (els.length * 4)), spec.beamStride === 1 ? Infinity : Math.floor(PATCH_REGION / blockBytes)));
+          s.pend = new Uint32Array(s.capBlocks * els.length);
+          this.prefill(s);
+        }
       }
+    } catch (e) {
+      this.close();
+      throw e;
     }
-    // sequential images start with `base` words of fill
-    for (const s of this.sinks) if (s.dev.sequential) this.fill(s, map.spec.base);
   }
 
+  /** Close every descriptor still open (after end(), or when the build is abandoned). */
+  close(): void {
+    for (const s of this.sinks) {
+      if (s.fd !== null) closeSync(s.fd);
+      s.fd = null;
+    }
+  }
+
+  private withFd<T>(s: Sink, fn: (fd: number) => T): T {
+    if (s.fd !== null) return fn(s.fd);
+    const fd = openSync(s.path, "r+");
+    try {
+      return fn(fd);
+    } finally {
+      closeSync(fd);
+    }
+  }
+  private writeAt(fd: number, buf: Buffer, len: number, pos: number): void {
+    let off = 0;
+    while (off < len) off += writeSync(fd, buf, off, len - off, pos + off);
+  }
   private flushSeq(s: Sink): void {
-    if (s.len) appendFileSync(s.path, s.buf.subarray(0, s.len));
+    if (!s.len) return;
+    this.withFd(s, (fd) => this.writeAt(fd, s.buf, s.len, s.size));
+    s.size += s.len;
     s.len = 0;
   }
   private fill(s: Sink, words: number): void {
@@ -89,42 +142,40 @@ export class DeviceImageWriter {
     }
   }
   private prefill(s: Sink): void {
-    const fd = openSync(s.path, "r+");
-    try {
-      let left = s.dev.words * this.wb;
-      while (left > 0) {
-        const m = Math.min(left, this.fillChunk.length);
-        writeSync(fd, this.fillChunk, 0, m);
-        left -= m;
+    this.withFd(s, (fd) => {
+      let at = 0;
+      const total = s.dev.words * this.wb;
+      while (at < total) {
+        const m = Math.min(total - at, this.fillChunk.length);
+        this.writeAt(fd, this.fillChunk, m, at);
+        at += m;
       }
-    } finally {
-      closeSync(fd);
-    }
+    });
   }
+  /** Positional: per used channel, the pending blocks' words sit at address(first + j, c): one run (beamStride 1) or a patched region. */
   private flushPos(s: Sink): void {
     if (!s.n) return;
+    const spec = this.ctx.map.spec;
+    const wb = this.wb;
+    const S = spec.beamStride;
     const n = s.n;
-    const order = new Uint32Array(n);
-    for (let i = 0; i < n; i++) order[i] = i;
-    const addr = s.addr!;
-    order.sort((a, b) => addr[a]! - addr[b]!);
-    const run = Buffer.allocUnsafe(n * this.wb);
-    const fd = openSync(s.path, "r+");
-    try {
-      let i = 0;
-      while (i < n) {
-        let j = i;
-        let len = 0;
-        for (; j < n && (j === i || addr[order[j]!] === addr[order[j - 1]!]! + 1); j++) {
-          run.writeUIntLE(s.word![order[j]!]!, len, this.wb);
-          len += this.wb;
+    const region = Buffer.allocUnsafe(((n - 1) * S + 1) * wb);
+    this.withFd(s, (fd) => {
+      s.dev.used.forEach((c, k) => {
+        const start = address(spec, s.firstBlock, c) * wb;
+        const len = ((n - 1) * S + 1) * wb;
+        if (S > 1) {
+          let got = 0;
+          while (got < len) {
+            const r = readSync(fd, region, got, len - got, start + got);
+            if (!r) throw new Error(`device ${s.dev.id}: image shorter than its prefill`);
+            got += r;
+          }
         }
-        writeSync(fd, run, 0, len, addr[order[i]!]! * this.wb);
-        i = j;
-      }
-    } finally {
-      closeSync(fd);
-    }
+        for (let j = 0; j < n; j++) region.writeUIntLE(s.pend![k * s.capBlocks + j]!, j * S * wb, wb);
+        this.writeAt(fd, region, len, start);
+      });
+    });
     s.n = 0;
   }
 
@@ -136,28 +187,43 @@ export class DeviceImageWriter {
     const last = blk === map.blocks - 1;
     const wb = this.wb;
     for (const s of this.sinks) {
-      const d = s.dev;
-      const eoc = d.elementOfChannel;
-      if (d.sequential) {
+      const els = s.els;
+      const nu = els.length;
+      if (s.pend) {
+        if (s.n === s.capBlocks) this.flushPos(s);
+        if (s.n === 0) s.firstBlock = blk;
+        const pend = s.pend;
+        for (let k = 0; k < nu; k++) pend[k * s.capBlocks + s.n] = words[els[k]!]!;
+        s.n++;
+      } else if (s.template) {
+        // a whole block: fill words, then the channels' words over them (the last block ends at its last used word)
+        const bytes = last ? s.offs[nu - 1]! + wb : s.template.length;
+        if (s.len + bytes > s.buf.length) this.flushSeq(s);
+        const buf = s.buf;
+        const at = s.len;
+        if (bytes > nu * wb) s.template.copy(buf, at, 0, bytes);
+        const offs = s.offs;
+        for (let k = 0; k < nu; k++) {
+          const w = words[els[k]!]!;
+          const o = at + offs[k]!;
+          buf[o] = w & 255;
+          if (wb > 1) buf[o + 1] = (w >>> 8) & 255;
+          if (wb > 2) buf[o + 2] = (w >>> 16) & 255;
+          if (wb > 3) buf[o + 3] = w >>> 24;
+        }
+        s.len += bytes;
+      } else {
+        // blocks larger than the patch region: word by word with fill() in between
         let pos = 0;
-        for (const c of d.used) {
-          const off = c * spec.channelStride;
+        for (let k = 0; k < nu; k++) {
+          const off = s.offs[k]! / wb;
           if (off > pos) this.fill(s, off - pos);
           if (s.len + wb > s.buf.length) this.flushSeq(s);
-          const w = words[eoc[c]!]!;
-          const buf = s.buf;
-          for (let k = 0; k < wb; k++) buf[s.len + k] = (w >>> (8 * k)) & 255;
+          s.buf.writeUIntLE(words[els[k]!]!, s.len, wb);
           s.len += wb;
           pos = off + 1;
         }
         if (!last) this.fill(s, spec.beamStride - pos);
-      } else {
-        for (const c of d.used) {
-          if (s.n === s.addr!.length) this.flushPos(s);
-          s.addr![s.n] = address(spec, blk, c);
-          s.word![s.n] = words[eoc[c]!]!;
-          s.n++;
-        }
       }
     }
   }
@@ -167,8 +233,8 @@ export class DeviceImageWriter {
     const out: Record<string, FileDigest & { withCrc: boolean }> = {};
     const formats = this.ctx.map.spec.formats;
     for (const s of this.sinks) {
-      if (s.dev.sequential) this.flushSeq(s);
-      else this.flushPos(s);
+      if (s.pend) this.flushPos(s);
+      else this.flushSeq(s);
     }
     const chunk = Buffer.allocUnsafe(READ_CHUNK);
     for (const s of this.sinks) {
@@ -178,10 +244,11 @@ export class DeviceImageWriter {
       const sha = createHash("sha256");
       let crc = 0;
       let bytes = 0;
-      const fd = openSync(s.path, "r");
+      const fd = s.fd ?? openSync(s.path, "r");
+      s.fd = null;
       try {
         for (;;) {
-          const got = readFully(fd, chunk);
+          const got = readFully(fd, chunk, bytes);
           if (!got) break;
           const view = chunk.subarray(0, got);
           sha.update(view);
@@ -204,10 +271,10 @@ export class DeviceImageWriter {
   }
 }
 
-function readFully(fd: number, buf: Buffer): number {
+function readFully(fd: number, buf: Buffer, at: number): number {
   let got = 0;
   while (got < buf.length) {
-    const n = readSync(fd, buf, got, buf.length - got, null);
+    const n = readSync(fd, buf, got, buf.length - got, at + got);
     if (!n) break;
     got += n;
   }
@@ -243,7 +310,12 @@ class MemText {
       const m = Math.min(n - i, 8192);
       o.ensure(m * (this.digits + 1));
       for (let k = 0; k < m; k++) {
-        o.hex(view.readUIntLE((i + k) * wb, wb), this.digits);
+        const at = (i + k) * wb;
+        let w = view[at]!;
+        if (wb > 1) w |= view[at + 1]! << 8;
+        if (wb > 2) w |= view[at + 2]! << 16;
+        if (wb > 3) w = (w | (view[at + 3]! << 24)) >>> 0;
+        o.hex(w, this.digits);
         o.byte(10);
       }
       this.f.writeTransient(o.view());

@@ -319,3 +319,30 @@ describe("device assignment from elements.csv", () => {
     expect(cli(["verify", join(t, "b")]).code).toBe(0);
   });
 });
+
+describe("less common layouts", () => {
+  it("positional with beamStride > 1 (patched regions) and blocks larger than the write buffer agree with the formula", () => {
+    const t = tempDir();
+    const cases = [
+      // channel c at 10·c + 3·block: channels interleave with gaps (not in address order)
+      { name: "interleaved", devices: { channels: 2, address: { beamStride: 3, channelStride: 10 }, fill: 7, formats: ["bin", "hex"] }, S: 3, T: 10, fill: 7 },
+      // 530 000-word blocks (1.06 MB, more than the 1 MiB patch region): written word by word with fill in between
+      { name: "huge-blocks", devices: { channels: 4, address: { base: 5, beamStride: 530000 }, fill: 9, formats: ["bin"] }, S: 530000, T: 1, fill: 9, base: 5 },
+    ];
+    for (const c of cases) {
+      const s = writeScenario(baseScenario({ calibration: "cal.csv", devices: c.devices }), { "cal.csv": CAL }, join(t, c.name));
+      const dir = join(t, `${c.name}-out`);
+      const r = cli(["build", s, "-o", dir, "--no-analysis"]);
+      expect(r.code, r.stderr).toBe(0);
+      const channels = c.devices.channels;
+      const b: Built = { dir, wb: 2, layout: { base: c.base ?? 0, S: c.S, T: c.T, fill: c.fill, beams: 3, freqs: 1 }, chan: new Map(Array.from({ length: 8 }, (_, e) => [e, [Math.floor(e / channels), e % channels]])) };
+      for (const id of deviceIds(dir)) {
+        const exp = expectedImage(b, id);
+        const want = Buffer.alloc(exp.length * 2);
+        exp.forEach((w, i) => want.writeUInt16LE(w, 2 * i));
+        expect(readFileSync(join(dir, `devices/dev-${id}.bin`)).equals(want), `${c.name} device ${id}`).toBe(true);
+      }
+      expect(cli(["verify", dir]).code).toBe(0);
+    }
+  });
+});
