@@ -25,7 +25,7 @@ export const DEVICES_DIR = "devices";
 export const DEVICE_MAP_FILE = "devices/map.csv";
 export const deviceFile = (id: number, ext: "bin" | "mem" | "hex") => `${DEVICES_DIR}/dev-${id}.${ext}`;
 
-/** Total bytes the per-device write buffers may hold at once. */
+/** Total bytes the per-device write buffers may hold at once (each device gets at least 256 words). */
 const BUFFER_BUDGET = 32 << 20;
 /** Up to this many devices keep their .bin open from creation to the end (opening files is slow on some file systems); more reopen per flush. */
 const KEEP_OPEN = 4096;
@@ -38,6 +38,8 @@ export interface DeviceImageContext {
   wordBits: number;
   wordBytes: number;
   beams: number;
+  /** write-buffer budget in bytes (default 32 MiB; tests use small ones to reach every path) */
+  bufferBytes?: number;
 }
 
 interface Sink {
@@ -50,7 +52,7 @@ interface Sink {
   els: Int32Array;
   /** sequential: byte offset of each used channel inside a beam block */
   offs: Int32Array;
-  /** sequential: one beam block of fill words (null when a block is too large: written through fill()) */
+  /** sequential: one beam block of fill words (null when a block is larger than the device's buffer: written through fill()) */
   template: Buffer | null;
   /** sequential: bytes pending append */
   buf: Buffer;
@@ -75,7 +77,7 @@ export class DeviceImageWriter {
     this.fillChunk = Buffer.alloc(4096 * wb);
     for (let i = 0; i < 4096; i++) this.fillChunk.writeUIntLE(spec.fill, i * wb, wb);
     this.keepOpen = map.devices.length <= KEEP_OPEN;
-    const per = Math.max(256 * wb, Math.floor(BUFFER_BUDGET / Math.max(1, map.devices.length)));
+    const per = Math.max(256 * wb, Math.floor((ctx.bufferBytes ?? BUFFER_BUDGET) / Math.max(1, map.devices.length)));
     try {
       for (const dev of map.devices) {
         const path = join(root, deviceFile(dev.id, "bin"));
@@ -86,8 +88,8 @@ export class DeviceImageWriter {
         const s: Sink = { dev, path, fd: this.keepOpen ? fd : null, size: 0, els, offs: Int32Array.from(dev.used, (c) => c * spec.channelStride * wb), template: null, buf: Buffer.allocUnsafe(0), len: 0, pend: null, capBlocks: 0, firstBlock: 0, n: 0 };
         this.sinks.push(s);
         if (dev.sequential) {
-          s.buf = Buffer.allocUnsafe(Math.max(per, blockBytes <= PATCH_REGION ? blockBytes : 0));
-          if (blockBytes <= PATCH_REGION) {
+          s.buf = Buffer.allocUnsafe(per);
+          if (blockBytes <= per) {
             s.template = Buffer.allocUnsafe(blockBytes);
             for (let o = 0; o < blockBytes; o += this.fillChunk.length) this.fillChunk.copy(s.template, o, 0, Math.min(this.fillChunk.length, blockBytes - o));
           }
@@ -213,7 +215,7 @@ export class DeviceImageWriter {
         }
         s.len += bytes;
       } else {
-        // blocks larger than the patch region: word by word with fill() in between
+        // blocks larger than the buffer: word by word with fill() in between
         let pos = 0;
         for (let k = 0; k < nu; k++) {
           const off = s.offs[k]! / wb;
