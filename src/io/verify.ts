@@ -476,10 +476,16 @@ export async function verifyBuild(dir: string, opts: VerifyOptions = {}): Promis
   if (plan.devices && produced.manifest.devices) {
     const dm = produced.manifest.devices;
     const names = [DEVICE_MAP_FILE, ...dm.list.flatMap((d) => dm.formats.map((f) => deviceFile(d.id, f)))];
+    const differ: string[] = [];
     for (const name of names) {
-      const h = hashFolderFile(folderEntry(dir, name), m.files[name]?.bytes ?? MAX_FOLDER_FILE_BYTES);
+      const rec = m.files[name];
+      const h = hashFolderFile(folderEntry(dir, name), rec?.bytes ?? MAX_FOLDER_FILE_BYTES);
       if (h) files[name] = { bytes: h.bytes, sha256: h.sha256, ...(name.endsWith(".bin") ? { crc32: hex32(h.crc32) } : {}) };
+      if (!h) differ.push(`${name}: missing`);
+      else if (!rec) differ.push(`${name}: not listed in the manifest`);
+      else if (h.longer || h.bytes !== rec.bytes || h.sha256 !== rec.sha256) differ.push(`${name}: the manifest records ${rec.bytes} bytes, sha256 ${rec.sha256.slice(0, 16)}…; the file is ${h.longer ? `more than ${rec.bytes}` : h.bytes} bytes, sha256 ${h.sha256.slice(0, 16)}…`);
     }
+    checks.push({ check: "devices: files = manifest", ok: !differ.length, detail: differ.length ? differ.slice(0, 4).join("; ") + (differ.length > 4 ? `; … ${differ.length - 4} more` : "") : `${names.length} file(s), each size and SHA-256 as recorded (their words are checked below)` });
     const B = plan.beams.count;
     const dev = verifyDevices(dir, { ...m, devices: dm }, plan.devices, {
       name: `recomputed from ${SCENARIO_COPY}`,

@@ -102,7 +102,7 @@ export interface WordPass {
 
 const hexw = (w: number, wb: number) => "0x" + (w >>> 0).toString(16).toUpperCase().padStart(2 * wb, "0");
 
-/** Words of decoded images and expected images held at once (each a Uint32: 64 MiB). */
+/** Words of decoded and expected images held at once (Uint32 each: 64 MiB in all). */
 export const DEVICE_CHECK_BUDGET_WORDS = 1 << 24;
 
 /**
@@ -112,9 +112,9 @@ export const DEVICE_CHECK_BUDGET_WORDS = 1 << 24;
  * device, address, beam, channel and element.
  *
  * Memory: images are decoded and checked in batches of at most `budgetWords` words
- * (decoded + expected); each batch takes one pass of the table engine. So memory does
- * not grow with the build, only with the largest single image; a build whose images
- * all fit the budget (every build up to ~8 M table words) takes one extra pass.
+ * (decoded + expected images together); each batch takes one pass of the table engine.
+ * So memory does not grow with the number of devices, only with the largest single image
+ * (decoded whole); a build whose images all fit the budget takes one extra pass.
  */
 export function verifyDevices(dir: string, m: BuildInfo, fresh: DeviceSpec | null, words: WordPass, budgetWords = DEVICE_CHECK_BUDGET_WORDS): { checks: DeviceCheck[]; first: DeviceMismatch | null } {
   const checks: DeviceCheck[] = [];
@@ -200,7 +200,8 @@ export function verifyDevices(dir: string, m: BuildInfo, fresh: DeviceSpec | nul
       try {
         img = decoders[fmt](join(dir, file));
       } catch (e) {
-        result.get(fmt)!.unreadable.push(`${file}: ${e instanceof ImageFormatError ? e.message : (e as Error).message}`);
+        const code = (e as NodeJS.ErrnoException).code;
+        result.get(fmt)!.unreadable.push(`${file}: ${e instanceof ImageFormatError ? e.message : code === "ENOENT" ? "missing" : (e as Error).message}`);
         continue;
       }
       batch.push({ fmt, d, file, img, expected: new Uint32Array(d.words).fill(map.spec.fill) });

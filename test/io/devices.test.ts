@@ -4,7 +4,7 @@
  * $readmemh under iverilog, verify finding flipped bits, diff per device, check.
  */
 import { execFileSync } from "node:child_process";
-import { existsSync, readFileSync, readdirSync, writeFileSync } from "node:fs";
+import { existsSync, readFileSync, readdirSync, rmSync, symlinkSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { parse } from "csv-parse/sync";
 import { beforeAll, describe, expect, it } from "vitest";
@@ -12,6 +12,9 @@ import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
 import { itWith, TOOLS } from "../tools.js";
 import { buildDeviceMap, defaultAssignment, type DeviceSpec } from "../../src/core/devices.js";
 import { DeviceImageWriter } from "../../src/formats/device-images.js";
+import { runTables } from "../../src/core/engine.js";
+import { loadBuildScenario, readManifest } from "../../src/io/readbuild.js";
+import { verifyDevices } from "../../src/workflows/devices.js";
 
 const FIX = join(import.meta.dirname, "..", "fixtures");
 
@@ -382,4 +385,73 @@ describe("the image writer on its own (small buffers reach every path)", () => {
         expect(mem.length === img.length && mem.every((x, i) => x === img[i])).toBe(true);
       }
     });
+});
+
+describe("verify's device check in batches, and device files as recorded", () => {
+  // derived: the contract's address formula; every batch size must give the same verdict and the same first mismatch
+  it("a tiny budget (one image per batch, one table pass each) finds the same flipped word as one batch", () => {
+    const t = tempDir();
+    const s = writeScenario(baseScenario({ calibration: "cal.csv", devices: { channels: 4, address: { beamStride: 1, channelStride: 10 }, fill: 7 } }), { "cal.csv": CAL }, join(t, "s"));
+    const dir = join(t, "b");
+    expect(cli(["build", s, "-o", dir, "--no-analysis"]).code).toBe(0);
+    const m = readManifest(dir);
+    const plan = loadBuildScenario(dir, m).plan;
+    let passes = 0;
+    const words = {
+      name: "recomputed",
+      run: (sink: (blk: number, w: ArrayLike<number>) => void) => {
+        passes++;
+        runTables(plan, (fi, b, w) => sink(fi * plan.beams.count + b, w), undefined, { commanded: false });
+      },
+    };
+    const one = verifyDevices(dir, m, plan.devices, words);
+    expect(passes).toBe(1);
+    expect(one.checks.every((c) => c.ok)).toBe(true);
+    passes = 0;
+    const tiny = verifyDevices(dir, m, plan.devices, words, 1);
+    // 2 devices × 3 formats, one image per batch
+    expect(passes).toBe(6);
+    expect(tiny.checks).toEqual(one.checks);
+    // device 1, channel-major: address 2·10 + 1 = 21 is block 1 (beam 1), channel 2 = element 6 (default order)
+    const p = join(dir, "devices/dev-1.hex");
+    const lines = readFileSync(p, "latin1").split("\n");
+    const rec = Buffer.from(lines[2]!.slice(1), "hex"); // bytes 32–47 = addresses 16–23
+    rec[4 + 10] = rec[4 + 10]! ^ 0x02; // byte 42 = address 21, low byte
+    rec[rec.length - 1] = (256 - (rec.subarray(0, rec.length - 1).reduce((x, y) => x + y, 0) % 256)) % 256;
+    lines[2] = ":" + rec.toString("hex").toUpperCase();
+    writeFileSync(p, lines.join("\n"), "latin1");
+    for (const budget of [1, 5, undefined]) {
+      const r = verifyDevices(dir, m, plan.devices, words, budget);
+      expect(r.first).toMatchObject({ file: "devices/dev-1.hex", device: 1, address: 21, beam: 1, channel: 2, element: 6 });
+      expect(r.checks.find((c) => c.check === "devices: dev-*.hex = recomputed")!.ok).toBe(false);
+      expect(r.checks.find((c) => c.check === "devices: dev-*.bin = recomputed")!.ok).toBe(true);
+    }
+  });
+
+  it("an image whose words are right but whose bytes are not as recorded, a missing image and a linked image", () => {
+    const t = tempDir();
+    const s = writeScenario(baseScenario({ devices: { channels: 4 } }), {}, join(t, "s"));
+    const dir = join(t, "b");
+    expect(cli(["build", s, "-o", dir, "--no-analysis"]).code).toBe(0);
+    expect(cli(["verify", dir]).code).toBe(0);
+    const mem = join(dir, "devices/dev-1.mem");
+    const orig = readFileSync(mem);
+    // a comment decodes to the same words ($readmemh ignores it), but the file is not the one built
+    writeFileSync(mem, Buffer.concat([orig, Buffer.from("// edited\n")]));
+    let r = cli(["verify", dir]);
+    expect(r.code).toBe(1);
+    expect(r.stdout).toMatch(/ok {4}devices: dev-\*\.mem = recomputed/);
+    expect(r.stdout).toMatch(/FAIL {2}devices: files = manifest: devices\/dev-1\.mem: the manifest records \d+ bytes/);
+    expect(r.stdout).toMatch(/FAIL {2}manifest\.json/);
+    rmSync(mem);
+    r = cli(["verify", dir]);
+    expect(r.code).toBe(1);
+    expect(r.stdout).toMatch(/FAIL {2}devices: dev-\*\.mem readable: devices\/dev-1\.mem: missing/);
+    // a link in place of an image: refused like any link in a build folder (exit 2)
+    writeFileSync(join(t, "elsewhere.mem"), orig);
+    symlinkSync(join(t, "elsewhere.mem"), mem);
+    r = cli(["verify", dir]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/devices\/dev-1\.mem: is a symbolic link/);
+  });
 });
