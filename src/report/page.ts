@@ -268,7 +268,22 @@ function comparisonPart(dir: string, m: Manifest | null): string {
     map = `<svg viewBox="0 0 660 ${(h + 40).toFixed(0)}" class="changes" role="img" aria-label="changed words by beam and element"><rect x="50" y="10" width="600" height="${(H * ch).toFixed(2)}" class="plot"/><g class="changed">${rects.join("")}</g>
 <text x="350" y="${(h + 18).toFixed(0)}" text-anchor="middle">element (table order, ${E} in all) →</text><text transform="translate(20 ${(10 + h / 2).toFixed(0)}) rotate(-90)" text-anchor="middle">beam ↓ (${B})</text></svg>`;
   }
-  return `<section id="comparison"><h2>What changed against the earlier build</h2><p>Compared with <code>${esc(str(doc.old))}</code>: ${lines.map(esc).join("; ")}.</p>${map}<p class="note">Dark cells: words that changed (every frequency, darker = more).</p></section>`;
+  // per beamformer device (builds with `devices`): words changed and the address ranges to reload
+  let perDevice = "";
+  const dv = s.devices as { layoutChanged?: unknown; devices?: unknown; devicesChanged?: unknown; changed?: unknown } | undefined;
+  if (dv && typeof dv === "object") {
+    const changed = Array.isArray(dv.changed) ? (dv.changed as { device?: unknown; wordsChanged?: unknown; ranges?: unknown }[]) : [];
+    const range = (r: unknown) => (Array.isArray(r) && r.length === 2 ? `${num(r[0])}–${num(r[1])}` : "?");
+    const rows = changed
+      .slice(0, 200)
+      .map((c) => {
+        const ranges = Array.isArray(c.ranges) ? c.ranges : [];
+        return `<tr><td>${num(c.device)}</td><td>${num(c.wordsChanged)}</td><td style="text-align:left">${esc(ranges.slice(0, 12).map(range).join(", "))}${ranges.length > 12 ? ` … and ${ranges.length - 12} more` : ""}</td></tr>`;
+      })
+      .join("");
+    perDevice = `<h3>Per beamformer device</h3><p>${dv.layoutChanged === true ? "The device layout changed: reload every image. " : ""}${num(dv.devicesChanged)} of ${num(dv.devices)} device(s) changed${changed.length > 200 ? " (the first 200 listed)" : ""}; word addresses in each device's own memory.</p>${rows ? `<table id="device-changes"><thead><tr><th>device</th><th>words changed</th><th>address ranges to reload</th></tr></thead><tbody>${rows}</tbody></table>` : ""}`;
+  }
+  return `<section id="comparison"><h2>What changed against the earlier build</h2><p>Compared with <code>${esc(str(doc.old))}</code>: ${lines.map(esc).join("; ")}.</p>${map}<p class="note">Dark cells: words that changed (every frequency, darker = more).</p>${perDevice}</section>`;
 }
 
 /** The sweep, drawn from the numbers in sweep.json (no markup taken from the folder). */

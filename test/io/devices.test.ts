@@ -280,6 +280,11 @@ describe("device images", () => {
     const d = JSON.parse(cli(["diff", scrambled.dir, join(t, "b"), "--json"]).stdout).summary.devices;
     expect(d).toEqual({ layoutChanged: false, devices: 2, devicesChanged: 1, changed: [{ device: 7, wordsChanged: changes.length, ranges: addrs.map((a) => [a, a]) }] });
     expect(r.stdout).toMatch(new RegExp(`device 7: ${changes.length} word\\(s\\) at addresses ${addrs.join(", ")}`));
+    // the report of the new build says the same, per device
+    expect(cli(["report", join(t, "b")]).code).toBe(0);
+    const html = readFileSync(join(t, "b", "report.html"), "utf8");
+    expect(html).toMatch(new RegExp(`<tr><td>7</td><td>${changes.length}</td><td[^>]*>${addrs.map((a) => `${a}–${a}`).join(", ")}</td></tr>`));
+    expect(html).toMatch(/1 of 2 device\(s\) changed/);
   });
 
   it("check prints per device channels, addresses, image size and full-load time", () => {
