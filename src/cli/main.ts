@@ -7,6 +7,7 @@ import { InputError, formatProblem } from "../core/errors.js";
 import { UsageError } from "./usage.js";
 import { defaultIo } from "./shared.js";
 import { cleanUpOnSignals, isSystemError, writeProblem } from "../io/outdir.js";
+import { levenshtein } from "../core/spelling.js";
 import { availableParallelism } from "node:os";
 import { toolVersion } from "../io/version.js";
 
@@ -41,26 +42,11 @@ const COMMAND_LINES: Record<string, string> = {
 };
 const COMMANDS = Object.keys(COMMAND_LINES);
 
-/** Levenshtein distance (small strings: option and command names). */
-function distance(a: string, b: string): number {
-  const d = Array.from({ length: b.length + 1 }, (_, j) => j);
-  for (let i = 1; i <= a.length; i++) {
-    let prev = d[0]!;
-    d[0] = i;
-    for (let j = 1; j <= b.length; j++) {
-      const t = d[j]!;
-      d[j] = Math.min(d[j]! + 1, d[j - 1]! + 1, prev + (a[i - 1] === b[j - 1] ? 0 : 1));
-      prev = t;
-    }
-  }
-  return d[b.length]!;
-}
-
 /** The closest of `known` to `word`, or null when none is close. */
 function closest(word: string, known: readonly string[]): string | null {
   let best = "", bestD = Infinity;
   for (const k of known) {
-    const dd = k.startsWith(word) || word.startsWith(k) ? Math.min(1, distance(word, k)) : distance(word, k);
+    const dd = k.startsWith(word) || word.startsWith(k) ? Math.min(1, levenshtein(word, k)) : levenshtein(word, k);
     if (dd < bestD) [best, bestD] = [k, dd];
   }
   return best && bestD <= Math.max(1, Math.floor(word.length / 3)) ? best : null;

@@ -6,6 +6,7 @@ import { readFileSync } from "node:fs";
 import { createRequire } from "node:module";
 import { Ajv2020, type ErrorObject, type ValidateFunction } from "ajv/dist/2020.js";
 import type { Problem } from "../core/errors.js";
+import { didYouMean } from "../core/spelling.js";
 
 const schemaUrl = new URL("../../schemas/scenario.schema.json", import.meta.url);
 
@@ -23,33 +24,6 @@ function scenarioValidator(): ValidateFunction {
     validator = ajv.compile(JSON.parse(readFileSync(schemaUrl, "utf8")) as object);
   }
   return validator;
-}
-
-export function levenshtein(a: string, b: string): number {
-  const d = Array.from({ length: b.length + 1 }, (_, j) => j);
-  for (let i = 1; i <= a.length; i++) {
-    let prev = d[0]!;
-    d[0] = i;
-    for (let j = 1; j <= b.length; j++) {
-      const tmp = d[j]!;
-      d[j] = Math.min(d[j]! + 1, d[j - 1]! + 1, prev + (a[i - 1]!.toLowerCase() === b[j - 1]!.toLowerCase() ? 0 : 1));
-      prev = tmp;
-    }
-  }
-  return d[b.length]!;
-}
-
-export function didYouMean(word: string, candidates: string[]): string | null {
-  let best: string | null = null;
-  let bestD = Infinity;
-  for (const c of candidates) {
-    const dist = levenshtein(word, c);
-    if (dist < bestD) {
-      bestD = dist;
-      best = c;
-    }
-  }
-  return best !== null && bestD <= Math.max(2, Math.floor(word.length / 3)) ? best : null;
 }
 
 function describe(e: ErrorObject): string {

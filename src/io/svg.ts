@@ -30,7 +30,8 @@ function esc(s: string): string {
 const f = (x: number) => (Math.round(x * 100) / 100).toString();
 const tick = (x: number) => String(Number(x.toPrecision(6)));
 
-function niceTicks(lo: number, hi: number, n = 5): number[] {
+/** Round tick values from lo to hi, about n of them (also used by the report page's script). */
+export function niceTicks(lo: number, hi: number, n = 5): number[] {
   if (!(hi > lo)) return [lo];
   const raw = (hi - lo) / n;
   const mag = 10 ** Math.floor(Math.log10(raw));

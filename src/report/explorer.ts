@@ -13,6 +13,7 @@ import type { Plan } from "../core/plan.js";
 import { allocBeamCodes, makeQuantizer, type BeamCodes } from "../core/quantize/index.js";
 import { crc32 } from "../core/crc32.js";
 import { INK, RAMP, rampColour } from "./colours.js";
+import { niceTicks as chartTicks } from "../io/svg.js";
 import { reviveTyped, type PageData } from "./model.js";
 
 const $ = <T extends HTMLElement = HTMLElement>(id: string): T => document.getElementById(id) as T;
@@ -59,15 +60,8 @@ interface Shown {
 let shown: Shown = { fi: -1, beam: -1, crcOk: null, ms: 0 };
 
 // ---------------------------------------------------------------- drawing helpers
-function niceTicks(lo: number, hi: number, n = 5): number[] {
-  if (!(hi > lo)) return [lo];
-  const raw = (hi - lo) / n;
-  const mag = 10 ** Math.floor(Math.log10(raw));
-  const step = [1, 2, 2.5, 5, 10].map((m) => m * mag).find((s) => s >= raw) ?? raw;
-  const out: number[] = [];
-  for (let t = Math.ceil(lo / step - 1e-9) * step; t <= hi + 1e-9 * step; t += step) out.push(Math.abs(t) < step * 1e-9 ? 0 : Number(t.toPrecision(6)));
-  return out;
-}
+/** The charts' tick values, printed to 6 significant digits. */
+const niceTicks = (lo: number, hi: number, n = 5): number[] => chartTicks(lo, hi, n).map((t) => Number(t.toPrecision(6)));
 
 interface Frame {
   x0: number;
