@@ -271,11 +271,12 @@ function drawAperture(canvas: HTMLCanvasElement, values: Float64Array, lo: numbe
       ctx.strokeRect(x - cell / 2 + 1, y - cell / 2 + 1, cell - 2, cell - 2);
     }
   }
-  // device boundaries
-  if (el.device) {
+  // device boundaries: the scenario's `devices` assignment, else elements.csv's device column
+  const devOf = plan.devices ? (i: number) => String(plan.devices!.device[i]) : el.device ? (i: number) => el.device![i]! : null;
+  if (devOf) {
     const boxes = new Map<string, [number, number, number, number]>();
     for (let i = 0; i < E; i++) {
-      const d = el.device[i]!;
+      const d = devOf(i);
       const bx = boxes.get(d) ?? [Infinity, Infinity, -Infinity, -Infinity];
       boxes.set(d, [Math.min(bx[0], X(el.x[i]!)), Math.min(bx[1], Y(el.y[i]!)), Math.max(bx[2], X(el.x[i]!)), Math.max(bx[3], Y(el.y[i]!))]);
     }
@@ -310,7 +311,7 @@ function apertureViews(an: BeamAnalyzer): void {
     if (!en[i]) disabled++;
     else if (clippedAt(i)) clipped++;
   }
-  $("ap-status").textContent = `${E} elements: ${disabled} disabled (crossed), ${clipped} clipped at the attenuator's last step (red outline)${plan.elements.device ? "; dashed boxes: beamformer devices" : ""}.`;
+  $("ap-status").textContent = `${E} elements: ${disabled} disabled (crossed), ${clipped} clipped at the attenuator's last step (red outline)${plan.devices || plan.elements.device ? "; dashed boxes: beamformer devices" : ""}.`;
 }
 
 // ---------------------------------------------------------------- metrics, heading

@@ -190,6 +190,17 @@ describe("report explorer in Chromium", () => {
     expect(errors).toEqual([]);
   });
 
+  itWith([TOOLS.chromium], "with `devices` the aperture views box each beamformer device", async () => {
+    const s = writeScenario(baseScenario({ devices: { channels: 4 } }));
+    const out = join(t, "dev");
+    expect(cli(["build", s, "-o", out]).code).toBe(0);
+    expect(cli(["report", out]).code).toBe(0);
+    const page = await open(join(out, "report.html"), 1000);
+    expect(await page.locator("#ap-status").textContent()).toMatch(/dashed boxes: beamformer devices/);
+    await page.close();
+    expect(errors).toEqual([]);
+  });
+
   itWith([TOOLS.chromium], "a beam list draws as a u-v scatter whose points pick beams", async () => {
     const s = writeScenario(baseScenario({ beams: { kind: "list", file: "beams.csv" } }), { "beams.csv": "u,v\n0,0\n0.3,0.1\n-0.4,0.2\n0.6,-0.3\n" });
     expect(cli(["build", s, "-o", list]).code).toBe(0);
