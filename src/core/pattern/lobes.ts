@@ -205,26 +205,23 @@ export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number
     j = bj;
   }
   const lg = (m: number, n: number) => Math.log(at(m, n) + 1e-300);
-  const fit = (l: number, c: number, r: number) => {
-    const den = l - 2 * c + r;
-    const o = den < 0 ? (0.5 * (l - r)) / den : 0;
-    return Number.isFinite(o) ? Math.max(-0.5, Math.min(0.5, o)) : 0;
-  };
   const c = lg(i, j);
-  const oi = fit(lg(i - 1, j), c, lg(i + 1, j)), oj = fit(lg(i, j - 1), c, lg(i, j + 1));
+  const oi = parabolaOffset(lg(i - 1, j), c, lg(i + 1, j)), oj = parabolaOffset(lg(i, j - 1), c, lg(i, j + 1));
   return refine(ev, ev.lockU ? 0 : (i + oi) * du, ev.lockV ? 0 : (j + oj) * dv, du, dv, { u0, v0 });
 }
 
+/** Vertex of the parabola through (−1, l), (0, c), (1, r), clamped to ±½; 0 when it is not a maximum. */
+function parabolaOffset(l: number, c: number, r: number): number {
+  const den = l - 2 * c + r;
+  const o = den < 0 ? (0.5 * (l - r)) / den : 0;
+  return Number.isFinite(o) ? Math.max(-0.5, Math.min(0.5, o)) : 0;
+}
+
 /** Sub-cell offset of a grid maximum from a parabola through log|AF|² of its neighbours (±½ cell). */
-function parabolic(p: Float64Array, wm: number, wn: number, a: number, b: number): [number, number] {
+export function parabolic(p: Float64Array, wm: number, wn: number, a: number, b: number): [number, number] {
   const at = (x: number, y: number) => (x < 0 || y < 0 || x >= wm || y >= wn ? NaN : Math.log(p[y * wm + x]! + 1e-300));
-  const fit = (l: number, c: number, r: number) => {
-    const den = l - 2 * c + r;
-    const o = den < 0 ? (0.5 * (l - r)) / den : 0;
-    return Number.isFinite(o) ? Math.max(-0.5, Math.min(0.5, o)) : 0;
-  };
   const c = at(a, b);
-  return [fit(at(a - 1, b), c, at(a + 1, b)), fit(at(a, b - 1), c, at(a, b + 1))];
+  return [parabolaOffset(at(a - 1, b), c, at(a + 1, b)), parabolaOffset(at(a, b - 1), c, at(a, b + 1))];
 }
 
 /** The point of the horizon radially outward of Δ (locked arrays: along the free coordinate only). */

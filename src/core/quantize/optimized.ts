@@ -24,7 +24,7 @@
  * so tables, analysis workers and `verify` all get the same codes whatever `--jobs`.
  */
 import { BeamAnalyzer, M, METRICS } from "../pattern/analyze.js";
-import { floodMainLobe, hillClimb } from "../pattern/lobes.js";
+import { floodMainLobe, hillClimb, parabolic } from "../pattern/lobes.js";
 import { allocWindow, type PowerWindow } from "../pattern/grid.js";
 import type { Plan } from "../plan.js";
 import { SPEED_OF_LIGHT } from "../units.js";
@@ -336,7 +336,7 @@ export class OptimizedQuantizer implements Quantizer {
       let seen = false;
       for (let s = 1; s < this.npts; s++) if (this.key[s] === key) { seen = true; break; }
       if (seen) continue;
-      const [oa, ob] = subCell(p, wm, wn, a, bb);
+      const [oa, ob] = parabolic(p, wm, wn, a, bb);
       let du = (win.m0 + a + oa) * g.du, dv = (win.n0 + bb + ob) * g.dv;
       if ((u0 + du) ** 2 + (v0 + dv) ** 2 > 1) { du = (win.m0 + a) * g.du; dv = (win.n0 + bb) * g.dv; }
       this.addPoint(du, dv, key);
@@ -507,18 +507,6 @@ function copyCodes(a: BeamCodes, b: BeamCodes): void {
   b.phaseDeg.set(a.phaseDeg);
   b.attenDb.set(a.attenDb);
   b.clipped = a.clipped;
-}
-
-/** Sub-cell offset of a grid maximum from a parabola through log power of its neighbours (±½ cell). */
-function subCell(p: Float64Array, wm: number, wn: number, a: number, b: number): [number, number] {
-  const at = (x: number, y: number) => (x < 0 || y < 0 || x >= wm || y >= wn ? NaN : Math.log(p[y * wm + x]! + 1e-300));
-  const fit = (l: number, c: number, r: number) => {
-    const den = l - 2 * c + r;
-    const o = den < 0 ? (0.5 * (l - r)) / den : 0;
-    return Number.isFinite(o) ? Math.max(-0.5, Math.min(0.5, o)) : 0;
-  };
-  const c = at(a, b);
-  return [fit(at(a - 1, b), c, at(a + 1, b)), fit(at(a, b - 1), c, at(a, b + 1))];
 }
 
 export function optimizedQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = prepareFrequency(plan, fi), commanded = true): OptimizedQuantizer {
