@@ -13,6 +13,13 @@ import type { LatticeSpectra } from "./horizon.js";
 
 export const OVERSAMPLE = 4;
 
+/** Extent (max − min) of element coordinates: the direct-sum grid's aperture along one axis. */
+function span(a: Float64Array): number {
+  let lo = Infinity, hi = -Infinity;
+  for (const v of a) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
+  return hi - lo;
+}
+
 /**
  * The largest analysis grid: cells of the window over visible space that every pattern
  * is sampled on, (⌈2/du⌉ + 4)·(⌈2/dv⌉ + 4), at most 2048 × 2048. The cell is
@@ -55,11 +62,6 @@ export function gridShape(plan: Plan, fi: number): GridShape {
   } else {
     mode = "direct";
     const el = plan.elements;
-    const span = (a: Float64Array) => {
-      let lo = Infinity, hi = -Infinity;
-      for (const v of a) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
-      return hi - lo;
-    };
     const lx = span(el.x) + lambda / 2;
     const ly = span(el.y) + lambda / 2;
     du = lambda / (OVERSAMPLE * lx);
@@ -185,11 +187,6 @@ export class PatternGrid {
       }
     } else {
       this.mode = "direct";
-      const span = (a: Float64Array) => {
-        let lo = Infinity, hi = -Infinity;
-        for (const v of a) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
-        return hi - lo;
-      };
       const lx = span(el.x) + lambda / 2;
       const ly = span(el.y) + lambda / 2;
       this.du = lambda / (OVERSAMPLE * lx);
