@@ -11,9 +11,7 @@ import { loadScenario } from "../dist/io/scenario.js";
 import { runCalibrate } from "../dist/workflows/calibrate.js";
 import { revMethod, referOffsets } from "../dist/core/calibrate/index.js";
 
-const ROOT = new URL("..", import.meta.url).pathname;
-const BIN = join(ROOT, "bin", "steercode.js");
-const median = (a) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
+import { ROOT, BIN, median } from "./common.js";
 
 export function benchCalibrate(runs = 3) {
   const dir = mkdtempSync(join(tmpdir(), "steercode-bench-cal-"));

@@ -6,8 +6,7 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "no
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 
-const ROOT = new URL("..", import.meta.url).pathname;
-const BIN = join(ROOT, "bin", "steercode.js");
+import { ROOT, BIN } from "./common.js";
 const tmp = mkdtempSync(join(tmpdir(), "steercode-bench-inputs-"));
 
 const base = (over) => ({

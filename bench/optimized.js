@@ -11,12 +11,10 @@ import { cpus, tmpdir } from "node:os";
 import { join } from "node:path";
 import { mulberry32 } from "../dist/core/quantize/randomized.js";
 
-const ROOT = new URL("..", import.meta.url).pathname;
-const BIN = join(ROOT, "bin", "steercode.js");
+import { ROOT, BIN, median } from "./common.js";
 const tmp = mkdtempSync(join(tmpdir(), "steercode-bench-opt-"));
 const RUNS = Number(process.env.BENCH_RUNS ?? 3);
 const jobs = cpus().length;
-const median = (a) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
 
 function run(args) {
   const t = performance.now();

@@ -10,10 +10,8 @@ import { existsSync, mkdtempSync, rmSync, statSync, writeFileSync } from "node:f
 import { loadavg, tmpdir } from "node:os";
 import { join } from "node:path";
 
-const ROOT = new URL("..", import.meta.url).pathname;
-const BIN = join(ROOT, "bin", "steercode.js");
+import { ROOT, BIN, median } from "./common.js";
 const tmp = mkdtempSync(join(tmpdir(), "steercode-bench-report-"));
-const median = (a) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
 
 function run(args) {
   const r = spawnSync(process.execPath, [BIN, ...args], { encoding: "utf8", maxBuffer: 1 << 26 });

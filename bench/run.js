@@ -7,53 +7,18 @@ import { mkdtempSync, writeFileSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir, cpus, totalmem, loadavg } from "node:os";
 import { join } from "node:path";
 import { parse } from "csv-parse/sync";
-import { mulberry32 } from "../dist/core/quantize/randomized.js";
 import { benchCalibrate } from "./calibrate.js";
+import { benchLadder, printLadder } from "./ladder.js";
+import { ROOT, BIN, median, spread, benchScenario, timeCmd } from "./common.js";
 
-const ROOT = new URL("..", import.meta.url).pathname;
-const BIN = join(ROOT, "bin", "steercode.js");
 const tmp = mkdtempSync(join(tmpdir(), "steercode-bench-"));
 const RUNS = Number(process.env.BENCH_RUNS ?? 3);
 // BENCH_ONLY=scale runs only the scale case (big: build + verify of 41 M words) and merges
 // its figures into bench/results.json.
 const ONLY = process.env.BENCH_ONLY ?? null;
-const median = (a) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
 
 
-function scenario(name, side, beams, outputs, withCal = true, extra = {}) {
-  const dir = join(tmp, name);
-  spawnSync("mkdir", ["-p", dir]);
-  const doc = {
-    format: "steercode-scenario/1",
-    name: `bench ${name} (invented)`,
-    frequency: "28 GHz",
-    array: { lattice: { kind: "rectangular", columns: side, rows: side, dx: "0.5 lambda", dy: "0.5 lambda" } },
-    beams,
-    phaseShifter: { bits: 6 },
-    attenuator: { bits: 6, step: "0.5 dB" },
-    taper: { kind: "taylor", sidelobe: "-30 dB", nbar: 4 },
-    word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 6 }, { name: "atten", shift: 8, width: 6 }] },
-    outputs,
-    ...extra,
-  };
-  if (withCal) {
-    const r = mulberry32(side * 7919);
-    const lines = ["# invented bench calibration", "element,phase_offset_deg,gain_offset_db"];
-    for (let i = 0; i < side * side; i++) lines.push(`${i},${(r() * 360 - 180).toFixed(2)},${((r() - 0.5) * 2).toFixed(3)}`);
-    writeFileSync(join(dir, "cal.csv"), lines.join("\n") + "\n");
-    doc.calibration = "cal.csv";
-  }
-  const p = join(dir, "scenario.json");
-  writeFileSync(p, JSON.stringify(doc, null, 2));
-  return p;
-}
-
-function timeCmd(cmd, args) {
-  const t = performance.now();
-  const r = spawnSync(cmd, args, { encoding: "utf8", maxBuffer: 1 << 26 });
-  if (r.status !== 0) throw new Error(`${cmd} ${args.join(" ")} failed: ${r.stderr}`);
-  return { ms: performance.now() - t, stdout: r.stdout };
-}
+const scenario = (name, side, beams, outputs, withCal = true, extra = {}) => benchScenario(tmp, name, side, beams, outputs, withCal, extra);
 
 function childBuild(s, out, analysis, jobs) {
   const r = spawnSync(process.execPath, [join(ROOT, "bench", "child-build.js"), s, out, analysis ? "1" : "0", String(jobs)], { encoding: "utf8" });
@@ -84,8 +49,10 @@ if (!ONLY) {
   results.codesOnly = {
     words,
     buildMs: median(inproc),
+    buildMsSpread: spread(inproc),
     wordsPerSecond: words / (median(inproc) / 1000),
     cliWallMs: median(cli),
+    cliWallMsSpread: spread(cli),
     cliWordsPerSecond: words / (median(cli) / 1000),
     peakRssMB: rss / 1024,
     targets: { wordsPerSecond: 50e6, peakRssMB: 300 },
@@ -94,7 +61,8 @@ if (!ONLY) {
 
 // ---- 1b. the same build with one beam memory per 4-channel IC (1024 devices): .bin, .mem and .hex each,
 // in the default beam-major layout (streamed in address order) and channel-major (positional writes)
-results.devices = [];
+if (!ONLY) results.devices = [];
+if (!ONLY)
 for (const [label, address] of [["beam-major (default)", undefined], ["channel-major", { beamStride: 1, channelStride: 4096 }]]) {
   const devices = { channels: 4, ...(address ? { address } : {}) };
   const s = scenario(`devices-${results.devices.length}`, 64, { kind: "uv", u: { from: -0.63, to: 0.63, step: 0.02 }, v: { from: -0.63, to: 0.63, step: 0.02 } }, ["bin"], false, { devices });
@@ -111,15 +79,16 @@ for (const [label, address] of [["beam-major (default)", undefined], ["channel-m
   results.devices.push({ layout: label, devices: 1024, formats: ["bin", "mem", "hex"], words, buildMs: median(ms), peakRssMB: rss / 1024, targets: { peakRssMB: 300 } });
 }
 
-// ---- 2. full build with analysis vs the numpy/scipy baseline: 32×32, Taylor, calibration, 21×21 az/el
+// ---- 2. full build with analysis, all five table formats, vs the numpy script (codes and metrics only): 32×32, Taylor, calibration, 21×21 az/el
 if (!ONLY) {
   const s = scenario("analysis-32x32", 32, { kind: "azel", az: { from: -50, to: 50, step: 5 }, el: { from: -50, to: 50, step: 5 } }, ["csv", "bin", "c", "mem", "json"]);
   const out = join(tmp, "an-out");
   const ours = [], base = [];
   for (let i = 0; i < RUNS; i++) {
     rmSync(out, { recursive: true, force: true });
-    ours.push(timeCmd(process.execPath, [BIN, "build", s, "-o", out, "--jobs", String(jobs)]).ms);
-    base.push(timeCmd("/usr/bin/python3", [join(ROOT, "bench", "baseline_numpy.py"), s, join(tmp, "baseline.csv")]).ms);
+    const us = () => ours.push(timeCmd(process.execPath, [BIN, "build", s, "-o", out]).ms);
+    const them = () => base.push(timeCmd("/usr/bin/python3", [join(ROOT, "bench", "baseline_numpy.py"), s, join(tmp, "baseline.csv")]).ms);
+    if (i % 2 === 0) { us(); them(); } else { them(); us(); } // interleaved, order alternating
   }
   const a = parse(readFileSync(join(out, "beams.csv")), { columns: true });
   const b = parse(readFileSync(join(tmp, "baseline.csv")), { columns: true });
@@ -129,7 +98,9 @@ if (!ONLY) {
     beams: a.length,
     elements: 1024,
     steercodeWallMs: median(ours),
+    steercodeWallMsSpread: spread(ours),
     baselineWallMs: median(base),
+    baselineWallMsSpread: spread(base),
     ratio: median(ours) / median(base),
     baselineVsSteercode: { pslAbsDiffDbMedian: median(dPsl), pslAbsDiffDbMax: Math.max(...dPsl), pointingAbsDiffDegMedian: median(dPoint), pointingAbsDiffDegMax: Math.max(...dPoint) },
     note: "steercode writes every table format as well; the baseline computes codes and metrics only",
@@ -167,21 +138,27 @@ if (!ONLY) {
   results.badInput = { case: "4096-element scenario, calibration with a duplicated row and 4095 missing elements", cliWallMs: median(ms), target: 1000 };
 }
 
-// ---- 5. scaling ladder: analysis cost per beam (tables to table.bin only)
-if (!ONLY) results.scaling = [];
-if (!ONLY)
-for (const side of [16, 32, 64]) {
-  // u-v grids of exactly 10², 21² and 64² beams
-  for (const [n, from, step] of [[10, -0.45, 0.1], [21, -0.45, 0.045], [64, -0.63, 0.02]]) {
+// ---- 5. the ladder (bench/ladder.js): 16², 32², 64², 128² × 441 and 4096 beams, steercode vs the numpy
+// script, interleaved; BENCH_ONLY=ladder runs it alone
+if (!ONLY || ONLY === "ladder") results.ladder = benchLadder(RUNS);
+
+// ---- 5b. analysis memory in beams: 16×16, table.bin + analysis, 100 … 16 384 beams (u-v grids of 10², 21², 64²,
+// 128²), whole CLI process, default --jobs: peak RSS must stay flat as the beam count grows
+if (!ONLY || ONLY === "memory") {
+  results.memoryInBeams = [];
+  for (const [n, from, step] of [[10, -0.45, 0.1], [21, -0.45, 0.045], [64, -0.63, 0.02], [128, -0.635, 0.01]]) {
     const to = +(from + (n - 1) * step).toFixed(6);
-    const nb = n * n;
-    const s = scenario(`scale-${side}-${nb}`, side, { kind: "uv", u: { from, to, step }, v: { from, to, step } }, ["bin"]);
-    const out = join(tmp, `scale-out`);
+    const s = scenario(`mem-16-${n}`, 16, { kind: "uv", u: { from, to, step }, v: { from, to, step } }, ["bin"]);
+    const out = join(tmp, "mem-out");
+    const ms = [], rss = [];
+    for (let i = 0; i < RUNS; i++) {
+      rmSync(out, { recursive: true, force: true });
+      const r = timeCmd(process.execPath, [join(ROOT, "bench", "rss.js"), "build", s, "-o", out]);
+      ms.push(r.ms);
+      rss.push(r.maxRssKb / 1024);
+    }
     rmSync(out, { recursive: true, force: true });
-    const c = childBuild(s, out, true, jobs);
-    const beams = Number(JSON.parse(readFileSync(join(out, "manifest.json"), "utf8")).counts.beams);
-    results.scaling.push({ elements: side * side, beams, buildMs: c.buildMs, msPerBeam: c.buildMs / beams, peakRssMB: c.maxRssKb / 1024 });
-    rmSync(out, { recursive: true, force: true });
+    results.memoryInBeams.push({ elements: 256, beams: n * n, wallMs: spread(ms), peakRssMB: spread(rss) });
   }
 }
 
@@ -249,25 +226,29 @@ if (!ONLY || ONLY === "calibrate") results.calibrate = benchCalibrate(RUNS);
 
 writeFileSync(join(ROOT, "bench", "results.json"), JSON.stringify(results, null, 2) + "\n");
 const f = (x, d = 0) => Number(x).toFixed(d);
+function printMemory() {
+  console.log(`\n| 16×16, beams | CLI wall (ms) | peak RSS (MB), min–max |\n|---|---|---|`);
+  for (const r of results.memoryInBeams) console.log(`| ${r.beams} | ${f(r.wallMs.median)} | ${f(r.peakRssMB.min)}–${f(r.peakRssMB.max)} |`);
+}
 if (!ONLY) {
 const c = results.codesOnly, an = results.analysis;
 console.log(`machine: ${results.machine.cpus} × ${results.machine.model}, ${results.machine.memGiB} GiB, Node ${results.machine.node}; median of ${RUNS} runs\n`);
 console.log(`| benchmark | result | target |\n|---|---|---|`);
-console.log(`| codes-only build, 4096 elements × 4096 beams → table.bin (load + build, in process) | ${f(c.buildMs)} ms, ${f(c.wordsPerSecond / 1e6, 1)} M words/s | ≥ 50 M words/s |`);
-console.log(`| same, whole CLI process (node start-up included) | ${f(c.cliWallMs)} ms, ${f(c.cliWordsPerSecond / 1e6, 1)} M words/s | — |`);
+console.log(`| codes-only build, 4096 elements × 4096 beams → table.bin (load + build, in process; min–max) | ${f(c.buildMs)} ms (${f(c.buildMsSpread.min)}–${f(c.buildMsSpread.max)}), ${f(c.wordsPerSecond / 1e6, 1)} M words/s | ≥ 50 M words/s |`);
+console.log(`| same, whole CLI process (node start-up included) | ${f(c.cliWallMs)} ms (${f(c.cliWallMsSpread.min)}–${f(c.cliWallMsSpread.max)}), ${f(c.cliWordsPerSecond / 1e6, 1)} M words/s | — |`);
 console.log(`| peak memory of that build | ${f(c.peakRssMB)} MB | < 300 MB |`);
 for (const d of results.devices) console.log(`| same build plus ${d.devices} device images (4 channels each; .bin, .mem, .hex), ${d.layout} layout: load + build / peak memory | ${f(d.buildMs)} ms / ${f(d.peakRssMB)} MB | < 300 MB |`);
-console.log(`| full build with analysis, 32×32, 441 beams, all outputs (CLI wall) | ${f(an.steercodeWallMs)} ms | ≤ baseline |`);
-console.log(`| numpy/scipy baseline, same scenario (wall) | ${f(an.baselineWallMs)} ms | — |`);
-console.log(`| ratio steercode / baseline | ${f(an.ratio, 2)} | ≤ 1 |`);
+console.log(`| full build with analysis, 32×32, 441 beams, all five table formats (CLI wall, min–max) | ${f(an.steercodeWallMs)} (${f(an.steercodeWallMsSpread.min)}–${f(an.steercodeWallMsSpread.max)}) ms | — |`);
+console.log(`| numpy script (bench/baseline_numpy.py: codes and metrics, no table files), same scenario | ${f(an.baselineWallMs)} (${f(an.baselineWallMsSpread.min)}–${f(an.baselineWallMsSpread.max)}) ms | — |`);
+console.log(`| ratio steercode / numpy script | ${f(an.ratio, 2)} | ≤ 0.5 |`);
 console.log(`| sweep 6 bit depths × 3 steps (18 parts × 441 beams), CLI wall | ${f(results.sweep.sweepWallMs)} ms = ${f(results.sweep.ratio, 2)} × one build | ≤ 6 × |`);
 console.log(`| bad input refused (4096-element scenario, broken calibration), exit 2 | ${f(results.badInput.cliWallMs)} ms | < 1 s |`);
 console.log(`| baseline vs steercode: PSL |Δ| median / max | ${f(an.baselineVsSteercode.pslAbsDiffDbMedian, 3)} / ${f(an.baselineVsSteercode.pslAbsDiffDbMax, 3)} dB | — |`);
 console.log(`| baseline vs steercode: pointing |Δ| median / max | ${f(an.baselineVsSteercode.pointingAbsDiffDegMedian, 4)} / ${f(an.baselineVsSteercode.pointingAbsDiffDegMax, 4)} deg | — |`);
 console.log(`| REV calibration, 4096 elements × 16 codes: solve (in process) | ${f(results.calibrate.solveMs)} ms | well under 1 s |`);
 console.log(`| same, CSV parse + solve + cal.csv text (in process) / whole CLI process | ${f(results.calibrate.inProcessMs)} / ${f(results.calibrate.cliWallMs)} ms | — |`);
-console.log(`\n| elements | beams | build with analysis (ms) | ms / beam | peak RSS (MB) |\n|---|---|---|---|---|`);
-for (const r of results.scaling) console.log(`| ${r.elements} | ${r.beams} | ${f(r.buildMs)} | ${f(r.msPerBeam, 2)} | ${f(r.peakRssMB)} |`);
+printLadder(results.ladder);
+printMemory();
 const o = results.optimized;
 console.log(`\n| optimized quantizer | result | target |\n|---|---|---|`);
 console.log(`| demo (${o.demo.elements} elements, ${o.demo.beams} beams), optimized build with analysis vs nearest (CLI wall) | ${f(o.demo.optimizedWallMs)} ms vs ${f(o.demo.nearestWallMs)} ms = ${f(o.demo.ratio, 2)} × | ≤ 10 × |`);
@@ -288,5 +269,7 @@ if (bd) {
   console.log(`| cos^1.2 element + 9-point band (${bd.squintRows} squint.csv rows) | ${f(bd.bandBuildMs)} | ${f(bd.bandCpuMs)} (${f(bd.cpuMsPerSquintRow, 3)} ms a row) |`);
 }
 rmSync(tmp, { recursive: true, force: true });
+if (ONLY === "ladder") printLadder(results.ladder);
+if (ONLY === "memory") printMemory();
 if (!ONLY) await import("./inputs.js");
 if (!ONLY || ONLY === "report") await import("./report.js");
