@@ -26,9 +26,13 @@ function calLines(label: string, c: CalibrationRef | null): string[] {
 export function diffLines(r: DiffResult): string[] {
   const s = r.summary;
   const lines = [
-    r.identical ? `identical: all ${s.wordsCompared} words agree` : `${s.wordsChanged} of ${s.wordsCompared} words changed, in ${s.beamsTouched} beam(s) and ${s.elementsTouched} element(s)`,
+    r.identical
+      ? `identical: all ${s.wordsCompared} words agree`
+      : s.wordsChanged === 0
+        ? `all ${s.wordsCompared} words agree, but the device images differ (${s.devicesRemoved ? "the new build writes no device images" : "another device layout: reload every image"})`
+        : `${s.wordsChanged} of ${s.wordsCompared} words changed, in ${s.beamsTouched} beam(s) and ${s.elementsTouched} element(s)`,
   ];
-  if (!r.identical) {
+  if (s.wordsChanged > 0) {
     lines.push(`changed ${idList(s.elementsChanged, 40)}`);
     lines.push(`largest phase change ${s.largestPhaseChangeLsb} LSB, largest attenuation change ${s.largestAttenChangeSteps} step(s)`);
   }
@@ -40,6 +44,7 @@ export function diffLines(r: DiffResult): string[] {
   for (const c of s.calibrationServed ?? [])
     lines.push(`calibration at ${c.frequencyHz} Hz: ${c.old ? servedText(c.old) : "one set for every frequency"}${c.changed ? ` → ${c.new ? servedText(c.new) : "one set for every frequency"}` : " (same rows)"}`);
   if (s.devices) lines.push(...deviceDiffLines(s.devices));
+  if (s.devicesRemoved) lines.push("devices: the old build wrote device images; the new build writes none");
   return lines;
 }
 

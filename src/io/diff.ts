@@ -43,6 +43,8 @@ export interface DiffSummary {
   calibrationServed?: { frequencyHz: string; old: CalibrationServed | null; new: CalibrationServed | null; changed: boolean }[];
   /** Per device of the new build (only when it has `devices`): words changed and address ranges to reload. */
   devices?: DeviceDiff;
+  /** Only when the old build wrote device images and the new one writes none. */
+  devicesRemoved?: true;
 }
 
 export interface CalibrationRef {
@@ -143,7 +145,11 @@ export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nam
     if (e instanceof ImageFormatError) throw new InputError({ file: dirB, message: `${e.message}; run steercode verify on it` });
     throw e;
   }
-  return { identical: changes.length === 0, summary, changes, wordBits: a.layout.bits };
+  if (a.devices && !b.devices) summary.devicesRemoved = true;
+  // what is flashed differs when any word changed, or when the device images are laid out
+  // differently (or appear or disappear) although every word agrees
+  const imagesDiffer = summary.devices?.layoutChanged === true || summary.devicesRemoved === true;
+  return { identical: changes.length === 0 && !imagesDiffer, summary, changes, wordBits: a.layout.bits };
 }
 
 export const CHANGE_COLUMNS = ["frequency_hz", "beam", "element", "old_word", "new_word", "old_phase_code", "new_phase_code", "old_atten_code", "new_atten_code"] as const;

@@ -224,7 +224,7 @@ function comparisonPart(dir: string, m: Manifest | null): string {
   const num = (x: unknown) => (typeof x === "number" && Number.isFinite(x) ? x : NaN);
   const str = (x: unknown) => (typeof x === "string" ? x : "");
   const lines: string[] = [];
-  lines.push(doc.identical === true ? `identical: all ${num(s.wordsCompared)} words agree` : `${num(s.wordsChanged)} of ${num(s.wordsCompared)} words changed, in ${num(s.beamsTouched)} beam(s) and ${num(s.elementsTouched)} element(s); largest phase change ${num(s.largestPhaseChangeLsb)} LSB, largest attenuation change ${num(s.largestAttenChangeSteps)} step(s)`);
+  lines.push(doc.identical === true ? `identical: all ${num(s.wordsCompared)} words agree` : s.wordsChanged === 0 ? `all ${num(s.wordsCompared)} words agree, but the device images differ` : `${num(s.wordsChanged)} of ${num(s.wordsCompared)} words changed, in ${num(s.beamsTouched)} beam(s) and ${num(s.elementsTouched)} element(s); largest phase change ${num(s.largestPhaseChangeLsb)} LSB, largest attenuation change ${num(s.largestAttenChangeSteps)} step(s)`);
   const cal = (x: unknown) => {
     if (typeof x === "string") return x;
     const c = x as { ref?: unknown; sha256?: unknown; comments?: unknown } | null;

@@ -287,6 +287,33 @@ describe("device images", () => {
     expect(html).toMatch(/1 of 2 device\(s\) changed/);
   });
 
+  it("diff: every word equal but another device layout, or no device images any more, is a difference (exit 1)", () => {
+    const t = tempDir();
+    const doc = JSON.parse(readFileSync(join(scrambled.dir, "inputs/scenario.json"), "utf8"));
+    const files = { "cal.csv": CAL, "dev.csv": readFileSync(join(scrambled.dir, "inputs/devices.csv"), "utf8") };
+    // the same tables, another beam stride: every image must be reloaded in full
+    const restrided = writeScenario({ ...doc, devices: { ...doc.devices, address: { base: 3, beamStride: 8, channelStride: 1 } } }, files, join(t, "s1"));
+    expect(cli(["build", restrided, "-o", join(t, "b1"), "--no-analysis"]).code).toBe(0);
+    const r1 = cli(["diff", scrambled.dir, join(t, "b1")]);
+    expect(r1.code, r1.stderr).toBe(1);
+    expect(r1.stdout).toMatch(/^all \d+ words agree, but the device images differ \(another device layout: reload every image\)/);
+    const j1 = JSON.parse(cli(["diff", scrambled.dir, join(t, "b1"), "--json"]).stdout);
+    expect(j1.identical).toBe(false);
+    expect(j1.summary.wordsChanged).toBe(0);
+    expect(j1.summary.devices.layoutChanged).toBe(true);
+    // the same tables without the devices key: the old images have no successor
+    const { devices: _dropped, ...plain } = doc;
+    const s2 = writeScenario(plain, files, join(t, "s2"));
+    expect(cli(["build", s2, "-o", join(t, "b2"), "--no-analysis"]).code).toBe(0);
+    const r2 = cli(["diff", scrambled.dir, join(t, "b2")]);
+    expect(r2.code, r2.stderr).toBe(1);
+    expect(r2.stdout).toMatch(/the new build writes no device images/);
+    // and a rebuild of the same scenario is identical (exit 0)
+    const same = writeScenario(doc, files, join(t, "s3"));
+    expect(cli(["build", same, "-o", join(t, "b3"), "--no-analysis"]).code).toBe(0);
+    expect(cli(["diff", scrambled.dir, join(t, "b3")]).code).toBe(0);
+  });
+
   it("check prints per device channels, addresses, image size and full-load time", () => {
     const r = cli(["check", scrambledScenario, "--bus-clock", "10MHz", "--bus-overhead-bits", "8", "--json"]);
     expect(r.code, r.stderr).toBe(0);
