@@ -178,7 +178,7 @@ const finiteOrNull = (x: number): number | null => (Number.isFinite(x) ? x : nul
 export function analyzeBeam(s: Scenario, ref: BeamRef): BeamMetrics {
   checkRef(s, ref);
   const plan = s.loaded.plan;
-  const big = analysisSizeProblem(plan);
+  const big = analysisSizeProblem(plan, { band: false }); // one beam at a table frequency
   if (big) throw new InputError({ file: s.path, pointer: "/frequency", message: big.message });
   const an = new BeamAnalyzer(plan, ref.frequency);
   const codes = allocBeamCodes(plan.elements.count);

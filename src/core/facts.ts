@@ -104,7 +104,7 @@ export function deriveFacts(plan: Plan): Facts {
       warnings.push(`${fGHz} GHz: ${pf.clipped} element(s) need more attenuation than the attenuator's ${((2 ** plan.attenBits - 1) * plan.attenStepDb).toFixed(2)} dB range; their codes are clipped to the last step`);
   }
   const big = analysisSizeProblem(plan);
-  if (big) warnings.push(`build, sweep and report refuse to analyse this scenario: ${big.message}`);
+  if (big) warnings.push(big.band ? `build refuses its band analysis (sweep, report and --no-analysis builds are not concerned): ${big.message}` : `build, sweep and report refuse to analyse this scenario: ${big.message}`);
   if (!plan.lattice && plan.elements.count > 1) warnings.push("element list: grating-lobe limits are not computed for arbitrary geometries");
   if (plan.attenBits === 0 && plan.taper.kind !== "uniform") warnings.push("no attenuator: the taper cannot be applied; every tapered element is clipped");
   const disabledIds = Array.from(plan.elements.ids).filter((_, i) => !plan.elements.enabled[i]);

@@ -18,9 +18,9 @@ import { analysisSizeProblem } from "../core/pattern/grid.js";
 import { InputError } from "../core/errors.js";
 
 /** Refuse (exit 2, before any work) an analysis whose grid would pass its stated size (grid.ts MAX_ANALYSIS_CELLS). */
-export function refuseOversizedAnalysis(plan: Plan, file: string): void {
-  const p = analysisSizeProblem(plan);
-  if (p) throw new InputError({ file, pointer: "/frequency", message: p.message });
+export function refuseOversizedAnalysis(plan: Plan, file: string, opts: { band?: boolean } = {}): void {
+  const p = analysisSizeProblem(plan, opts);
+  if (p) throw new InputError({ file, pointer: p.band ? "/band" : "/frequency", message: p.message });
 }
 
 export const CHUNK_BEAMS = 8;

@@ -311,7 +311,7 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
 
 export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
   // the optimized quantizer searches on the analysis grid: it needs it even with --no-analysis
-  if (opts.analysis || loaded.plan.quantizer.method === "optimized") refuseOversizedAnalysis(loaded.plan, loaded.scenario.name);
+  if (opts.analysis || loaded.plan.quantizer.method === "optimized") refuseOversizedAnalysis(loaded.plan, loaded.scenario.name, { band: opts.analysis });
   const stage = new StagedDir(outDir, "build");
   try {
     const tmp = stage.tmp;

@@ -47,7 +47,7 @@ export function sweepVariants(loaded: LoadedScenario, o: SweepOptions): SweepVar
 export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepOptions): Promise<SweepResult> {
   const plan = loaded.plan;
   const variants = sweepVariants(loaded, o);
-  refuseOversizedAnalysis(plan, loaded.scenario.name);
+  refuseOversizedAnalysis(plan, loaded.scenario.name, { band: false });
   const stage = new StagedDir(outDir, "sweep");
   const nb = plan.beams.count, nf = plan.frequenciesHz.length;
   const job = startAnalysis(plan, o.jobs, o.onProgress, {

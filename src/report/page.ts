@@ -106,7 +106,7 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   const loaded = loadBuildScenario(dir, m);
   const plan = loaded.plan;
   // the page runs the analysis engine: refuse a scenario whose analysis grid is past its limit
-  refuseOversizedAnalysis(plan, dir);
+  refuseOversizedAnalysis(plan, dir, { band: false });
   const F = plan.frequenciesHz.length, B = plan.beams.count;
   let metricColumns: string[] = [];
   let metrics: Float64Array | null = null;

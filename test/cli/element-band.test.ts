@@ -57,6 +57,18 @@ describe("build with an element pattern and a band", () => {
     expect(html).toContain(`<td>${m.extra.band.worstPointingDeg.max.toFixed(4)} °</td>`);
   });
 
+  it("a band point past the analysis-grid limit: build refuses (exit 2, /band, nothing written), --no-analysis builds, check warns", () => {
+    const t = tempDir();
+    // derived: 8 × 5.2 mm at 2.8 THz is 388.5 λ, past the ~256 λ the 2048 × 2048 grid holds; at 280 GHz it is 38.9 λ
+    const s = writeScenario(baseScenario({ frequency: "280 GHz", band: { from: "280 GHz", to: "2.8 THz", step: "2.52 THz" }, array: { lattice: { kind: "rectangular", columns: 8, rows: 8, dx: "5.2 mm", dy: "5.2 mm" } } }), {}, join(t, "s"));
+    const r = cli(["build", s, "-o", join(t, "b")]);
+    expect(r.code, r.stderr).toBe(2);
+    expect(r.stderr).toMatch(/\/band: the analysis grid would need .* at 2\.8 THz \(a band point\)/);
+    expect(existsSync(join(t, "b"))).toBe(false);
+    expect(cli(["build", s, "-o", join(t, "b"), "--no-analysis"]).code).toBe(0);
+    expect(cli(["check", s]).stdout).toMatch(/warning: build refuses its band analysis \(sweep, report and --no-analysis builds are not concerned\)/);
+  });
+
   it("a scenario without element or band writes the version 1 columns and no squint.csv", () => {
     const s = writeScenario(baseScenario());
     const out = join(tempDir(), "b");

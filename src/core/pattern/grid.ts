@@ -44,9 +44,9 @@ export interface GridShape {
   apertureY: number;
 }
 
-/** The grid's cell and size for frequency fi, without allocating it. */
-export function gridShape(plan: Plan, fi: number): GridShape {
-  const lambda = SPEED_OF_LIGHT / plan.frequenciesHz[fi]!;
+/** The grid's cell and size for frequency fi (or any frequency fHz, e.g. a band point), without allocating it. */
+export function gridShape(plan: Plan, fi: number, fHz: number = plan.frequenciesHz[fi]!): GridShape {
+  const lambda = SPEED_OF_LIGHT / fHz;
   const l = plan.lattice;
   let du: number, dv: number, ax: number, ay: number, mode: "fft" | "direct";
   if (l && (l.offset === 0 || l.offset === 0.5)) {
@@ -76,20 +76,25 @@ export function gridShape(plan: Plan, fi: number): GridShape {
 
 /**
  * Why the analysis cannot run (a grid past MAX_ANALYSIS_CELLS or phasor tables past
- * MAX_DIRECT_TABLE_ENTRIES at some frequency), naming the frequency and the aperture in
- * wavelengths that cause it; null when it can.
+ * MAX_DIRECT_TABLE_ENTRIES at some table frequency or band point), naming the frequency
+ * and the aperture in wavelengths that cause it; null when it can.
  */
-export function analysisSizeProblem(plan: Plan): { frequencyIndex: number; message: string } | null {
-  for (let fi = 0; fi < plan.frequenciesHz.length; fi++) {
-    const g = gridShape(plan, fi);
+export function analysisSizeProblem(plan: Plan, opts: { band?: boolean } = {}): { frequencyIndex: number; message: string; band?: true } | null {
+  // the table frequencies, then (unless opts.band is false: no band analysis runs) the band
+  // points, each analysed on its own grid
+  const points: [number, number, boolean][] = plan.frequenciesHz.map((f, fi) => [fi, f, false]);
+  if (opts.band !== false) for (const f of plan.band?.frequenciesHz ?? []) points.push([0, f, true]);
+  for (const [fi, f, isBand] of points) {
+    const g = gridShape(plan, fi, f);
     const over = g.cells > MAX_ANALYSIS_CELLS ? `${g.cells.toExponential(2)} cells (limit ${MAX_ANALYSIS_CELLS}, 2048 × 2048)` : g.tableEntries > MAX_DIRECT_TABLE_ENTRIES ? `${g.tableEntries.toExponential(2)} phasor-table entries (limit ${MAX_DIRECT_TABLE_ENTRIES})` : null;
     if (!over) continue;
-    const f = plan.frequenciesHz[fi]!;
     const fTxt = f >= 1e12 ? `${+(f / 1e12).toPrecision(6)} THz` : f >= 1e9 ? `${+(f / 1e9).toPrecision(6)} GHz` : `${+(f / 1e6).toPrecision(6)} MHz`;
     const ap = `${+g.apertureX.toPrecision(4)} λ × ${+g.apertureY.toPrecision(4)} λ`;
+    const fix = plan.quantizer.method === "optimized" && !isBand ? "the optimized quantizer searches on this grid, so use another quantizer (then --no-analysis builds the tables)" : isBand ? "narrow the band (or remove it), or build the tables without analysis (--no-analysis)" : "build the tables without analysis (--no-analysis)";
     return {
       frequencyIndex: fi,
-      message: `the analysis grid would need ${over}: at ${fTxt} the array spans ${ap} (8 to 16 cells per wavelength of aperture along each axis: about 128 to 256 λ fit); ${plan.quantizer.method === "optimized" ? "the optimized quantizer searches on this grid, so use another quantizer (then --no-analysis builds the tables)" : "build the tables without analysis (--no-analysis)"}, or check the frequency and the element positions' units`,
+      ...(isBand ? { band: true as const } : {}),
+      message: `the analysis grid would need ${over}: at ${fTxt}${isBand ? " (a band point)" : ""} the array spans ${ap} (8 to 16 cells per wavelength of aperture along each axis: about 128 to 256 λ fit); ${fix}, or check the frequency and the element positions' units`,
     };
   }
   return null;
