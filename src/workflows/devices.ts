@@ -9,7 +9,7 @@ import { parse } from "csv-parse/sync";
 import { address, addressRanges, buildDeviceMap, loadSeconds, locate, type DeviceFormat, type DeviceInfo, type DeviceMap, type DeviceSpec } from "../core/devices.js";
 import type { Plan } from "../core/plan.js";
 import { DEVICE_MAP_FILE, deviceFile } from "../formats/device-images.js";
-import { ImageFormatError, wordsFromBinImage, wordsFromHexImage, wordsFromMemImage } from "../formats/device-read.js";
+import { ImageFormatError, openImageReader, type ImageReader } from "../formats/device-read.js";
 
 export interface DeviceManifest {
   channels: number;
@@ -111,12 +111,14 @@ export const DEVICE_CHECK_BUDGET_WORDS = 1 << 24;
  * recomputed words (padding must hold the fill word). The first disagreement is named by
  * device, address, beam, channel and element.
  *
- * Memory: images are decoded and checked in batches of at most `budgetWords` words
- * (decoded + expected images together); each batch takes one pass of the table engine.
- * So memory does not grow with the number of devices, only with the largest single image
- * (decoded whole); a build whose images all fit the budget takes one extra pass.
+ * Memory: images are streamed in windows of at most `windowWords` addresses (default:
+ * half the budget, at least 4096), and windows are checked in batches of at most
+ * `budgetWords` words (decoded + expected together); each batch takes one pass of the
+ * table engine. So memory is bounded by the budget whatever the number or the size of
+ * the images (up to the 4 GiB an image may hold); a build whose images all fit the budget
+ * takes one extra pass, an image larger than the window one pass per window.
  */
-export function verifyDevices(dir: string, m: BuildInfo, fresh: DeviceSpec | null, words: WordPass, budgetWords = DEVICE_CHECK_BUDGET_WORDS): { checks: DeviceCheck[]; first: DeviceMismatch | null } {
+export function verifyDevices(dir: string, m: BuildInfo, fresh: DeviceSpec | null, words: WordPass, budgetWords = DEVICE_CHECK_BUDGET_WORDS, windowWords = Math.max(1 << 12, Math.floor(budgetWords / 2))): { checks: DeviceCheck[]; first: DeviceMismatch | null } {
   const checks: DeviceCheck[] = [];
   let first: DeviceMismatch | null = null;
   const dm = m.devices!;
@@ -142,71 +144,102 @@ export function verifyDevices(dir: string, m: BuildInfo, fresh: DeviceSpec | nul
   }
   const wb = m.layout.bytes;
   const B = m.counts.beams;
-  const decoders: Record<DeviceFormat, (p: string) => Uint32Array> = {
-    bin: (p) => wordsFromBinImage(p, wb),
-    mem: (p) => wordsFromMemImage(p),
-    hex: (p) => wordsFromHexImage(p, wb),
-  };
   // per format: how many images differ (and the first), which could not be read, words read
   const result = new Map(dm.formats.map((f) => [f, { mm: null as DeviceMismatch | null, devices: 0, unreadable: [] as string[], words: 0, images: 0 }]));
-  const compare = (fmt: DeviceFormat, d: DeviceInfo, file: string, img: Uint32Array, expected: Uint32Array) => {
-    const r = result.get(fmt)!;
-    r.images++;
-    r.words += img.length;
+  interface Image { fmt: DeviceFormat; d: DeviceInfo; file: string; reader: ImageReader | null; words: number; settled: boolean }
+  const unreadable = (im: Image, e: unknown) => {
+    const code = (e as NodeJS.ErrnoException).code;
+    result.get(im.fmt)!.unreadable.push(`${im.file}: ${e instanceof ImageFormatError ? e.message : code === "ENOENT" ? "missing" : (e as Error).message}`);
+    im.settled = true;
+    im.reader?.close();
+    im.reader = null;
+  };
+  /** The first address of window [a0, a0 + expected.length) where the image disagrees; settles the image. */
+  const compare = (im: Image, a0: number, img: Uint32Array, expected: Uint32Array) => {
+    const r = result.get(im.fmt)!;
     const n = Math.max(expected.length, img.length);
-    for (let a = 0; a < n; a++) {
-      if (expected[a] === img[a] && a < expected.length && a < img.length) continue;
-      const at = a < expected.length ? locate(map, d, a) : null;
+    for (let i = 0; i < n; i++) {
+      if (expected[i] === img[i] && i < expected.length && i < img.length) continue;
+      const a = a0 + i;
+      const at = a < im.d.words ? locate(map, im.d, a) : null;
       const mm: DeviceMismatch = {
-        file,
-        device: d.id,
+        file: im.file,
+        device: im.d.id,
         address: a,
         frequency_hz: at ? m.frequenciesHz[Math.floor(at.block / B)]! : "",
         beam: at ? at.block % B : null,
         channel: at ? at.channel : null,
         element: at ? m.elementIds[at.element]! : null,
-        expected: a < expected.length ? expected[a]! : -1,
-        found: a < img.length ? img[a]! : -1,
+        expected: i < expected.length ? expected[i]! : -1,
+        found: i < img.length ? img[i]! : -1,
       };
       if (!r.devices) r.mm = mm;
       r.devices++;
+      im.settled = true;
       return mm;
     }
     return null;
   };
-  // batches of decoded images; one pass of the table engine fills each batch's expected images
-  let batch: { fmt: DeviceFormat; d: DeviceInfo; file: string; img: Uint32Array; expected: Uint32Array }[] = [];
+  // batches of decoded windows; one pass of the table engine fills each batch's expected windows
+  let batch: { im: Image; a0: number; img: Uint32Array; expected: Uint32Array; last: boolean }[] = [];
   let held = 0;
   const flush = () => {
     if (!batch.length) return;
     const spec = map.spec;
     words.run((blk, w) => {
-      for (const it of batch) for (const c of it.d.used) it.expected[address(spec, blk, c)] = w[it.d.elementOfChannel[c]!]!;
+      for (const it of batch) {
+        const n = it.expected.length;
+        for (const c of it.im.d.used) {
+          const i = address(spec, blk, c) - it.a0;
+          if (i >= 0 && i < n) it.expected[i] = w[it.im.d.elementOfChannel[c]!]!;
+        }
+      }
     });
-    // compared in format order, then device order (the first mismatch is the first in that order)
+    // compared in format order, then device and address order (the first mismatch is the first in that order)
     for (const fmt of dm.formats)
       for (const it of batch) {
-        if (it.fmt !== fmt) continue;
-        const mm = compare(it.fmt, it.d, it.file, it.img, it.expected);
+        if (it.im.fmt !== fmt || it.im.settled) continue;
+        const mm = compare(it.im, it.a0, it.img, it.expected);
         if (mm && !first) first = mm;
+        if (it.last && !it.im.settled) {
+          const r = result.get(fmt)!;
+          r.images++;
+          r.words += it.im.words;
+          it.im.settled = true;
+        }
       }
     batch = [];
     held = 0;
   };
   for (const d of map.devices)
     for (const fmt of dm.formats) {
-      const file = deviceFile(d.id, fmt);
-      let img: Uint32Array;
+      const im: Image = { fmt, d, file: deviceFile(d.id, fmt), reader: null, words: 0, settled: false };
       try {
-        img = decoders[fmt](join(dir, file));
+        im.reader = openImageReader(fmt, join(dir, im.file), wb);
       } catch (e) {
-        const code = (e as NodeJS.ErrnoException).code;
-        result.get(fmt)!.unreadable.push(`${file}: ${e instanceof ImageFormatError ? e.message : code === "ENOENT" ? "missing" : (e as Error).message}`);
+        unreadable(im, e);
         continue;
       }
-      batch.push({ fmt, d, file, img, expected: new Uint32Array(d.words).fill(map.spec.fill) });
-      held += img.length + d.words;
-      if (held >= budgetWords) flush();
+      for (let a0 = 0; a0 < d.words && !im.settled; a0 += windowWords) {
+        const want = Math.min(windowWords, d.words - a0);
+        const last = a0 + want >= d.words;
+        let img: Uint32Array;
+        try {
+          // the last window reads one word more: a longer file shows as a word past the end
+          img = im.reader!.read(last ? want + 1 : want);
+          if (last && img.length <= want) im.reader!.read(1); // to the end: trailing records, the end record
+        } catch (e) {
+          unreadable(im, e);
+          break;
+        }
+        im.words += img.length;
+        batch.push({ im, a0, img, expected: new Uint32Array(want).fill(map.spec.fill), last });
+        held += img.length + want;
+        if (img.length < want) break; // the file ended early: this window shows where
+        if (held >= budgetWords) flush();
+      }
+      im.reader?.close();
+      im.reader = null;
     }
   flush();
   for (const fmt of dm.formats) {

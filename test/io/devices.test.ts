@@ -15,6 +15,8 @@ import { DeviceImageWriter } from "../../src/formats/device-images.js";
 import { runTables } from "../../src/core/engine.js";
 import { loadBuildScenario, readManifest } from "../../src/io/readbuild.js";
 import { verifyDevices } from "../../src/workflows/devices.js";
+import { openImageReader } from "../../src/formats/device-read.js";
+import { mulberry32 } from "../../src/core/quantize/randomized.js";
 
 const FIX = join(import.meta.dirname, "..", "fixtures");
 
@@ -419,6 +421,38 @@ describe("the image writer on its own (small buffers reach every path)", () => {
     });
 });
 
+describe("image readers stream in chunks", () => {
+  it("any chunk size and any read size give the .bin's words, for .bin, .mem and .hex (multi-byte text across chunk edges too)", () => {
+    const rnd = mulberry32(11);
+    for (const b of [scrambled, wide]) {
+      for (const id of deviceIds(b.dir)) {
+        const want = binWords(join(b.dir, `devices/dev-${id}.bin`), b.wb);
+        for (const fmt of ["bin", "mem", "hex"] as const)
+          for (const chunk of [b.wb, 3, 7, 64, 1 << 20]) {
+            const r = openImageReader(fmt, join(b.dir, `devices/dev-${id}.${fmt}`), b.wb, chunk);
+            const got: number[] = [];
+            for (;;) {
+              const w = r.read(1 + Math.floor(rnd() * 9));
+              if (!w.length) break;
+              got.push(...w);
+            }
+            r.close();
+            expect(got, `${fmt} chunk ${chunk}`).toEqual(want);
+          }
+      }
+    }
+    // a .mem comment with a multi-byte character split by the chunk edge decodes the same
+    const t = tempDir();
+    const p = join(t, "x.mem");
+    writeFileSync(p, "// é€ comment\n00AB\n// ü\n1234 5678\n");
+    for (const chunk of [1, 2, 3, 5]) {
+      const r = openImageReader("mem", p, 2, chunk);
+      expect(Array.from(r.read(10))).toEqual([0xab, 0x1234, 0x5678]);
+      r.close();
+    }
+  });
+});
+
 describe("verify's device check in batches, and device files as recorded", () => {
   // derived: the contract's address formula; every batch size must give the same verdict and the same first mismatch
   it("a tiny budget (one image per batch, one table pass each) finds the same flipped word as one batch", () => {
@@ -458,6 +492,37 @@ describe("verify's device check in batches, and device files as recorded", () =>
       expect(r.checks.find((c) => c.check === "devices: dev-*.hex = recomputed")!.ok).toBe(false);
       expect(r.checks.find((c) => c.check === "devices: dev-*.bin = recomputed")!.ok).toBe(true);
     }
+    // images streamed in windows of a few addresses (as a 4 GiB image is): the same verdicts, the same first mismatch
+    const whole = verifyDevices(dir, m, plan.devices, words);
+    for (const [budget, win] of [[1, 1], [4, 2], [10, 5], [1000, 7], [1000, 21], [1000, 22]] as const) {
+      passes = 0;
+      const r = verifyDevices(dir, m, plan.devices, words, budget, win);
+      expect(r.first).toEqual(whole.first);
+      expect(r.checks).toEqual(whole.checks);
+      expect(passes).toBeGreaterThan(0);
+    }
+  });
+
+  it("streamed windows: a file one word short, one word long, or with a record after the end record is named as before", () => {
+    const t = tempDir();
+    const s = writeScenario(baseScenario({ calibration: "cal.csv", devices: { channels: 4, address: { beamStride: 1, channelStride: 10 }, fill: 7 } }), { "cal.csv": CAL }, join(t, "s"));
+    const dir = join(t, "b");
+    expect(cli(["build", s, "-o", dir, "--no-analysis"]).code).toBe(0);
+    const m = readManifest(dir);
+    const plan = loadBuildScenario(dir, m).plan;
+    const words = { name: "recomputed", run: (sink: (blk: number, w: ArrayLike<number>) => void) => runTables(plan, (fi, b, w) => sink(fi * plan.beams.count + b, w), undefined, { commanded: false }) };
+    const bin = join(dir, "devices/dev-0.bin");
+    const orig = readFileSync(bin);
+    const n = orig.length / 2; // the image's words
+    const check = (win: number) => verifyDevices(dir, m, plan.devices, words, 1000, win);
+    writeFileSync(bin, orig.subarray(0, orig.length - 2));
+    for (const win of [4, 13, 26, 27, 4096]) expect(check(win).first).toMatchObject({ file: "devices/dev-0.bin", address: n - 1, found: -1 });
+    writeFileSync(bin, Buffer.concat([orig, Buffer.from([1, 0])]));
+    for (const win of [4, 13, 27, 4096]) expect(check(win).first).toMatchObject({ file: "devices/dev-0.bin", address: n, expected: -1, found: 1 });
+    writeFileSync(bin, orig);
+    const hex = join(dir, "devices/dev-1.hex");
+    writeFileSync(hex, readFileSync(hex, "latin1") + ":00000001FF\n", "latin1");
+    for (const win of [4, 4096]) expect(check(win).checks.find((c) => c.check === "devices: dev-*.hex readable")!.detail).toMatch(/devices\/dev-1\.hex: line \d+: a record after the end-of-file record/);
   });
 
   it("an image whose words are right but whose bytes are not as recorded, a missing image and a linked image", () => {
