@@ -5,7 +5,7 @@ import { loadScenario } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
 import { fmt, printJson, progress, SAFETY, warn, type Io } from "./shared.js";
 import type { Distribution } from "../core/pattern/summary.js";
-import { diffBuilds, incompatibility, type DiffResult } from "../io/diff.js";
+import { scanDiff, incompatibility, type DiffScan } from "../io/diff.js";
 import { readManifest } from "../io/readbuild.js";
 import { WorkerPool } from "../io/analysis-pool.js";
 import { diffLines, writeDiffFiles } from "./diff.js";
@@ -36,7 +36,7 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
 
 async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<number> {
   const loaded = loadScenario(args.scenario);
-  let diff: DiffResult | null = null;
+  let diff: DiffScan | null = null;
   if (args.compare) {
     // before any work: can the new tables be compared word by word with the earlier ones?
     const why = incompatibility(readManifest(args.compare), makeManifest(loaded, "", [], {}, false));
@@ -55,7 +55,7 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
         ? {
             extraFiles: (tmp: string, manifest: Manifest) => {
               // the new tables are complete in the staged folder: compare them with the earlier build
-              diff = diffBuilds(args.compare!, tmp, manifest, args.out);
+              diff = scanDiff(args.compare!, tmp, manifest, args.out);
               return writeDiffFiles(tmp, diff, args.compare!, args.out);
             },
           }
@@ -67,7 +67,7 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
   const m = result.manifest;
   const gainNote = result.metrics ? negativeGainLossNote(result.theory, countNegative(result.metrics), m.counts.beams * m.counts.frequencies) : null;
   if (io.json) {
-    printJson(io, { ok: true, dir: args.out, notes: gainNote ? [gainNote] : [], manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffResult).identical, summary: (diff as DiffResult).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, ...(result.optimized ? { optimized: result.optimized.summary } : {}), band: result.band, theory: result.theory, warnings: facts.warnings, safety: SAFETY });
+    printJson(io, { ok: true, dir: args.out, notes: gainNote ? [gainNote] : [], manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffScan).identical, summary: (diff as DiffScan).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, ...(result.optimized ? { optimized: result.optimized.summary } : {}), band: result.band, theory: result.theory, warnings: facts.warnings, safety: SAFETY });
     return 0;
   }
   const lines = [

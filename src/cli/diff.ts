@@ -1,16 +1,17 @@
 import { join } from "node:path";
-import { diffBuilds, writeChangesCsv, type CalibrationRef, type DiffResult } from "../io/diff.js";
+import { once } from "node:events";
+import { scanDiff, writeChangesCsv, type CalibrationRef, type Change, type DiffScan } from "../io/diff.js";
 import { idList } from "../core/facts.js";
 import { checkTarget, StagedDir } from "../io/outdir.js";
 import { stableJson } from "../io/build.js";
 import { writeFileSync } from "node:fs";
 import { sha256 } from "../io/files.js";
-import { fmt, printJson, type Io } from "./shared.js";
+import { fmt, type Io } from "./shared.js";
 import { servedText } from "./check.js";
 import { deviceDiffLines } from "../workflows/devices.js";
 
 /** Write changes.csv and diff.json into `dir` (used by `diff -o` and `build --compare`). Returns file digests. */
-export function writeDiffFiles(dir: string, r: DiffResult, a: string, b: string) {
+export function writeDiffFiles(dir: string, r: DiffScan, a: string, b: string) {
   const csv = writeChangesCsv(join(dir, "changes.csv"), r);
   const doc = { format: "steercode-diff/1", old: a, new: b, identical: r.identical, summary: r.summary, files: { "changes.csv": { bytes: csv.bytes, sha256: csv.sha256 } } };
   const text = stableJson(doc, null, 2) + "\n";
@@ -23,7 +24,7 @@ function calLines(label: string, c: CalibrationRef | null): string[] {
   return [`${label}: ${c.ref} (sha256 ${c.sha256})`, ...c.comments.map((t) => `    # ${t}`)];
 }
 
-export function diffLines(r: DiffResult): string[] {
+export function diffLines(r: Pick<DiffScan, "identical" | "summary">): string[] {
   const s = r.summary;
   const lines = [
     r.identical
@@ -53,9 +54,40 @@ export function hexWord(w: number, bits: number): string {
   return "0x" + (w >>> 0).toString(16).toUpperCase().padStart(Math.ceil(bits / 4), "0");
 }
 
-export function diffCommand(io: Io, a: string, b: string, out: string | undefined): number {
+/**
+ * `diff --json`: { changes, identical, summary } exactly as stableJson(doc, null, 2) prints
+ * it (keys sorted), produced in chunks of changes so that millions of changes never sit in
+ * one string.
+ */
+export function* diffJsonChunks(r: DiffScan, perChunk = 4096): Generator<string> {
+  const MARK = "\u0000changes\u0000";
+  const text = stableJson({ identical: r.identical, summary: r.summary, changes: r.summary.wordsChanged ? [MARK] : [] }, null, 2) + "\n";
+  if (!r.summary.wordsChanged) return yield text;
+  const quoted = JSON.stringify(MARK);
+  const at = text.indexOf(quoted);
+  const lineStart = text.lastIndexOf("\n", at) + 1;
+  const indent = " ".repeat(at - lineStart);
+  yield text.slice(0, lineStart);
+  let from = 0;
+  let first = true;
+  while (from < r.summary.wordsCompared) {
+    const chunk: string[] = [];
+    from = r.eachChange((c: Change) => {
+      // stableJson's layout of one change (keys sorted), written out: the test compares the two byte for byte
+      const i2 = indent + "  ";
+      chunk.push(
+        `${first ? "" : ",\n"}${indent}{\n${i2}"beam": ${c.beam},\n${i2}"element": ${c.element},\n${i2}"frequency_hz": ${JSON.stringify(c.frequency_hz)},\n${i2}"new_atten_code": ${c.new_atten_code},\n${i2}"new_phase_code": ${c.new_phase_code},\n${i2}"new_word": ${c.new_word},\n${i2}"old_atten_code": ${c.old_atten_code},\n${i2}"old_phase_code": ${c.old_phase_code},\n${i2}"old_word": ${c.old_word}\n${indent}}`,
+      );
+      first = false;
+    }, perChunk, from);
+    if (chunk.length) yield chunk.join("");
+  }
+  yield text.slice(at + quoted.length);
+}
+
+export async function diffCommand(io: Io, a: string, b: string, out: string | undefined): Promise<number> {
   if (out) checkTarget(out, "diff");
-  const r = diffBuilds(a, b);
+  const r = scanDiff(a, b);
   if (out) {
     const stage = new StagedDir(out, "diff");
     try {
@@ -66,17 +98,22 @@ export function diffCommand(io: Io, a: string, b: string, out: string | undefine
       throw e;
     }
   }
-  if (io.json) printJson(io, { identical: r.identical, summary: r.summary, changes: r.changes });
+  if (io.json) {
+    // a pipe takes the text at its reader's pace: wait for it to drain rather than queue gigabytes
+    for (const chunk of diffJsonChunks(r)) if (io.stdout(chunk) === false) await once(process.stdout, "drain");
+  }
   else {
     const lines = diffLines(r);
-    const show = r.changes.slice(0, 20);
+    const show: Change[] = [];
+    r.eachChange((c) => show.push(c), 20);
     if (show.length) {
       const bits = r.wordBits;
       const hw = Math.max(10, Math.ceil(bits / 4) + 2); // "0x" + digits; the header needs 23 = 10 + 13
       lines.push("", `frequency_hz  beam  element  ${"old word (hex, decimal)".padEnd(hw + 13)} → new word (hex, decimal)  phase  atten`);
       for (const c of show)
         lines.push(`${c.frequency_hz}  ${String(c.beam).padStart(4)}  ${String(c.element).padStart(7)}  ${`${hexWord(c.old_word, bits)} (${c.old_word})`.padEnd(hw + 13)} → ${`${hexWord(c.new_word, bits)} (${c.new_word})`.padEnd(hw + 13)}  ${c.old_phase_code}→${c.new_phase_code}  ${c.old_atten_code}→${c.new_atten_code}`);
-      if (r.changes.length > show.length) lines.push(`… ${r.changes.length - show.length} more${out ? ` in ${join(out, "changes.csv")}` : " (-o DIR writes them all to changes.csv)"}`);
+      const more = r.summary.wordsChanged - show.length;
+      if (more > 0) lines.push(`… ${more} more${out ? ` in ${join(out, "changes.csv")}` : " (-o DIR writes them all to changes.csv)"}`);
     }
     io.stdout(lines.join("\n") + "\n");
   }

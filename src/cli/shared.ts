@@ -12,7 +12,8 @@ export const SAFETY = [
 
 export interface Io {
   json: boolean;
-  stdout: (s: string) => void;
+  /** false: the stream is full (process.stdout: wait for "drain" before writing much more) */
+  stdout: (s: string) => boolean | void;
   stderr: (s: string) => void;
   stderrIsTty: boolean;
 }

@@ -160,7 +160,7 @@ export function layoutProblems(map: DeviceMap, wordBytes: number, describeBlock:
 }
 
 /** Sorted word addresses → inclusive ranges; two neighbours merge when only unused addresses lie between them. */
-export function addressRanges(map: DeviceMap, d: DeviceInfo, sorted: number[]): [number, number][] {
+export function addressRanges(map: DeviceMap, d: DeviceInfo, sorted: ArrayLike<number> & Iterable<number>): [number, number][] {
   const out: [number, number][] = [];
   for (const a of sorted) {
     const last = out[out.length - 1];

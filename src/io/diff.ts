@@ -80,10 +80,29 @@ export function incompatibility(a: TableShape, b: TableShape): string[] {
 }
 
 /**
+ * A diff held compactly: the summary, and the changes enumerated on demand from the two
+ * word arrays (no object per changed word is kept, so a diff where every one of tens of
+ * millions of words changed, as after a calibration change, stays within the two tables'
+ * own memory).
+ */
+export interface DiffScan {
+  identical: boolean;
+  summary: DiffSummary;
+  /** word width, for printing words in hex */
+  wordBits: number;
+  /**
+   * Calls fn for each changed word in table order (frequency, beam, element), at most
+   * `limit` times, starting at word index `from`; returns the word index to continue from
+   * (the table's word count when every change was visited).
+   */
+  eachChange(fn: (c: Change) => void, limit?: number, from?: number): number;
+}
+
+/**
  * `manifestB` stands in for dirB's manifest.json while a build is still being staged;
  * `nameB` is how messages name dirB then (never the staging folder).
  */
-export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nameB = dirB): DiffResult {
+export function scanDiff(dirA: string, dirB: string, manifestB?: Manifest, nameB = dirB): DiffScan {
   const a = readManifest(dirA);
   const b = manifestB ?? readManifest(dirB);
   const why = incompatibility(a, b);
@@ -97,34 +116,50 @@ export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nam
     throw new InputError({ file: wa.length !== a.counts.words ? dirA : nameB, message: "the table holds a different number of words than its manifest says; run steercode verify on it" });
   const pp = packPlan(a.layout);
   const states = 2 ** a.phaseShifter.bits;
-  const changes: Change[] = [];
-  const beams = new Set<number>();
-  const elems = new Set<number>();
+  // beams (per frequency) and elements touched, as flags: bounded by the table's shape, not by the changes
+  const beamTouched = new Uint8Array(a.frequenciesHz.length * B);
+  const elemTouched = new Uint8Array(E);
+  let changed = 0;
   let maxPhase = 0;
   let maxAtten = 0;
   for (let i = 0; i < wa.length; i++) {
     if (wa[i] === wb[i]) continue;
-    const fi = Math.floor(i / (B * E));
-    const beam = Math.floor(i / E) % B;
-    const e = i % E;
+    changed++;
     const ua = unpackWord(pp, a.layout, wa[i]!);
     const ub = unpackWord(pp, a.layout, wb[i]!);
     const dp = Math.abs(ua.phaseCode - ub.phaseCode) % states;
     maxPhase = Math.max(maxPhase, Math.min(dp, states - dp));
     maxAtten = Math.max(maxAtten, Math.abs(ua.attenCode - ub.attenCode));
-    beams.add(fi * B + beam);
-    elems.add(e);
-    changes.push({ frequency_hz: a.frequenciesHz[fi]!, beam, element: idsA[e]!, old_word: wa[i]!, new_word: wb[i]!, old_phase_code: ua.phaseCode, new_phase_code: ub.phaseCode, old_atten_code: ua.attenCode, new_atten_code: ub.attenCode });
+    beamTouched[Math.floor(i / E)] = 1;
+    elemTouched[i % E] = 1;
   }
+  const eachChange = (fn: (c: Change) => void, limit = Infinity, from = 0): number => {
+    let n = 0;
+    let i = from;
+    for (; i < wa.length && n < limit; i++) {
+      if (wa[i] === wb[i]) continue;
+      n++;
+      const fi = Math.floor(i / (B * E));
+      const ua = unpackWord(pp, a.layout, wa[i]!);
+      const ub = unpackWord(pp, a.layout, wb[i]!);
+      fn({ frequency_hz: a.frequenciesHz[fi]!, beam: Math.floor(i / E) % B, element: idsA[i % E]!, old_word: wa[i]!, new_word: wb[i]!, old_phase_code: ua.phaseCode, new_phase_code: ub.phaseCode, old_atten_code: ua.attenCode, new_atten_code: ub.attenCode });
+    }
+    return i;
+  };
+  let beamsTouched = 0;
+  for (const t of beamTouched) beamsTouched += t;
+  const elementsChanged: number[] = [];
+  for (let e = 0; e < E; e++) if (elemTouched[e]) elementsChanged.push(idsA[e]!);
+  elementsChanged.sort((x, y) => x - y);
   const gRefChangeDb = a.perFrequency
     .map((p, i) => ({ frequencyHz: p.frequencyHz, old: p.gRefDb, new: b.perFrequency[i]?.gRefDb ?? NaN }))
     .filter((g) => g.old !== g.new);
   const summary: DiffSummary = {
     wordsCompared: wa.length,
-    wordsChanged: changes.length,
-    beamsTouched: beams.size,
-    elementsTouched: elems.size,
-    elementsChanged: [...elems].sort((x, y) => x - y).map((e) => idsA[e]!),
+    wordsChanged: changed,
+    beamsTouched,
+    elementsTouched: elementsChanged.length,
+    elementsChanged,
     largestPhaseChangeLsb: maxPhase,
     largestAttenChangeSteps: maxAtten,
     gRefChangeDb,
@@ -139,7 +174,7 @@ export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nam
       return { frequencyHz: f, old: o, new: n, changed: stableJson(o) !== stableJson(n) };
     });
   try {
-    const dd = deviceDiff(dirA, a, dirB, b, changes);
+    const dd = deviceDiff(dirA, a, dirB, b, eachChange);
     if (dd) summary.devices = dd;
   } catch (e) {
     if (e instanceof ImageFormatError) throw new InputError({ file: dirB, message: `${e.message}; run steercode verify on it` });
@@ -149,23 +184,31 @@ export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nam
   // what is flashed differs when any word changed, or when the device images are laid out
   // differently (or appear or disappear) although every word agrees
   const imagesDiffer = summary.devices?.layoutChanged === true || summary.devicesRemoved === true;
-  return { identical: changes.length === 0 && !imagesDiffer, summary, changes, wordBits: a.layout.bits };
+  return { identical: changed === 0 && !imagesDiffer, summary, wordBits: a.layout.bits, eachChange };
+}
+
+/** Every changed word as an object (the library's diff; scanDiff keeps memory flat). */
+export function diffBuilds(dirA: string, dirB: string, manifestB?: Manifest, nameB = dirB): DiffResult {
+  const r = scanDiff(dirA, dirB, manifestB, nameB);
+  const changes: Change[] = [];
+  r.eachChange((c) => changes.push(c));
+  return { identical: r.identical, summary: r.summary, changes, wordBits: r.wordBits };
 }
 
 export const CHANGE_COLUMNS = ["frequency_hz", "beam", "element", "old_word", "new_word", "old_phase_code", "new_phase_code", "old_atten_code", "new_atten_code"] as const;
 
 /** changes.csv: one row per changed word; every cell is an integer or an exact decimal. */
-export function writeChangesCsv(path: string, r: DiffResult): FileDigest {
+export function writeChangesCsv(path: string, r: Pick<DiffScan, "eachChange">): FileDigest {
   const f = new HashedFile(path);
   f.write(CHANGE_COLUMNS.join(",") + "\n");
   const lines: string[] = [];
-  for (const c of r.changes) {
+  r.eachChange((c) => {
     lines.push(CHANGE_COLUMNS.map((k) => String(c[k])).join(","));
     if (lines.length >= 4096) {
       f.write(lines.join("\n") + "\n");
       lines.length = 0;
     }
-  }
+  });
   if (lines.length) f.write(lines.join("\n") + "\n");
   return f.close();
 }

@@ -75,10 +75,10 @@ export function openFolderFile(path: string): number {
 }
 
 /** A whole folder file, at most `max` bytes (the size is checked before reading and again while reading). */
-export function readFolderFile(dir: string, rel: string, max: number): Buffer | null {
+export function readFolderFile(dir: string, rel: string, max: number, why = ""): Buffer | null {
   const e = folderEntry(dir, rel);
   if (e.kind === "missing") return null;
-  if (e.size > max) throw new InputError({ file: e.path, message: `is ${e.size} bytes; expected at most ${max}` });
+  if (e.size > max) throw new InputError({ file: e.path, message: `is ${e.size} bytes; expected at most ${max}${why}` });
   const fd = openFolderFile(e.path);
   try {
     const buf = Buffer.allocUnsafe(Math.min(max, e.size) + 1);
@@ -161,9 +161,16 @@ export function readManifest(dir: string): Manifest {
   return m;
 }
 
-/** Whole-file reads of table files (diff): as large as one Buffer may be. */
-const MAX_WHOLE_READ = Math.min(MAX_FOLDER_FILE_BYTES, bufferConstants.MAX_LENGTH - 1);
-const tableFile = (dir: string, rel: string): Buffer | null => readFolderFile(dir, rel, MAX_WHOLE_READ);
+/**
+ * Whole-file reads of table files (diff): table.bin up to what one read and one buffer
+ * take (2 GiB − 1), text tables up to the longest string V8 makes (2^29 − 24 characters).
+ */
+const MAX_WHOLE_READ = Math.min(MAX_FOLDER_FILE_BYTES, bufferConstants.MAX_LENGTH - 1, 2 ** 31 - 1);
+const MAX_WHOLE_TEXT = Math.min(MAX_WHOLE_READ, 2 ** 29 - 24);
+const tableFile = (dir: string, rel: string): Buffer | null =>
+  rel === "table.bin"
+    ? readFolderFile(dir, rel, MAX_WHOLE_READ, ": diff reads table.bin whole, up to 2 GiB")
+    : readFolderFile(dir, rel, MAX_WHOLE_TEXT, ": diff reads a text table whole, up to 512 MiB; build with \"bin\" among the outputs to compare larger tables");
 
 export interface Decoded {
   words: Uint32Array;

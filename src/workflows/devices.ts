@@ -267,26 +267,32 @@ export interface DeviceDiff {
 }
 
 /** Per device of the new build: how many words changed and which address ranges to reload. */
-export function deviceDiff(dirA: string, a: BuildInfo, dirB: string, b: BuildInfo, changes: { frequency_hz: string; beam: number; element: number }[]): DeviceDiff | null {
+export function deviceDiff(dirA: string, a: BuildInfo, dirB: string, b: BuildInfo, eachChange: (fn: (c: { frequency_hz: string; beam: number; element: number }) => void) => void): DeviceDiff | null {
   if (!b.devices) return null;
   const map = readDeviceMap(dirB, b);
   const fIndex = new Map(b.frequenciesHz.map((f, i) => [f, i]));
   const eIndex = new Map(b.elementIds.map((id, i) => [id, i]));
-  const byDevice = new Map<number, number[]>();
-  for (const c of changes) {
+  // per device, the changed addresses in a growing Uint32Array (4 bytes a changed word; addresses stay below 2^32)
+  const byDevice = new Map<number, { a: Uint32Array; n: number }>();
+  eachChange((c) => {
     const e = eIndex.get(c.element)!;
     const blk = fIndex.get(c.frequency_hz)! * b.counts.beams + c.beam;
     const id = map.spec.device[e]!;
     let list = byDevice.get(id);
-    if (!list) byDevice.set(id, (list = []));
-    list.push(address(map.spec, blk, map.spec.channel[e]!));
-  }
+    if (!list) byDevice.set(id, (list = { a: new Uint32Array(64), n: 0 }));
+    if (list.n === list.a.length) {
+      const grown = new Uint32Array(list.a.length * 2);
+      grown.set(list.a);
+      list.a = grown;
+    }
+    list.a[list.n++] = address(map.spec, blk, map.spec.channel[e]!);
+  });
   const info = new Map(map.devices.map((d) => [d.id, d]));
   const changed = [...byDevice.entries()]
     .sort((x, y) => x[0] - y[0])
-    .map(([id, addrs]) => {
-      addrs.sort((x, y) => x - y);
-      return { device: id, wordsChanged: addrs.length, ranges: addressRanges(map, info.get(id)!, addrs) };
+    .map(([id, list]) => {
+      const addrs = list.a.subarray(0, list.n).sort();
+      return { device: id, wordsChanged: list.n, ranges: addressRanges(map, info.get(id)!, addrs) };
     });
   const key = (m: BuildInfo) => (m.devices ? JSON.stringify([m.devices.channels, m.devices.address, m.devices.fill, m.files[DEVICE_MAP_FILE]?.sha256]) : "");
   return { layoutChanged: key(a) !== key(b) || !existsSync(join(dirA, DEVICE_MAP_FILE)), devices: map.devices.length, devicesChanged: changed.length, changed };

@@ -1,11 +1,13 @@
 import { spawn } from "node:child_process";
-import { cpSync, existsSync, readFileSync, readdirSync, writeFileSync } from "node:fs";
+import { cpSync, existsSync, readFileSync, readdirSync, truncateSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { parse } from "csv-parse/sync";
 import { BIN, cli, tempDir, writeScenario, baseScenario } from "../helpers.js";
 import { loadScenario } from "../../src/io/scenario.js";
-import { runBuild } from "../../src/io/build.js";
+import { runBuild, stableJson } from "../../src/io/build.js";
+import { diffBuilds, scanDiff } from "../../src/io/diff.js";
+import { diffJsonChunks } from "../../src/cli/diff.js";
 
 const DEMO = join(import.meta.dirname, "..", "..", "fixtures", "demo");
 
@@ -55,6 +57,32 @@ describe("recalibration loop: build, change calibration, build --compare, diff, 
     const out = join(t, "d");
     expect(cli(["diff", b1, b2, "-o", out]).code).toBe(1);
     expect(readdirSync(out).sort()).toEqual(["changes.csv", "diff.json"]);
+  });
+
+  it("diff --json is streamed change by change, byte for byte what one stableJson of the whole document prints", () => {
+    for (const [x, y] of [[b1, b2], [b1, b1]] as const) {
+      const full = diffBuilds(x, y);
+      const want = stableJson({ identical: full.identical, summary: full.summary, changes: full.changes }, null, 2) + "\n";
+      for (const per of [1, 7, 4096]) expect([...diffJsonChunks(scanDiff(x, y), per)].join("")).toBe(want);
+      expect(cli(["diff", x, y, "--json"]).stdout).toBe(want);
+    }
+  });
+
+  it("tables past what diff reads whole are refused with a message (exit 2), not a crash: sparse files stand in for big ones", () => {
+    const big = join(t, "big-bin");
+    cpSync(b2, big, { recursive: true });
+    truncateSync(join(big, "table.bin"), 2 ** 31); // one byte past 2 GiB − 1; sparse: no disk used
+    let r = cli(["diff", b1, big]);
+    expect(r.code, r.stderr).toBe(2);
+    expect(r.stderr).toMatch(/table\.bin: is 2147483648 bytes; expected at most 2147483647: diff reads table\.bin whole, up to 2 GiB/);
+    const s = writeScenario(baseScenario({ outputs: ["mem"] }), {}, join(t, "mem-s"));
+    const m1 = join(t, "mem-1"), m2 = join(t, "mem-2");
+    expect(cli(["build", s, "-o", m1, "--no-analysis"]).code).toBe(0);
+    cpSync(m1, m2, { recursive: true });
+    truncateSync(join(m2, "table.mem"), 2 ** 29);
+    r = cli(["diff", m1, m2]);
+    expect(r.code, r.stderr).toBe(2);
+    expect(r.stderr).toMatch(/table\.mem: is 536870912 bytes; expected at most 536870888: diff reads a text table whole, up to 512 MiB; build with "bin" among the outputs/);
   });
 
   it("diff names the changed elements, prints both calibrations with their header comments, words in hex and decimal; diff.json keeps full hashes (issue 8 item 8)", () => {
