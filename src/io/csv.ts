@@ -3,7 +3,7 @@
  * are kept (a calibration file records its date and source there). Parsing uses
  * csv-parse; every problem names the file, the line and the column.
  */
-import { parse } from "csv-parse/sync";
+import { createRequire } from "node:module";
 import type { Problem } from "../core/errors.js";
 import type { InputFile } from "./files.js";
 
@@ -106,6 +106,8 @@ export function readCsv(input: InputFile, shape: CsvShape, problems: Problem[]):
       if (!blank(k)) records.push({ record: text.slice(starts[k], ends[k]).split(",").map((c) => c.trim()), info: { lines: k + 1 - skip } });
   } else {
     try {
+      // csv-parse is loaded only for quoted text (the unquoted split above covers most files)
+      const { parse } = createRequire(import.meta.url)("csv-parse/sync") as typeof import("csv-parse/sync");
       records = parse(body, { info: true, skip_empty_lines: true, trim: true, relax_column_count: true, ...(Number.isFinite(limit) ? { to: limit + 2 } : {}) }) as unknown as typeof records;
     } catch (e) {
       const err = e as { lines?: number; message?: string };

@@ -3,10 +3,10 @@
  * Used by diff and verify. Every decoder is independent of the writers' code paths
  * except for the word layout itself.
  */
+import { createRequire } from "node:module";
 import { closeSync, constants, fstatSync, lstatSync, openSync, readSync, statSync } from "node:fs";
 import { join } from "node:path";
 import { constants as bufferConstants } from "node:buffer";
-import { parse } from "csv-parse/sync";
 import { InputError, type Problem } from "../core/errors.js";
 import { INPUT_COPY, SCENARIO_COPY, type Manifest } from "./build.js";
 import { loadScenario, type InputRole, type LoadedScenario } from "./scenario.js";
@@ -241,6 +241,7 @@ export interface CodesCsv {
 export function readCodesCsv(dir: string): CodesCsv | null {
   const b = tableFile(dir, "codes.csv");
   if (!b) return null;
+  const { parse } = createRequire(import.meta.url)("csv-parse/sync") as typeof import("csv-parse/sync"); // loaded on first use
   const rows = parse(b, { from_line: 2 }) as string[][];
   const n = rows.length;
   const c: CodesCsv = { words: new Uint32Array(n), phase: new Int32Array(n), atten: new Int32Array(n), element: new Int32Array(n) };

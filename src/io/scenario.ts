@@ -7,6 +7,7 @@ import { dirname, isAbsolute, resolve } from "node:path";
 import { axisCount, makeBeamSet, type AxisSpec, type BeamSpec } from "../core/beams.js";
 import { InputError, type Problem } from "../core/errors.js";
 import { D, type Dec } from "../core/exact.js";
+import { canonicalDecimal } from "../core/decimal-text.js";
 import { emptyElements, latticeElements, type Elements, type LatticeSpec } from "../core/geometry.js";
 import { MAX_BAND_POINTS, MAX_SQUINT_ROWS } from "../core/band.js";
 import type { ElementSpec } from "../core/element.js";
@@ -67,6 +68,9 @@ export const MAX_ELEMENTS = 65536;
 export const MAX_CAL_FREQUENCIES = 1024;
 export const MAX_TABLE_BYTES = 2 ** 32;
 const DEFAULT_SEED = 1;
+
+/** A numeric cell's exact decimal text (as `new D(text).toString()`; decimal.js only when the text is not already canonical). */
+const exactText = (text: string): string => canonicalDecimal(text, (t) => new D(t).toString());
 const ID = { integer: true, min: 0, max: MAX_ELEMENT_ID };
 const POSITION = { min: -MAX_LENGTH_M, max: MAX_LENGTH_M };
 const PHASE = { min: -MAX_PHASE_DEG, max: MAX_PHASE_DEG };
@@ -371,9 +375,9 @@ class Loader {
     el.exactZ = ez;
     rows.forEach((r, i) => {
       el.ids[i] = r.id;
-      ex.push(new D(r.x).toString());
-      ey.push(new D(r.y).toString());
-      ez.push(new D(r.z).toString());
+      ex.push(exactText(r.x));
+      ey.push(exactText(r.y));
+      ez.push(exactText(r.z));
       el.x[i] = Number(r.x);
       el.y[i] = Number(r.y);
       el.z[i] = Number(r.z);
@@ -439,8 +443,8 @@ class Loader {
         if (!x || !y) continue;
         const outside = azel ? Math.abs(x.value) > 90 || Math.abs(y.value) > 90 : x.value * x.value + y.value * y.value > 1;
         if (outside) this.problems.push({ file: t.file, line: r.line, message: `beam (${ca}=${x.text}, ${cb}=${y.text}) is outside visible space; expected ${azel ? "|az|, |el| ≤ 90" : "u² + v² ≤ 1"}` });
-        a.push(new D(x.text).toString());
-        bb.push(new D(y.text).toString());
+        a.push(exactText(x.text));
+        bb.push(exactText(y.text));
       }
       if (this.problems.count > before) return null;
       if (a.length > MAX_BEAMS) {
@@ -610,8 +614,8 @@ class Loader {
       if (i === undefined || !ph || !gn) continue;
       g.cal.phaseDeg[i] = ph.value;
       g.cal.gainDb[i] = gn.value;
-      g.cal.phaseExact[i] = new D(ph.text).toString();
-      g.cal.gainExact[i] = new D(gn.text).toString();
+      g.cal.phaseExact[i] = exactText(ph.text);
+      g.cal.gainExact[i] = exactText(gn.text);
     }
     for (const g of groups.values()) this.coverage({ ...t, rows: g.rows }, elements, g.ids, "a calibration file", perFrequency ? ` at frequency_hz ${g.value.toFixed()}` : "");
     if (this.problems.count > before) return null;

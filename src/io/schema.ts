@@ -4,7 +4,7 @@
  */
 import { readFileSync } from "node:fs";
 import { createRequire } from "node:module";
-import { Ajv2020, type ErrorObject, type ValidateFunction } from "ajv/dist/2020.js";
+import type { ErrorObject, ValidateFunction } from "ajv/dist/2020.js";
 import type { Problem } from "../core/errors.js";
 import { didYouMean } from "../core/spelling.js";
 
@@ -20,6 +20,8 @@ function scenarioValidator(): ValidateFunction {
     } catch {
       /* running from source: compile below */
     }
+    // ajv itself is loaded only here: the built command never imports it
+    const { Ajv2020 } = createRequire(import.meta.url)("ajv/dist/2020.js") as typeof import("ajv/dist/2020.js");
     const ajv = new Ajv2020({ allErrors: true, strict: true, allowUnionTypes: true, discriminator: true, verbose: true });
     validator = ajv.compile(JSON.parse(readFileSync(schemaUrl, "utf8")) as object);
   }

@@ -3,9 +3,9 @@
  * runs on every image (bin, mem, hex decoded back into words), the per-device view of
  * a diff (words changed, address ranges to reload) and the per-device facts of `check`.
  */
+import { createRequire } from "node:module";
 import { existsSync, readFileSync } from "node:fs";
 import { join } from "node:path";
-import { parse } from "csv-parse/sync";
 import { address, addressRanges, buildDeviceMap, loadSeconds, locate, type DeviceFormat, type DeviceInfo, type DeviceMap, type DeviceSpec } from "../core/devices.js";
 import type { Plan } from "../core/plan.js";
 import { DEVICE_MAP_FILE, deviceFile } from "../formats/device-images.js";
@@ -50,6 +50,7 @@ export function readDeviceMap(dir: string, m: BuildInfo): DeviceMap {
   const dm = m.devices!;
   const p = join(dir, dm.map);
   if (!existsSync(p)) throw new ImageFormatError(`${dm.map} is missing`);
+  const { parse } = createRequire(import.meta.url)("csv-parse/sync") as typeof import("csv-parse/sync"); // loaded on first use
   const rows = parse(readFileSync(p), { from_line: 1 }) as string[][];
   if (rows[0]?.join(",") !== "device,channel,element") throw new ImageFormatError(`${dm.map}: expected the header "device,channel,element"`);
   const index = new Map<number, number>();
