@@ -1,17 +1,27 @@
 /**
- * The canonical decimal text of a numeric cell without loading decimal.js: the string
- * `new D(text).toString()` gives (src/core/exact.ts), taken straight from the text when the
- * text is already in that form, else computed by `exact` (the decimal.js path).
+ * The canonical decimal text of a numeric cell without decimal.js: the string
+ * `new D(text).toString()` gives (src/core/exact.ts), written from the text itself when
+ * it is a plain decimal, else computed by `exact` (the decimal.js path).
  *
  * decimal.js keeps every digit of a constructed value (no rounding to precision) and
  * writes it back with no sign for zero, no "+", no leading zeros, no trailing fraction
  * zeros, and in fixed notation for exponents -7 < e < 21 (toExpNeg -7, toExpPos 21).
- * "0", and a text of the form -?([1-9]d{0,19}|0)(.d*[1-9])? other than "-0" and not
- * below 1e-6 in magnitude, is therefore its own canonical text; anything else (a "+", an exponent,
- * trailing zeros, leading zeros, 21+ integer digits, tiny values) takes the exact path.
+ * For a text -?d{1,20}(.d*)? those rules are a few string edits; a magnitude below 1e-6
+ * (exponential notation), a "+", an exponent, a leading "." or 21+ integer digits take the
+ * exact path.
  */
-const CANONICAL = /^(?:0|-?(?:[1-9]\d{0,19}(?:\.\d*[1-9])?|0\.(?!0{6})\d*[1-9]))$/;
+const PLAIN = /^(-?)(\d{1,20})(?:\.(\d*))?$/;
 
 export function canonicalDecimal(text: string, exact: (text: string) => string): string {
-  return CANONICAL.test(text) ? text : exact(text);
+  const m = PLAIN.exec(text);
+  if (!m) return exact(text);
+  let int = m[2]!;
+  if (int.length > 1 && int.charCodeAt(0) === 48) int = int.replace(/^0+(?=\d)/, "");
+  let frac = m[3] ?? "";
+  if (frac.length && frac.charCodeAt(frac.length - 1) === 48) frac = frac.replace(/0+$/, "");
+  if (int === "0") {
+    if (frac === "") return "0"; // -0 is written "0"
+    if (frac.startsWith("000000")) return exact(text); // below 1e-6: exponential notation
+  }
+  return m[1]! + int + (frac ? "." + frac : "");
 }

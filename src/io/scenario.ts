@@ -590,7 +590,6 @@ class Loader {
     const groups = new Map<string, { value: Dec; cal: Calibration; rows: CsvRow[]; ids: (number | null)[] }>();
     for (const r of t.rows) {
       let key = "";
-      let fval: Dec = new D(0);
       if (perFrequency) {
         const f = numberCell(t, r, "frequency_hz", this.problems);
         if (!f) continue;
@@ -598,11 +597,10 @@ class Loader {
           this.problems.push({ file: t.file, line: r.line, column: "frequency_hz", message: `expected a frequency from 1 Hz to 1000 THz, got "${f.text}"` });
           continue;
         }
-        fval = new D(f.text);
-        key = fval.toString();
+        key = exactText(f.text);
       }
       let g = groups.get(key);
-      if (!g) groups.set(key, (g = { value: fval, cal: zero(), rows: [], ids: [] }));
+      if (!g) groups.set(key, (g = { value: new D(perFrequency ? key : 0), cal: zero(), rows: [], ids: [] }));
       const id = numberCell(t, r, "element", this.problems, ID);
       const ph = numberCell(t, r, "phase_offset_deg", this.problems);
       const gn = numberCell(t, r, "gain_offset_db", this.problems);

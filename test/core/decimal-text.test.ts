@@ -7,24 +7,37 @@ const exact = (t: string) => new D(t).toString();
 
 describe("canonicalDecimal (the scenario loader's fast path for a cell's exact text)", () => {
   // reference library: decimal.js (the exact path the loader used for every cell before)
-  it("takes the text as it is only when it is decimal.js's own canonical text; else the exact path", () => {
+  it("writes plain decimals itself and sends every other form to decimal.js", () => {
     const calls: string[] = [];
     const spy = (t: string) => {
       calls.push(t);
       return exact(t);
     };
-    for (const t of ["1", "-1", "12.75", "-0.5", "0", "0.000001", "12345678901234567890", "-179.99"]) expect(canonicalDecimal(t, spy)).toBe(t);
-    expect(calls).toEqual([]);
-    // the boundary cases: each of these goes to decimal.js, and comes back as decimal.js writes it
-    const cases: [string, string][] = [
+    // plain decimals: decimal.js's writing rules applied to the text (no sign for zero, no leading or trailing zeros)
+    const plain: [string, string][] = [
+      ["1", "1"],
+      ["-179.99", "-179.99"],
+      ["0", "0"],
       ["-0", "0"],
-      ["+1.5", "1.5"],
+      ["-0.000", "0"],
       ["1.50", "1.5"],
       ["1.", "1"],
       ["007", "7"],
-      ["0.0", "0"],
+      ["-007.0100", "-7.01"],
+      ["0.000001", "0.000001"],
+      ["12345678901234567890", "12345678901234567890"],
+    ];
+    for (const [t, want] of plain) {
+      expect(canonicalDecimal(t, spy)).toBe(want);
+      expect(exact(t)).toBe(want);
+    }
+    expect(calls).toEqual([]);
+    // the boundary cases: each goes to decimal.js and comes back as decimal.js writes it
+    const cases: [string, string][] = [
+      ["+1.5", "1.5"],
       ["0.0000001", "1e-7"],
       ["-0.00000012", "-1.2e-7"],
+      ["0.00000010", "1e-7"],
       ["1e3", "1000"],
       ["1E-3", "0.001"],
       ["123456789012345678901", "123456789012345678901"],
