@@ -40,7 +40,14 @@ export function progress(io: Io, label: string): { update: (done: number, total:
   if (!io.stderrIsTty) return { update: () => {}, stop: () => {} };
   // loaded only for a terminal: it is not needed (nor its start-up cost) otherwise
   const cliProgress = createRequire(import.meta.url)("cli-progress") as typeof import("cli-progress");
-  const bar = new cliProgress.SingleBar({ format: `${label} {bar} {percentage}% | {value}/{total} beams | {eta}s`, stream: process.stderr, hideCursor: true, clearOnComplete: true }, cliProgress.Presets.shades_classic);
+  // `${label} {bar} {percentage}% | {value}/{total} beams | {eta}s` written as cli-progress' own formatter
+  // writes it, without that formatter's string-width measure of every frame (its emoji regex is the
+  // costly part; the measure only serves centre and right alignment, and this bar is left-aligned)
+  const F = cliProgress.Format;
+  const value = F.ValueFormat as unknown as (v: number | string, options: import("cli-progress").Options, type: string) => string;
+  const format: import("cli-progress").GenericFormatter = (options, params) =>
+    `${label} ${F.BarFormat(params.progress, options)} ${value(String(Math.floor(params.progress * 100)), options, "percentage")}% | ${value(params.value, options, "value")}/${value(params.total, options, "total")} beams | ${value(params.eta, options, "eta")}s`;
+  const bar = new cliProgress.SingleBar({ format, stream: process.stderr, hideCursor: true, clearOnComplete: true }, cliProgress.Presets.shades_classic);
   let started = false;
   return {
     update(done, total) {
