@@ -5,10 +5,8 @@ import { loadScenario } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
 import { fmt, printJson, progress, SAFETY, warn, type Io } from "./shared.js";
 import type { Distribution } from "../core/pattern/summary.js";
-import { scanDiff, incompatibility, type DiffScan } from "../io/diff.js";
-import { readManifest } from "../io/readbuild.js";
+import type { DiffScan } from "../io/diff.js";
 import { WorkerPool } from "../io/analysis-pool.js";
-import { diffLines, writeDiffFiles } from "./diff.js";
 import { negativeGainLossNote, theoryRows, type Theory } from "../core/theory.js";
 import { M, METRICS } from "../core/pattern/analyze.js";
 import type { OptimizedSummary } from "../core/quantize/optimized.js";
@@ -24,7 +22,8 @@ export interface BuildArgs {
 
 export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
   checkTarget(args.out, "build");
-  if (args.compare) readManifest(args.compare);
+  // the comparison's modules only for --compare
+  if (args.compare) (await compareModules()).readManifest(args.compare);
   // start the analysis workers now: their start-up overlaps loading the scenario
   const pool = new WorkerPool(args.analysis ? args.jobs - 1 : 0);
   try {
@@ -37,6 +36,7 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
 async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<number> {
   const loaded = loadScenario(args.scenario);
   let diff: DiffScan | null = null;
+  const { scanDiff, incompatibility, readManifest, writeDiffFiles, diffLines } = args.compare ? await compareModules() : ({} as Awaited<ReturnType<typeof compareModules>>);
   if (args.compare) {
     // before any work: can the new tables be compared word by word with the earlier ones?
     const why = incompatibility(readManifest(args.compare), makeManifest(loaded, "", [], {}, false));
@@ -89,6 +89,11 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
   lines.push("", SAFETY);
   io.stdout(lines.join("\n") + "\n");
   return 0;
+}
+
+async function compareModules() {
+  const [d, r, c] = await Promise.all([import("../io/diff.js"), import("../io/readbuild.js"), import("./diff.js")]);
+  return { scanDiff: d.scanDiff, incompatibility: d.incompatibility, readManifest: r.readManifest, writeDiffFiles: c.writeDiffFiles, diffLines: c.diffLines };
 }
 
 /** Beams whose gain loss is negative (realized louder than the tapered ideal at the commanded direction). */
