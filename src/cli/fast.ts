@@ -11,7 +11,7 @@
 import parse from "yargs-parser";
 import { COMMAND_SPECS, GLOBAL, type Args, type CommandSpec, type OptionSpec } from "./commands.js";
 
-export type FastParse = { kind: "version" } | { kind: "run"; spec: CommandSpec; args: Args } | null;
+export type FastParse = { spec: CommandSpec; args: Args } | null;
 
 /** Words that mean yargs' own machinery wherever they appear. */
 const RESERVED = new Set(["help", "completion", "--get-yargs-completions"]);
@@ -19,7 +19,6 @@ const RESERVED = new Set(["help", "completion", "--get-yargs-completions"]);
 const camel = (s: string) => s.replace(/-([a-z])/g, (_, c: string) => c.toUpperCase());
 
 export function fastParse(argv: readonly string[]): FastParse {
-  if (argv.length === 1 && (argv[0] === "--version" || argv[0] === "-v")) return { kind: "version" };
   const at = argv.findIndex((x) => !x.startsWith("-"));
   if (at < 0) return null;
   for (let i = 0; i < at; i++) if (argv[i] !== "--json") return null;
@@ -81,5 +80,5 @@ export function fastParse(argv: readonly string[]): FastParse {
     const v = rest[i] ?? p.default;
     if (v !== undefined) args[p.name] = v;
   });
-  return { kind: "run", spec, args };
+  return { spec, args };
 }

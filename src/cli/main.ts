@@ -12,7 +12,6 @@ import { defaultIo } from "./shared.js";
 import { cleanUpOnSignals, isSystemError, writeProblem } from "../io/outdir.js";
 import { toolVersion } from "../io/version.js";
 import { COMMANDS } from "./commands.js";
-import { fastParse } from "./fast.js";
 
 /** Exit code a command reports through this, so that handlers can return 0/1. */
 export async function main(argv: string[]): Promise<number> {
@@ -20,11 +19,12 @@ export async function main(argv: string[]): Promise<number> {
   const json = argv.includes("--json");
   const io = defaultIo(json);
   try {
-    const fast = fastParse(argv);
-    if (fast?.kind === "version") {
+    // `--version` (or `-v`) alone: the version as yargs prints it, nothing else loaded
+    if (argv.length === 1 && (argv[0] === "--version" || argv[0] === "-v")) {
       process.stdout.write(toolVersion() + "\n");
       return 0;
     }
+    const fast = (await import("./fast.js")).fastParse(argv);
     if (fast) return await fast.spec.run!(fast.args, io);
     return await (await import("./yargs-cli.js")).runYargs(argv, io, main);
   } catch (e) {
