@@ -117,7 +117,7 @@ describe("the CLI's fast path (yargs-parser over the command table)", () => {
       fc.asyncProperty(fc.constantFrom(...commands), fc.array(fc.constantFrom(...words), { maxLength: 6 }), async (cmd, rest) => {
         if (await same([cmd, ...rest])) taken++;
       }),
-      { numRuns: 300 },
+      { numRuns: 400, seed: 16 }, // a fixed seed: the share of accepted lines below is then fixed too
     );
     expect(taken).toBeGreaterThan(20); // the property compared real parses, not only refusals
   });
