@@ -373,28 +373,32 @@ export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: F
   const nb = plan.beams.count;
   const digits = [9, 9, 7, 4, 4, 4, 5, 4, 4, 0, 4];
   const shown = plan.element ? METRICS : METRICS - 1;
+  // Every cell is a number or empty, so a row is its cells joined by commas: csv-stringify
+  // would quote nothing (the same bytes), but it holds many times a slice's size while it
+  // works. Rows go out 256 at a time: memory does not grow with the beam count.
+  const SLICE = 256;
   for (let fi = 0; fi < ft.length; fi++) {
-    // rows go out in slices of 4096: memory does not grow with the beam count
-    let rows: string[][] = [];
+    if (!/^[0-9.]+$/.test(ft[fi]!)) throw new Error(`frequency text ${ft[fi]} would need quoting in beams.csv`);
+    let text = "";
     for (let b = 0; b < nb; b++) {
-      if (rows.length === 4096) {
-        f.write(stringify(rows));
-        rows = [];
+      if (b % SLICE === 0 && text) {
+        f.write(text);
+        text = "";
       }
       const o = (fi * nb + b) * METRICS;
-      const row = [ft[fi]!, String(b), fixed(plan.beams.azDeg[b]!, 6), fixed(plan.beams.elDeg[b]!, 6), fixed(plan.beams.u[b]!, 9), fixed(plan.beams.v[b]!, 9)];
+      let row = `${ft[fi]!},${b},${fixed(plan.beams.azDeg[b]!, 6)},${fixed(plan.beams.elDeg[b]!, 6)},${fixed(plan.beams.u[b]!, 9)},${fixed(plan.beams.v[b]!, 9)}`;
       for (let k = 0; k < shown; k++) {
         const v = metrics[o + k]!;
-        row.push(Number.isFinite(v) ? fixed(v, digits[k]!) : "");
+        row += Number.isFinite(v) ? "," + fixed(v, digits[k]!) : ",";
       }
       if (optimized)
         for (const [k, d] of OPTIMIZED_SOURCE) {
           const v = optimized[(fi * nb + b) * OPT_FIELDS + k]!;
-          row.push(Number.isFinite(v) ? fixed(v, d) : "");
+          row += Number.isFinite(v) ? "," + fixed(v, d) : ",";
         }
-      rows.push(row);
+      text += row + "\n";
     }
-    f.write(stringify(rows));
+    f.write(text);
   }
   return f.close();
 }
