@@ -41,8 +41,8 @@ export function load(doc: Record<string, unknown>, files: Record<string, string>
 
 export const BIN = join(import.meta.dirname, "..", "bin", "steercode.js");
 
-export function cli(args: string[], opts: { cwd?: string; timeout?: number } = {}): { code: number; stdout: string; stderr: string; ms: number } {
+export function cli(args: string[], opts: { cwd?: string; timeout?: number; env?: Record<string, string> } = {}): { code: number; stdout: string; stderr: string; ms: number } {
   const t0 = performance.now();
-  const r = spawnSync(process.execPath, [BIN, ...args], { encoding: "utf8", cwd: opts.cwd, timeout: opts.timeout ?? 120_000, env: { ...process.env, NO_COLOR: "1" } });
+  const r = spawnSync(process.execPath, [BIN, ...args], { encoding: "utf8", cwd: opts.cwd, timeout: opts.timeout ?? 120_000, env: { ...process.env, NO_COLOR: "1", ...opts.env } });
   return { code: r.status ?? -1, stdout: r.stdout, stderr: r.stderr, ms: performance.now() - t0 };
 }

@@ -1,10 +1,19 @@
 /**
- * Beams split across worker_threads (`--jobs N`: N threads in all). Chunks of beams
- * are claimed from a shared counter (Atomics.add), so the split balances itself:
- * workers start while the main thread streams the tables, and the main thread joins
- * in once the tables are written. Metrics go straight into one shared Float64Array
- * [frequency][beam][metric] (METRICS numbers a beam: flat next to the tables). A
- * failing worker rejects the whole analysis.
+ * Beams split across worker_threads (`--jobs N`: at most N threads in all). Chunks of
+ * beams are claimed from a shared counter (Atomics), so the split balances itself, and
+ * metrics go straight into one shared Float64Array [frequency][beam][metric] (METRICS
+ * numbers a beam: flat next to the tables). A failing worker rejects the whole analysis.
+ *
+ * How many threads: the main thread starts analysing at once and times its chunks; it
+ * starts the workers (all N − 1 of them) only when the work left, at its measured cost
+ * per beam, clearly exceeds what a worker costs before it is any use: starting a thread
+ * and loading the modules (WORKER_START_MS) plus the set-up and warm-up the main thread
+ * itself paid (measured). A worker prepares its set-up before it claims a chunk and
+ * claims one only while it would finish it before the other threads would finish all
+ * that is left (the tail rule), and the analysis ends when every chunk is written, not
+ * when every worker has started: so the default `--jobs` never makes a run slower than
+ * one thread. Any decision gives the same bytes (each beam is a pure function of the
+ * plan and its index).
  */
 import { Worker } from "node:worker_threads";
 import { setImmediate as yieldNow } from "node:timers/promises";
@@ -35,7 +44,12 @@ export interface Variant {
 }
 
 export interface SharedAnalysis {
+  /** chunks claimed */
   counter: Int32Array;
+  /** chunks written (the analysis is over when it reaches the chunk count) */
+  completed: Int32Array;
+  /** timing shared between threads (see TIME_*): the tail rule's inputs */
+  times: Float64Array;
   /** [variant][frequency][beam][metric] */
   metrics: Float64Array;
   beams: number;
@@ -102,8 +116,92 @@ export function ringSource(ring: CodeRing, beams: number): CodeSource {
   };
 }
 
-/** Claim the next chunk id, or -1 when none is left or (with a ring) the next one would run too far ahead of the tables. */
-function claim(s: SharedAnalysis, total: number, wait: boolean): number {
+/** What a worker costs before it does any work, besides the set-up and warm-up the main thread measures on itself: starting the thread and loading the worker's modules (see DEVELOPERS.md, "Workers"). */
+export const WORKER_START_MS = 100;
+/** Workers start only when the work left is this many times what they cost to start. */
+export const SPAWN_MARGIN = 2;
+/** Chunks the main thread times before it decides (the first ones run cold). */
+const DECIDE_AFTER = 2;
+/**
+ * A fresh thread's code is cold: its first chunks run many times slower than later ones
+ * (measured on the 16² … 128² ladder: the cheaper of the first two chunks 1.1–20× the
+ * warm cost). Until the main thread's cost per beam has stopped falling (no new low by a
+ * fifth for FLAT_CHUNKS chunks), the warm cost is taken as its lowest so far over this.
+ */
+export const WARMUP_BOUND = 20;
+const FLAT_CHUNKS = 4;
+
+/** SharedAnalysis.times: the main thread's first chunk (ms after its set-up: what a cold thread's chunk takes) … */
+const TIME_FIRST = 0;
+/** … and, from here, per thread (0 the main thread, 1… the workers), its last chunk (ms; 0 until it has one). */
+const TIME_THREAD = 1;
+
+/** What the main thread measured on its own chunks. */
+export interface MainTiming {
+  /** chunks done and the beams in them */
+  chunks: number;
+  beams: number;
+  /** time in those chunks (ms), set-up excluded */
+  busyMs: number;
+  /** the first analyser set-up (ms): a worker pays it too */
+  setupMs: number;
+  /** the lowest cost per beam of one chunk so far (ms) */
+  minPerBeamMs: number;
+  /** chunks since that lowest cost last fell by more than a fifth */
+  sinceNewLow: number;
+}
+
+export function newTiming(): MainTiming {
+  return { chunks: 0, beams: 0, busyMs: 0, setupMs: 0, minPerBeamMs: Infinity, sinceNewLow: 0 };
+}
+
+/** Add one main-thread chunk (ms, beams, the set-up before it) to the timing. */
+export function addChunk(t: MainTiming, ms: number, beams: number, setupMs: number): void {
+  if (setupMs > 0 && t.setupMs === 0) t.setupMs = setupMs;
+  t.chunks++;
+  t.beams += beams;
+  t.busyMs += ms;
+  const per = ms / beams;
+  t.sinceNewLow = per < 0.8 * t.minPerBeamMs ? 0 : t.sinceNewLow + 1;
+  t.minPerBeamMs = Math.min(t.minPerBeamMs, per);
+}
+
+/**
+ * Whether starting the workers now pays. The work left, at the estimated warm cost c a
+ * beam, is beamsLeft·c. A worker is of use only after S = WORKER_START_MS + the set-up +
+ * the warm-up the main thread went through (its time beyond c per beam so far: the
+ * worker's code is cold too). From then on the two share the rest, so one worker saves
+ * (beamsLeft·c − S)/2 at best; they start when beamsLeft·c > SPAWN_MARGIN·S, the margin
+ * covering the error of these estimates (a worker that would come too late also stops
+ * itself: see the tail rule in `claim`). c is the lowest cost a beam so far once it has
+ * stopped falling, and that over WARMUP_BOUND before.
+ */
+export function workersPay(t: MainTiming, beamsLeft: number, workerStartMs = WORKER_START_MS): boolean {
+  if (t.chunks < DECIDE_AFTER || beamsLeft <= 0) return false;
+  const c = t.sinceNewLow >= FLAT_CHUNKS ? t.minPerBeamMs : t.minPerBeamMs / WARMUP_BOUND;
+  const warmup = Math.max(0, t.busyMs - t.beams * c);
+  return beamsLeft * c > SPAWN_MARGIN * (workerStartMs + t.setupMs + warmup);
+}
+
+/**
+ * The tail rule: thread `self` (a worker) claims a chunk only if it would finish it
+ * before the other threads finish all `left` chunks without it (its chunk time against
+ * left / their summed rates). A worker that has done no chunk yet counts the main
+ * thread's first, cold, chunk. Timing is advisory (plain reads of shared doubles): it
+ * decides who computes a chunk, never what the chunk holds.
+ */
+export function worthClaiming(s: Pick<SharedAnalysis, "times">, left: number, self: number): boolean {
+  let rate = 0;
+  for (let k = 0; k + TIME_THREAD < s.times.length; k++) {
+    const t = s.times[TIME_THREAD + k]!;
+    if (k !== self && t > 0) rate += 1 / t;
+  }
+  const mine = s.times[TIME_THREAD + self]! > 0 ? s.times[TIME_THREAD + self]! : s.times[TIME_FIRST]!;
+  return !(rate > 0 && mine > 0) || mine < left / rate;
+}
+
+/** Claim the next chunk id, or -1 when none is left, (with a ring) the next one would run too far ahead of the tables, or (a worker, self > 0) the tail rule says no. */
+function claim(s: SharedAnalysis, total: number, wait: boolean, self: number): number {
   for (;;) {
     const c = Atomics.load(s.counter, 0);
     if (c >= total) return -1;
@@ -115,11 +213,12 @@ function claim(s: SharedAnalysis, total: number, wait: boolean): number {
         continue;
       }
     }
+    if (self > 0 && !worthClaiming(s, total - c, self)) return -1;
     if (Atomics.compareExchange(s.counter, 0, c, c + 1) === c) return c;
   }
 }
 
-function chunkCount(s: SharedAnalysis): number {
+export function chunkCount(s: SharedAnalysis): number {
   return (s.variants?.length ?? 1) * s.frequencies * Math.ceil(s.beams / CHUNK_BEAMS);
 }
 
@@ -127,35 +226,78 @@ export function variantPlan(plan: Plan, v: Variant | undefined): Plan {
   return v ? { ...plan, ...v, phaseStates: plan.phaseStates, attenStates: plan.attenStates } : plan;
 }
 
-/**
- * Claim and compute chunks until none are left (or `limit` chunks are done); returns the
- * number of beams done. `wait`: block while the ring is full (workers); the main thread
- * returns instead, to write tables.
- */
-export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: number) => void, cache: { c: AnalyzerCache | null; v?: number } = { c: null }, limit = Infinity, wait = true): number {
+/** A thread's analyser (one frequency of one variant at a time) and the variant plans it made. */
+export interface ChunkCache {
+  c: AnalyzerCache | null;
+  v?: number;
+  plans?: Map<number, Plan>;
+}
+
+export interface DrainOptions {
+  onProgress?: (beams: number) => void;
+  cache?: ChunkCache;
+  /** chunks to do at most */
+  limit?: number;
+  /** block while the ring is full (workers); the main thread returns instead, to write tables */
+  wait?: boolean;
+  /** this thread's index: 0 the main thread, 1… a worker (which prepares before it claims and keeps the tail rule) */
+  self?: number;
+  /** after each chunk: its time and beams, and the set-up time before it (ms) */
+  onChunk?: (ms: number, beams: number, setupMs: number) => void;
+}
+
+/** Where chunk `id` is: variant, frequency, first and end beam. */
+function locate(s: SharedAnalysis, id: number): { v: number; fi: number; from: number; to: number } {
   const perF = Math.ceil(s.beams / CHUNK_BEAMS);
   const perV = perF * s.frequencies;
+  const from = (id % perF) * CHUNK_BEAMS;
+  return { v: Math.floor(id / perV), fi: Math.floor((id % perV) / perF), from, to: Math.min(s.beams, from + CHUNK_BEAMS) };
+}
+
+/** Make the cache's analyser the one chunk `id` needs (a new frequency or variant); returns the ms it took (0: it already was). */
+function prepare(plan: Plan, s: SharedAnalysis, id: number, cache: ChunkCache): number {
+  const { v, fi } = locate(s, id);
+  if (cache.v === v && cache.c?.fi === fi) return 0;
+  const t0 = performance.now();
+  const plans = (cache.plans ??= new Map());
+  if (!plans.has(v)) plans.set(v, variantPlan(plan, s.variants?.[v]));
+  if (cache.v !== v) {
+    cache.c = null;
+    cache.v = v;
+  }
+  // an empty range builds the analyser (and the band's, when there is a band) and analyses nothing
+  analyseRange(plans.get(v)!, fi, 0, 0, new Float64Array(0), cache, s.ideal, undefined, s.squint ? new Float64Array(0) : null);
+  return performance.now() - t0;
+}
+
+/**
+ * Claim and compute chunks until none are left (or `limit` chunks are done); returns the
+ * number of beams done.
+ */
+export function drainChunks(plan: Plan, s: SharedAnalysis, o: DrainOptions = {}): number {
   const total = chunkCount(s);
-  const plans = new Map<number, Plan>();
+  const cache = o.cache ?? { c: null };
+  const self = o.self ?? 0;
+  const limit = o.limit ?? Infinity;
   let done = 0;
   for (let k = 0; k < limit; k++) {
-    const id = claim(s, total, wait);
-    if (id < 0) return done;
-    const v = Math.floor(id / perV);
-    const fi = Math.floor((id % perV) / perF);
-    const from = (id % perF) * CHUNK_BEAMS;
-    const to = Math.min(s.beams, from + CHUNK_BEAMS);
-    if (!plans.has(v)) plans.set(v, variantPlan(plan, s.variants?.[v]));
-    if (cache.v !== v) {
-      cache.c = null;
-      cache.v = v;
+    // a worker builds its analyser before it claims: its set-up never holds up a claimed chunk
+    if (self > 0) {
+      const next = Atomics.load(s.counter, 0);
+      if (next >= total) return done;
+      prepare(plan, s, next, cache);
     }
+    const id = claim(s, total, o.wait ?? true, self);
+    if (id < 0) return done;
+    const setupMs = prepare(plan, s, id, cache);
+    const t0 = performance.now();
+    const { v, fi, from, to } = locate(s, id);
     const base = (v * s.frequencies + fi) * s.beams;
     const ring = s.ring;
     const slot = ring ? id % ring.slots : 0;
     const per = s.squint ? s.squint.length / (s.frequencies * s.beams) : 0;
     const squint = s.squint ? s.squint.subarray((base + from) * per, (base + to) * per) : null;
-    analyseRange(plans.get(v)!, fi, from, to, s.metrics.subarray((base + from) * METRICS, (base + to) * METRICS), cache, s.ideal, ring ? (b, codes, q) => {
+    analyseRange(cache.plans!.get(v)!, fi, from, to, s.metrics.subarray((base + from) * METRICS, (base + to) * METRICS), cache, s.ideal, ring ? (b, codes, q) => {
       const n = ring.elements;
       const o = (slot * CHUNK_BEAMS + (b - from)) * n * 2;
       ring.codes.set(codes.phaseCode, o);
@@ -166,18 +308,19 @@ export function drainChunks(plan: Plan, s: SharedAnalysis, onProgress?: (beams: 
       Atomics.store(ring.ready, slot, id + 1);
       Atomics.notify(ring.ready, slot);
     }
+    Atomics.add(s.completed, 0, 1);
+    Atomics.notify(s.completed, 0);
+    const ms = performance.now() - t0;
+    if (self + TIME_THREAD < s.times.length) s.times[TIME_THREAD + self] = ms;
     done += to - from;
-    onProgress?.(to - from);
+    o.onChunk?.(ms, to - from, setupMs);
+    o.onProgress?.(to - from);
   }
   return done;
 }
 
-function finished(s: SharedAnalysis): boolean {
-  return Atomics.load(s.counter, 0) >= chunkCount(s);
-}
-
 export interface AnalysisJob {
-  /** Join in on the calling thread (after the tables), then wait for the workers. */
+  /** Join in on the calling thread (after the tables), then wait for the chunks the workers hold. */
   finish(): Promise<Float64Array>;
   /** Stop the workers (on an error elsewhere). */
   cancel(): void;
@@ -185,8 +328,12 @@ export interface AnalysisJob {
   ring: CodeRing | null;
   /** The band analysis (valid after finish), null without a band. */
   readonly squint: Float64Array | null;
-  /** The calling thread computes one chunk if one may be claimed now; returns the beams done. Throws a worker's failure. */
+  /** The calling thread computes one chunk if one may be claimed now (and decides on the workers); returns the beams done. Throws a worker's failure. */
   help(): number;
+  /** True once nothing is left to decide: the workers run, none may (--jobs 1), or every chunk is claimed. Until then the caller should analyse first (help()) and write tables after. */
+  readonly settled: boolean;
+  /** For tests: threads started and beams the workers analysed (known after finish). */
+  readonly stats: { workers: number; workerBeams: number };
 }
 
 /** The worker: compiled JS in dist; from source (tests), a bootstrap that registers tsx first. */
@@ -198,19 +345,22 @@ function makeWorker(): Worker {
 }
 
 /**
- * Workers started ahead of the job (before the scenario is even loaded), so their
- * start-up overlaps the main thread's; each takes one job. Unused ones are stopped
+ * Up to N workers for one job. With `early`, they are started at once (before the
+ * scenario is loaded, so their start-up overlaps the main thread's) and wait, unref'd,
+ * for the job; otherwise they are started only when the job asks. Unused ones are stopped
  * with release().
  */
 export class WorkerPool {
   private workers: Worker[];
-  constructor(n: number) {
+  constructor(n: number, early = false) {
     // unref'd while idle: a pool that is never used cannot keep the process alive
-    this.workers = Array.from({ length: Math.max(0, n) }, () => {
-      const w = makeWorker();
-      w.unref();
-      return w;
-    });
+    this.workers = early
+      ? Array.from({ length: Math.max(0, n) }, () => {
+          const w = makeWorker();
+          w.unref();
+          return w;
+        })
+      : [];
   }
   take(n: number): Worker[] {
     const got = this.workers.slice(0, n);
@@ -225,77 +375,160 @@ export class WorkerPool {
   }
 }
 
-export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: { failForTest?: boolean; variants?: Variant[]; ideal?: boolean; pool?: WorkerPool; ring?: boolean; band?: boolean } = {}): AnalysisJob {
+export interface StartOptions {
+  failForTest?: boolean;
+  variants?: Variant[];
+  ideal?: boolean;
+  pool?: WorkerPool;
+  ring?: boolean;
+  band?: boolean;
+  /** Tests: start the workers after this many main-thread chunks whatever the timing says (0: at once). */
+  spawnAfterChunksForTest?: number;
+}
+
+/** The arrays every thread shares for one job of `threads` threads at most. */
+export function sharedAnalysis(plan: Plan, threads: number, opts: Pick<StartOptions, "variants" | "ideal" | "ring" | "band"> = {}): SharedAnalysis {
   const beams = plan.beams.count;
   const frequencies = plan.frequenciesHz.length;
   const total = beams * frequencies * (opts.variants?.length ?? 1);
-  const shared: SharedAnalysis = {
+  return {
     counter: new Int32Array(new SharedArrayBuffer(4)),
+    completed: new Int32Array(new SharedArrayBuffer(4)),
+    times: new Float64Array(new SharedArrayBuffer((TIME_THREAD + threads) * 8)),
     metrics: new Float64Array(new SharedArrayBuffer(total * METRICS * 8)),
     beams,
     frequencies,
     variants: opts.variants ?? null,
     ideal: opts.ideal ?? true,
-    ring: opts.ring && !opts.variants ? allocRing(4 * Math.max(1, jobs), plan.elements.count) : null,
+    ring: opts.ring && !opts.variants ? allocRing(4 * threads, plan.elements.count) : null,
     squint: opts.band && plan.band && !opts.variants ? new Float64Array(new SharedArrayBuffer(beams * frequencies * plan.band.frequenciesHz.length * SQUINT_METRICS * 8)) : null,
   };
-  const nWorkers = Math.max(0, Math.min(jobs - 1, chunkCount(shared) - 1));
+}
+
+/** Atomics.waitAsync (Node ≥ 16; not in this TypeScript lib's typings). */
+const waitAsync = (Atomics as unknown as { waitAsync(a: Int32Array, i: number, v: number, ms: number): { async: boolean; value: Promise<string> | string } }).waitAsync.bind(Atomics);
+
+export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: number, total: number) => void, opts: StartOptions = {}): AnalysisJob {
+  const total = plan.beams.count * plan.frequenciesHz.length * (opts.variants?.length ?? 1);
+  const shared = sharedAnalysis(plan, Math.max(1, jobs), opts);
+  const chunks = chunkCount(shared);
+  // no more workers than chunks the main thread would leave them
+  const cap = Math.max(0, Math.min(jobs - 1, chunks - 1));
   let done = 0;
+  let closed = false;
   const tick = (n: number) => {
     done += n;
-    onProgress?.(done, total);
+    if (!closed) onProgress?.(done, total);
   };
   const pool = opts.pool ?? new WorkerPool(0);
-  const workers = pool.take(nWorkers);
-  pool.release();
-  for (const w of workers) w.postMessage({ plan, shared, failForTest: !!opts.failForTest });
-  const exits = workers.map(
-    (w) =>
-      new Promise<void>((resolve, reject) => {
-        let ok = false;
-        w.on("message", (m: { progress?: number; done?: number; error?: string }) => {
-          if (m.progress) tick(m.progress);
-          if (m.error !== undefined) reject(new Error(`analysis worker failed: ${m.error}`));
-          if (m.done !== undefined) {
-            ok = true;
-            resolve();
-          }
-        });
-        w.on("error", reject);
-        w.on("exit", (code) => (ok ? resolve() : reject(new Error(`analysis worker stopped (exit ${code})`))));
-      }),
-  );
-  // a failure is reported by finish(); keep Node from flagging it as unhandled meanwhile
-  const all = Promise.all(exits);
+  const workers: Worker[] = [];
+  const exits: Promise<void>[] = [];
+  let workerBeams = 0;
   let failure: unknown = null;
-  all.catch((e: unknown) => {
-    failure = e;
-  });
-  const helpCache: { c: AnalyzerCache | null; v?: number } = { c: null };
+  let failed: (e: unknown) => void = () => {};
+  const failing = new Promise<never>((_, reject) => (failed = reject));
+  failing.catch(() => {});
+  const fail = (e: unknown) => {
+    if (failure === null) failure = e;
+    failed(failure);
+  };
+  const timing = newTiming();
+  let spawned = cap === 0;
+  let spawnedAfter = 0;
+  const spawn = () => {
+    spawned = true;
+    spawnedAfter = timing.chunks;
+    for (const [k, w] of pool.take(cap).entries()) {
+      workers.push(w);
+      w.postMessage({ plan, shared, self: k + 1, failForTest: !!opts.failForTest });
+      exits.push(
+        new Promise<void>((resolve) => {
+          let ok = false;
+          w.on("message", (m: { progress?: number; done?: number; error?: string }) => {
+            if (m.progress) {
+              workerBeams += m.progress;
+              tick(m.progress);
+            }
+            if (m.error !== undefined) fail(new Error(`analysis worker failed: ${m.error}`));
+            if (m.done !== undefined) {
+              ok = true;
+              resolve();
+            }
+          });
+          w.on("error", fail);
+          w.on("exit", (code) => {
+            if (!ok && !closed) fail(new Error(`analysis worker stopped (exit ${code})`));
+            resolve();
+          });
+        }),
+      );
+    }
+    pool.release();
+  };
+  if (cap === 0) pool.release();
+  // the fault-injection test needs its workers whatever the size; STEERCODE_SPAWN_AFTER=n (tests,
+  // diagnosis) starts them after n main-thread chunks whatever the timing says
+  const env = process.env.STEERCODE_SPAWN_AFTER;
+  const forced = opts.failForTest ? 0 : (opts.spawnAfterChunksForTest ?? (env !== undefined && /^\d+$/.test(env) ? Number(env) : undefined));
+  if (forced === 0 && !spawned) spawn();
+  const onChunk = (ms: number, n: number, setupMs: number) => {
+    if (timing.chunks === 0) shared.times[TIME_FIRST] = ms;
+    addChunk(timing, ms, n, setupMs);
+    if (spawned) return;
+    const left = (chunks - Atomics.load(shared.counter, 0)) * (total / chunks);
+    if (forced !== undefined ? timing.chunks >= forced && left > 0 : workersPay(timing, left)) spawn();
+  };
+  const cache: ChunkCache = { c: null };
+  const mainDrain = (limit: number) => {
+    if (failure) throw failure;
+    return drainChunks(plan, shared, { onProgress: tick, cache, limit, wait: false, self: 0, onChunk });
+  };
+  const stop = () => {
+    closed = true;
+    for (const w of workers) void w.terminate();
+    pool.release();
+  };
   return {
     ring: shared.ring,
     squint: shared.squint,
+    get settled() {
+      return spawned || Atomics.load(shared.counter, 0) >= chunks;
+    },
+    get stats() {
+      return { workers: workers.length, workerBeams };
+    },
     help() {
-      if (failure) throw failure;
-      return drainChunks(plan, shared, tick, helpCache, 1, false);
+      return mainDrain(1);
     },
     async finish() {
       try {
-        if (opts.failForTest && nWorkers === 0) throw new Error("injected analysis failure (test)");
+        if (opts.failForTest && cap === 0) throw new Error("injected analysis failure (test)");
         // the calling thread takes chunks too, a few at a time, yielding between them
-        const cache = helpCache;
-        while (!finished(shared)) {
-          drainChunks(plan, shared, tick, cache, 2, false);
+        while (Atomics.load(shared.counter, 0) < chunks) {
+          mainDrain(2);
           await yieldNow();
         }
-        await all;
+        // then waits for the chunks the workers still hold (not for workers that hold none)
+        for (;;) {
+          if (failure) throw failure;
+          const c = Atomics.load(shared.completed, 0);
+          if (c >= chunks) break;
+          const w = waitAsync(shared.completed, 0, c, 100);
+          if (w.async) await Promise.race([w.value, failing]);
+        }
+        // the fault-injection test: the injected failure must surface even when the main thread did every chunk
+        if (opts.failForTest) await Promise.race([Promise.all(exits), failing]);
+        if (failure) throw failure;
+        if (process.env.STEERCODE_DEBUG) process.stderr.write(`steercode: debug: analysis: ${cap === 0 ? "one thread (--jobs 1 or one chunk)" : workers.length ? `${workers.length} worker(s) started after ${spawnedAfter} main-thread chunk(s), ${workerBeams} of ${total} beams analysed by them` : `no worker started (the work left never paid for one)`}; main thread ${timing.chunks} chunk(s), lowest ${timing.minPerBeamMs.toFixed(3)} ms a beam\n`);
         return shared.metrics;
       } finally {
-        for (const w of workers) void w.terminate();
+        // progress messages still on their way are dropped: every beam is done
+        onProgress?.(total, total);
+        stop();
       }
     },
     cancel() {
-      for (const w of workers) void w.terminate();
+      stop();
     },
   };
 }

@@ -1,17 +1,18 @@
 /**
- * Worker thread: waits for a job (the plan and the shared arrays), then claims beam
- * chunks from the shared counter (Atomics) until none are left, writing metrics
- * straight into the shared result array. Workers may be started before the scenario
- * is loaded, so their start-up overlaps the main thread's.
+ * Worker thread: waits for a job (the plan and the shared arrays), then prepares its
+ * analyser and claims beam chunks from the shared counter (Atomics) while the tail rule
+ * allows, writing metrics straight into the shared result array. It may be started
+ * before the scenario is loaded (WorkerPool's `early`), so its start-up overlaps the
+ * main thread's.
  */
 import { parentPort } from "node:worker_threads";
 import type { Plan } from "../core/plan.js";
 import { drainChunks, type SharedAnalysis } from "./analysis-pool.js";
 
-parentPort!.once("message", (job: { plan: Plan; shared: SharedAnalysis; failForTest: boolean }) => {
+parentPort!.once("message", (job: { plan: Plan; shared: SharedAnalysis; self: number; failForTest: boolean }) => {
   try {
     if (job.failForTest) throw new Error("injected worker failure (test)");
-    const done = drainChunks(job.plan, job.shared, (n) => parentPort!.postMessage({ progress: n }));
+    const done = drainChunks(job.plan, job.shared, { self: job.self, onProgress: (n) => parentPort!.postMessage({ progress: n }) });
     parentPort!.postMessage({ done });
   } catch (e) {
     parentPort!.postMessage({ error: e instanceof Error ? e.message : String(e) });

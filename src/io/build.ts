@@ -120,11 +120,18 @@ export function frequencyText(plan: Plan): string[] {
   return plan.frequenciesExact.map((f) => new D(f).toFixed());
 }
 
+export interface ThreadsForTest {
+  spawnAfterChunks: number;
+  stats: { workers: number; workerBeams: number };
+}
+
 export interface BuildOptions {
   analysis: boolean;
   jobs?: number;
   /** Workers started early by the caller (see WorkerPool). */
   pool?: WorkerPool;
+  /** Test hook: start the analysis workers after this many main-thread chunks, whatever the timing says; `stats` receives what they did. */
+  threadsForTest?: ThreadsForTest;
   /** Test hook: make the analysis fail midway (fault-injection test). */
   failAnalysisForTest?: boolean;
   onProgress?: (done: number, total: number) => void;
@@ -201,6 +208,7 @@ export interface ProduceOptions {
   jobs?: number;
   pool?: WorkerPool;
   failAnalysisForTest?: boolean;
+  threadsForTest?: ThreadsForTest;
   onProgress?: (done: number, total: number) => void;
   /** where the bytes go: files on disk (build) or comparisons with the files there (verify) */
   open?: OpenSink;
@@ -235,7 +243,7 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
     const total = plan.frequenciesHz.length * plan.beams.count;
     // an optimized build computes each beam's codes once, in the analysis chunks, and the tables take them from there
     const ring = opts.analysis && plan.quantizer.method === "optimized";
-    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}), ring, band: true }) : null;
+    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}), ...(opts.threadsForTest ? { spawnAfterChunksForTest: opts.threadsForTest.spawnAfterChunks } : {}), ring, band: true }) : null;
     if (!job) opts.pool?.release();
     const writers = makeWriters(dir, { plan, frequencyText: ft }, open);
     // device images are written with positional writes straight into the folder: a real
@@ -250,6 +258,9 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
       devices?.beam(fi, b, words);
       cursor.inBeam = false;
     }, plan.outputs.includes("csv"), job?.ring ? ringSource(job.ring, plan.beams.count) : null);
+    // the analysis first, on this thread, until it has decided whether workers pay (analysis-pool.ts);
+    // once they run, this thread writes the tables while they analyse
+    if (job) while (!job.settled && job.help() > 0) await yieldNow();
     // slices of ~a few ms, yielding in between so SIGINT/SIGTERM are handled promptly
     const slice = Math.max(1, Math.floor(262144 / plan.elements.count));
     for (;;) {
@@ -283,8 +294,8 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
     let summary: Record<string, Distribution> | null = null;
     let band: BandReport | null = null;
     if (job) {
-      opts.onProgress?.(0, total);
       metrics = await job.finish();
+      if (opts.threadsForTest) Object.assign(opts.threadsForTest.stats, job.stats);
       const d = writeBeamsCsv(join(dir, "beams.csv"), plan, ft, metrics, run.optimized, open);
       files["beams.csv"] = { bytes: d.bytes, sha256: d.sha256 };
       summary = summarise(metrics, plan.element ? [] : ["scan_loss_db"]);
@@ -324,6 +335,7 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
       ...(opts.jobs !== undefined ? { jobs: opts.jobs } : {}),
       ...(opts.pool ? { pool: opts.pool } : {}),
       ...(opts.failAnalysisForTest ? { failAnalysisForTest: true } : {}),
+      ...(opts.threadsForTest ? { threadsForTest: opts.threadsForTest } : {}),
       ...(opts.onProgress ? { onProgress: opts.onProgress } : {}),
     });
     const manifest = p.manifest;

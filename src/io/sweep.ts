@@ -56,7 +56,9 @@ export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepO
     variants: variants.map((v) => ({ phaseBits: v.phaseBits, attenBits: v.attenBits, attenStepDb: v.attenStepDb, attenStepExact: v.attenStepExact, quantizer: { method: v.quantizer, seed: plan.quantizer.seed, ...(v.quantizer === "optimized" && plan.quantizer.maxGainLossDb !== undefined ? { maxGainLossDb: plan.quantizer.maxGainLossDb } : {}) } })),
   });
   try {
-    // the ideal pattern does not depend on the part: once per beam, here, while the workers start
+    // the analysis first, on this thread, until it has decided whether workers pay (analysis-pool.ts)
+    while (!job.settled && job.help() > 0) await yieldNow();
+    // the ideal pattern does not depend on the part: once per beam, here, while the workers run
     const idealPsl = new Float64Array(nf * nb);
     for (let fi = 0; fi < nf; fi++) {
       const an = new BeamAnalyzer(plan, fi);

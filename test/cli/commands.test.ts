@@ -1,6 +1,6 @@
 import { execFileSync } from "node:child_process";
 import { itWith, TOOLS } from "../tools.js";
-import { existsSync, readFileSync, writeFileSync } from "node:fs";
+import { existsSync, readdirSync, readFileSync, statSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
@@ -132,6 +132,22 @@ describe("builds beyond the demo", () => {
     expect(readFileSync(join(a, "table.bin")).equals(readFileSync(join(b, "table.bin")))).toBe(true);
     expect(readFileSync(join(a, "beams.csv")).equals(readFileSync(join(b, "beams.csv")))).toBe(true);
     expect(JSON.parse(readFileSync(join(a, "manifest.json"), "utf8")).quantizer).toEqual({ method: "randomized", seed: 4242 });
+  });
+});
+
+describe("--jobs: how many threads analyse changes no byte", () => {
+  it("workers started midway by the measured decision's switch (STEERCODE_SPAWN_AFTER) write the bytes of --jobs 1; verify with them passes", () => {
+    const demo = join(import.meta.dirname, "..", "..", "fixtures", "demo", "scenario.json");
+    const a = join(tempDir(), "a"), b = join(tempDir(), "b");
+    expect(cli(["build", demo, "-o", a, "--jobs", "1"]).code).toBe(0);
+    const env = { STEERCODE_SPAWN_AFTER: "2", STEERCODE_DEBUG: "1" };
+    const r = cli(["build", demo, "-o", b, "--jobs", "2"], { env });
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stderr).toMatch(/analysis: 1 worker\(s\) started after 2 main-thread chunk\(s\), \d+ of 133 beams analysed by them/);
+    for (const f of readdirSync(a, { recursive: true }) as string[]) if (statSync(join(a, f)).isFile()) expect(readFileSync(join(b, f)).equals(readFileSync(join(a, f))), f).toBe(true);
+    const v = cli(["verify", b, "--jobs", "2"], { env });
+    expect(v.code, v.stdout + v.stderr).toBe(0);
+    expect(v.stderr).toMatch(/analysis: 1 worker\(s\) started after 2 main-thread chunk\(s\)/);
   });
 });
 

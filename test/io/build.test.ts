@@ -135,8 +135,13 @@ describe("analysis in workers", () => {
     const t = tempDir();
     const L = loadScenario(DEMO);
     const a = await runBuild(L, join(t, "a"), { analysis: true, jobs: 1 });
-    const b = await runBuild(L, join(t, "b"), { analysis: true, jobs: 3 });
-    expect(Array.from(b.metrics!)).toEqual(Array.from(a.metrics!));
-    expect(readFileSync(join(t, "a", "beams.csv")).equals(readFileSync(join(t, "b", "beams.csv")))).toBe(true);
+    // the workers started at once, and after three chunks of the main thread (the measured decision's switch)
+    for (const [k, after] of [[0, 0], [1, 3]] as const) {
+      const threads = { spawnAfterChunks: after, stats: { workers: 0, workerBeams: 0 } };
+      const b = await runBuild(L, join(t, `b${k}`), { analysis: true, jobs: 3, threadsForTest: threads });
+      expect(threads.stats.workers).toBe(2);
+      expect(Array.from(b.metrics!)).toEqual(Array.from(a.metrics!));
+      for (const f of ["beams.csv", "table.bin", "codes.csv", "table.json"]) expect(readFileSync(join(t, `b${k}`, f)).equals(readFileSync(join(t, "a", f))), f).toBe(true);
+    }
   });
 });
