@@ -6,7 +6,6 @@ import { checkTarget } from "../io/outdir.js";
 import { fmt, printJson, progress, SAFETY, warn, type Io } from "./shared.js";
 import type { Distribution } from "../core/pattern/summary.js";
 import type { DiffScan } from "../io/diff.js";
-import { WorkerPool } from "../io/analysis-pool.js";
 import { negativeGainLossNote, theoryRows, type Theory } from "../core/theory.js";
 import { M, METRICS } from "../core/pattern/analyze.js";
 import type { OptimizedSummary } from "../core/quantize/optimized.js";
@@ -24,16 +23,11 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
   checkTarget(args.out, "build");
   // the comparison's modules only for --compare
   if (args.compare) (await compareModules()).readManifest(args.compare);
-  // start the analysis workers now: their start-up overlaps loading the scenario
-  const pool = new WorkerPool(args.analysis ? args.jobs - 1 : 0);
-  try {
-    return await buildWith(io, args, pool);
-  } finally {
-    pool.release();
-  }
+  // the analysis starts its workers itself, when the measured work pays for them (analysis-pool.ts)
+  return buildWith(io, args);
 }
 
-async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<number> {
+async function buildWith(io: Io, args: BuildArgs): Promise<number> {
   const loaded = loadScenario(args.scenario);
   let diff: DiffScan | null = null;
   const { scanDiff, incompatibility, readManifest, writeDiffFiles, diffLines } = args.compare ? await compareModules() : ({} as Awaited<ReturnType<typeof compareModules>>);
@@ -49,7 +43,6 @@ async function buildWith(io: Io, args: BuildArgs, pool: WorkerPool): Promise<num
     result = await runBuild(loaded, args.out, {
       analysis: args.analysis,
       jobs: args.jobs,
-      pool,
       onProgress: bar.update,
       ...(args.compare
         ? {

@@ -3,7 +3,6 @@ import { parseQuantity } from "../core/units.js";
 import { loadScenario, MAX_ATTEN_STEP_DB } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
 import { jsonRows, runSweep } from "../io/sweep.js";
-import { WorkerPool } from "../io/analysis-pool.js";
 import { fmt, printJson, progress, SAFETY, type Io } from "./shared.js";
 import { UsageError } from "./usage.js";
 
@@ -45,22 +44,17 @@ export function parseQuantizers(text: string): QuantizerMethod[] {
 export async function sweepCommand(io: Io, a: { scenario: string; out: string; phaseBits: string; attenStep: string | null; quantizer: string | null; jobs: number }): Promise<number> {
   const phaseBits = parseBits(a.phaseBits);
   checkTarget(a.out, "sweep");
-  const pool = new WorkerPool(a.jobs - 1);
-  try {
-    return await sweepWith(io, a, phaseBits, pool);
-  } finally {
-    pool.release();
-  }
+  return sweepWith(io, a, phaseBits);
 }
 
-async function sweepWith(io: Io, a: { scenario: string; out: string; attenStep: string | null; quantizer: string | null; jobs: number }, phaseBits: number[], pool: WorkerPool): Promise<number> {
+async function sweepWith(io: Io, a: { scenario: string; out: string; attenStep: string | null; quantizer: string | null; jobs: number }, phaseBits: number[]): Promise<number> {
   const loaded = loadScenario(a.scenario);
   const steps = a.attenStep ? parseSteps(a.attenStep) : [{ value: loaded.plan.attenStepDb, exact: loaded.plan.attenStepExact }];
   const quantizers = a.quantizer ? parseQuantizers(a.quantizer) : [loaded.plan.quantizer.method];
   const bar = progress(io, "sweep");
   let r;
   try {
-    r = await runSweep(loaded, a.out, { phaseBits, attenStepsDb: steps, quantizers, jobs: a.jobs, pool, onProgress: bar.update });
+    r = await runSweep(loaded, a.out, { phaseBits, attenStepsDb: steps, quantizers, jobs: a.jobs, onProgress: bar.update });
   } finally {
     bar.stop();
   }

@@ -1,18 +1,9 @@
-import { WorkerPool } from "../io/analysis-pool.js";
-import { readManifest } from "../io/readbuild.js";
 import { verifyBuild } from "../io/verify.js";
 import { printJson, SAFETY, type Io } from "./shared.js";
 
 export async function verifyCommand(io: Io, dir: string, jobs = 1): Promise<number> {
-  // the analysis is rerun only when the build had one: start its workers only then
-  const m = readManifest(dir);
-  const pool = new WorkerPool(m.analysis ? jobs - 1 : 0);
-  let r;
-  try {
-    r = await verifyBuild(dir, { jobs, pool });
-  } finally {
-    pool.release();
-  }
+  // the analysis (rerun only when the build had one) starts its workers itself, when they pay
+  const r = await verifyBuild(dir, { jobs });
   if (io.json) printJson(io, r);
   else {
     const lines = r.checks.map((c) => `${c.ok ? "ok  " : "FAIL"}  ${c.check}: ${c.detail}`);

@@ -344,42 +344,10 @@ function makeWorker(): Worker {
   return new Worker(boot, { eval: true });
 }
 
-/**
- * Up to N workers for one job. With `early`, they are started at once (before the
- * scenario is loaded, so their start-up overlaps the main thread's) and wait, unref'd,
- * for the job; otherwise they are started only when the job asks. Unused ones are stopped
- * with release().
- */
-export class WorkerPool {
-  private workers: Worker[];
-  constructor(n: number, early = false) {
-    // unref'd while idle: a pool that is never used cannot keep the process alive
-    this.workers = early
-      ? Array.from({ length: Math.max(0, n) }, () => {
-          const w = makeWorker();
-          w.unref();
-          return w;
-        })
-      : [];
-  }
-  take(n: number): Worker[] {
-    const got = this.workers.slice(0, n);
-    this.workers = this.workers.slice(n);
-    for (const w of got) w.ref();
-    while (got.length < n) got.push(makeWorker());
-    return got;
-  }
-  release(): void {
-    for (const w of this.workers) void w.terminate();
-    this.workers = [];
-  }
-}
-
 export interface StartOptions {
   failForTest?: boolean;
   variants?: Variant[];
   ideal?: boolean;
-  pool?: WorkerPool;
   ring?: boolean;
   band?: boolean;
   /** Tests: start the workers after this many main-thread chunks whatever the timing says (0: at once). */
@@ -420,7 +388,6 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
     done += n;
     if (!closed) onProgress?.(done, total);
   };
-  const pool = opts.pool ?? new WorkerPool(0);
   const workers: Worker[] = [];
   const exits: Promise<void>[] = [];
   let workerBeams = 0;
@@ -438,7 +405,8 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   const spawn = () => {
     spawned = true;
     spawnedAfter = timing.chunks;
-    for (const [k, w] of pool.take(cap).entries()) {
+    for (let k = 0; k < cap; k++) {
+      const w = makeWorker();
       workers.push(w);
       w.postMessage({ plan, shared, self: k + 1, failForTest: !!opts.failForTest });
       exits.push(
@@ -463,9 +431,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
         }),
       );
     }
-    pool.release();
   };
-  if (cap === 0) pool.release();
   // the fault-injection test needs its workers whatever the size; STEERCODE_SPAWN_AFTER=n (tests,
   // diagnosis) starts them after n main-thread chunks whatever the timing says
   const env = process.env.STEERCODE_SPAWN_AFTER;
@@ -486,7 +452,6 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   const stop = () => {
     closed = true;
     for (const w of workers) void w.terminate();
-    pool.release();
   };
   return {
     ring: shared.ring,

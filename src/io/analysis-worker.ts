@@ -1,9 +1,8 @@
 /**
  * Worker thread: waits for a job (the plan and the shared arrays), then prepares its
  * analyser and claims beam chunks from the shared counter (Atomics) while the tail rule
- * allows, writing metrics straight into the shared result array. It may be started
- * before the scenario is loaded (WorkerPool's `early`), so its start-up overlaps the
- * main thread's.
+ * allows, writing metrics straight into the shared result array. The main thread
+ * starts workers only when its measured work pays for them (analysis-pool.ts).
  */
 import { parentPort } from "node:worker_threads";
 import type { Plan } from "../core/plan.js";

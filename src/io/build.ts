@@ -19,7 +19,7 @@ import { stringify } from "csv-stringify/sync";
 import { METRIC_COLUMNS, METRICS } from "../core/pattern/analyze.js";
 import { quantile, summarise, type Distribution } from "../core/pattern/summary.js";
 import { theoryFor, type Theory } from "../core/theory.js";
-import { refuseOversizedAnalysis, ringSource, startAnalysis, type WorkerPool } from "./analysis-pool.js";
+import { refuseOversizedAnalysis, ringSource, startAnalysis } from "./analysis-pool.js";
 import { setTimeout as sleep } from "node:timers/promises";
 import { fixed } from "./format.js";
 import { bandSummary, SQUINT_COLUMNS, SQUINT_METRICS, type BandBeamSummary } from "../core/band.js";
@@ -127,9 +127,8 @@ export interface ThreadsForTest {
 
 export interface BuildOptions {
   analysis: boolean;
+  /** threads for the analysis at most (the main thread included); how many run is measured (analysis-pool.ts) */
   jobs?: number;
-  /** Workers started early by the caller (see WorkerPool). */
-  pool?: WorkerPool;
   /** Test hook: start the analysis workers after this many main-thread chunks, whatever the timing says; `stats` receives what they did. */
   threadsForTest?: ThreadsForTest;
   /** Test hook: make the analysis fail midway (fault-injection test). */
@@ -206,7 +205,6 @@ export interface BeamCursor {
 export interface ProduceOptions {
   analysis: boolean;
   jobs?: number;
-  pool?: WorkerPool;
   failAnalysisForTest?: boolean;
   threadsForTest?: ThreadsForTest;
   onProgress?: (done: number, total: number) => void;
@@ -243,8 +241,7 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
     const total = plan.frequenciesHz.length * plan.beams.count;
     // an optimized build computes each beam's codes once, in the analysis chunks, and the tables take them from there
     const ring = opts.analysis && plan.quantizer.method === "optimized";
-    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.pool ? { pool: opts.pool } : {}), ...(opts.threadsForTest ? { spawnAfterChunksForTest: opts.threadsForTest.spawnAfterChunks } : {}), ring, band: true }) : null;
-    if (!job) opts.pool?.release();
+    job = opts.analysis ? startAnalysis(plan, opts.jobs ?? 1, opts.onProgress, { failForTest: !!opts.failAnalysisForTest, ...(opts.threadsForTest ? { spawnAfterChunksForTest: opts.threadsForTest.spawnAfterChunks } : {}), ring, band: true }) : null;
     const writers = makeWriters(dir, { plan, frequencyText: ft }, open);
     // device images are written with positional writes straight into the folder: a real
     // build only (no `open`); verify decodes the images itself (workflows/devices.ts)
@@ -333,7 +330,6 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     const p = await produceOutputs(loaded, tmp, loaded.scenario.name.split(/[\\/]/).pop() ?? "scenario.json", {
       analysis: opts.analysis,
       ...(opts.jobs !== undefined ? { jobs: opts.jobs } : {}),
-      ...(opts.pool ? { pool: opts.pool } : {}),
       ...(opts.failAnalysisForTest ? { failAnalysisForTest: true } : {}),
       ...(opts.threadsForTest ? { threadsForTest: opts.threadsForTest } : {}),
       ...(opts.onProgress ? { onProgress: opts.onProgress } : {}),

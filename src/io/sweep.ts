@@ -8,7 +8,7 @@ import { METRICS } from "../core/pattern/analyze.js";
 import { BeamAnalyzer } from "../core/pattern/analyze.js";
 import { attenBitsFor, SWEEP_COLUMNS, sweepRow, type SweepRow, type SweepVariantSpec } from "../core/sweep.js";
 import { planForPart, theoryFor, type TheoryValue } from "../core/theory.js";
-import { refuseOversizedAnalysis, startAnalysis, type WorkerPool } from "./analysis-pool.js";
+import { refuseOversizedAnalysis, startAnalysis } from "./analysis-pool.js";
 import { stableJson } from "./build.js";
 import { sha256 } from "./files.js";
 import { fixed } from "./format.js";
@@ -24,7 +24,6 @@ export interface SweepOptions {
   quantizers: QuantizerMethod[];
   jobs: number;
   onProgress?: (done: number, total: number) => void;
-  pool?: WorkerPool;
 }
 
 export interface SweepResult {
@@ -51,7 +50,6 @@ export async function runSweep(loaded: LoadedScenario, outDir: string, o: SweepO
   const stage = new StagedDir(outDir, "sweep");
   const nb = plan.beams.count, nf = plan.frequenciesHz.length;
   const job = startAnalysis(plan, o.jobs, o.onProgress, {
-    ...(o.pool ? { pool: o.pool } : {}),
     ideal: false,
     variants: variants.map((v) => ({ phaseBits: v.phaseBits, attenBits: v.attenBits, attenStepDb: v.attenStepDb, attenStepExact: v.attenStepExact, quantizer: { method: v.quantizer, seed: plan.quantizer.seed, ...(v.quantizer === "optimized" && plan.quantizer.maxGainLossDb !== undefined ? { maxGainLossDb: plan.quantizer.maxGainLossDb } : {}) } })),
   });

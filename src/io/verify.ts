@@ -23,7 +23,6 @@ import { closeSync, lstatSync, readdirSync, readSync } from "node:fs";
 import { join } from "node:path";
 import { crc32 } from "node:zlib";
 import { InputError } from "../core/errors.js";
-import type { WorkerPool } from "./analysis-pool.js";
 import { frequencyText, hex32, INPUT_COPY, produceOutputs, SCENARIO_COPY, stableJson, type BeamCursor, type Manifest, type Produced } from "./build.js";
 import type { FileDigest } from "./hashed.js";
 import { folderEntry, loadBuildScenario, openFolderFile, readFolderFile, readManifest, MAX_FOLDER_FILE_BYTES, MAX_MANIFEST_BYTES, type FolderEntry } from "./readbuild.js";
@@ -69,9 +68,8 @@ export interface VerifyResult {
 }
 
 export interface VerifyOptions {
-  /** threads for rerunning the analysis (default 1) */
+  /** threads for rerunning the analysis at most (default 1; how many run is measured, as in a build) */
   jobs?: number;
-  pool?: WorkerPool;
 }
 
 /** Files `build --compare` adds to a build: not derivable from the recorded inputs, so only their recorded size and SHA-256 are checked. */
@@ -408,7 +406,6 @@ export async function verifyBuild(dir: string, opts: VerifyOptions = {}): Promis
   const checks: Check[] = [];
   const mismatches: Mismatch[] = [];
   const done = (first: Mismatch | null = mismatches[0] ?? null): VerifyResult => {
-    opts.pool?.release();
     return { ok: checks.every((c) => c.ok), checks, firstMismatch: first };
   };
   const ver = m.tool.version === toolVersion() ? "" : ` (built by steercode ${m.tool.version}, checked with ${toolVersion()}: a difference may come from the version)`;
@@ -451,7 +448,7 @@ export async function verifyBuild(dir: string, opts: VerifyOptions = {}): Promis
   const source = m.scenario.source.split(/[\\/]/).pop() ?? "";
   let produced: Produced;
   try {
-    produced = await produceOutputs(loaded, dir, source, { analysis: m.analysis, jobs: opts.jobs ?? 1, ...(opts.pool ? { pool: opts.pool } : {}), open, cursor });
+    produced = await produceOutputs(loaded, dir, source, { analysis: m.analysis, jobs: opts.jobs ?? 1, open, cursor });
   } catch (e) {
     for (const s of sinks.values()) s.abandon();
     throw e;
