@@ -2,10 +2,7 @@
 // usage: node bench/child-verify.js buildDir jobs
 const [dir, jobs] = process.argv.slice(2);
 const { verifyBuild } = await import("../dist/io/verify.js");
-const { WorkerPool } = await import("../dist/io/analysis-pool.js");
 const t0 = performance.now();
-const pool = new WorkerPool(Number(jobs) - 1);
-const r = await verifyBuild(dir, { jobs: Number(jobs), pool });
-pool.release();
+const r = await verifyBuild(dir, { jobs: Number(jobs) });
 const ms = performance.now() - t0;
 process.stdout.write(JSON.stringify({ ms, ok: r.ok, maxRssKb: process.resourceUsage().maxRSS }) + "\n");
