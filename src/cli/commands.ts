@@ -47,8 +47,8 @@ export const GLOBAL: Record<string, OptionSpec> = {
   json: { type: "boolean", default: false, describe: "print one JSON document on stdout instead of prose" },
 };
 
-/** --jobs N: threads for the analysis in all, the main thread included (README). */
-const JOBS_OPTION: OptionSpec = { type: "number", default: availableParallelism(), describe: "threads for the analysis, the main thread included (at most the number of cores)" };
+/** --jobs N: the most threads for the analysis, the main thread included; how many run is measured (README). */
+const JOBS_OPTION: OptionSpec = { type: "number", default: availableParallelism(), describe: "most threads for the analysis, the main thread included (at most the number of cores); more start only when the measured work pays for them" };
 
 export function jobsOption(raw: unknown): number {
   const jobs = Number(raw);
