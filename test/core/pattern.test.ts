@@ -68,6 +68,47 @@ describe("pattern engine against a brute-force direct sum", () => {
   });
 });
 
+describe("refining only the sidelobe contenders that can win (lobes.ts QUAD_MARGIN)", () => {
+  // derived: the skip must never change a metric, so the analysis with it is compared
+  // value for value with the same analysis refining every contender (quadMargin = ∞)
+  const cal = (n: number, seed: number) => {
+    const r = mulberry32(seed);
+    return "element,phase_offset_deg,gain_offset_db\n" + Array.from({ length: n }, (_, i) => `${i},${(r() * 360).toFixed(3)},${((r() - 0.5) * 2).toFixed(3)}`).join("\n") + "\n";
+  };
+  const cases = [
+    { lattice: { kind: "rectangular", columns: 16, rows: 12, dx: "0.5 lambda", dy: "0.5 lambda" }, taper: { kind: "taylor", sidelobe: "-30 dB", nbar: 4 }, bits: 3 },
+    { lattice: { kind: "triangular", columns: 9, rows: 8, dx: "0.6 lambda", dy: "0.5 lambda", offset: 0.5 }, taper: { kind: "chebyshev", sidelobe: "-30 dB" }, bits: 4 },
+    { lattice: { kind: "rectangular", columns: 24, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" }, taper: { kind: "taylor", sidelobe: "-35 dB", nbar: 5 }, bits: 4 },
+  ];
+  it("gives the same metrics, bit for bit, with fewer exact evaluations", () => {
+    for (const c of cases) {
+      const n = c.lattice.columns * c.lattice.rows;
+      const L = load(baseScenario({
+        array: { lattice: c.lattice }, taper: c.taper, phaseShifter: { bits: c.bits }, calibration: "cal.csv",
+        beams: { kind: "azel", az: { from: -60, to: 60, step: 15 }, el: { from: c.lattice.rows > 1 ? -30 : 0, to: c.lattice.rows > 1 ? 30 : 0, step: 15 } },
+      }), { "cal.csv": cal(n, n + 7) });
+      let calls = 0;
+      const orig = AfEvaluator.prototype.derivs;
+      AfEvaluator.prototype.derivs = function (this: AfEvaluator, du: number, dv: number) { calls++; return orig.call(this, du, dv); };
+      try {
+        const skip = analyseAll(L.plan);
+        const skipCalls = calls;
+        calls = 0;
+        const an = new BeamAnalyzer(L.plan, 0);
+        (an as unknown as { finder: { quadMargin: number } }).finder.quadMargin = Infinity;
+        const q = makeQuantizer(L.plan, 0, an.prep);
+        const codes = allocBeamCodes(n);
+        const all = new Float64Array(L.plan.beams.count * METRICS);
+        for (let b = 0; b < L.plan.beams.count; b++) { q.beam(b, codes); an.analyse(b, codes, all, b * METRICS); }
+        for (let i = 0; i < all.length; i++) expect(Object.is(skip[i], all[i]) || skip[i] === all[i], `${c.lattice.kind} ${c.lattice.columns}×${c.lattice.rows} value ${i}`).toBe(true);
+        expect(skipCalls).toBeLessThan(calls);
+      } finally {
+        AfEvaluator.prototype.derivs = orig;
+      }
+    }
+  });
+});
+
 describe("the horizon: lobes it cuts off, peaks beside it (derived: our own brute force, pattern-ref.ts)", () => {
   const tol = { pslDb: 0.001, pointingDeg: 0.001 };
   it("8×6 at 0.5 λ, 2 bits, uniform, 30 GHz, beams out to the horizon: PSL within 0.001 dB, pointing within 0.001°, peaks visible", () => {
