@@ -114,6 +114,8 @@ export class LobeFinder {
   private mask: Uint8Array;
   private stack: Int32Array;
   /** per contender: start (Δu, Δv) and the exact p, pu, pv, puu, pvv, puv there */
+  private readonly cand = new Int32Array(CANDIDATES);
+  private readonly candP = new Float64Array(CANDIDATES);
   private readonly st = new Float64Array(8 * CANDIDATES);
   private readonly pred = new Float64Array(CANDIDATES);
   private readonly ord = new Int32Array(CANDIDATES);
@@ -152,13 +154,16 @@ export class LobeFinder {
     const mask = this.mask;
     floodMainLobe(p, wm, wn, top, mask, this.stack);
     // 4. sidelobe candidates: local maxima of visible cells outside the main lobe
-    const cand: number[] = [];
-    const candP: number[] = [];
+    const { cand, candP } = this;
+    let nc = 0;
+    // once CANDIDATES are held, a cell not above the smallest of them cannot enter
+    let floorP = -Infinity;
     for (let b = 0; b < wn; b++)
       for (let a = 0; a < wm; a++) {
         const q = b * wm + a;
         if (!visible[q] || mask[q]) continue;
         const pq = p[q]!;
+        if (nc === CANDIDATES && !(pq > floorP)) continue;
         // cheap rejection by the horizontal neighbours first (most cells fail here)
         if (a > 0 && p[q - 1]! > pq && visible[q - 1] && !mask[q - 1]) continue;
         if (a + 1 < wm && p[q + 1]! > pq && visible[q + 1] && !mask[q + 1]) continue;
@@ -175,21 +180,21 @@ export class LobeFinder {
         }
         if (!isMax) continue;
         // keep the CANDIDATES largest
-        if (cand.length < CANDIDATES) { cand.push(q); candP.push(pq); }
+        if (nc < CANDIDATES) { cand[nc] = q; candP[nc] = pq; nc++; }
         else {
           let lo = 0;
-          for (let k = 1; k < cand.length; k++) if (candP[k]! < candP[lo]!) lo = k;
+          for (let k = 1; k < nc; k++) if (candP[k]! < candP[lo]!) lo = k;
           if (pq > candP[lo]!) { cand[lo] = q; candP[lo] = pq; }
         }
+        if (nc === CANDIDATES) { floorP = candP[0]!; for (let k = 1; k < nc; k++) if (candP[k]! < floorP) floorP = candP[k]!; }
       }
     let sl = NaN, sdu = NaN, sdv = NaN;
     let bestGrid = 0;
-    for (const v of candP) bestGrid = Math.max(bestGrid, v);
+    for (let k = 0; k < nc; k++) bestGrid = Math.max(bestGrid, candP[k]!);
     // 4b. one exact evaluation (value, gradient, Hessian) at each contender's start
     // predicts its peak (the vertex of the quadratic model there); contenders are refined
     // in decreasing prediction and one whose prediction (with QUAD_MARGIN) cannot reach
     // the best refined value so far is not refined further
-    const nc = cand.length;
     const { st, pred, ord } = this;
     for (let k = 0; k < nc; k++) {
       pred[k] = -1;
