@@ -68,7 +68,7 @@ describe("pattern engine against a brute-force direct sum", () => {
   });
 });
 
-describe("refining only the sidelobe contenders that can win (lobes.ts QUAD_MARGIN)", () => {
+describe("refining only the sidelobe contenders and horizon maxima that can win (lobes.ts QUAD_MARGIN)", () => {
   // derived: the skip must never change a metric, so the analysis with it is compared
   // value for value with the same analysis refining every contender (quadMargin = ∞)
   const cal = (n: number, seed: number) => {
@@ -88,14 +88,19 @@ describe("refining only the sidelobe contenders that can win (lobes.ts QUAD_MARG
         beams: { kind: "azel", az: { from: -60, to: 60, step: 15 }, el: { from: c.lattice.rows > 1 ? -30 : 0, to: c.lattice.rows > 1 ? 30 : 0, step: 15 } },
       }), { "cal.csv": cal(n, n + 7) });
       let calls = 0;
-      const orig = AfEvaluator.prototype.derivs;
+      // exact evaluations: derivs() (value, gradient, Hessian) and field() (value)
+      const orig = AfEvaluator.prototype.derivs, origField = AfEvaluator.prototype.field;
       AfEvaluator.prototype.derivs = function (this: AfEvaluator, du: number, dv: number) { calls++; return orig.call(this, du, dv); };
+      AfEvaluator.prototype.field = function (this: AfEvaluator, du: number, dv: number) { calls++; return origField.call(this, du, dv); };
       try {
         const skip = analyseAll(L.plan);
         const skipCalls = calls;
         calls = 0;
         const an = new BeamAnalyzer(L.plan, 0);
-        (an as unknown as { finder: { quadMargin: number } }).finder.quadMargin = Infinity;
+        const inner = an as unknown as { finder: { quadMargin: number }; idealLobes: { quadMargin: number } | null };
+        inner.finder.quadMargin = Infinity;
+        an.idealPsl(0); // builds the ideal lobe structure (its refined lobes do not depend on the margin)
+        if (inner.idealLobes) inner.idealLobes.quadMargin = Infinity; // null for line arrays and element lists
         const q = makeQuantizer(L.plan, 0, an.prep);
         const codes = allocBeamCodes(n);
         const all = new Float64Array(L.plan.beams.count * METRICS);
@@ -104,6 +109,7 @@ describe("refining only the sidelobe contenders that can win (lobes.ts QUAD_MARG
         expect(skipCalls).toBeLessThan(calls);
       } finally {
         AfEvaluator.prototype.derivs = orig;
+        AfEvaluator.prototype.field = origField;
       }
     }
   });

@@ -23,6 +23,8 @@ import type { AfEvaluator } from "./evaluator.js";
 
 export interface HorizonTrace {
   n: number;
+  /** horizonMax's scratch: which samples lie in the main lobe */
+  main: Uint8Array;
   du: Float64Array;
   dv: Float64Array;
   alpha: Float64Array;
@@ -30,7 +32,7 @@ export interface HorizonTrace {
 }
 
 export function allocTrace(cap = 256): HorizonTrace {
-  return { n: 0, du: new Float64Array(cap), dv: new Float64Array(cap), alpha: new Float64Array(cap), p: new Float64Array(cap) };
+  return { n: 0, main: new Uint8Array(cap), du: new Float64Array(cap), dv: new Float64Array(cap), alpha: new Float64Array(cap), p: new Float64Array(cap) };
 }
 
 function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number): void {
@@ -117,6 +119,24 @@ export function traceExact(ev: AfEvaluator, u0: number, v0: number, step: number
   }
 }
 
+/**
+ * The peak value along the horizon near α (within [lo, hi]) that the quadratic model of
+ * |F|²(cos α − u0, sin α − v0) at α predicts; Infinity when the model has no maximum
+ * or its vertex falls outside [lo, hi].
+ */
+export function alongCirclePeak(ev: AfEvaluator, a: number, u0: number, v0: number, lo: number, hi: number): number {
+  const c = Math.cos(a), s = Math.sin(a);
+  const d = ev.derivs(c - u0, s - v0);
+  // u = cos α, v = sin α: u' = −s, v' = c, u'' = −c, v'' = −s
+  const pa = -s * d.pu + c * d.pv;
+  const paa = s * s * d.puu - 2 * s * c * d.puv + c * c * d.pvv - c * d.pu - s * d.pv;
+  if (!(paa < 0)) return Infinity;
+  const step = -pa / paa;
+  if (!(a + step >= lo && a + step <= hi)) return Infinity;
+  const v = d.p - (pa * pa) / (2 * paa);
+  return Number.isFinite(v) ? v : Infinity;
+}
+
 export interface HorizonMax {
   p: number;
   du: number;
@@ -136,8 +156,13 @@ export const HORIZON_REFINE_WITHIN = 0.794;
  * (main-lobe samples excluded) within HORIZON_REFINE_WITHIN of max(best sample, `floor`)
  * are refined by golden-section search in α between their neighbours. Returns p = NaN
  * when every sample is in the main lobe.
+ *
+ * `skipBelow` (the caller's best interior value over its QUAD_MARGIN, lobes.ts): a
+ * maximum whose peak along the circle, as the quadratic model at its sample predicts
+ * (one exact evaluation of value, gradient and Hessian), stays below it cannot win, and
+ * is not searched; its sample still counts. NaN: every maximum is searched.
  */
-export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: number, isMain: (du: number, dv: number) => boolean, floor: number, out: HorizonMax): HorizonMax {
+export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: number, isMain: (du: number, dv: number) => boolean, floor: number, out: HorizonMax, skipBelow = NaN): HorizonMax {
   out.p = NaN;
   out.du = NaN;
   out.dv = NaN;
@@ -147,7 +172,8 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     const k = ((i % n) + n) % n;
     return t.p[k]!;
   };
-  const main = new Uint8Array(n);
+  if (t.main.length < n) t.main = new Uint8Array(t.p.length);
+  const main = t.main;
   let best = 0;
   for (let i = 0; i < n; i++) {
     main[i] = isMain(t.du[i]!, t.dv[i]!) ? 1 : 0;
@@ -171,6 +197,7 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     while (hi < ai) hi += 2 * Math.PI;
     while (hi > ai + Math.PI) hi -= 2 * Math.PI;
     let bp = pi, ba = ai;
+    if (skipBelow > 0 && alongCirclePeak(ev, ai, u0, v0, lo, hi) < skipBelow) continue;
     let x1 = hi - g * (hi - lo), x2 = lo + g * (hi - lo);
     let f1 = at(x1), f2 = at(x2);
     const tol = 1e-4 * (hi - lo); // the value is then within ~1e-8 (relative) of the maximum

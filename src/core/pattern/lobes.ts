@@ -236,7 +236,7 @@ export class LobeFinder {
     const h = horizonMax(trace, ev, u0, v0, (a, b) => {
       const ra = Math.round(a / du) - win.m0, rb = Math.round(b / dv) - win.n0;
       return ra >= 0 && rb >= 0 && ra < wm && rb < wn && mask[rb * wm + ra] === 1;
-    }, bestGrid, this.hz);
+    }, bestGrid, this.hz, sl / this.quadMargin);
     if (h.p > sl || (Number.isNaN(sl) && h.p >= 0)) { sl = h.p; sdu = h.du; sdv = h.dv; }
     return { peakDu: pk.du, peakDv: pk.dv, peakPower: pk.p, sidelobePower: sl, sidelobeDu: sdu, sidelobeDv: sdv };
   }
