@@ -27,12 +27,28 @@ export interface HorizonTrace {
   main: Uint8Array;
   du: Float64Array;
   dv: Float64Array;
+  /**
+   * α of each sample: with `lazyAlpha` (lattice traces) α = atan2(av, au) of the sample's
+   * absolute (u, v), taken only where horizonMax needs it; otherwise in `alpha`.
+   */
   alpha: Float64Array;
+  lazyAlpha: boolean;
+  au: Float64Array;
+  av: Float64Array;
   p: Float64Array;
 }
 
 export function allocTrace(cap = 256): HorizonTrace {
-  return { n: 0, main: new Uint8Array(cap), du: new Float64Array(cap), dv: new Float64Array(cap), alpha: new Float64Array(cap), p: new Float64Array(cap) };
+  const f = () => new Float64Array(cap);
+  return { n: 0, main: new Uint8Array(cap), du: f(), dv: f(), alpha: f(), lazyAlpha: false, au: f(), av: f(), p: f() };
+}
+
+/** Room for `cap` samples (contents not kept). */
+function reserve(t: HorizonTrace, cap: number): void {
+  if (t.p.length >= cap) return;
+  const f = () => new Float64Array(cap);
+  t.main = new Uint8Array(cap);
+  t.du = f(); t.dv = f(); t.alpha = f(); t.au = f(); t.av = f(); t.p = f();
 }
 
 function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number): void {
@@ -41,6 +57,8 @@ function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number)
     t.du = grow(t.du);
     t.dv = grow(t.dv);
     t.alpha = grow(t.alpha);
+    t.au = grow(t.au);
+    t.av = grow(t.av);
     t.p = grow(t.p);
   }
   t.du[t.n] = du;
@@ -48,6 +66,11 @@ function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number)
   t.alpha[t.n] = alpha;
   t.p[t.n] = p;
   t.n++;
+}
+
+/** α of sample i. */
+function alphaOf(t: HorizonTrace, i: number): number {
+  return t.lazyAlpha ? Math.atan2(t.av[i]!, t.au[i]!) : t.alpha[i]!;
 }
 
 /**
@@ -86,31 +109,40 @@ function phasedSum(s: Float64Array, off: number, stride: number, n: number, thet
 /** Trace the horizon of beam (u0, v0) from a lattice's transforms, in increasing α (one turn from −π). */
 export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: HorizonTrace): void {
   out.n = 0;
+  out.lazyAlpha = true;
   const { nx, ny, du, dv, R, C } = s;
   // rows where the circle runs across the rows (|v| < sa), columns elsewhere
   const sa = Math.sin(Math.atan(du / dv));
   const ca = Math.sqrt(1 - sa * sa);
-  const colAt = (m: number, v: number) => {
-    const mm = ((m % nx) + nx) % nx;
-    push(out, m * du, v - v0, Math.atan2(v, u0 + m * du), phasedSum(R, 2 * mm, 2 * nx, s.rows, s.kdy * (v - v0)));
-  };
-  const rowAt = (n: number, u: number) => {
-    const nn = ((n % ny) + ny) % ny;
-    push(out, u - u0, n * dv, Math.atan2(v0 + n * dv, u), phasedSum(C, 2 * nn, 2 * ny, s.cols, s.kpx * (u - u0)));
-  };
   const mLo = Math.ceil((-ca - u0) / du), mHi = Math.floor((ca - u0) / du);
   const nLo = Math.ceil((-sa - v0) / dv), nHi = Math.floor((sa - v0) / dv);
-  const vis = (x: number) => Math.sqrt(Math.max(0, 1 - x * x));
+  reserve(out, 2 * Math.max(0, mHi - mLo + 1) + 2 * Math.max(0, nHi - nLo + 1));
+  const { du: tu, dv: tv, au, av, p } = out;
+  let k = 0;
+  // a sample at grid column m, v on the circle (u = u0 + m·du)
+  const col = (m: number, u: number, v: number) => {
+    const mm = ((m % nx) + nx) % nx;
+    tu[k] = m * du; tv[k] = v - v0; au[k] = u; av[k] = v;
+    p[k++] = phasedSum(R, 2 * mm, 2 * nx, s.rows, s.kdy * (v - v0));
+  };
+  // a sample at grid row n, u on the circle (v = v0 + n·dv)
+  const row = (n: number, u: number, v: number) => {
+    const nn = ((n % ny) + ny) % ny;
+    tu[k] = u - u0; tv[k] = n * dv; au[k] = u; av[k] = v;
+    p[k++] = phasedSum(C, 2 * nn, 2 * ny, s.cols, s.kpx * (u - u0));
+  };
   // one turn in increasing α, starting at the bottom arc (α ≈ −3π/4); the left arc crosses α = ±π
-  for (let m = mLo; m <= mHi; m++) { const u = u0 + m * du; if (Math.abs(u) <= ca) colAt(m, -vis(u)); } // bottom, α ∈ [−3π/4, −π/4]
-  for (let n = nLo; n <= nHi; n++) { const v = v0 + n * dv; if (Math.abs(v) < sa) rowAt(n, vis(v)); } // right
-  for (let m = mHi; m >= mLo; m--) { const u = u0 + m * du; if (Math.abs(u) <= ca) colAt(m, vis(u)); } // top
-  for (let n = nHi; n >= nLo; n--) { const v = v0 + n * dv; if (Math.abs(v) < sa) rowAt(n, -vis(v)); } // left
+  for (let m = mLo; m <= mHi; m++) { const u = u0 + m * du; if (Math.abs(u) <= ca) col(m, u, -Math.sqrt(Math.max(0, 1 - u * u))); } // bottom, α ∈ [−3π/4, −π/4]
+  for (let n = nLo; n <= nHi; n++) { const v = v0 + n * dv; if (Math.abs(v) < sa) row(n, Math.sqrt(Math.max(0, 1 - v * v)), v); } // right
+  for (let m = mHi; m >= mLo; m--) { const u = u0 + m * du; if (Math.abs(u) <= ca) col(m, u, Math.sqrt(Math.max(0, 1 - u * u))); } // top
+  for (let n = nHi; n >= nLo; n--) { const v = v0 + n * dv; if (Math.abs(v) < sa) row(n, -Math.sqrt(Math.max(0, 1 - v * v)), v); } // left
+  out.n = k;
 }
 
 /** Trace the horizon with the exact evaluator at equal steps of α no larger than `step` (radians). */
 export function traceExact(ev: AfEvaluator, u0: number, v0: number, step: number, out: HorizonTrace): void {
   out.n = 0;
+  out.lazyAlpha = false;
   const n = Math.max(16, Math.ceil((2 * Math.PI) / step));
   for (let i = 0; i < n; i++) {
     const a = -Math.PI + (2 * Math.PI * i) / n;
@@ -190,8 +222,8 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     const l = (i - 1 + n) % n, r = (i + 1) % n;
     if ((!main[l] && val(l) > pi) || (!main[r] && val(r) > pi)) continue;
     // bracket [α_l, α_r] around α_i (unwrapped)
-    const ai = t.alpha[i]!;
-    let lo = t.alpha[l]!, hi = t.alpha[r]!;
+    const ai = alphaOf(t, i);
+    let lo = alphaOf(t, l), hi = alphaOf(t, r);
     while (lo > ai) lo -= 2 * Math.PI;
     while (lo < ai - Math.PI) lo += 2 * Math.PI;
     while (hi < ai) hi += 2 * Math.PI;
