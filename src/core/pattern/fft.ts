@@ -31,6 +31,8 @@ export class PowerFft2 {
     this.colIn = new Float64Array(2 * ny);
     this.colOut = new Float64Array(2 * ny);
     this.power = new Float64Array(nx * ny);
+    this.byCol = new Float64Array(2 * usedRows * nx);
+    this.byColRun = new Int32Array(nx).fill(-1);
   }
 
   /** Row transforms of the weights (conj) in place in `grid`; the column input's zero tail reset. */
@@ -49,17 +51,42 @@ export class PowerFft2 {
     }
     // rows ≥ usedRows are zero: only the first usedRows entries of a column are ever copied
     this.colIn.fill(0, 2 * this.usedRows);
+    this.runId = (this.runId + 1) | 0;
   }
 
-  /** The column transform of grid column c into colOut (after rows()). */
+  /** The column transform of grid column c into colOut (after rows()); keeps the column's row spectra in rowSpectraByColumn. */
   private column(c: number): Float64Array {
-    const { nx, grid, colIn, colOut } = this;
-    for (let r = 0, a = 2 * c; r < this.usedRows; r++, a += 2 * nx) {
-      colIn[2 * r] = grid[a]!;
-      colIn[2 * r + 1] = grid[a + 1]!;
+    const { nx, grid, colIn, colOut, byCol } = this;
+    const rows = this.usedRows;
+    for (let r = 0, a = 2 * c, b = 2 * rows * c; r < rows; r++, a += 2 * nx, b += 2) {
+      colIn[2 * r] = byCol[b] = grid[a]!;
+      colIn[2 * r + 1] = byCol[b + 1] = grid[a + 1]!;
     }
+    this.byColRun[c] = this.runId;
     this.fy.transform(colOut, colIn);
     return colOut;
+  }
+
+  private readonly byCol: Float64Array;
+  private readonly byColRun: Int32Array;
+  private runId = 0;
+  /**
+   * After run() or runWindow(): the row transforms by grid column, R_r(m) at
+   * 2·(usedRows·m + r) (the horizon trace reads a column as one run). The column pass
+   * leaves them behind; columns it skipped are copied here.
+   */
+  rowSpectraByColumn(): Float64Array {
+    const { nx, grid, byCol } = this;
+    const rows = this.usedRows;
+    for (let c = 0; c < nx; c++) {
+      if (this.byColRun[c] === this.runId) continue;
+      for (let r = 0, a = 2 * c, b = 2 * rows * c; r < rows; r++, a += 2 * nx, b += 2) {
+        byCol[b] = grid[a]!;
+        byCol[b + 1] = grid[a + 1]!;
+      }
+      this.byColRun[c] = this.runId;
+    }
+    return byCol;
   }
 
   /** |Σ_cells w·exp(+2πi(mx/nx + ny'/ny))|² for every (m, n), weights given per cell index (row·nx + column). */

@@ -271,8 +271,11 @@ export class PatternGrid {
       this.colSpec ??= new Float64Array(2 * this.ny * this.usedCols);
       C = fft.columnSpectra(this.cell!, wr, wi, this.usedCols, this.colSpec);
     }
+    // R by grid column (each horizon sample at a column then reads one contiguous run)
+    const RT = copy ? fft.rowSpectraByColumn().slice() : fft.rowSpectraByColumn();
+    const nx = this.nx;
     const dy = this.plan.lattice!.dy;
-    return { nx: this.nx, ny: this.ny, rows, cols: this.usedCols, kpx: this.k * this.px, kdy: this.k * dy, du: this.du, dv: this.dv, R, C };
+    return { nx, ny: this.ny, rows, cols: this.usedCols, kpx: this.k * this.px, kdy: this.k * dy, du: this.du, dv: this.dv, R, RT, C };
   }
 
   private colIndex = new Int32Array(0);

@@ -88,6 +88,8 @@ export interface LatticeSpectra {
   du: number;
   dv: number;
   R: Float64Array;
+  /** R by grid column: R_r(m) at 2·(rows·m + r) */
+  RT: Float64Array;
   C: Float64Array;
 }
 
@@ -110,7 +112,7 @@ function phasedSum(s: Float64Array, off: number, stride: number, n: number, thet
 export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: HorizonTrace): void {
   out.n = 0;
   out.lazyAlpha = true;
-  const { nx, ny, du, dv, R, C } = s;
+  const { nx, ny, du, dv, RT, C } = s;
   // rows where the circle runs across the rows (|v| < sa), columns elsewhere
   const sa = Math.sin(Math.atan(du / dv));
   const ca = Math.sqrt(1 - sa * sa);
@@ -123,7 +125,7 @@ export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: Hor
   const col = (m: number, u: number, v: number) => {
     const mm = ((m % nx) + nx) % nx;
     tu[k] = m * du; tv[k] = v - v0; au[k] = u; av[k] = v;
-    p[k++] = phasedSum(R, 2 * mm, 2 * nx, s.rows, s.kdy * (v - v0));
+    p[k++] = phasedSum(RT, 2 * s.rows * mm, 2, s.rows, s.kdy * (v - v0));
   };
   // a sample at grid row n, u on the circle (v = v0 + n·dv)
   const row = (n: number, u: number, v: number) => {
