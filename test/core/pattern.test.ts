@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { BeamAnalyzer, METRICS, M } from "../../src/core/pattern/analyze.js";
 import { AfEvaluator } from "../../src/core/pattern/evaluator.js";
-import { analysisSizeProblem, gridShape, MAX_ANALYSIS_CELLS, PatternGrid } from "../../src/core/pattern/grid.js";
+import { allocWindow, analysisSizeProblem, gridShape, MAX_ANALYSIS_CELLS, PatternGrid } from "../../src/core/pattern/grid.js";
 import { refine } from "../../src/core/pattern/lobes.js";
 import { allocBeamCodes, makeQuantizer } from "../../src/core/quantize/index.js";
 import { phaseQuantGainLossDb } from "../../src/core/theory.js";
@@ -110,6 +110,46 @@ describe("refining only the sidelobe contenders and horizon maxima that can win 
       } finally {
         AfEvaluator.prototype.derivs = orig;
         AfEvaluator.prototype.field = origField;
+      }
+    }
+  });
+});
+
+describe("the sampled window (grid.ts)", () => {
+  // derived: fill() writes |F|² straight from the column pass into the beam's window and
+  // marks visibility row by row; both must equal the whole-grid transform and the per-cell test
+  const lattices = [
+    { kind: "rectangular", columns: 12, rows: 10, dx: "0.5 lambda", dy: "0.5 lambda" },
+    { kind: "triangular", columns: 7, rows: 6, dx: "0.6 lambda", dy: "0.5 lambda", offset: 0.5 },
+    { kind: "rectangular", columns: 8, rows: 5, dx: "0.4 lambda", dy: "0.45 lambda" }, // window narrower than the grid
+    { kind: "rectangular", columns: 9, rows: 3, dx: "0.7 lambda", dy: "0.5 lambda" }, // window wider than the grid
+  ];
+  it("marks exactly the cells with u² + v² ≤ 1 and holds the whole-grid transform's |F|²", () => {
+    const r = mulberry32(17);
+    for (const lattice of lattices) {
+      const { plan } = load(baseScenario({ array: { lattice } }));
+      const g = new PatternGrid(plan, 0);
+      const n = plan.elements.count;
+      const wr = Float64Array.from({ length: n }, () => r() - 0.5), wi = Float64Array.from({ length: n }, () => r() - 0.5);
+      const whole = g.periodicPower(wr, wi);
+      const [nx, ny] = g.fftSize;
+      const win = allocWindow(g.cap);
+      for (const [u0, v0] of [[0, 0], [0.3, -0.2], [0.99, 0], [-0.7, 0.7], [0, -0.999], [0.5 * Math.SQRT1_2, 0.5 * Math.SQRT1_2]] as const) {
+        g.fill(wr, wi, u0, v0, Math.sqrt(1 - u0 * u0 - v0 * v0), win);
+        let visible = 0, badVisible = 0, badP = 0;
+        for (let j = 0; j < win.wn; j++)
+          for (let i = 0; i < win.wm; i++) {
+            const u = u0 + (win.m0 + i) * g.du, v = v0 + (win.n0 + j) * g.dv;
+            const q = j * win.wm + i;
+            if (win.visible[q] !== (u * u + v * v <= 1 ? 1 : 0)) badVisible++;
+            visible += win.visible[q]!;
+            const m = (((win.m0 + i) % nx) + nx) % nx, k = (((win.n0 + j) % ny) + ny) % ny;
+            if (win.p[q] !== whole[k * nx + m]) badP++;
+          }
+        const at = `${lattice.kind} ${lattice.columns}×${lattice.rows} beam (${u0}, ${v0})`;
+        expect(badVisible, at).toBe(0);
+        expect(badP, at).toBe(0);
+        expect(visible, at).toBeGreaterThan(0);
       }
     }
   });
