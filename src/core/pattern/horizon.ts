@@ -171,6 +171,26 @@ export function alongCirclePeak(ev: AfEvaluator, a: number, u0: number, v0: numb
   return Number.isFinite(v) ? v : Infinity;
 }
 
+/**
+ * The main lobe as horizonMax sees it: offset (Δu, Δv) is in it when cell
+ * (round(Δu/du) − m0, round(Δv/dv) − n0) of the w × h `mask` is 1; off the mask, `outside`.
+ */
+export interface MainLobeMap {
+  mask: Uint8Array;
+  m0: number;
+  n0: number;
+  w: number;
+  h: number;
+  du: number;
+  dv: number;
+  outside: boolean;
+}
+
+export function inMain(l: MainLobeMap, du: number, dv: number): boolean {
+  const ra = Math.round(du / l.du) - l.m0, rb = Math.round(dv / l.dv) - l.n0;
+  return ra >= 0 && rb >= 0 && ra < l.w && rb < l.h ? l.mask[rb * l.w + ra] === 1 : l.outside;
+}
+
 export interface HorizonMax {
   p: number;
   du: number;
@@ -196,7 +216,7 @@ export const HORIZON_REFINE_WITHIN = 0.794;
  * (one exact evaluation of value, gradient and Hessian), stays below it cannot win, and
  * is not searched; its sample still counts. NaN: every maximum is searched.
  */
-export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: number, isMain: (du: number, dv: number) => boolean, floor: number, out: HorizonMax, skipBelow = NaN): HorizonMax {
+export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: number, lobe: MainLobeMap, floor: number, out: HorizonMax, skipBelow = NaN): HorizonMax {
   out.p = NaN;
   out.du = NaN;
   out.dv = NaN;
@@ -209,9 +229,13 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
   if (t.main.length < n) t.main = new Uint8Array(t.p.length);
   const main = t.main;
   let best = 0;
+  const { mask, m0, n0, w, h, du: cu, dv: cv, outside } = lobe;
   for (let i = 0; i < n; i++) {
-    main[i] = isMain(t.du[i]!, t.dv[i]!) ? 1 : 0;
-    if (!main[i] && t.p[i]! > best) best = t.p[i]!;
+    // inMain(lobe, Δu, Δv), written out (no call per sample)
+    const ra = Math.round(t.du[i]! / cu) - m0, rb = Math.round(t.dv[i]! / cv) - n0;
+    const inside = ra >= 0 && rb >= 0 && ra < w && rb < h ? mask[rb * w + ra] === 1 : outside;
+    main[i] = inside ? 1 : 0;
+    if (!inside && t.p[i]! > best) best = t.p[i]!;
   }
   const bar = HORIZON_REFINE_WITHIN * Math.max(best, Number.isFinite(floor) ? floor : 0);
   const at = (a: number) => ev.power(Math.cos(a) - u0, Math.sin(a) - v0);
@@ -244,7 +268,7 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     if (pa > bp) {
       const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
       // the search must not have climbed into the main lobe
-      if (!isMain(du, dv)) { bp = pa; ba = a; }
+      if (!inMain(lobe, du, dv)) { bp = pa; ba = a; }
     }
     if (bp > out.p) { out.p = bp; out.du = Math.cos(ba) - u0; out.dv = Math.sin(ba) - v0; }
   }

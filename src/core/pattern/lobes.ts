@@ -13,7 +13,7 @@
  */
 import type { AfEvaluator, PowerDerivs } from "./evaluator.js";
 import type { PowerWindow } from "./grid.js";
-import { horizonMax, type HorizonMax, type HorizonTrace } from "./horizon.js";
+import { horizonMax, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
 
 export interface LobeResult {
   peakDu: number;
@@ -124,6 +124,8 @@ export class LobeFinder {
   /** QUAD_MARGIN; Infinity refines every contender (the tests compare both) */
   quadMargin = QUAD_MARGIN;
   private readonly hz: HorizonMax = { p: NaN, du: NaN, dv: NaN };
+  /** the main lobe for horizonMax: the window's mask; off the window is not main lobe */
+  private readonly lobe: MainLobeMap = { mask: new Uint8Array(0), m0: 0, n0: 0, w: 0, h: 0, du: 1, dv: 1, outside: false };
   constructor(cap: number) {
     this.mask = new Uint8Array(cap);
     this.stack = new Int32Array(cap);
@@ -233,10 +235,9 @@ export class LobeFinder {
       if (!(val <= sl)) { sl = val; sdu = vu; sdv = vv; }
     }
     // 5. the horizon, searched along the circle
-    const h = horizonMax(trace, ev, u0, v0, (a, b) => {
-      const ra = Math.round(a / du) - win.m0, rb = Math.round(b / dv) - win.n0;
-      return ra >= 0 && rb >= 0 && ra < wm && rb < wn && mask[rb * wm + ra] === 1;
-    }, bestGrid, this.hz, sl / this.quadMargin);
+    const lobe = this.lobe;
+    lobe.mask = mask; lobe.m0 = win.m0; lobe.n0 = win.n0; lobe.w = wm; lobe.h = wn; lobe.du = du; lobe.dv = dv;
+    const h = horizonMax(trace, ev, u0, v0, lobe, bestGrid, this.hz, sl / this.quadMargin);
     if (h.p > sl || (Number.isNaN(sl) && h.p >= 0)) { sl = h.p; sdu = h.du; sdv = h.dv; }
     return { peakDu: pk.du, peakDv: pk.dv, peakPower: pk.p, sidelobePower: sl, sidelobeDu: sdu, sidelobeDv: sdv };
   }
