@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { BeamAnalyzer, METRICS, M } from "../../src/core/pattern/analyze.js";
 import { AfEvaluator } from "../../src/core/pattern/evaluator.js";
-import { analysisSizeProblem, gridShape, MAX_ANALYSIS_CELLS, PatternGrid } from "../../src/core/pattern/grid.js";
+import { allocWindow, analysisSizeProblem, gridShape, MAX_ANALYSIS_CELLS, PatternGrid } from "../../src/core/pattern/grid.js";
 import { refine } from "../../src/core/pattern/lobes.js";
 import { allocBeamCodes, makeQuantizer } from "../../src/core/quantize/index.js";
 import { phaseQuantGainLossDb } from "../../src/core/theory.js";
@@ -64,6 +64,93 @@ describe("pattern engine against a brute-force direct sum", () => {
       expect(Math.abs(a[i * METRICS + M.psl_db]! - b[i * METRICS + M.psl_db]!)).toBeLessThan(0.05);
       expect(Math.abs(a[i * METRICS + M.pointing_error_deg]! - b[i * METRICS + M.pointing_error_deg]!)).toBeLessThan(1e-4);
       expect(a[i * METRICS + M.gain_loss_db]).toBeCloseTo(b[i * METRICS + M.gain_loss_db]!, 9);
+    }
+  });
+});
+
+describe("refining only the sidelobe contenders and horizon maxima that can win (lobes.ts QUAD_MARGIN)", () => {
+  // derived: the skip must never change a metric, so the analysis with it is compared
+  // value for value with the same analysis refining every contender (quadMargin = ∞)
+  const cal = (n: number, seed: number) => {
+    const r = mulberry32(seed);
+    return "element,phase_offset_deg,gain_offset_db\n" + Array.from({ length: n }, (_, i) => `${i},${(r() * 360).toFixed(3)},${((r() - 0.5) * 2).toFixed(3)}`).join("\n") + "\n";
+  };
+  const cases = [
+    { lattice: { kind: "rectangular", columns: 16, rows: 12, dx: "0.5 lambda", dy: "0.5 lambda" }, taper: { kind: "taylor", sidelobe: "-30 dB", nbar: 4 }, bits: 3 },
+    { lattice: { kind: "triangular", columns: 9, rows: 8, dx: "0.6 lambda", dy: "0.5 lambda", offset: 0.5 }, taper: { kind: "chebyshev", sidelobe: "-30 dB" }, bits: 4 },
+    { lattice: { kind: "rectangular", columns: 24, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" }, taper: { kind: "taylor", sidelobe: "-35 dB", nbar: 5 }, bits: 4 },
+  ];
+  it("gives the same metrics, bit for bit, with fewer exact evaluations", () => {
+    for (const c of cases) {
+      const n = c.lattice.columns * c.lattice.rows;
+      const L = load(baseScenario({
+        array: { lattice: c.lattice }, taper: c.taper, phaseShifter: { bits: c.bits }, calibration: "cal.csv",
+        beams: { kind: "azel", az: { from: -60, to: 60, step: 15 }, el: { from: c.lattice.rows > 1 ? -30 : 0, to: c.lattice.rows > 1 ? 30 : 0, step: 15 } },
+      }), { "cal.csv": cal(n, n + 7) });
+      let calls = 0;
+      // exact evaluations: derivs() (value, gradient, Hessian) and field() (value)
+      const orig = AfEvaluator.prototype.derivs, origField = AfEvaluator.prototype.field;
+      AfEvaluator.prototype.derivs = function (this: AfEvaluator, du: number, dv: number) { calls++; return orig.call(this, du, dv); };
+      AfEvaluator.prototype.field = function (this: AfEvaluator, du: number, dv: number) { calls++; return origField.call(this, du, dv); };
+      try {
+        const skip = analyseAll(L.plan);
+        const skipCalls = calls;
+        calls = 0;
+        const an = new BeamAnalyzer(L.plan, 0);
+        const inner = an as unknown as { finder: { quadMargin: number }; idealLobes: { quadMargin: number } | null };
+        inner.finder.quadMargin = Infinity;
+        an.idealPsl(0); // builds the ideal lobe structure (its refined lobes do not depend on the margin)
+        if (inner.idealLobes) inner.idealLobes.quadMargin = Infinity; // null for line arrays and element lists
+        const q = makeQuantizer(L.plan, 0, an.prep);
+        const codes = allocBeamCodes(n);
+        const all = new Float64Array(L.plan.beams.count * METRICS);
+        for (let b = 0; b < L.plan.beams.count; b++) { q.beam(b, codes); an.analyse(b, codes, all, b * METRICS); }
+        for (let i = 0; i < all.length; i++) expect(Object.is(skip[i], all[i]) || skip[i] === all[i], `${c.lattice.kind} ${c.lattice.columns}×${c.lattice.rows} value ${i}`).toBe(true);
+        expect(skipCalls).toBeLessThan(calls);
+      } finally {
+        AfEvaluator.prototype.derivs = orig;
+        AfEvaluator.prototype.field = origField;
+      }
+    }
+  });
+});
+
+describe("the sampled window (grid.ts)", () => {
+  // derived: fill() writes |F|² straight from the column pass into the beam's window and
+  // marks visibility row by row; both must equal the whole-grid transform and the per-cell test
+  const lattices = [
+    { kind: "rectangular", columns: 12, rows: 10, dx: "0.5 lambda", dy: "0.5 lambda" },
+    { kind: "triangular", columns: 7, rows: 6, dx: "0.6 lambda", dy: "0.5 lambda", offset: 0.5 },
+    { kind: "rectangular", columns: 8, rows: 5, dx: "0.4 lambda", dy: "0.45 lambda" }, // window narrower than the grid
+    { kind: "rectangular", columns: 9, rows: 3, dx: "0.7 lambda", dy: "0.5 lambda" }, // window wider than the grid
+  ];
+  it("marks exactly the cells with u² + v² ≤ 1 and holds the whole-grid transform's |F|²", () => {
+    const r = mulberry32(17);
+    for (const lattice of lattices) {
+      const { plan } = load(baseScenario({ array: { lattice } }));
+      const g = new PatternGrid(plan, 0);
+      const n = plan.elements.count;
+      const wr = Float64Array.from({ length: n }, () => r() - 0.5), wi = Float64Array.from({ length: n }, () => r() - 0.5);
+      const whole = g.periodicPower(wr, wi);
+      const [nx, ny] = g.fftSize;
+      const win = allocWindow(g.cap);
+      for (const [u0, v0] of [[0, 0], [0.3, -0.2], [0.99, 0], [-0.7, 0.7], [0, -0.999], [0.5 * Math.SQRT1_2, 0.5 * Math.SQRT1_2]] as const) {
+        g.fill(wr, wi, u0, v0, Math.sqrt(1 - u0 * u0 - v0 * v0), win);
+        let visible = 0, badVisible = 0, badP = 0;
+        for (let j = 0; j < win.wn; j++)
+          for (let i = 0; i < win.wm; i++) {
+            const u = u0 + (win.m0 + i) * g.du, v = v0 + (win.n0 + j) * g.dv;
+            const q = j * win.wm + i;
+            if (win.visible[q] !== (u * u + v * v <= 1 ? 1 : 0)) badVisible++;
+            visible += win.visible[q]!;
+            const m = (((win.m0 + i) % nx) + nx) % nx, k = (((win.n0 + j) % ny) + ny) % ny;
+            if (win.p[q] !== whole[k * nx + m]) badP++;
+          }
+        const at = `${lattice.kind} ${lattice.columns}×${lattice.rows} beam (${u0}, ${v0})`;
+        expect(badVisible, at).toBe(0);
+        expect(badP, at).toBe(0);
+        expect(visible, at).toBeGreaterThan(0);
+      }
     }
   });
 });

@@ -69,6 +69,16 @@ export class AfEvaluator {
   private readonly order: Int32Array;
   private readonly groupStart: Int32Array;
   private readonly kx2: Float64Array;
+  /** elements already in group order (order[q] = q): the loops index them directly */
+  private readonly inOrder: boolean;
+  /**
+   * Lattices: in order, and group g's elements take the distinct x values colBase[g],
+   * colBase[g] + 1, … in turn, so an element's column needs no lookup; kxd, kxd2: k·x
+   * and (k·x)² per distinct x. null otherwise.
+   */
+  private readonly colBase: Int32Array | null;
+  private readonly kxd: Float64Array;
+  private readonly kxd2: Float64Array;
 
   constructor(x: Float64Array, y: Float64Array, z: Float64Array, k: number) {
     this.n = x.length;
@@ -95,6 +105,20 @@ export class AfEvaluator {
     this.order = new Int32Array(this.n);
     for (let i = 0; i < this.n; i++) this.order[fillAt[this.dy.index[i]!]!++] = i;
     this.kx2 = Float64Array.from(this.kx, (v) => v * v);
+    this.inOrder = this.order.every((v, q) => v === q);
+    this.kxd = Float64Array.from(this.dx.values, (v) => k * v);
+    this.kxd2 = Float64Array.from(this.kxd, (v) => v * v);
+    let seq = this.inOrder;
+    const base = new Int32Array(ng);
+    for (let g = 0; g < ng && seq; g++) {
+      const q0 = this.groupStart[g]!;
+      base[g] = this.dx.index[q0]!;
+      for (let q = q0; q < this.groupStart[g + 1]! && seq; q++) {
+        // the same k·x either way (x equals its distinct value), so the sums are unchanged
+        if (this.dx.index[q] !== base[g]! + (q - q0) || this.kx[q] !== this.kxd[this.dx.index[q]!]) seq = false;
+      }
+    }
+    this.colBase = seq ? base : null;
   }
   private readonly kScale: number;
 
@@ -147,12 +171,28 @@ export class AfEvaluator {
       const { order, groupStart } = this;
       for (let g = 0; g + 1 < groupStart.length; g++) {
         let sr = 0, si = 0;
-        for (let q = groupStart[g]!; q < groupStart[g + 1]!; q++) {
-          const i = order[q]!;
-          const a = xi[i]!;
-          sr += wr[i]! * cx[a]! - wi[i]! * sx[a]!;
-          si += wr[i]! * sx[a]! + wi[i]! * cx[a]!;
-        }
+        const q0 = groupStart[g]!, q1 = groupStart[g + 1]!;
+        const colBase = this.colBase;
+        if (colBase)
+          for (let i = q0, a = colBase[g]!; i < q1; i++, a++) {
+            const c = cx[a]!, s = sx[a]!, w_r = wr[i]!, w_i = wi[i]!;
+            sr += w_r * c - w_i * s;
+            si += w_r * s + w_i * c;
+          }
+        else if (this.inOrder)
+          for (let i = q0; i < q1; i++) {
+            const a = xi[i]!;
+            const c = cx[a]!, s = sx[a]!, w_r = wr[i]!, w_i = wi[i]!;
+            sr += w_r * c - w_i * s;
+            si += w_r * s + w_i * c;
+          }
+        else
+          for (let q = q0; q < q1; q++) {
+            const i = order[q]!;
+            const a = xi[i]!;
+            sr += wr[i]! * cx[a]! - wi[i]! * sx[a]!;
+            si += wr[i]! * sx[a]! + wi[i]! * cx[a]!;
+          }
         re += cy[g]! * sr - sy[g]! * si;
         im += cy[g]! * si + sy[g]! * sr;
       }
@@ -214,7 +254,7 @@ export class AfEvaluator {
     // grouped by row: S0 = Σ w·ex, S1 = Σ X·w·ex, S2 = Σ X²·w·ex per distinct y, then
     // F = Σ ey·S0, F_u = jΣ ey·S1, F_uu = −Σ ey·S2, F_v = jΣ Y·ey·S0, F_vv = −Σ Y²·ey·S0, F_uv = −Σ Y·ey·S1
     this.phasors(du, dv);
-    const { cx, sx, cy, sy, wr, wi, kx, kx2, order, groupStart } = this;
+    const { cx, sx, cy, sy, wr, wi, kx, kx2, order, groupStart, inOrder, colBase, kxd, kxd2 } = this;
     const xi = this.dx.index;
     const yv = this.dy.values;
     const k = this.kScale;
@@ -222,18 +262,47 @@ export class AfEvaluator {
     let fuur = 0, fuui = 0, fvvr = 0, fvvi = 0, fuvr = 0, fuvi = 0;
     for (let g = 0; g + 1 < groupStart.length; g++) {
       let s0r = 0, s0i = 0, s1r = 0, s1i = 0, s2r = 0, s2i = 0;
-      for (let q = groupStart[g]!; q < groupStart[g + 1]!; q++) {
-        const i = order[q]!;
-        const a = xi[i]!;
-        const tr = wr[i]! * cx[a]! - wi[i]! * sx[a]!;
-        const ti = wr[i]! * sx[a]! + wi[i]! * cx[a]!;
-        s0r += tr;
-        s0i += ti;
-        s1r += kx[i]! * tr;
-        s1i += kx[i]! * ti;
-        s2r += kx2[i]! * tr;
-        s2i += kx2[i]! * ti;
-      }
+      const q0 = groupStart[g]!, q1 = groupStart[g + 1]!;
+      if (colBase) {
+        for (let i = q0, a = colBase[g]!; i < q1; i++, a++) {
+          const c = cx[a]!, s = sx[a]!, w_r = wr[i]!, w_i = wi[i]!;
+          const tr = w_r * c - w_i * s;
+          const ti = w_r * s + w_i * c;
+          const k1 = kxd[a]!, k2 = kxd2[a]!;
+          s0r += tr;
+          s0i += ti;
+          s1r += k1 * tr;
+          s1i += k1 * ti;
+          s2r += k2 * tr;
+          s2i += k2 * ti;
+        }
+      } else if (inOrder)
+        for (let i = q0; i < q1; i++) {
+          const a = xi[i]!;
+          const c = cx[a]!, s = sx[a]!, w_r = wr[i]!, w_i = wi[i]!;
+          const tr = w_r * c - w_i * s;
+          const ti = w_r * s + w_i * c;
+          const k1 = kx[i]!, k2 = kx2[i]!;
+          s0r += tr;
+          s0i += ti;
+          s1r += k1 * tr;
+          s1i += k1 * ti;
+          s2r += k2 * tr;
+          s2i += k2 * ti;
+        }
+      else
+        for (let q = q0; q < q1; q++) {
+          const i = order[q]!;
+          const a = xi[i]!;
+          const tr = wr[i]! * cx[a]! - wi[i]! * sx[a]!;
+          const ti = wr[i]! * sx[a]! + wi[i]! * cx[a]!;
+          s0r += tr;
+          s0i += ti;
+          s1r += kx[i]! * tr;
+          s1i += kx[i]! * ti;
+          s2r += kx2[i]! * tr;
+          s2i += kx2[i]! * ti;
+        }
       const er = cy[g]!, ei = sy[g]!;
       const Y = k * yv[g]!;
       const a0r = er * s0r - ei * s0i, a0i = er * s0i + ei * s0r;

@@ -202,18 +202,37 @@ export class PatternGrid {
     this.cap = (Math.ceil(2 / this.du) + 4) * (Math.ceil(2 / this.dv) + 4);
   }
 
-  /** Offsets window covering visible space for beam (u0, v0), with a one-cell margin. */
+  /**
+   * Offsets window covering visible space for beam (u0, v0), with a one-cell margin.
+   * A cell is visible iff u² + v² ≤ 1 (u = u0 + (m0+i)·du, v = v0 + (n0+j)·dv, in
+   * floating point). Along a row u rises with i and the rounded u² is monotone in |u|,
+   * so the visible cells of a row are one run: its ends are estimated from √(1 − v²)
+   * and settled by that same test, and the row is written as three runs.
+   */
   private frame(u0: number, v0: number, win: PowerWindow): void {
-    win.m0 = Math.floor((-1 - u0) / this.du) - 1;
-    win.n0 = Math.floor((-1 - v0) / this.dv) - 1;
-    win.wm = Math.floor((1 - u0) / this.du) + 2 - win.m0;
-    win.wn = Math.floor((1 - v0) / this.dv) + 2 - win.n0;
+    const du = this.du, dv = this.dv;
+    win.m0 = Math.floor((-1 - u0) / du) - 1;
+    win.n0 = Math.floor((-1 - v0) / dv) - 1;
+    win.wm = Math.floor((1 - u0) / du) + 2 - win.m0;
+    win.wn = Math.floor((1 - v0) / dv) + 2 - win.n0;
+    const { m0, wm } = win;
+    const vis = (i: number, vv: number) => { const u = u0 + (m0 + i) * du; return u * u + vv <= 1; };
     for (let j = 0; j < win.wn; j++) {
-      const v = v0 + (win.n0 + j) * this.dv;
-      for (let i = 0; i < win.wm; i++) {
-        const u = u0 + (win.m0 + i) * this.du;
-        win.visible[j * win.wm + i] = u * u + v * v <= 1 ? 1 : 0;
-      }
+      const v = v0 + (win.n0 + j) * dv;
+      const vv = v * v;
+      const o = j * wm;
+      const h = Math.sqrt(Math.max(0, 1 - vv));
+      let lo = Math.max(0, Math.min(wm - 1, Math.ceil((-h - u0) / du) - m0));
+      let hi = Math.max(0, Math.min(wm - 1, Math.floor((h - u0) / du) - m0));
+      while (lo > 0 && vis(lo - 1, vv)) lo--;
+      while (lo < wm && !vis(lo, vv)) lo++;
+      if (lo === wm) { win.visible.fill(0, o, o + wm); continue; }
+      if (hi < lo) hi = lo;
+      while (hi + 1 < wm && vis(hi + 1, vv)) hi++;
+      while (!vis(hi, vv)) hi--;
+      win.visible.fill(0, o, o + lo);
+      win.visible.fill(1, o + lo, o + hi + 1);
+      win.visible.fill(0, o + hi + 1, o + wm);
     }
   }
 
@@ -252,19 +271,31 @@ export class PatternGrid {
       this.colSpec ??= new Float64Array(2 * this.ny * this.usedCols);
       C = fft.columnSpectra(this.cell!, wr, wi, this.usedCols, this.colSpec);
     }
+    // R by grid column (each horizon sample at a column then reads one contiguous run)
+    const RT = copy ? fft.rowSpectraByColumn().slice() : fft.rowSpectraByColumn();
+    const nx = this.nx;
     const dy = this.plan.lattice!.dy;
-    return { nx: this.nx, ny: this.ny, rows, cols: this.usedCols, kpx: this.k * this.px, kdy: this.k * dy, du: this.du, dv: this.dv, R, C };
+    return { nx, ny: this.ny, rows, cols: this.usedCols, kpx: this.k * this.px, kdy: this.k * dy, du: this.du, dv: this.dv, R, RT, C };
   }
 
   private colIndex = new Int32Array(0);
-  /** Copy the window's cells out of a periodic FFT-grid power array. */
-  private gather(win: PowerWindow, src: Float64Array): void {
+  private rowIndex = new Int32Array(0);
+  /** The periodic grid's column and row of each window column and row (after frame()). */
+  private wrapIndex(win: PowerWindow): void {
     const { nx, ny } = this;
     if (this.colIndex.length < win.wm) this.colIndex = new Int32Array(win.wm);
+    if (this.rowIndex.length < win.wn) this.rowIndex = new Int32Array(win.wn);
+    for (let i = 0; i < win.wm; i++) this.colIndex[i] = (((win.m0 + i) % nx) + nx) % nx;
+    for (let j = 0; j < win.wn; j++) this.rowIndex[j] = (((win.n0 + j) % ny) + ny) % ny;
+  }
+
+  /** Copy the window's cells out of a periodic FFT-grid power array. */
+  private gather(win: PowerWindow, src: Float64Array): void {
+    const { nx } = this;
+    this.wrapIndex(win);
     const col = this.colIndex;
-    for (let i = 0; i < win.wm; i++) col[i] = (((win.m0 + i) % nx) + nx) % nx;
     for (let j = 0; j < win.wn; j++) {
-      const rowOff = ((((win.n0 + j) % ny) + ny) % ny) * nx;
+      const rowOff = this.rowIndex[j]! * nx;
       const o = j * win.wm;
       for (let i = 0; i < win.wm; i++) win.p[o + i] = src[rowOff + col[i]!]!;
     }
@@ -280,7 +311,9 @@ export class PatternGrid {
     this.frame(u0, v0, win);
     const el = this.plan.elements;
     if (this.mode === "fft") {
-      this.gather(win, this.fft!.run(this.cell!, wr, wi));
+      // the column pass writes |·|² straight into the window (no whole-grid power array)
+      this.wrapIndex(win);
+      this.fft!.runWindow(this.cell!, wr, wi, this.colIndex, this.rowIndex, win.wm, win.wn, win.p);
       return;
     }
     const n = el.count;

@@ -23,14 +23,32 @@ import type { AfEvaluator } from "./evaluator.js";
 
 export interface HorizonTrace {
   n: number;
+  /** horizonMax's scratch: which samples lie in the main lobe */
+  main: Uint8Array;
   du: Float64Array;
   dv: Float64Array;
+  /**
+   * α of each sample: with `lazyAlpha` (lattice traces) α = atan2(av, au) of the sample's
+   * absolute (u, v), taken only where horizonMax needs it; otherwise in `alpha`.
+   */
   alpha: Float64Array;
+  lazyAlpha: boolean;
+  au: Float64Array;
+  av: Float64Array;
   p: Float64Array;
 }
 
 export function allocTrace(cap = 256): HorizonTrace {
-  return { n: 0, du: new Float64Array(cap), dv: new Float64Array(cap), alpha: new Float64Array(cap), p: new Float64Array(cap) };
+  const f = () => new Float64Array(cap);
+  return { n: 0, main: new Uint8Array(cap), du: f(), dv: f(), alpha: f(), lazyAlpha: false, au: f(), av: f(), p: f() };
+}
+
+/** Room for `cap` samples (contents not kept). */
+function reserve(t: HorizonTrace, cap: number): void {
+  if (t.p.length >= cap) return;
+  const f = () => new Float64Array(cap);
+  t.main = new Uint8Array(cap);
+  t.du = f(); t.dv = f(); t.alpha = f(); t.au = f(); t.av = f(); t.p = f();
 }
 
 function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number): void {
@@ -39,6 +57,8 @@ function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number)
     t.du = grow(t.du);
     t.dv = grow(t.dv);
     t.alpha = grow(t.alpha);
+    t.au = grow(t.au);
+    t.av = grow(t.av);
     t.p = grow(t.p);
   }
   t.du[t.n] = du;
@@ -46,6 +66,11 @@ function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number)
   t.alpha[t.n] = alpha;
   t.p[t.n] = p;
   t.n++;
+}
+
+/** α of sample i. */
+function alphaOf(t: HorizonTrace, i: number): number {
+  return t.lazyAlpha ? Math.atan2(t.av[i]!, t.au[i]!) : t.alpha[i]!;
 }
 
 /**
@@ -63,6 +88,8 @@ export interface LatticeSpectra {
   du: number;
   dv: number;
   R: Float64Array;
+  /** R by grid column: R_r(m) at 2·(rows·m + r) */
+  RT: Float64Array;
   C: Float64Array;
 }
 
@@ -84,37 +111,84 @@ function phasedSum(s: Float64Array, off: number, stride: number, n: number, thet
 /** Trace the horizon of beam (u0, v0) from a lattice's transforms, in increasing α (one turn from −π). */
 export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: HorizonTrace): void {
   out.n = 0;
-  const { nx, ny, du, dv, R, C } = s;
+  out.lazyAlpha = true;
+  const { nx, ny, du, dv, RT, C } = s;
   // rows where the circle runs across the rows (|v| < sa), columns elsewhere
   const sa = Math.sin(Math.atan(du / dv));
   const ca = Math.sqrt(1 - sa * sa);
-  const colAt = (m: number, v: number) => {
-    const mm = ((m % nx) + nx) % nx;
-    push(out, m * du, v - v0, Math.atan2(v, u0 + m * du), phasedSum(R, 2 * mm, 2 * nx, s.rows, s.kdy * (v - v0)));
-  };
-  const rowAt = (n: number, u: number) => {
-    const nn = ((n % ny) + ny) % ny;
-    push(out, u - u0, n * dv, Math.atan2(v0 + n * dv, u), phasedSum(C, 2 * nn, 2 * ny, s.cols, s.kpx * (u - u0)));
-  };
   const mLo = Math.ceil((-ca - u0) / du), mHi = Math.floor((ca - u0) / du);
   const nLo = Math.ceil((-sa - v0) / dv), nHi = Math.floor((sa - v0) / dv);
-  const vis = (x: number) => Math.sqrt(Math.max(0, 1 - x * x));
+  reserve(out, 2 * Math.max(0, mHi - mLo + 1) + 2 * Math.max(0, nHi - nLo + 1));
+  const { du: tu, dv: tv, au, av, p } = out;
+  let k = 0;
+  // a sample at grid column m, v on the circle (u = u0 + m·du)
+  const col = (m: number, u: number, v: number) => {
+    const mm = ((m % nx) + nx) % nx;
+    tu[k] = m * du; tv[k] = v - v0; au[k] = u; av[k] = v;
+    p[k++] = phasedSum(RT, 2 * s.rows * mm, 2, s.rows, s.kdy * (v - v0));
+  };
+  // a sample at grid row n, u on the circle (v = v0 + n·dv)
+  const row = (n: number, u: number, v: number) => {
+    const nn = ((n % ny) + ny) % ny;
+    tu[k] = u - u0; tv[k] = n * dv; au[k] = u; av[k] = v;
+    p[k++] = phasedSum(C, 2 * nn, 2 * ny, s.cols, s.kpx * (u - u0));
+  };
   // one turn in increasing α, starting at the bottom arc (α ≈ −3π/4); the left arc crosses α = ±π
-  for (let m = mLo; m <= mHi; m++) { const u = u0 + m * du; if (Math.abs(u) <= ca) colAt(m, -vis(u)); } // bottom, α ∈ [−3π/4, −π/4]
-  for (let n = nLo; n <= nHi; n++) { const v = v0 + n * dv; if (Math.abs(v) < sa) rowAt(n, vis(v)); } // right
-  for (let m = mHi; m >= mLo; m--) { const u = u0 + m * du; if (Math.abs(u) <= ca) colAt(m, vis(u)); } // top
-  for (let n = nHi; n >= nLo; n--) { const v = v0 + n * dv; if (Math.abs(v) < sa) rowAt(n, -vis(v)); } // left
+  for (let m = mLo; m <= mHi; m++) { const u = u0 + m * du; if (Math.abs(u) <= ca) col(m, u, -Math.sqrt(Math.max(0, 1 - u * u))); } // bottom, α ∈ [−3π/4, −π/4]
+  for (let n = nLo; n <= nHi; n++) { const v = v0 + n * dv; if (Math.abs(v) < sa) row(n, Math.sqrt(Math.max(0, 1 - v * v)), v); } // right
+  for (let m = mHi; m >= mLo; m--) { const u = u0 + m * du; if (Math.abs(u) <= ca) col(m, u, Math.sqrt(Math.max(0, 1 - u * u))); } // top
+  for (let n = nHi; n >= nLo; n--) { const v = v0 + n * dv; if (Math.abs(v) < sa) row(n, -Math.sqrt(Math.max(0, 1 - v * v)), v); } // left
+  out.n = k;
 }
 
 /** Trace the horizon with the exact evaluator at equal steps of α no larger than `step` (radians). */
 export function traceExact(ev: AfEvaluator, u0: number, v0: number, step: number, out: HorizonTrace): void {
   out.n = 0;
+  out.lazyAlpha = false;
   const n = Math.max(16, Math.ceil((2 * Math.PI) / step));
   for (let i = 0; i < n; i++) {
     const a = -Math.PI + (2 * Math.PI * i) / n;
     const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
     push(out, du, dv, a, ev.power(du, dv));
   }
+}
+
+/**
+ * The peak value along the horizon near α (within [lo, hi]) that the quadratic model of
+ * |F|²(cos α − u0, sin α − v0) at α predicts; Infinity when the model has no maximum
+ * or its vertex falls outside [lo, hi].
+ */
+export function alongCirclePeak(ev: AfEvaluator, a: number, u0: number, v0: number, lo: number, hi: number): number {
+  const c = Math.cos(a), s = Math.sin(a);
+  const d = ev.derivs(c - u0, s - v0);
+  // u = cos α, v = sin α: u' = −s, v' = c, u'' = −c, v'' = −s
+  const pa = -s * d.pu + c * d.pv;
+  const paa = s * s * d.puu - 2 * s * c * d.puv + c * c * d.pvv - c * d.pu - s * d.pv;
+  if (!(paa < 0)) return Infinity;
+  const step = -pa / paa;
+  if (!(a + step >= lo && a + step <= hi)) return Infinity;
+  const v = d.p - (pa * pa) / (2 * paa);
+  return Number.isFinite(v) ? v : Infinity;
+}
+
+/**
+ * The main lobe as horizonMax sees it: offset (Δu, Δv) is in it when cell
+ * (round(Δu/du) − m0, round(Δv/dv) − n0) of the w × h `mask` is 1; off the mask, `outside`.
+ */
+export interface MainLobeMap {
+  mask: Uint8Array;
+  m0: number;
+  n0: number;
+  w: number;
+  h: number;
+  du: number;
+  dv: number;
+  outside: boolean;
+}
+
+export function inMain(l: MainLobeMap, du: number, dv: number): boolean {
+  const ra = Math.round(du / l.du) - l.m0, rb = Math.round(dv / l.dv) - l.n0;
+  return ra >= 0 && rb >= 0 && ra < l.w && rb < l.h ? l.mask[rb * l.w + ra] === 1 : l.outside;
 }
 
 export interface HorizonMax {
@@ -136,8 +210,13 @@ export const HORIZON_REFINE_WITHIN = 0.794;
  * (main-lobe samples excluded) within HORIZON_REFINE_WITHIN of max(best sample, `floor`)
  * are refined by golden-section search in α between their neighbours. Returns p = NaN
  * when every sample is in the main lobe.
+ *
+ * `skipBelow` (the caller's best interior value over its QUAD_MARGIN, lobes.ts): a
+ * maximum whose peak along the circle, as the quadratic model at its sample predicts
+ * (one exact evaluation of value, gradient and Hessian), stays below it cannot win, and
+ * is not searched; its sample still counts. NaN: every maximum is searched.
  */
-export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: number, isMain: (du: number, dv: number) => boolean, floor: number, out: HorizonMax): HorizonMax {
+export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: number, lobe: MainLobeMap, floor: number, out: HorizonMax, skipBelow = NaN): HorizonMax {
   out.p = NaN;
   out.du = NaN;
   out.dv = NaN;
@@ -147,11 +226,16 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     const k = ((i % n) + n) % n;
     return t.p[k]!;
   };
-  const main = new Uint8Array(n);
+  if (t.main.length < n) t.main = new Uint8Array(t.p.length);
+  const main = t.main;
   let best = 0;
+  const { mask, m0, n0, w, h, du: cu, dv: cv, outside } = lobe;
   for (let i = 0; i < n; i++) {
-    main[i] = isMain(t.du[i]!, t.dv[i]!) ? 1 : 0;
-    if (!main[i] && t.p[i]! > best) best = t.p[i]!;
+    // inMain(lobe, Δu, Δv), written out (no call per sample)
+    const ra = Math.round(t.du[i]! / cu) - m0, rb = Math.round(t.dv[i]! / cv) - n0;
+    const inside = ra >= 0 && rb >= 0 && ra < w && rb < h ? mask[rb * w + ra] === 1 : outside;
+    main[i] = inside ? 1 : 0;
+    if (!inside && t.p[i]! > best) best = t.p[i]!;
   }
   const bar = HORIZON_REFINE_WITHIN * Math.max(best, Number.isFinite(floor) ? floor : 0);
   const at = (a: number) => ev.power(Math.cos(a) - u0, Math.sin(a) - v0);
@@ -164,13 +248,14 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     const l = (i - 1 + n) % n, r = (i + 1) % n;
     if ((!main[l] && val(l) > pi) || (!main[r] && val(r) > pi)) continue;
     // bracket [α_l, α_r] around α_i (unwrapped)
-    const ai = t.alpha[i]!;
-    let lo = t.alpha[l]!, hi = t.alpha[r]!;
+    const ai = alphaOf(t, i);
+    let lo = alphaOf(t, l), hi = alphaOf(t, r);
     while (lo > ai) lo -= 2 * Math.PI;
     while (lo < ai - Math.PI) lo += 2 * Math.PI;
     while (hi < ai) hi += 2 * Math.PI;
     while (hi > ai + Math.PI) hi -= 2 * Math.PI;
     let bp = pi, ba = ai;
+    if (skipBelow > 0 && alongCirclePeak(ev, ai, u0, v0, lo, hi) < skipBelow) continue;
     let x1 = hi - g * (hi - lo), x2 = lo + g * (hi - lo);
     let f1 = at(x1), f2 = at(x2);
     const tol = 1e-4 * (hi - lo); // the value is then within ~1e-8 (relative) of the maximum
@@ -183,7 +268,7 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     if (pa > bp) {
       const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
       // the search must not have climbed into the main lobe
-      if (!isMain(du, dv)) { bp = pa; ba = a; }
+      if (!inMain(lobe, du, dv)) { bp = pa; ba = a; }
     }
     if (bp > out.p) { out.p = bp; out.du = Math.cos(ba) - u0; out.dv = Math.sin(ba) - v0; }
   }

@@ -10,8 +10,8 @@
  * below the best visible one found, as in LobeFinder (4× oversampling scallops < 0.45 dB).
  */
 import type { AfEvaluator } from "./evaluator.js";
-import { floodMainLobe, hillClimb, refine } from "./lobes.js";
-import { allocTrace, horizonMax, traceLattice, type HorizonMax, type LatticeSpectra } from "./horizon.js";
+import { floodMainLobe, hillClimb, QUAD_MARGIN, refine } from "./lobes.js";
+import { allocTrace, horizonMax, traceLattice, type HorizonMax, type LatticeSpectra, type MainLobeMap } from "./horizon.js";
 
 const REFINE_WITHIN = 0.794;
 
@@ -30,6 +30,9 @@ export class IdealLobes {
   readonly peakPower: number;
   private readonly trace = allocTrace();
   private readonly hz: HorizonMax = { p: NaN, du: NaN, dv: NaN };
+  /** lobes.ts QUAD_MARGIN for the horizon search; Infinity searches every maximum (the tests compare both) */
+  quadMargin = QUAD_MARGIN;
+  private lobe: MainLobeMap | null = null;
 
   constructor(periodic: Float64Array, nx: number, ny: number, private readonly du: number, private readonly dv: number, private readonly ev: AfEvaluator, private readonly spectra: LatticeSpectra) {
     this.M = Math.ceil(2 / du) + 2;
@@ -108,10 +111,9 @@ export class IdealLobes {
     }
     // the horizon, traced and searched along the circle (horizon.ts)
     traceLattice(this.spectra, u0, v0, this.trace);
-    const h = horizonMax(this.trace, this.ev, u0, v0, (x, y) => {
-      const ra = Math.round(x / du) + M, rb = Math.round(y / dv) + N;
-      return ra < 0 || rb < 0 || ra >= W || rb >= this.H || main[rb * W + ra] === 1;
-    }, Number.isNaN(best) ? 0 : best, this.hz);
+    // the main lobe: the unwrapped grid's flood; off that grid counts as main lobe
+    this.lobe ??= { mask: main, m0: -M, n0: -N, w: W, h: this.H, du, dv, outside: true };
+    const h = horizonMax(this.trace, this.ev, u0, v0, this.lobe, Number.isNaN(best) ? 0 : best, this.hz, best / this.quadMargin);
     if (h.p > best || (Number.isNaN(best) && h.p >= 0)) best = h.p;
     return best;
   }

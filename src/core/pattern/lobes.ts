@@ -11,9 +11,9 @@
  *   and searched on its own (horizon.ts), so a lobe cut off by the horizon is never
  *   missed for want of a grid cell near it.
  */
-import type { AfEvaluator } from "./evaluator.js";
+import type { AfEvaluator, PowerDerivs } from "./evaluator.js";
 import type { PowerWindow } from "./grid.js";
-import { horizonMax, type HorizonMax, type HorizonTrace } from "./horizon.js";
+import { horizonMax, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
 
 export interface LobeResult {
   peakDu: number;
@@ -75,11 +75,57 @@ const CANDIDATES = 6;
  * (0.22 dB per axis) below its true peak, so 1 dB (×0.794) keeps every lobe that can win.
  */
 const REFINE_WITHIN = 0.794;
+/**
+ * A contender is refined only while its predicted peak times this factor (0.086 dB) can
+ * still reach the best refined value. The prediction is the vertex of the quadratic
+ * model (exact value, gradient and Hessian) at the contender's start, which lies within
+ * about a tenth of a cell of the peak after the parabolic fit; Newton's later steps
+ * then only change the value by third-order terms. Measured on the 16² to 64² ladder
+ * (7 600 contenders): the refined peak never exceeded the prediction by more than
+ * 0.0004 dB, so the margin is ~200× what was needed. A start whose Newton step is longer
+ * than half a cell, or where the model has no maximum, is always refined.
+ */
+export const QUAD_MARGIN = 1.02;
+
+/**
+ * The peak value the quadratic model of |F|² at a point predicts (value, gradient,
+ * Hessian in `d`; cells du × dv); Infinity when the model has no maximum or its vertex
+ * is more than half a cell away (then only a full refinement can tell).
+ */
+export function quadraticPeak(ev: AfEvaluator, d: PowerDerivs, du: number, dv: number): number {
+  let v: number;
+  if (ev.lockU || ev.lockV) {
+    if (ev.lockU && ev.lockV) return d.p;
+    const g = ev.lockV ? d.pu : d.pv, h = ev.lockV ? d.puu : d.pvv, c = ev.lockV ? du : dv;
+    if (!(h < 0) || Math.abs(g / h) > 0.5 * c) return Infinity;
+    v = d.p - (g * g) / (2 * h);
+  } else {
+    const det = d.puu * d.pvv - d.puv * d.puv;
+    if (!(d.puu < 0 && det > 0)) return Infinity;
+    const su = -(d.pvv * d.pu - d.puv * d.pv) / det;
+    const sv = -(-d.puv * d.pu + d.puu * d.pv) / det;
+    if (Math.hypot(su / du, sv / dv) > 0.5) return Infinity;
+    v = d.p + 0.5 * (d.pu * su + d.pv * sv);
+  }
+  return Number.isFinite(v) ? v : Infinity;
+}
 
 export class LobeFinder {
   private mask: Uint8Array;
   private stack: Int32Array;
+  /** per contender: start (Δu, Δv) and the exact p, pu, pv, puu, pvv, puv there */
+  private readonly cand = new Int32Array(CANDIDATES);
+  private readonly candP = new Float64Array(CANDIDATES);
+  private readonly st = new Float64Array(8 * CANDIDATES);
+  private readonly pred = new Float64Array(CANDIDATES);
+  private readonly ord = new Int32Array(CANDIDATES);
+  private readonly off = new Float64Array(2);
+  private readonly d0: PowerDerivs = { p: 0, pu: 0, pv: 0, puu: 0, pvv: 0, puv: 0 };
+  /** QUAD_MARGIN; Infinity refines every contender (the tests compare both) */
+  quadMargin = QUAD_MARGIN;
   private readonly hz: HorizonMax = { p: NaN, du: NaN, dv: NaN };
+  /** the main lobe for horizonMax: the window's mask; off the window is not main lobe */
+  private readonly lobe: MainLobeMap = { mask: new Uint8Array(0), m0: 0, n0: 0, w: 0, h: 0, du: 1, dv: 1, outside: false };
   constructor(cap: number) {
     this.mask = new Uint8Array(cap);
     this.stack = new Int32Array(cap);
@@ -110,13 +156,16 @@ export class LobeFinder {
     const mask = this.mask;
     floodMainLobe(p, wm, wn, top, mask, this.stack);
     // 4. sidelobe candidates: local maxima of visible cells outside the main lobe
-    const cand: number[] = [];
-    const candP: number[] = [];
+    const { cand, candP } = this;
+    let nc = 0;
+    // once CANDIDATES are held, a cell not above the smallest of them cannot enter
+    let floorP = -Infinity;
     for (let b = 0; b < wn; b++)
       for (let a = 0; a < wm; a++) {
         const q = b * wm + a;
         if (!visible[q] || mask[q]) continue;
         const pq = p[q]!;
+        if (nc === CANDIDATES && !(pq > floorP)) continue;
         // cheap rejection by the horizontal neighbours first (most cells fail here)
         if (a > 0 && p[q - 1]! > pq && visible[q - 1] && !mask[q - 1]) continue;
         if (a + 1 < wm && p[q + 1]! > pq && visible[q + 1] && !mask[q + 1]) continue;
@@ -133,25 +182,50 @@ export class LobeFinder {
         }
         if (!isMax) continue;
         // keep the CANDIDATES largest
-        if (cand.length < CANDIDATES) { cand.push(q); candP.push(pq); }
+        if (nc < CANDIDATES) { cand[nc] = q; candP[nc] = pq; nc++; }
         else {
           let lo = 0;
-          for (let k = 1; k < cand.length; k++) if (candP[k]! < candP[lo]!) lo = k;
+          for (let k = 1; k < nc; k++) if (candP[k]! < candP[lo]!) lo = k;
           if (pq > candP[lo]!) { cand[lo] = q; candP[lo] = pq; }
         }
+        if (nc === CANDIDATES) { floorP = candP[0]!; for (let k = 1; k < nc; k++) if (candP[k]! < floorP) floorP = candP[k]!; }
       }
     let sl = NaN, sdu = NaN, sdv = NaN;
     let bestGrid = 0;
-    for (const v of candP) bestGrid = Math.max(bestGrid, v);
-    for (let k = 0; k < cand.length; k++) {
-      const q = cand[k]!;
+    for (let k = 0; k < nc; k++) bestGrid = Math.max(bestGrid, candP[k]!);
+    // 4b. one exact evaluation (value, gradient, Hessian) at each contender's start
+    // predicts its peak (the vertex of the quadratic model there); contenders are refined
+    // in decreasing prediction and one whose prediction (with QUAD_MARGIN) cannot reach
+    // the best refined value so far is not refined further
+    const { st, pred, ord } = this;
+    for (let k = 0; k < nc; k++) {
+      pred[k] = -1;
       if (candP[k]! < REFINE_WITHIN * bestGrid) continue;
+      const q = cand[k]!;
       const a = q % wm;
       const b = (q - a) / wm;
-      const [oa, ob] = parabolic(p, wm, wn, a, b);
-      let su = (win.m0 + a + oa) * du, sv = (win.n0 + b + ob) * dv;
+      parabolic(p, wm, wn, a, b, this.off);
+      let su = (win.m0 + a + this.off[0]!) * du, sv = (win.n0 + b + this.off[1]!) * dv;
       if ((u0 + su) ** 2 + (v0 + sv) ** 2 > 1) { su = (win.m0 + a) * du; sv = (win.n0 + b) * dv; }
-      const r = refine(ev, su, sv, du, dv, { u0, v0 });
+      const d = ev.derivs(su, sv);
+      const o = 8 * k;
+      st[o] = su; st[o + 1] = sv;
+      st[o + 2] = d.p; st[o + 3] = d.pu; st[o + 4] = d.pv; st[o + 5] = d.puu; st[o + 6] = d.pvv; st[o + 7] = d.puv;
+      pred[k] = Math.max(quadraticPeak(ev, d, du, dv), candP[k]!);
+    }
+    for (let k = 0; k < nc; k++) ord[k] = k;
+    for (let x = 1; x < nc; x++) for (let y = x; y > 0 && pred[ord[y]!]! > pred[ord[y - 1]!]!; y--) { const t = ord[y]!; ord[y] = ord[y - 1]!; ord[y - 1] = t; }
+    for (let x = 0; x < nc; x++) {
+      const k = ord[x]!;
+      if (pred[k]! < 0) continue;
+      if (pred[k]! * this.quadMargin < sl) continue;
+      const q = cand[k]!;
+      const a = q % wm;
+      const b = (q - a) / wm;
+      const o = 8 * k;
+      const d0 = this.d0;
+      d0.p = st[o + 2]!; d0.pu = st[o + 3]!; d0.pv = st[o + 4]!; d0.puu = st[o + 5]!; d0.pvv = st[o + 6]!; d0.puv = st[o + 7]!;
+      const r = refine(ev, st[o]!, st[o + 1]!, du, dv, { u0, v0 }, d0);
       // the refined point must stay outside the main lobe; otherwise keep the grid value
       const ra = Math.round(r.du / du) - win.m0;
       const rb = Math.round(r.dv / dv) - win.n0;
@@ -161,10 +235,9 @@ export class LobeFinder {
       if (!(val <= sl)) { sl = val; sdu = vu; sdv = vv; }
     }
     // 5. the horizon, searched along the circle
-    const h = horizonMax(trace, ev, u0, v0, (a, b) => {
-      const ra = Math.round(a / du) - win.m0, rb = Math.round(b / dv) - win.n0;
-      return ra >= 0 && rb >= 0 && ra < wm && rb < wn && mask[rb * wm + ra] === 1;
-    }, bestGrid, this.hz);
+    const lobe = this.lobe;
+    lobe.mask = mask; lobe.m0 = win.m0; lobe.n0 = win.n0; lobe.w = wm; lobe.h = wn; lobe.du = du; lobe.dv = dv;
+    const h = horizonMax(trace, ev, u0, v0, lobe, bestGrid, this.hz, sl / this.quadMargin);
     if (h.p > sl || (Number.isNaN(sl) && h.p >= 0)) { sl = h.p; sdu = h.du; sdv = h.dv; }
     return { peakDu: pk.du, peakDv: pk.dv, peakPower: pk.p, sidelobePower: sl, sidelobeDu: sdu, sidelobeDv: sdv };
   }
@@ -218,10 +291,12 @@ function parabolaOffset(l: number, c: number, r: number): number {
 }
 
 /** Sub-cell offset of a grid maximum from a parabola through log|AF|² of its neighbours (±½ cell). */
-export function parabolic(p: Float64Array, wm: number, wn: number, a: number, b: number): [number, number] {
+export function parabolic(p: Float64Array, wm: number, wn: number, a: number, b: number, out: Float64Array | [number, number] = [0, 0]): [number, number] {
   const at = (x: number, y: number) => (x < 0 || y < 0 || x >= wm || y >= wn ? NaN : Math.log(p[y * wm + x]! + 1e-300));
   const c = at(a, b);
-  return [parabolaOffset(at(a - 1, b), c, at(a + 1, b)), parabolaOffset(at(a, b - 1), c, at(a, b + 1))];
+  out[0] = parabolaOffset(at(a - 1, b), c, at(a + 1, b));
+  out[1] = parabolaOffset(at(a, b - 1), c, at(a, b + 1));
+  return out as [number, number];
 }
 
 /** The point of the horizon radially outward of Δ (locked arrays: along the free coordinate only). */
@@ -248,7 +323,7 @@ function ontoDisc(ev: AfEvaluator, disc: { u0: number; v0: number }, du: number,
  * With `disc`, the point is kept in visible space: a maximum past the horizon is
  * replaced by the maximum along the horizon circle near it (golden-section search).
  */
-export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv: number, disc: { u0: number; v0: number } | null): Refined {
+export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv: number, disc: { u0: number; v0: number } | null, start: PowerDerivs | null = null): Refined {
   let du = du0, dv = dv0;
   const inDisc = (a: number, b: number) => !disc || (disc.u0 + a) ** 2 + (disc.v0 + b) ** 2 <= 1;
   let hitEdge = false;
@@ -257,7 +332,8 @@ export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv
     hitEdge = true;
     [du, dv] = ontoDisc(ev, disc, du, dv);
   }
-  const d = { ...ev.derivs(du, dv) };
+  // `start`: the caller's ev.derivs(du0, dv0), used when the start was not moved
+  const d = { ...(start && !hitEdge ? start : ev.derivs(du, dv)) };
   let p = d.p;
   for (let it = 0; it < 40; it++) {
     const det = d.puu * d.pvv - d.puv * d.puv;
