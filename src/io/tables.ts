@@ -7,7 +7,7 @@ import { join } from "node:path";
 import { stringify } from "csv-stringify/sync";
 import type { BeamCodes } from "../core/quantize/contract.js";
 import type { OutputKind, Plan } from "../core/plan.js";
-import { AsciiBuffer, hexWord, num } from "./format.js";
+import { AsciiBuffer, hexWord, num, piece, putFixed, putHex, putMicros, putPiece, putUint, putUint4, type Piece } from "./format.js";
 import { HashedFile, type FileDigest } from "./hashed.js";
 
 /** Where a writer's bytes go: a file on disk (HashedFile) or, in `verify`, a comparison with the file already there. */
@@ -60,74 +60,173 @@ export function makeWriters(dir: string, ctx: TableContext, open: OpenSink = ope
 const LITTLE_ENDIAN = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 
 export function wordsToBytes(words: Uint32Array, bytes: number): Buffer {
-  const n = words.length;
-  if (LITTLE_ENDIAN && bytes !== 3) {
-    // typed-array copies narrow each word; on a little-endian host their bytes are the file's bytes
-    const view = bytes === 1 ? Uint8Array.from(words) : bytes === 2 ? Uint16Array.from(words) : words.slice();
-    return Buffer.from(view.buffer, view.byteOffset, view.byteLength);
+  return new WordBytes(bytes).of(words);
+}
+
+/**
+ * wordsToBytes into one reused buffer (a beam's bytes are consumed before the next beam):
+ * no allocation per beam. The view returned is valid until the next call.
+ */
+export class WordBytes {
+  private u8 = new Uint8Array(0);
+  private u16 = new Uint16Array(0);
+  private raw = Buffer.alloc(0);
+  constructor(private readonly bytes: number) {}
+  of(words: Uint32Array): Buffer {
+    const n = words.length;
+    const bytes = this.bytes;
+    if (LITTLE_ENDIAN && bytes === 4) return Buffer.from(words.buffer, words.byteOffset, words.byteLength);
+    if (LITTLE_ENDIAN && bytes === 1) {
+      // typed-array copies narrow each word (modulo 2^8 / 2^16); on a little-endian host their bytes are the file's bytes
+      if (this.u8.length !== n) this.u8 = new Uint8Array(n);
+      this.u8.set(words);
+      return Buffer.from(this.u8.buffer, 0, n);
+    }
+    if (LITTLE_ENDIAN && bytes === 2) {
+      if (this.u16.length !== n) this.u16 = new Uint16Array(n);
+      this.u16.set(words);
+      return Buffer.from(this.u16.buffer, 0, 2 * n);
+    }
+    if (this.raw.length !== n * bytes) this.raw = Buffer.allocUnsafe(n * bytes);
+    const buf = this.raw;
+    if (bytes === 1) for (let i = 0; i < n; i++) buf[i] = words[i]! & 255;
+    else if (bytes === 3)
+      for (let i = 0, o = 0; i < n; i++, o += 3) {
+        const w = words[i]!;
+        buf[o] = w & 255;
+        buf[o + 1] = (w >>> 8) & 255;
+        buf[o + 2] = (w >>> 16) & 255;
+      }
+    else if (bytes === 2) for (let i = 0; i < n; i++) buf.writeUInt16LE(words[i]! & 0xffff, 2 * i);
+    else for (let i = 0; i < n; i++) buf.writeUInt32LE(words[i]!, 4 * i);
+    return buf;
   }
-  const buf = Buffer.allocUnsafe(n * bytes);
-  if (bytes === 1) for (let i = 0; i < n; i++) buf[i] = words[i]!;
-  else if (bytes === 2) for (let i = 0; i < n; i++) buf.writeUInt16LE(words[i]!, 2 * i);
-  else if (bytes === 3) for (let i = 0; i < n; i++) buf.writeUIntLE(words[i]!, 3 * i, 3);
-  else for (let i = 0; i < n; i++) buf.writeUInt32LE(words[i]!, 4 * i);
-  return buf;
 }
 
 class BinWriter implements TableWriter {
   readonly file = TABLE_FILES.bin;
   private readonly f: ByteSink;
-  constructor(sink: ByteSink, private readonly ctx: TableContext) {
+  private readonly wb: WordBytes;
+  constructor(sink: ByteSink, ctx: TableContext) {
     this.f = sink;
+    this.wb = new WordBytes(ctx.plan.word.bytes);
   }
   beam(_fi: number, _b: number, words: Uint32Array): void {
-    this.f.write(wordsToBytes(words, this.ctx.plan.word.bytes));
+    this.f.writeTransient(this.wb.of(words));
   }
   end(): FileDigest {
     return this.f.close();
   }
 }
 
+/** Text writers hand their bytes to the sink once this much has gathered (whole beams: verify locates lines in them). */
+const BATCH = 1 << 19;
+function flushOut(f: ByteSink, o: AsciiBuffer): void {
+  if (o.pos) f.writeTransient(o.view());
+}
+
 class CodesCsvWriter implements TableWriter {
   readonly file = TABLE_FILES.csv;
   private readonly f: ByteSink;
-  constructor(sink: ByteSink, private readonly ctx: TableContext) {
+  /** "<frequency>," of each frequency */
+  private readonly freq: string[];
+  private readonly ids: IdText;
+  private readonly out = new AsciiBuffer(BATCH + (1 << 16));
+  constructor(sink: ByteSink, ctx: TableContext) {
     this.f = sink;
     this.f.write(stringify([["frequency_hz", "beam", "element", "phase_code", "atten_code", "word", "phase_deg", "atten_db"]]));
+    this.freq = ctx.frequencyText.map((t) => `${t},`);
+    const ids = ctx.plan.elements.ids;
+    const n = ids.length;
+    const t: IdText = { idLo: new Uint32Array(n), idHi: new Uint32Array(n), idLen: new Uint8Array(n), idLong: null };
+    for (let i = 0; i < n; i++) {
+      const x = piece(`${ids[i]},`);
+      t.idLen[i] = x.length;
+      if (x.length > 8) (t.idLong ??= new Array<Piece | null>(n).fill(null))[i] = x;
+      else {
+        t.idLo[i] = x.words[0]!;
+        t.idHi[i] = x.words[1] ?? 0;
+      }
+    }
+    this.ids = t;
   }
   /**
    * Every cell of a codes.csv row is a number we format ourselves (no separators,
-   * quotes or line breaks can occur), so rows are joined directly: csv-stringify
-   * costs ~2 µs a row, which dominated large builds. The header still goes through
-   * csv-stringify, and the tests read the file back with csv-parse.
+   * quotes or line breaks can occur), so rows are written straight into a byte buffer
+   * (digit tables, no strings per value): csv-stringify costs ~2 µs a row, which
+   * dominated large builds. The header still goes through csv-stringify; a test compares
+   * rows with csv-stringify's over random codes, and the build tests read the file back
+   * with csv-parse.
    */
-  private readonly out = new AsciiBuffer(1 << 16);
   beam(fi: number, b: number, words: Uint32Array, codes: BeamCodes): void {
-    const ids = this.ctx.plan.elements.ids;
-    const prefix = Buffer.from(`${this.ctx.frequencyText[fi]!},${b},`, "latin1");
+    const pre = piece(`${this.freq[fi]!}${b},`);
     const n = words.length;
     const o = this.out;
-    o.ensure(n * (prefix.length + 80));
-    for (let i = 0; i < n; i++) {
-      o.bytes(prefix);
-      o.uint(ids[i]!);
-      o.byte(44);
-      o.uint(codes.phaseCode[i]!);
-      o.byte(44);
-      o.uint(codes.attenCode[i]!);
-      o.byte(44);
-      o.uint(words[i]!);
-      o.byte(44);
-      o.fixed(codes.phaseDeg[i]!, 6);
-      o.byte(44);
-      o.fixed(codes.attenDb[i]!, 6);
-      o.byte(10);
-    }
-    this.f.writeTransient(o.view());
+    // a row: prefix, id, three integers ≤ 10 digits, two fixed-point numbers (toFixed text ≤ 30 bytes), separators
+    o.ensure(n * (pre.length + 112));
+    // the loop is a function of its own: V8 compiles a long loop on stack replacement, and code
+    // after the loop inside it (never run when that happened) would be deoptimised at every beam
+    o.pos = codesRows(o.dv, o.pos, pre, this.ids, words, codes);
+    if (o.pos >= BATCH) flushOut(this.f, o);
   }
   end(): FileDigest {
+    flushOut(this.f, this.out);
     return this.f.close();
   }
+}
+
+/** "<element id>," of each element: 8 bytes (two little-endian uint32s) and its length; longer ones (ids > 7 digits) in idLong */
+interface IdText {
+  idLo: Uint32Array;
+  idHi: Uint32Array;
+  idLen: Uint8Array;
+  idLong: (Piece | null)[] | null;
+}
+
+/** codes.csv rows of one beam at dv[p…]; returns the position after them. */
+function codesRows(dv: DataView, p: number, pre: Piece, ids: IdText, words: Uint32Array, codes: BeamCodes): number {
+  const { phaseCode, attenCode, phaseDeg, attenDb } = codes;
+  const { idLo, idHi, idLen, idLong } = ids;
+  const n = words.length;
+  const pw = pre.words;
+  const pl = pre.length;
+  const nw = pw.length;
+  for (let i = 0; i < n; i++) {
+    for (let k = 0; k < nw; k++) dv.setUint32(p + 4 * k, pw[k]!, true);
+    p += pl;
+    if (idLong !== null && idLong[i]) p = putPiece(dv, p, idLong[i]!);
+    else {
+      dv.setUint32(p, idLo[i]!, true);
+      dv.setUint32(p + 4, idHi[i]!, true);
+      p += idLen[i]!;
+    }
+    const pc = phaseCode[i]!;
+    p = pc < 10000 ? putUint4(dv, p, pc) : putUint(dv, p, pc);
+    dv.setUint8(p++, 44);
+    const ac = attenCode[i]!;
+    p = ac < 10000 ? putUint4(dv, p, ac) : putUint(dv, p, ac);
+    dv.setUint8(p++, 44);
+    p = putUint(dv, p, words[i]!);
+    dv.setUint8(p++, 44);
+    // putFixed6, its first lines inlined (see putMicros)
+    const x = phaseDeg[i]!;
+    const ax = Math.abs(x);
+    if (ax < 2147) {
+      const v = Math.round(ax * 1000000) | 0;
+      if (v !== 0 && x < 0) dv.setUint8(p++, 45);
+      p = putMicros(dv, p, v);
+    } else p = putFixed(dv, p, x, 6);
+    dv.setUint8(p++, 44);
+    const y = attenDb[i]!;
+    const ay = Math.abs(y);
+    if (ay < 2147) {
+      const v = Math.round(ay * 1000000) | 0;
+      if (v !== 0 && y < 0) dv.setUint8(p++, 45);
+      p = putMicros(dv, p, v);
+    } else p = putFixed(dv, p, y, 6);
+    dv.setUint8(p++, 10);
+  }
+  return p;
 }
 
 /** "1 frequency", "2 frequencies". */
@@ -149,19 +248,27 @@ class MemWriter implements TableWriter {
         `// address = (frequency * ${p.beams.count} + beam) * ${p.elements.count} + element\n`,
     );
   }
-  private readonly out = new AsciiBuffer(1 << 16);
+  private readonly out = new AsciiBuffer(BATCH + (1 << 16));
   beam(_fi: number, _b: number, words: Uint32Array): void {
     const o = this.out;
-    o.ensure(words.length * (this.digits + 1));
-    for (let i = 0; i < words.length; i++) {
-      o.hex(words[i]!, this.digits);
-      o.byte(10);
-    }
-    this.f.writeTransient(o.view());
+    const d = this.digits;
+    o.ensure(words.length * (d + 1));
+    o.pos = memLines(o.dv, o.pos, words, d);
+    if (o.pos >= BATCH) flushOut(this.f, o);
   }
   end(): FileDigest {
+    flushOut(this.f, this.out);
     return this.f.close();
   }
+}
+
+/** table.mem lines of one beam (a function of its own: see codesRows). */
+function memLines(dv: DataView, p: number, words: Uint32Array, d: number): number {
+  for (let i = 0; i < words.length; i++) {
+    p = putHex(dv, p, words[i]!, d);
+    dv.setUint8(p++, 10);
+  }
+  return p;
 }
 
 /**
@@ -169,8 +276,22 @@ class MemWriter implements TableWriter {
  * exactly one translation unit emits its definition (so the header compiles clean
  * with -Wall -pedantic in any number of files).
  */
-const INDENT = Buffer.from("      ");
-const NEXT_LINE = Buffer.from(",\n      ");
+const FIRST_WORD = piece("      0x");
+const NEXT_LINE = piece(",\n      0x");
+const NEXT_WORD = piece(", 0x").words[0]!;
+
+/** One beam's words, twelve a line: "      0x003F, 0x0101, …" (a function of its own: see codesRows). */
+function headerWords(dv: DataView, p: number, words: Uint32Array, d: number): number {
+  for (let i = 0, col = 0; i < words.length; i++, col++) {
+    if (col === 12) col = 0;
+    if (col) {
+      dv.setUint32(p, NEXT_WORD, true);
+      p += 4;
+    } else p = putPiece(dv, p, i ? NEXT_LINE : FIRST_WORD);
+    p = putHex(dv, p, words[i]!, d);
+  }
+  return p;
+}
 
 class CHeaderWriter implements TableWriter {
   readonly file = TABLE_FILES.c;
@@ -220,20 +341,12 @@ class CHeaderWriter implements TableWriter {
     if (this.lastB >= 0) s += ",\n";
     this.lastB = b;
     s += `    { /* beam ${b} */\n`;
-    // twelve words a line: "      0x003F, 0x0101, …"
     const o = this.out;
-    o.ensure(s.length + words.length * (this.digits + 6) + 16 * Math.ceil(words.length / 12));
+    const d = this.digits;
+    const n = words.length;
+    o.ensure(s.length + n * (d + 6) + 16 * Math.ceil(n / 12));
     o.ascii(s);
-    for (let i = 0; i < words.length; i++) {
-      if (i % 12 === 0) o.bytes(i ? NEXT_LINE : INDENT);
-      else {
-        o.byte(44);
-        o.byte(32);
-      }
-      o.byte(48);
-      o.byte(120);
-      o.hex(words[i]!, this.digits);
-    }
+    o.pos = headerWords(o.dv, o.pos, words, d);
     o.ascii("\n    }");
     this.f.writeTransient(o.view());
   }
@@ -249,11 +362,22 @@ class CHeaderWriter implements TableWriter {
   }
 }
 
+/** "\n[w,w,…": one beam's words as decimal text (String(w)) (a function of its own: see codesRows). */
+function jsonWords(dv: DataView, p: number, words: Uint32Array): number {
+  dv.setUint8(p, 10);
+  dv.setUint8(p + 1, 91);
+  p += 2;
+  for (let i = 0; i < words.length; i++) {
+    if (i) dv.setUint8(p++, 44);
+    p = putUint(dv, p, words[i]!);
+  }
+  return p;
+}
+
 class JsonWriter implements TableWriter {
   readonly file = TABLE_FILES.json;
   private readonly f: ByteSink;
   private lastF = -1;
-  private lastB = -1;
   constructor(sink: ByteSink, ctx: TableContext) {
     this.f = sink;
     const p = ctx.plan;
@@ -278,16 +402,17 @@ class JsonWriter implements TableWriter {
       `${beams.join(",\n")}\n],"elements":[\n${els.join(",\n")}\n],"format":"steercode-table/1","frequenciesHz":[${ctx.frequencyText.join(",")}],"layout":${layout},"words":[`,
     );
   }
+  private readonly out = new AsciiBuffer(1 << 16);
   beam(fi: number, _b: number, words: Uint32Array): void {
-    let s = "";
+    const o = this.out;
+    const n = words.length;
+    o.ensure(16 + 11 * n);
     if (fi !== this.lastF) {
-      s += this.lastF >= 0 ? "]],\n[" : "\n[";
+      o.ascii(this.lastF >= 0 ? "]],\n[" : "\n[");
       this.lastF = fi;
-      this.lastB = -1;
-    } else s += "],";
-    s += (this.lastB >= 0 ? "\n[" : "\n[") + Array.prototype.join.call(words, ",");
-    this.lastB = 1;
-    this.f.write(s);
+    } else o.ascii("],");
+    o.pos = jsonWords(o.dv, o.pos, words);
+    this.f.writeTransient(o.view());
   }
   end(): FileDigest {
     this.f.write(this.lastF >= 0 ? "]]\n]}\n" : "]}\n");
