@@ -18,7 +18,7 @@ import { createHash } from "node:crypto";
 import { crc32 } from "node:zlib";
 import { join } from "node:path";
 import { address, type DeviceInfo, type DeviceMap } from "../core/devices.js";
-import { AsciiBuffer } from "../io/format.js";
+import { AsciiBuffer, putHex } from "../io/format.js";
 import { HashedFile, type FileDigest } from "../io/hashed.js";
 
 export const DEVICES_DIR = "devices";
@@ -239,6 +239,7 @@ export class DeviceImageWriter {
       else this.flushSeq(s);
     }
     const chunk = Buffer.allocUnsafe(READ_CHUNK);
+    const withBin = formats.includes("bin");
     for (const s of this.sinks) {
       const id = s.dev.id;
       const mem = formats.includes("mem") ? new MemText(join(this.root, deviceFile(id, "mem")), this.ctx, s.dev) : null;
@@ -254,7 +255,7 @@ export class DeviceImageWriter {
           if (!got) break;
           const view = chunk.subarray(0, got);
           sha.update(view);
-          crc = crc32(view, crc);
+          if (withBin) crc = crc32(view, crc);
           mem?.bytes(view, this.wb);
           hex?.bytes(view, bytes);
           bytes += got;
@@ -263,7 +264,7 @@ export class DeviceImageWriter {
         closeSync(fd);
       }
       if (bytes !== s.dev.words * this.wb) throw new Error(`device ${id}: wrote ${bytes} bytes, expected ${s.dev.words * this.wb}`);
-      if (formats.includes("bin")) out[deviceFile(id, "bin")] = { bytes, sha256: sha.digest("hex"), crc32: crc >>> 0, withCrc: true };
+      if (withBin) out[deviceFile(id, "bin")] = { bytes, sha256: sha.digest("hex"), crc32: crc >>> 0, withCrc: true };
       else rmSync(s.path);
       if (mem) out[deviceFile(id, "mem")] = { ...mem.end(), withCrc: false };
       if (hex) out[deviceFile(id, "hex")] = { ...hex.end(), withCrc: false };
@@ -292,6 +293,44 @@ export function writeMapCsv(path: string, map: DeviceMap, elementIds: Int32Array
   return f.close();
 }
 
+/** m words of a .bin image (wb bytes each, little-endian, from byte `at` of view) as $readmemh lines. */
+function memFromBin(dv: DataView, p: number, view: Buffer, at: number, m: number, wb: number, digits: number): number {
+  for (let k = 0, a = at; k < m; k++, a += wb) {
+    let w = view[a]!;
+    if (wb > 1) w |= view[a + 1]! << 8;
+    if (wb > 2) w |= view[a + 2]! << 16;
+    if (wb > 3) w = (w | (view[a + 3]! << 24)) >>> 0;
+    p = putHex(dv, p, w, digits);
+    dv.setUint8(p++, 10);
+  }
+  return p;
+}
+
+/** One Intel HEX record: ':', length, address, type, data, checksum (two's complement of the byte sum), newline. */
+function hexRecord(dv: DataView, p: number, type: number, addr16: number, data: Buffer, from: number, len: number): number {
+  dv.setUint8(p, 58); // ':'
+  p = putHex(dv, p + 1, len, 2);
+  p = putHex(dv, p, addr16, 4);
+  p = putHex(dv, p, type, 2);
+  let sum = len + (addr16 >> 8) + (addr16 & 255) + type;
+  let i = 0;
+  for (; i + 1 < len; i += 2) {
+    // two data bytes, four hex digits, one table lookup
+    const a = data[from + i]!;
+    const b = data[from + i + 1]!;
+    p = putHex(dv, p, (a << 8) | b, 4);
+    sum += a + b;
+  }
+  if (i < len) {
+    const b = data[from + i]!;
+    p = putHex(dv, p, b, 2);
+    sum += b;
+  }
+  p = putHex(dv, p, (256 - (sum & 255)) & 255, 2);
+  dv.setUint8(p, 10);
+  return p + 1;
+}
+
 class MemText {
   private readonly f: HashedFile;
   private readonly out = new AsciiBuffer(1 << 16);
@@ -311,15 +350,7 @@ class MemText {
     for (let i = 0; i < n; i += 8192) {
       const m = Math.min(n - i, 8192);
       o.ensure(m * (this.digits + 1));
-      for (let k = 0; k < m; k++) {
-        const at = (i + k) * wb;
-        let w = view[at]!;
-        if (wb > 1) w |= view[at + 1]! << 8;
-        if (wb > 2) w |= view[at + 2]! << 16;
-        if (wb > 3) w = (w | (view[at + 3]! << 24)) >>> 0;
-        o.hex(w, this.digits);
-        o.byte(10);
-      }
+      o.pos = memFromBin(o.dv, o.pos, view, i * wb, m, wb, this.digits);
       this.f.writeTransient(o.view());
     }
   }
@@ -342,18 +373,7 @@ class HexText {
   }
   private record(type: number, addr16: number, data: Buffer, from: number, len: number): void {
     const o = this.out;
-    o.byte(58); // ':'
-    let sum = len + (addr16 >> 8) + (addr16 & 255) + type;
-    o.hex(len, 2);
-    o.hex(addr16, 4);
-    o.hex(type, 2);
-    for (let i = 0; i < len; i++) {
-      const b = data[from + i]!;
-      o.hex(b, 2);
-      sum += b;
-    }
-    o.hex((256 - (sum & 255)) & 255, 2);
-    o.byte(10);
+    o.pos = hexRecord(o.dv, o.pos, type, addr16, data, from, len);
   }
   /** `view` holds the image bytes starting at byte address `at` (a multiple of 16). */
   bytes(view: Buffer, at: number): void {

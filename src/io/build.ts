@@ -5,15 +5,14 @@
  */
 import { mkdirSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
-import { runTables, TableRun, type FrequencySummary } from "../core/engine.js";
+import { TableRun, type FrequencySummary } from "../core/engine.js";
 import { setImmediate as yieldNow } from "node:timers/promises";
 import { enabledCount, type Plan } from "../core/plan.js";
 import type { LoadedScenario, InputRole } from "./scenario.js";
 import { isSystemError, StagedDir, writeProblem } from "./outdir.js";
-import { makeWriters, openHashedFile, TABLE_FILES, wordsToBytes, type OpenSink } from "./tables.js";
+import { makeWriters, openHashedFile, TABLE_FILES, type OpenSink } from "./tables.js";
 import type { FileDigest } from "./hashed.js";
 import { toolVersion } from "./version.js";
-import { crc32 } from "node:zlib";
 import { D } from "../core/exact.js";
 import { stringify } from "csv-stringify/sync";
 import { METRIC_COLUMNS, METRICS } from "../core/pattern/analyze.js";
@@ -279,7 +278,8 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
     }
     for (const w of writers) {
       if (w === bin) continue;
-      if ("crc32OfBin" in w) (w as { crc32OfBin: number | null }).crc32OfBin = binCrc ?? crcOfWords(plan);
+      // table.h states table.bin's CRC-32 (without table.bin it has kept the CRC of the words itself)
+      if (binCrc !== null && "crc32OfBin" in w) (w as { crc32OfBin: number | null }).crc32OfBin = binCrc;
       const d = w.end();
       files[w.file] = { bytes: d.bytes, sha256: d.sha256 };
     }
@@ -348,16 +348,6 @@ export async function runBuild(loaded: LoadedScenario, outDir: string, opts: Bui
     if (isSystemError(e) && (!e.path || e.path.startsWith(stage.tmp))) throw writeProblem(e, outDir);
     throw e;
   }
-}
-
-/** CRC-32 of the table.bin bytes when table.bin itself is not an output (for table.h's #define). */
-export function crcOfWords(plan: Plan): number {
-  // Recompute the words stream; cheap next to writing text outputs.
-  let crc = 0;
-  runTables(plan, (_fi, _b, words) => {
-    crc = crc32(wordsToBytes(words, plan.word.bytes), crc);
-  });
-  return crc >>> 0;
 }
 
 export const BEAMS_COLUMNS = ["frequency_hz", "beam", "az_deg", "el_deg", "u", "v", ...METRIC_COLUMNS] as const;

@@ -4,11 +4,12 @@
  * memory stays flat as the beam count grows. Adding a format: see DEVELOPERS.md.
  */
 import { join } from "node:path";
+import { crc32 } from "node:zlib";
 import { stringify } from "csv-stringify/sync";
 import type { BeamCodes } from "../core/quantize/contract.js";
 import type { OutputKind, Plan } from "../core/plan.js";
 import { AsciiBuffer, hexWord, num, piece, putFixed, putHex, putMicros, putPiece, putUint, putUint4, type Piece } from "./format.js";
-import { HashedFile, type FileDigest } from "./hashed.js";
+import { HashedFile, type FileDigest, type HashOptions } from "./hashed.js";
 
 /** Where a writer's bytes go: a file on disk (HashedFile) or, in `verify`, a comparison with the file already there. */
 export interface ByteSink {
@@ -18,10 +19,10 @@ export interface ByteSink {
   close(): FileDigest;
 }
 
-/** Opens the sink for one output file (`file`: its name inside the folder). */
-export type OpenSink = (path: string, file: string) => ByteSink;
+/** Opens the sink for one output file (`file`: its name inside the folder; `opts.crc32`: its digest needs the CRC-32). */
+export type OpenSink = (path: string, file: string, opts?: HashOptions) => ByteSink;
 
-export const openHashedFile: OpenSink = (path) => new HashedFile(path);
+export const openHashedFile: OpenSink = (path, _file, opts) => new HashedFile(path, opts);
 
 export interface TableWriter {
   readonly file: string;
@@ -46,10 +47,11 @@ export const TABLE_FILES: Record<OutputKind, string> = {
 export function makeWriters(dir: string, ctx: TableContext, open: OpenSink = openHashedFile): TableWriter[] {
   const out: TableWriter[] = [];
   for (const k of ctx.plan.outputs) {
-    const sink = open(join(dir, TABLE_FILES[k]), TABLE_FILES[k]);
+    const sink = open(join(dir, TABLE_FILES[k]), TABLE_FILES[k], { crc32: k === "bin" });
     if (k === "csv") out.push(new CodesCsvWriter(sink, ctx));
     if (k === "bin") out.push(new BinWriter(sink, ctx));
-    if (k === "c") out.push(new CHeaderWriter(sink, ctx));
+    // without table.bin among the outputs, table.h keeps the CRC-32 of its bytes itself (no second pass over the tables)
+    if (k === "c") out.push(new CHeaderWriter(sink, ctx, !ctx.plan.outputs.includes("bin")));
     if (k === "mem") out.push(new MemWriter(sink, ctx));
     if (k === "json") out.push(new JsonWriter(sink, ctx));
   }
@@ -299,10 +301,11 @@ class CHeaderWriter implements TableWriter {
   private readonly digits: number;
   private lastF = -1;
   private lastB = -1;
-  constructor(sink: ByteSink, private readonly ctx: TableContext) {
+  constructor(sink: ByteSink, private readonly ctx: TableContext, ownCrc: boolean) {
     this.f = sink;
     const p = ctx.plan;
     this.digits = Math.ceil(p.word.bits / 4);
+    this.binBytes = ownCrc ? new WordBytes(p.word.bytes) : null;
     const ctype = p.word.bytes === 1 ? "uint8_t" : p.word.bytes === 2 ? "uint16_t" : "uint32_t";
     const dims = "[STEERCODE_FREQUENCIES][STEERCODE_BEAMS][STEERCODE_ELEMENTS]";
     this.f.write(
@@ -347,13 +350,20 @@ class CHeaderWriter implements TableWriter {
     o.ensure(s.length + n * (d + 6) + 16 * Math.ceil(n / 12));
     o.ascii(s);
     o.pos = headerWords(o.dv, o.pos, words, d);
+    if (this.binBytes) this.ownCrc = crc32(this.binBytes.of(words), this.ownCrc);
     o.ascii("\n    }");
     this.f.writeTransient(o.view());
   }
   private readonly out = new AsciiBuffer(1 << 16);
-  /** The CRC-32 of table.bin goes at the end: it is known only once every word is out. */
+  /**
+   * The CRC-32 of table.bin goes at the end: it is known only once every word is out.
+   * The build sets it from table.bin's digest; without table.bin the writer computes it.
+   */
   crc32OfBin: number | null = null;
+  private readonly binBytes: WordBytes | null;
+  private ownCrc = 0;
   end(): FileDigest {
+    if (this.binBytes) this.crc32OfBin = this.ownCrc >>> 0;
     let tail = this.lastF >= 0 ? "\n  }\n};\n#endif /* STEERCODE_TABLE_IMPLEMENTATION */\n\n" : "};\n#endif\n\n";
     tail += `/* CRC-32 (IEEE 802.3) of table.bin: the words above, little-endian, ${this.ctx.plan.word.bytes} byte(s) each */\n`;
     tail += `#define STEERCODE_TABLE_CRC32 0x${(this.crc32OfBin ?? 0).toString(16).toUpperCase().padStart(8, "0")}u\n\n#endif /* STEERCODE_TABLE_H */\n`;

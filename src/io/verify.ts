@@ -210,6 +210,7 @@ class ComparingSink implements ByteSink {
     entry: FolderEntry,
     private readonly cursor: BeamCursor,
     private readonly ctx: { shape: Shape; ft: string[]; ids: Int32Array | Uint32Array | number[]; digits: number },
+    private readonly withCrc = false,
   ) {
     if (entry.kind === "missing") this.missing = true;
     else {
@@ -225,7 +226,7 @@ class ComparingSink implements ByteSink {
   }
   private consume(buf: Buffer): void {
     this.hash.update(buf);
-    this.crc = crc32(buf, this.crc);
+    if (this.withCrc) this.crc = crc32(buf, this.crc);
     if (this.fd !== null && !this.mismatch) this.compare(buf);
     this.size += buf.length;
   }
@@ -440,8 +441,8 @@ export async function verifyBuild(dir: string, opts: VerifyOptions = {}): Promis
     digits: Math.ceil(plan.word.bits / 4),
   };
   const sinks = new Map<string, ComparingSink>();
-  const open: OpenSink = (_path, file) => {
-    const s = new ComparingSink(file, entries.get(file) ?? folderEntry(dir, file), cursor, ctx);
+  const open: OpenSink = (_path, file, o) => {
+    const s = new ComparingSink(file, entries.get(file) ?? folderEntry(dir, file), cursor, ctx, !!o?.crc32);
     sinks.set(file, s);
     return s;
   };
