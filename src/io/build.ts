@@ -364,6 +364,17 @@ export function beamsColumns(plan: Plan): string[] {
   return BEAMS_COLUMNS.filter((c) => c !== "scan_loss_db" || plan.element !== null);
 }
 
+/**
+ * beams.csv and squint.csv rows hold only numbers we format ourselves (exact decimal
+ * frequencies, integers, `fixed` text) or an empty cell: no separator, quote or line break
+ * can occur, so csv-stringify writes them unquoted, and joining the cells with "," and
+ * ending the row with "\n" gives the same bytes without its ~2 µs a row (a test compares
+ * both writers with csv-stringify's output over random values, NaN and -0 included).
+ * The headers still go through csv-stringify. Rows go out 256 at a time: memory does not
+ * grow with the beam count.
+ */
+const ROWS_A_WRITE = 256;
+
 /** beams.csv: one row per (frequency, beam). A metric that does not exist (no sidelobe in visible space) is an empty cell. */
 export function writeBeamsCsv(path: string, plan: Plan, ft: string[], metrics: Float64Array, optimized: Float64Array | null = null, open: OpenSink = openHashedFile): FileDigest {
   const f = open(path, "beams.csv");
@@ -406,24 +417,32 @@ export function writeSquintCsv(path: string, plan: Plan, ft: string[], squint: F
   const f = open(path, "squint.csv");
   f.write(stringify([SQUINT_COLUMNS as unknown as string[]]));
   const band = plan.band!;
-  const bt = band.frequenciesExact.map((x) => new D(x).toFixed());
+  const bt = band.frequenciesExact.map((x) => "," + new D(x).toFixed());
+  for (const t of [...ft, ...bt]) if (!/^,?[0-9.]+$/.test(t)) throw new Error(`frequency text ${t} would need quoting in squint.csv`);
   const nb = plan.beams.count;
   const nk = bt.length;
   const digits = [9, 9, 7, 5];
+  let text = "";
+  let rows = 0;
   for (let fi = 0; fi < ft.length; fi++)
     for (let b = 0; b < nb; b++) {
-      const rows: string[][] = [];
+      const head = ft[fi]! + "," + b;
       for (let k = 0; k < nk; k++) {
         const o = ((fi * nb + b) * nk + k) * SQUINT_METRICS;
-        const row = [ft[fi]!, String(b), bt[k]!];
+        let row = head + bt[k]!;
         for (let m = 0; m < SQUINT_METRICS; m++) {
-          const v = squint[o + m]!;
-          row.push(Number.isFinite(v) ? fixed(v, digits[m]!) : "");
+          const x = squint[o + m]!;
+          row += Number.isFinite(x) ? "," + fixed(x, digits[m]!) : ",";
         }
-        rows.push(row);
+        text += row + "\n";
+        if (++rows === ROWS_A_WRITE) {
+          f.write(text);
+          text = "";
+          rows = 0;
+        }
       }
-      f.write(stringify(rows));
     }
+  if (text) f.write(text);
   return f.close();
 }
 
