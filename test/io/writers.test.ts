@@ -17,7 +17,7 @@ import { METRICS } from "../../src/core/pattern/analyze.js";
 import { SQUINT_COLUMNS, SQUINT_METRICS } from "../../src/core/band.js";
 import { OPT, OPT_FIELDS } from "../../src/core/quantize/optimized.js";
 import { beamsColumns, OPTIMIZED_COLUMNS, writeBeamsCsv, writeSquintCsv } from "../../src/io/build.js";
-import { AsciiBuffer, fastFixed, fixed, putFixed, putFixed6, putHex, putUint, SLACK } from "../../src/io/format.js";
+import { AsciiBuffer, fastFixed, fixed, hexWord, putFixed, putFixed6, putHex, putUint, SLACK } from "../../src/io/format.js";
 import { HashedFile } from "../../src/io/hashed.js";
 import { makeWriters, type OpenSink } from "../../src/io/tables.js";
 import { tempDir } from "../helpers.js";
@@ -57,13 +57,13 @@ describe("number text (reference: String, toString(16), fastFixed)", () => {
     expect(bad).toEqual([]);
   });
 
-  it("putHex writes the low 4·d bits as d upper-case hex digits, d = 1 … 8 (derived: hexWord's definition)", () => {
+  it("putHex and hexWord write the low 4·d bits as d upper-case hex digits, d = 1 … 8 (derived: hexWord's definition)", () => {
     const bad: string[] = [];
     for (let i = 0; i < 20000; i++) {
       const d = 1 + (i % 8);
       const w = Math.floor(rnd() * 2 ** 32);
       const ref = (d === 8 ? w : w % 2 ** (4 * d)).toString(16).toUpperCase().padStart(d, "0");
-      if (text((dv, p) => putHex(dv, p, w, d)) !== ref) bad.push(`${w} ${d}`);
+      if (text((dv, p) => putHex(dv, p, w, d)) !== ref || hexWord(w, d) !== ref) bad.push(`${w} ${d}`);
     }
     expect(bad).toEqual([]);
   });
