@@ -9,19 +9,12 @@ import { spawnSync } from "node:child_process";
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { cpus, tmpdir } from "node:os";
 import { join } from "node:path";
-import { mulberry32 } from "../dist/core/quantize/randomized.js";
-
-import { ROOT, BIN, median } from "./common.js";
+import { ROOT, BIN, median, benchScenario, timeCmd } from "./common.js";
 const tmp = mkdtempSync(join(tmpdir(), "steercode-bench-opt-"));
 const RUNS = Number(process.env.BENCH_RUNS ?? 3);
 const jobs = cpus().length;
 
-function run(args) {
-  const t = performance.now();
-  const r = spawnSync(process.execPath, [BIN, ...args], { encoding: "utf8", maxBuffer: 1 << 26 });
-  if (r.status !== 0) throw new Error(`steercode ${args.join(" ")} failed: ${r.stderr}`);
-  return performance.now() - t;
-}
+const run = (args) => timeCmd(process.execPath, [BIN, ...args]).ms;
 
 function childBuild(s, out) {
   const r = spawnSync(process.execPath, [join(ROOT, "bench", "child-build.js"), s, out, "1", String(jobs)], { encoding: "utf8" });
@@ -36,33 +29,9 @@ function withQuantizer(src, dst, method) {
   return dst;
 }
 
-function lattice(name, side, beams, withCal) {
-  const dir = join(tmp, name);
-  spawnSync("mkdir", ["-p", dir]);
-  const doc = {
-    format: "steercode-scenario/1",
-    name: `bench ${name} (invented)`,
-    frequency: "28 GHz",
-    array: { lattice: { kind: "rectangular", columns: side, rows: side, dx: "0.5 lambda", dy: "0.5 lambda" } },
-    beams,
-    phaseShifter: { bits: 6 },
-    attenuator: { bits: 6, step: "0.5 dB" },
-    taper: { kind: "taylor", sidelobe: "-30 dB", nbar: 4 },
-    quantizer: { method: "optimized", objective: "psl", seed: 1 },
-    word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 6 }, { name: "atten", shift: 8, width: 6 }] },
-    outputs: ["csv", "bin", "c", "mem", "json"],
-  };
-  if (withCal) {
-    // the same invented calibration as bench/run.js's analysis scenario
-    const r = mulberry32(side * 7919);
-    const lines = ["# invented bench calibration", "element,phase_offset_deg,gain_offset_db"];
-    for (let i = 0; i < side * side; i++) lines.push(`${i},${(r() * 360 - 180).toFixed(2)},${((r() - 0.5) * 2).toFixed(3)}`);
-    writeFileSync(join(dir, "cal.csv"), lines.join("\n") + "\n");
-    doc.calibration = "cal.csv";
-  }
-  writeFileSync(join(dir, "scenario.json"), JSON.stringify(doc, null, 2));
-  return join(dir, "scenario.json");
-}
+/** The ladder's scenario (bench/common.js) with the optimized quantizer and all five formats. */
+const lattice = (name, side, beams, withCal) =>
+  benchScenario(tmp, name, side, beams, ["csv", "bin", "c", "mem", "json"], withCal, { quantizer: { method: "optimized", objective: "psl", seed: 1 } });
 
 const out = {};
 
