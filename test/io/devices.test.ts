@@ -453,30 +453,36 @@ describe("image readers stream in chunks", () => {
   });
 });
 
+/** A fresh channel-major device build (2 devices, padding filled with 7) and a table pass that counts its runs. */
+function channelMajorBuild() {
+  const t = tempDir();
+  const s = writeScenario(baseScenario({ calibration: "cal.csv", devices: { channels: 4, address: { beamStride: 1, channelStride: 10 }, fill: 7 } }), { "cal.csv": CAL }, join(t, "s"));
+  const dir = join(t, "b");
+  expect(cli(["build", s, "-o", dir, "--no-analysis"]).code).toBe(0);
+  const m = readManifest(dir);
+  const plan = loadBuildScenario(dir, m).plan;
+  const counter = { passes: 0 };
+  const words = {
+    name: "recomputed",
+    run: (sink: (blk: number, w: ArrayLike<number>) => void) => {
+      counter.passes++;
+      runTables(plan, (fi, b, w) => sink(fi * plan.beams.count + b, w), undefined, { commanded: false });
+    },
+  };
+  return { dir, m, plan, words, counter };
+}
+
 describe("verify's device check in batches, and device files as recorded", () => {
   // derived: the contract's address formula; every batch size must give the same verdict and the same first mismatch
   it("a tiny budget (one image per batch, one table pass each) finds the same flipped word as one batch", () => {
-    const t = tempDir();
-    const s = writeScenario(baseScenario({ calibration: "cal.csv", devices: { channels: 4, address: { beamStride: 1, channelStride: 10 }, fill: 7 } }), { "cal.csv": CAL }, join(t, "s"));
-    const dir = join(t, "b");
-    expect(cli(["build", s, "-o", dir, "--no-analysis"]).code).toBe(0);
-    const m = readManifest(dir);
-    const plan = loadBuildScenario(dir, m).plan;
-    let passes = 0;
-    const words = {
-      name: "recomputed",
-      run: (sink: (blk: number, w: ArrayLike<number>) => void) => {
-        passes++;
-        runTables(plan, (fi, b, w) => sink(fi * plan.beams.count + b, w), undefined, { commanded: false });
-      },
-    };
+    const { dir, m, plan, words, counter } = channelMajorBuild();
     const one = verifyDevices(dir, m, plan.devices, words);
-    expect(passes).toBe(1);
+    expect(counter.passes).toBe(1);
     expect(one.checks.every((c) => c.ok)).toBe(true);
-    passes = 0;
+    counter.passes = 0;
     const tiny = verifyDevices(dir, m, plan.devices, words, 1);
     // 2 devices × 3 formats, one image per batch
-    expect(passes).toBe(6);
+    expect(counter.passes).toBe(6);
     expect(tiny.checks).toEqual(one.checks);
     // device 1, channel-major: address 2·10 + 1 = 21 is block 1 (beam 1), channel 2 = element 6 (default order)
     const p = join(dir, "devices/dev-1.hex");
@@ -495,22 +501,16 @@ describe("verify's device check in batches, and device files as recorded", () =>
     // images streamed in windows of a few addresses (as a 4 GiB image is): the same verdicts, the same first mismatch
     const whole = verifyDevices(dir, m, plan.devices, words);
     for (const [budget, win] of [[1, 1], [4, 2], [10, 5], [1000, 7], [1000, 21], [1000, 22]] as const) {
-      passes = 0;
+      counter.passes = 0;
       const r = verifyDevices(dir, m, plan.devices, words, budget, win);
       expect(r.first).toEqual(whole.first);
       expect(r.checks).toEqual(whole.checks);
-      expect(passes).toBeGreaterThan(0);
+      expect(counter.passes).toBeGreaterThan(0);
     }
   });
 
   it("streamed windows: a file one word short, one word long, or with a record after the end record is named as before", () => {
-    const t = tempDir();
-    const s = writeScenario(baseScenario({ calibration: "cal.csv", devices: { channels: 4, address: { beamStride: 1, channelStride: 10 }, fill: 7 } }), { "cal.csv": CAL }, join(t, "s"));
-    const dir = join(t, "b");
-    expect(cli(["build", s, "-o", dir, "--no-analysis"]).code).toBe(0);
-    const m = readManifest(dir);
-    const plan = loadBuildScenario(dir, m).plan;
-    const words = { name: "recomputed", run: (sink: (blk: number, w: ArrayLike<number>) => void) => runTables(plan, (fi, b, w) => sink(fi * plan.beams.count + b, w), undefined, { commanded: false }) };
+    const { dir, m, plan, words } = channelMajorBuild();
     const bin = join(dir, "devices/dev-0.bin");
     const orig = readFileSync(bin);
     const n = orig.length / 2; // the image's words
