@@ -2,8 +2,8 @@ import { describe, expect, it } from "vitest";
 import { makeElementPattern, scanLossDb } from "../../src/core/element.js";
 import { BeamAnalyzer, METRICS, M } from "../../src/core/pattern/analyze.js";
 import { AfEvaluator } from "../../src/core/pattern/evaluator.js";
-import { allocBeamCodes, makeQuantizer, prepareFrequency } from "../../src/core/quantize/index.js";
-import { angleBetweenDeg, uvToW } from "../../src/core/geometry.js";
+import { allocBeamCodes, makeQuantizer } from "../../src/core/quantize/index.js";
+import { uvToW } from "../../src/core/geometry.js";
 import type { Plan } from "../../src/core/plan.js";
 import { SPEED_OF_LIGHT } from "../../src/core/units.js";
 import { mulberry32 } from "../../src/core/quantize/randomized.js";
@@ -169,97 +169,11 @@ describe("PSL with the element pattern against a brute-force direct sum", () => 
     const plan = L.plan;
     const out = analyseAll(plan);
     for (let b = 0; b < plan.beams.count; b++) {
-      const ref = bruteForce(plan, b, q);
+      // the shared brute force (pattern-ref.ts) with the element power cos^q θ = (1 − u² − v²)^(q/2) (derived)
+      const ref = bruteForceRef(plan, b, "realized", 0, 401, (u, v) => Math.pow(Math.max(0, 1 - u * u - v * v), q / 2));
       expect(Math.abs(out[b * METRICS + M.psl_db]! - ref.pslDb), `beam ${b} psl`).toBeLessThan(0.05);
       expect(Math.abs(out[b * METRICS + M.pointing_error_deg]! - ref.pointingDeg), `beam ${b} pointing`).toBeLessThan(0.001);
     }
   });
 });
 
-/**
- * Brute force, independent of the engine: realized weights from the channel-model
- * formula, total power |Σ w_n·exp(jk r_n·ŝ)|²·cos^q θ summed directly on a dense u-v
- * grid, main lobe by a monotone flood from the peak nearest the commanded direction,
- * then zoomed dense grids around the peak and the top sidelobe (no derivatives, no FFT).
- */
-function bruteForce(plan: Plan, b: number, q: number) {
-  const el = plan.elements;
-  const prep = prepareFrequency(plan, 0);
-  const quant = makeQuantizer(plan, 0, prep);
-  const codes = allocBeamCodes(el.count);
-  quant.beam(b, codes);
-  const k = (2 * Math.PI * plan.frequenciesHz[0]!) / SPEED_OF_LIGHT;
-  const lsb = 360 / 2 ** plan.phaseBits;
-  const wr: number[] = [], wi: number[] = [];
-  for (let i = 0; i < el.count; i++) {
-    const amp = Math.pow(10, (plan.cals[0]!.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20);
-    const ph = (plan.cals[0]!.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * DEG;
-    wr.push(amp * Math.cos(ph));
-    wi.push(amp * Math.sin(ph));
-  }
-  const P = (u: number, v: number) => {
-    const t = 1 - u * u - v * v;
-    if (t <= 0) return 0;
-    let re = 0, im = 0;
-    for (let i = 0; i < el.count; i++) {
-      const a = k * (el.x[i]! * u + el.y[i]! * v);
-      re += wr[i]! * Math.cos(a) - wi[i]! * Math.sin(a);
-      im += wr[i]! * Math.sin(a) + wi[i]! * Math.cos(a);
-    }
-    return (re * re + im * im) * Math.pow(t, q / 2);
-  };
-  const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!;
-  const G = 401;
-  const h = 2 / (G - 1);
-  const grid = new Float64Array(G * G);
-  for (let j = 0; j < G; j++) for (let i = 0; i < G; i++) grid[j * G + i] = P(-1 + i * h, -1 + j * h);
-  let ci = Math.round((u0 + 1) / h), cj = Math.round((v0 + 1) / h);
-  for (;;) {
-    let bi = ci, bj = cj;
-    for (let dj = -1; dj <= 1; dj++) for (let di = -1; di <= 1; di++) {
-      const a = ci + di, c = cj + dj;
-      if (a >= 0 && c >= 0 && a < G && c < G && grid[c * G + a]! > grid[bj * G + bi]!) { bi = a; bj = c; }
-    }
-    if (bi === ci && bj === cj) break;
-    ci = bi; cj = bj;
-  }
-  const main = new Uint8Array(G * G);
-  const stack = [cj * G + ci];
-  main[cj * G + ci] = 1;
-  while (stack.length) {
-    const c = stack.pop()!;
-    const x = c % G, y = (c - x) / G;
-    for (let dj = -1; dj <= 1; dj++) for (let di = -1; di <= 1; di++) {
-      const a = x + di, d = y + dj;
-      if (a < 0 || d < 0 || a >= G || d >= G) continue;
-      const qq = d * G + a;
-      if (!main[qq] && grid[qq]! <= grid[c]!) { main[qq] = 1; stack.push(qq); }
-    }
-  }
-  let si = -1, sv = -Infinity;
-  for (let j = 0; j < G; j++) for (let i = 0; i < G; i++) {
-    const u = -1 + i * h, v = -1 + j * h;
-    if (u * u + v * v <= 1 && !main[j * G + i] && grid[j * G + i]! > sv) { sv = grid[j * G + i]!; si = j * G + i; }
-  }
-  const zoom = (u: number, v: number, span: number) => {
-    let bu = u, bv = v, bp = P(u, v);
-    for (let level = 0; level < 7; level++) {
-      const n = 20;
-      let nu = bu, nv = bv, np = bp;
-      for (let j = -n; j <= n; j++) for (let i = -n; i <= n; i++) {
-        const uu = bu + (i * span) / n, vv = bv + (j * span) / n;
-        const p = P(uu, vv);
-        if (p > np) { np = p; nu = uu; nv = vv; }
-      }
-      bu = nu; bv = nv; bp = np;
-      span /= 8;
-    }
-    return { u: bu, v: bv, p: bp };
-  };
-  const pk = zoom(-1 + ci * h, -1 + cj * h, 2 * h);
-  const sl = zoom(-1 + (si % G) * h, -1 + Math.floor(si / G) * h, 2 * h);
-  return {
-    pslDb: 10 * Math.log10(sl.p / pk.p),
-    pointingDeg: angleBetweenDeg({ u: u0, v: v0, w: uvToW(u0, v0) }, { u: pk.u, v: pk.v, w: uvToW(pk.u, pk.v) }),
-  };
-}
