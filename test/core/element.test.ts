@@ -1,28 +1,16 @@
 import { describe, expect, it } from "vitest";
 import { makeElementPattern, scanLossDb } from "../../src/core/element.js";
-import { BeamAnalyzer, METRICS, M } from "../../src/core/pattern/analyze.js";
+import { METRICS, M } from "../../src/core/pattern/analyze.js";
 import { AfEvaluator } from "../../src/core/pattern/evaluator.js";
-import { allocBeamCodes, makeQuantizer } from "../../src/core/quantize/index.js";
 import { uvToW } from "../../src/core/geometry.js";
-import type { Plan } from "../../src/core/plan.js";
 import { SPEED_OF_LIGHT } from "../../src/core/units.js";
 import { mulberry32 } from "../../src/core/quantize/randomized.js";
 import { baseScenario, load } from "../helpers.js";
+import { analyseAll } from "./engine-run.js";
 import { bruteForce as bruteForceRef } from "./pattern-ref.js";
 
 const DEG = Math.PI / 180;
 
-function analyseAll(plan: Plan): Float64Array {
-  const an = new BeamAnalyzer(plan, 0);
-  const q = makeQuantizer(plan, 0, an.prep);
-  const c = allocBeamCodes(plan.elements.count);
-  const out = new Float64Array(plan.beams.count * METRICS);
-  for (let b = 0; b < plan.beams.count; b++) {
-    q.beam(b, c);
-    an.analyse(b, c, out, b * METRICS);
-  }
-  return out;
-}
 
 /** element.csv sampling cos^q θ (power, dB) on a θ/φ grid; 90° is written as −300 dB (the finite floor). */
 function cosineTable(q: number, thetaStep: number, phis: number[]): string {

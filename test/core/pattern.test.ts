@@ -5,22 +5,11 @@ import { allocWindow, analysisSizeProblem, gridShape, MAX_ANALYSIS_CELLS, Patter
 import { refine } from "../../src/core/pattern/lobes.js";
 import { allocBeamCodes, makeQuantizer } from "../../src/core/quantize/index.js";
 import { phaseQuantGainLossDb } from "../../src/core/theory.js";
-import type { Plan } from "../../src/core/plan.js";
 import { baseScenario, load } from "../helpers.js";
+import { analyseAll } from "./engine-run.js";
 import { mulberry32 } from "../../src/core/quantize/randomized.js";
 import { bruteForce, denseReference } from "./pattern-ref.js";
 
-function analyseAll(plan: Plan, fi = 0): Float64Array {
-  const an = new BeamAnalyzer(plan, fi);
-  const q = makeQuantizer(plan, fi, an.prep);
-  const c = allocBeamCodes(plan.elements.count);
-  const out = new Float64Array(plan.beams.count * METRICS);
-  for (let b = 0; b < plan.beams.count; b++) {
-    q.beam(b, c);
-    an.analyse(b, c, out, b * METRICS);
-  }
-  return out;
-}
 
 describe("pattern engine against a brute-force direct sum", () => {
   const cal = (n: number, seed: number) => {
