@@ -5,7 +5,7 @@
  * distinct coordinate (a lattice has only `columns` distinct x and `rows` distinct y),
  * so one evaluation costs a few dozen sin/cos and one pass over the elements.
  */
-import { weightDerivs, type ElementDerivs, type ElementPattern } from "../element.js";
+import { centralDerivs, weightDerivs, type ElementDerivs, type ElementPattern } from "../element.js";
 
 export interface Distinct {
   values: Float64Array;
@@ -29,14 +29,8 @@ export function distinct(coord: Float64Array): Distinct {
   return { values: Float64Array.from(values), index };
 }
 
-export interface PowerDerivs {
-  p: number;
-  pu: number;
-  pv: number;
-  puu: number;
-  pvv: number;
-  puv: number;
-}
+/** |AF|² and its first and second derivatives in u and v (the same fields as an element's). */
+export type PowerDerivs = ElementDerivs;
 
 export class AfEvaluator {
   readonly n: number;
@@ -59,6 +53,8 @@ export class AfEvaluator {
   v0 = 0;
   w0 = 1;
   readonly out: PowerDerivs = { p: 0, pu: 0, pv: 0, puu: 0, pvv: 0, puv: 0 };
+  /** this.power as a function value, for the central differences of non-planar arrays */
+  private readonly powerAt = (du: number, dv: number) => this.power(du, dv);
   /**
    * Element pattern: when set, power() and derivs() give the total pattern
    * |AF|²·E(d̂ + Δ) (field() stays the array factor alone). null: isotropic elements.
@@ -234,23 +230,7 @@ export class AfEvaluator {
 
   private afDerivs(du: number, dv: number): PowerDerivs {
     const o = this.out;
-    if (!this.planar) {
-      const h = 1e-5;
-      const p0 = this.power(du, dv);
-      const pxp = this.power(du + h, dv);
-      const pxm = this.power(du - h, dv);
-      const pyp = this.power(du, dv + h);
-      const pym = this.power(du, dv - h);
-      const ppp = this.power(du + h, dv + h);
-      const pmm = this.power(du - h, dv - h);
-      o.p = p0;
-      o.pu = (pxp - pxm) / (2 * h);
-      o.pv = (pyp - pym) / (2 * h);
-      o.puu = (pxp - 2 * p0 + pxm) / (h * h);
-      o.pvv = (pyp - 2 * p0 + pym) / (h * h);
-      o.puv = (ppp - pxp - pyp + 2 * p0 - pxm - pym + pmm) / (2 * h * h);
-      return o;
-    }
+    if (!this.planar) return centralDerivs(this.powerAt, du, dv, o);
     // grouped by row: S0 = Σ w·ex, S1 = Σ X·w·ex, S2 = Σ X²·w·ex per distinct y, then
     // F = Σ ey·S0, F_u = jΣ ey·S1, F_uu = −Σ ey·S2, F_v = jΣ Y·ey·S0, F_vv = −Σ Y²·ey·S0, F_uv = −Σ Y·ey·S1
     this.phasors(du, dv);
