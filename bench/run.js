@@ -26,6 +26,21 @@ function childBuild(s, out, analysis, jobs) {
   return JSON.parse(r.stdout);
 }
 
+/** RUNS in-process builds without analysis, one thread: load + build times, the largest peak RSS, the word count; `between` runs after each. */
+function tableRuns(s, out, between = () => {}) {
+  const ms = [];
+  let rss = 0, words = 0;
+  for (let i = 0; i < RUNS; i++) {
+    const c = childBuild(s, out, false, 1);
+    ms.push(c.loadMs + c.buildMs);
+    rss = Math.max(rss, c.maxRssKb);
+    words = c.words;
+    rmSync(out, { recursive: true, force: true });
+    between();
+  }
+  return { ms, rss, words };
+}
+
 const jobs = cpus().length;
 const previous = ONLY ? JSON.parse(readFileSync(join(ROOT, "bench", "results.json"), "utf8")) : {};
 const machine = { cpus: cpus().length, model: cpus()[0]?.model, memGiB: +(totalmem() / 2 ** 30).toFixed(1), node: process.version };
@@ -35,17 +50,12 @@ const results = ONLY ? previous : { machine, runs: RUNS };
 if (!ONLY) {
   const s = scenario("codes-64x64", 64, { kind: "uv", u: { from: -0.63, to: 0.63, step: 0.02 }, v: { from: -0.63, to: 0.63, step: 0.02 } }, ["bin"], false);
   const out = join(tmp, "codes-out");
-  const inproc = [], cli = [];
-  let rss = 0, words = 0;
-  for (let i = 0; i < RUNS; i++) {
-    const c = childBuild(s, out, false, 1);
-    inproc.push(c.loadMs + c.buildMs);
-    rss = Math.max(rss, c.maxRssKb);
-    words = c.words;
-    rmSync(out, { recursive: true, force: true });
+  const cli = [];
+  // the whole CLI process interleaved with the in-process runs
+  const { ms: inproc, rss, words } = tableRuns(s, out, () => {
     cli.push(timeCmd(process.execPath, [BIN, "build", s, "-o", out, "--no-analysis"]).ms);
     rmSync(out, { recursive: true, force: true });
-  }
+  });
   results.codesOnly = {
     words,
     buildMs: median(inproc),
@@ -67,15 +77,7 @@ for (const [label, address] of [["beam-major (default)", undefined], ["channel-m
   const devices = { channels: 4, ...(address ? { address } : {}) };
   const s = scenario(`devices-${results.devices.length}`, 64, { kind: "uv", u: { from: -0.63, to: 0.63, step: 0.02 }, v: { from: -0.63, to: 0.63, step: 0.02 } }, ["bin"], false, { devices });
   const out = join(tmp, "devices-out");
-  const ms = [];
-  let rss = 0, words = 0;
-  for (let i = 0; i < RUNS; i++) {
-    const c = childBuild(s, out, false, 1);
-    ms.push(c.loadMs + c.buildMs);
-    rss = Math.max(rss, c.maxRssKb);
-    words = c.words;
-    rmSync(out, { recursive: true, force: true });
-  }
+  const { ms, rss, words } = tableRuns(s, out);
   results.devices.push({ layout: label, devices: 1024, formats: ["bin", "mem", "hex"], words, buildMs: median(ms), peakRssMB: rss / 1024, targets: { peakRssMB: 300 } });
 }
 
