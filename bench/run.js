@@ -226,6 +226,33 @@ if (!ONLY || ONLY === "band") {
 // ---- 9. calibration: 4096-element REV data set, 16 codes per element (bench/calibrate.js)
 if (!ONLY || ONLY === "calibrate") results.calibrate = benchCalibrate(RUNS);
 
+// ---- 10. diff after a calibration change (BENCH_ONLY=diff runs it alone): two 64×64 × 2601-beam builds
+// (10.7 M words) whose calibration phases differ by 3.1°, so about half the words change; peak memory of
+// the summary, of -o (changes.csv) and of --json (streamed to a pipe), whole CLI processes, run once each
+if (!ONLY || ONLY === "diff") {
+  const beams = { kind: "uv", u: { from: -0.5, to: 0.5, step: 0.02 }, v: { from: -0.5, to: 0.5, step: 0.02 } };
+  const a = scenario("diff-a", 64, beams, ["bin"]);
+  const bDir = join(tmp, "diff-b");
+  spawnSync("mkdir", ["-p", bDir]);
+  writeFileSync(join(bDir, "scenario.json"), readFileSync(a));
+  writeFileSync(join(bDir, "cal.csv"), readFileSync(join(tmp, "diff-a", "cal.csv"), "utf8").replace(/^(\d+),([-0-9.]+)/gm, (_, id, ph) => `${id},${(Number(ph) + 3.1).toFixed(2)}`));
+  const [oa, ob] = [join(tmp, "diff-out-a"), join(tmp, "diff-out-b")];
+  timeCmd(process.execPath, [BIN, "build", a, "-o", oa, "--no-analysis"]);
+  timeCmd(process.execPath, [BIN, "build", join(bDir, "scenario.json"), "-o", ob, "--no-analysis"]);
+  const diffRun = (extra) => {
+    const t = performance.now();
+    const r = spawnSync(process.execPath, [join(ROOT, "bench", "rss.js"), "diff", oa, ob, ...extra], { encoding: "utf8", maxBuffer: 1 << 20, stdio: ["ignore", extra.includes("--json") ? "ignore" : "pipe", "pipe"] });
+    if (r.status !== 1) throw new Error(`diff: exit ${r.status}: ${r.stderr}`);
+    return { ms: performance.now() - t, peakRssMB: Number(/MAXRSS (\d+)/.exec(r.stderr)[1]) / 1024 };
+  };
+  const summary = JSON.parse(readFileSync(join(ob, "manifest.json"), "utf8")).counts.words;
+  const text = diffRun([]);
+  const csv = diffRun(["-o", join(tmp, "diff-changes")]);
+  const changed = readFileSync(join(tmp, "diff-changes", "diff.json"), "utf8").match(/"wordsChanged": (\d+)/)[1];
+  const json = diffRun(["--json"]);
+  results.diff = { words: summary, wordsChanged: Number(changed), summary: text, changesCsv: csv, json, note: "run once each; --json written to a discarded stdout" };
+}
+
 writeFileSync(join(ROOT, "bench", "results.json"), JSON.stringify(results, null, 2) + "\n");
 const f = (x, d = 0) => Number(x).toFixed(d);
 function printMemory() {
@@ -273,5 +300,10 @@ if (bd) {
 rmSync(tmp, { recursive: true, force: true });
 if (ONLY === "ladder") printLadder(results.ladder);
 if (ONLY === "memory") printMemory();
+if (ONLY === "diff" || (!ONLY && results.diff)) {
+  const d = results.diff;
+  console.log(`\n| diff of two 64×64 × 2601-beam builds (${(d.words / 1e6).toFixed(1)} M words, ${(d.wordsChanged / 1e6).toFixed(1)} M changed) | wall (ms) | peak RSS (MB) |\n|---|---|---|`);
+  for (const [k, label] of [["summary", "summary (prose)"], ["changesCsv", "-o: changes.csv + diff.json"], ["json", "--json (every change)"]]) console.log(`| ${label} | ${d[k].ms.toFixed(0)} | ${d[k].peakRssMB.toFixed(0)} |`);
+}
 if (!ONLY) await import("./inputs.js");
 if (!ONLY || ONLY === "report") await import("./report.js");
