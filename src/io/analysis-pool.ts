@@ -116,8 +116,17 @@ export function ringSource(ring: CodeRing, beams: number): CodeSource {
   };
 }
 
-/** What a worker costs before it does any work, besides the set-up and warm-up the main thread measures on itself: starting the thread and loading the worker's modules (see DEVELOPERS.md, "Workers"). */
-export const WORKER_START_MS = 100;
+/**
+ * What a worker costs before it does any work, besides the set-up and warm-up the main
+ * thread measures on itself: starting the thread and loading the worker's modules, and
+ * what that start takes from the main thread (see DEVELOPERS.md, "Workers"). Measured in
+ * builds on the 2-core CI machine (STEERCODE_DEBUG's timeline): the job reaches a worker
+ * 120–230 ms after its start, its first chunk is done 100–130 ms later, and meanwhile
+ * the main thread's chunks run up to twice as slow (the worker's module compilation and
+ * JIT share the cores): ~400 ms in all. With 100 ms here the default ran 16×16 × 4096
+ * beams no faster than `--jobs 1` while burning 0.6 s more CPU.
+ */
+export const WORKER_START_MS = 400;
 /** Workers start only when the work left is this many times what they cost to start. */
 export const SPAWN_MARGIN = 2;
 /** Chunks the main thread times before it decides (the first ones run cold). */
@@ -126,10 +135,19 @@ const DECIDE_AFTER = 2;
  * A fresh thread's code is cold: its first chunks run many times slower than later ones
  * (measured on the 16² … 128² ladder: the cheaper of the first two chunks 1.1–20× the
  * warm cost). Until the main thread's cost per beam has stopped falling (no new low by a
- * fifth for FLAT_CHUNKS chunks), the warm cost is taken as its lowest so far over this.
+ * fifth for FLAT_CHUNKS chunks and FLAT_MS of analysis), the warm cost is taken as its
+ * lowest so far over this.
  */
 export const WARMUP_BOUND = 20;
-const FLAT_CHUNKS = 4;
+export const FLAT_CHUNKS = 4;
+/**
+ * Cold code runs on a plateau until V8's optimizing compiler delivers the hot loops, which
+ * takes a time, not a number of chunks: on 16×16 the first ~50 beams cost 1.4–2.2 ms each
+ * and the 51st 0.17 ms, so four chunks without a new low were seen while still cold (the
+ * default then took a cold cost for the warm one, 9× too high, and started a worker that
+ * did not pay). The cost is taken as flat only after this long without a new low.
+ */
+export const FLAT_MS = 200;
 
 /** SharedAnalysis.times: the main thread's first chunk (ms after its set-up: what a cold thread's chunk takes) … */
 const TIME_FIRST = 0;
@@ -147,12 +165,13 @@ export interface MainTiming {
   setupMs: number;
   /** the lowest cost per beam of one chunk so far (ms) */
   minPerBeamMs: number;
-  /** chunks since that lowest cost last fell by more than a fifth */
+  /** chunks since that lowest cost last fell by more than a fifth, and their time (ms) */
   sinceNewLow: number;
+  msSinceNewLow: number;
 }
 
 export function newTiming(): MainTiming {
-  return { chunks: 0, beams: 0, busyMs: 0, setupMs: 0, minPerBeamMs: Infinity, sinceNewLow: 0 };
+  return { chunks: 0, beams: 0, busyMs: 0, setupMs: 0, minPerBeamMs: Infinity, sinceNewLow: 0, msSinceNewLow: 0 };
 }
 
 /** Add one main-thread chunk (ms, beams, the set-up before it) to the timing. */
@@ -162,7 +181,9 @@ export function addChunk(t: MainTiming, ms: number, beams: number, setupMs: numb
   t.beams += beams;
   t.busyMs += ms;
   const per = ms / beams;
-  t.sinceNewLow = per < 0.8 * t.minPerBeamMs ? 0 : t.sinceNewLow + 1;
+  const low = per < 0.8 * t.minPerBeamMs;
+  t.sinceNewLow = low ? 0 : t.sinceNewLow + 1;
+  t.msSinceNewLow = low ? 0 : t.msSinceNewLow + ms;
   t.minPerBeamMs = Math.min(t.minPerBeamMs, per);
 }
 
@@ -174,11 +195,12 @@ export function addChunk(t: MainTiming, ms: number, beams: number, setupMs: numb
  * (beamsLeft·c − S)/2 at best; they start when beamsLeft·c > SPAWN_MARGIN·S, the margin
  * covering the error of these estimates (a worker that would come too late also stops
  * itself: see the tail rule in `claim`). c is the lowest cost a beam so far once it has
- * stopped falling, and that over WARMUP_BOUND before.
+ * stopped falling (FLAT_CHUNKS chunks and FLAT_MS without a new low), and that over
+ * WARMUP_BOUND before.
  */
 export function workersPay(t: MainTiming, beamsLeft: number, workerStartMs = WORKER_START_MS): boolean {
   if (t.chunks < DECIDE_AFTER || beamsLeft <= 0) return false;
-  const c = t.sinceNewLow >= FLAT_CHUNKS ? t.minPerBeamMs : t.minPerBeamMs / WARMUP_BOUND;
+  const c = t.sinceNewLow >= FLAT_CHUNKS && t.msSinceNewLow >= FLAT_MS ? t.minPerBeamMs : t.minPerBeamMs / WARMUP_BOUND;
   const warmup = Math.max(0, t.busyMs - t.beams * c);
   return beamsLeft * c > SPAWN_MARGIN * (workerStartMs + t.setupMs + warmup);
 }
@@ -391,6 +413,9 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   const workers: Worker[] = [];
   const exits: Promise<void>[] = [];
   let workerBeams = 0;
+  /** STEERCODE_DEBUG's timeline: when the workers were started, and what each reported at its end */
+  let spawnAt = 0;
+  const workerLog: string[] = [];
   let failure: unknown = null;
   let failed: (e: unknown) => void = () => {};
   const failing = new Promise<never>((_, reject) => (failed = reject));
@@ -405,6 +430,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   const spawn = () => {
     spawned = true;
     spawnedAfter = timing.chunks;
+    spawnAt = performance.timeOrigin + performance.now();
     for (let k = 0; k < cap; k++) {
       const w = makeWorker();
       workers.push(w);
@@ -412,13 +438,15 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
       exits.push(
         new Promise<void>((resolve) => {
           let ok = false;
-          w.on("message", (m: { progress?: number; done?: number; error?: string }) => {
+          w.on("message", (m: { progress?: number; done?: number; error?: string; readyAt?: number; firstAt?: number; busyMs?: number }) => {
             if (m.progress) {
               workerBeams += m.progress;
               tick(m.progress);
             }
             if (m.error !== undefined) fail(new Error(`analysis worker failed: ${m.error}`));
             if (m.done !== undefined) {
+              const at = (t: number | undefined) => (t ? `${(t - spawnAt).toFixed(0)} ms` : "never");
+              workerLog.push(`worker ${k + 1}: job received ${at(m.readyAt)} after its start, first chunk done ${at(m.firstAt)}, ${m.done} beams in ${(m.busyMs ?? 0).toFixed(0)} ms`);
               ok = true;
               resolve();
             }
@@ -484,7 +512,9 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
         // the fault-injection test: the injected failure must surface even when the main thread did every chunk
         if (opts.failForTest) await Promise.race([Promise.all(exits), failing]);
         if (failure) throw failure;
-        if (process.env.STEERCODE_DEBUG) process.stderr.write(`steercode: debug: analysis: ${cap === 0 ? "one thread (--jobs 1 or one chunk)" : workers.length ? `${workers.length} worker(s) started after ${spawnedAfter} main-thread chunk(s), ${workerBeams} of ${total} beams analysed by them` : `no worker started (the work left never paid for one)`}; main thread ${timing.chunks} chunk(s), lowest ${timing.minPerBeamMs.toFixed(3)} ms a beam\n`);
+        // the debug timeline waits (1 s at most) for the workers' reports, sent when each has stopped claiming
+        if (process.env.STEERCODE_DEBUG && workers.length) await Promise.race([Promise.all(exits), new Promise((r) => setTimeout(r, 1000).unref())]);
+        if (process.env.STEERCODE_DEBUG) process.stderr.write(`steercode: debug: analysis: ${cap === 0 ? "one thread (--jobs 1 or one chunk)" : workers.length ? `${workers.length} worker(s) started after ${spawnedAfter} main-thread chunk(s), ${workerBeams} of ${total} beams analysed by them` : `no worker started (the work left never paid for one)`}; main thread ${timing.chunks} chunk(s) in ${timing.busyMs.toFixed(0)} ms, lowest ${timing.minPerBeamMs.toFixed(3)} ms a beam${workerLog.map((l) => "; " + l).join("")}\n`);
         return shared.metrics;
       } finally {
         // progress messages still on their way are dropped: every beam is done

@@ -4,7 +4,7 @@
  * chunk never changes a number (two claimants interleaved on one thread against one).
  */
 import { describe, expect, it } from "vitest";
-import { addChunk, chunkCount, drainChunks, newTiming, sharedAnalysis, SPAWN_MARGIN, WARMUP_BOUND, WORKER_START_MS, workersPay, worthClaiming, type ChunkCache } from "../../src/io/analysis-pool.js";
+import { addChunk, chunkCount, drainChunks, FLAT_CHUNKS, FLAT_MS, newTiming, sharedAnalysis, SPAWN_MARGIN, WARMUP_BOUND, WORKER_START_MS, workersPay, worthClaiming, type ChunkCache } from "../../src/io/analysis-pool.js";
 import { baseScenario, load } from "../helpers.js";
 
 /** Timing of `chunks` chunks of 8 beams at `perBeam` ms (after one at `first` ms a beam), set-up `setup` ms. */
@@ -21,9 +21,11 @@ describe("workersPay: start the workers only when the work left pays for them", 
   });
 
   it("once the cost a beam is flat: beams left × cost against SPAWN_MARGIN × (start-up + set-up + warm-up)", () => {
-    // derived (the rule's model): 8 flat chunks at 1 ms a beam, no warm-up beyond it, 50 ms set-up:
-    // a worker costs S = WORKER_START_MS + 50 ms and pays from SPAWN_MARGIN·S ms of work left
-    const t = timed(8, 1, 50);
+    // derived (the rule's model): 40 flat chunks at 1 ms a beam (312 ms ≥ FLAT_MS without a new low),
+    // no warm-up beyond it, 50 ms set-up: a worker costs S = WORKER_START_MS + 50 ms and pays from
+    // SPAWN_MARGIN·S ms of work left
+    const t = timed(40, 1, 50);
+    expect(t.msSinceNewLow).toBeGreaterThanOrEqual(FLAT_MS);
     const edge = SPAWN_MARGIN * (WORKER_START_MS + 50);
     expect(workersPay(t, edge + 1)).toBe(true);
     expect(workersPay(t, edge - 1)).toBe(false);
@@ -31,7 +33,7 @@ describe("workersPay: start the workers only when the work left pays for them", 
 
   it("counts the main thread's warm-up as the worker's too", () => {
     // derived: a first chunk at 30 ms a beam, then 1 ms: 8·29 = 232 ms of warm-up a cold worker also pays
-    const t = timed(8, 1, 0, 30);
+    const t = timed(40, 1, 0, 30);
     const edge = SPAWN_MARGIN * (WORKER_START_MS + 8 * 29);
     expect(workersPay(t, edge + 1)).toBe(true);
     expect(workersPay(t, edge - 1)).toBe(false);
@@ -53,7 +55,25 @@ describe("workersPay: start the workers only when the work left pays for them", 
     for (const per of [40, 10, 9, 12, 30, 8.5]) addChunk(t, 8 * per, 8, 0);
     // 9 and 8.5 are not a fifth below 10: four chunks since the low of 10
     expect(t.sinceNewLow).toBe(4);
+    expect(t.msSinceNewLow).toBe(8 * (9 + 12 + 30 + 8.5));
     expect(t.minPerBeamMs).toBe(8.5);
+  });
+
+  it("does not take a cold plateau for the warm cost: flat needs FLAT_MS without a new low, not only FLAT_CHUNKS chunks", () => {
+    // the first chunks of a 16×16 build, ms a beam (STEERCODE_DEBUG trace, 2026-12-02): cold code sits
+    // near 1.4–2.2 ms a beam until the optimizing compiler delivers, then 0.15–0.2 ms
+    const t = newTiming();
+    for (const per of [2.9, 1.9, 1.38, 1.6, 1.5, 1.7, 1.45]) addChunk(t, 8 * per, 8, 0);
+    expect(t.sinceNewLow).toBeGreaterThanOrEqual(FLAT_CHUNKS);
+    expect(t.msSinceNewLow).toBeLessThan(FLAT_MS);
+    // 4000 beams left at the plateau's 1.38 ms would be 5.5 s of work and start a worker; at
+    // 1.38 / WARMUP_BOUND a beam they are 276 ms, below SPAWN_MARGIN · WORKER_START_MS
+    expect(workersPay(t, 4000)).toBe(false);
+    // once the warm cost has held for FLAT_MS, it is taken as it is: 4000 beams at 0.16 ms
+    for (let k = 0; k < 200; k++) addChunk(t, 8 * (k === 0 ? 0.16 : 0.17), 8, 0);
+    expect(t.minPerBeamMs).toBe(0.16);
+    expect(workersPay(t, 4000)).toBe(false);
+    expect(workersPay(t, 40000)).toBe(true);
   });
 });
 
