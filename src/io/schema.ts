@@ -14,8 +14,9 @@ let validator: ValidateFunction | null = null;
 function scenarioValidator(): ValidateFunction {
   if (!validator) {
     try {
-      // precompiled by scripts/compile-schema.mjs at build time (dist only)
-      validator = createRequire(import.meta.url)("./scenario-validate.cjs") as ValidateFunction;
+      // precompiled by scripts/compile-schema.mjs at build time (dist only: dist/io/, found
+      // the same way from the command's bundle in dist/cli-bundle/)
+      validator = createRequire(import.meta.url)("../io/scenario-validate.cjs") as ValidateFunction;
       return validator;
     } catch {
       /* running from source: compile below */

@@ -48,7 +48,8 @@ let bundleCache: string | null = null;
 /** The page script: dist/report/explorer.js, bundled at build time (from source: bundled now). */
 async function explorerBundle(): Promise<string> {
   if (bundleCache) return bundleCache;
-  const built = new URL("./explorer.js", import.meta.url);
+  // dist/report/explorer.js, from dist/report/ or from the command's bundle in dist/cli-bundle/
+  const built = new URL("../report/explorer.js", import.meta.url);
   const here = new URL(import.meta.url).pathname;
   if (here.endsWith(".js") && existsSync(built)) {
     const text = readFileSync(built, "utf8");
