@@ -116,8 +116,10 @@ export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: Hor
   // rows where the circle runs across the rows (|v| < sa), columns elsewhere
   const sa = Math.sin(Math.atan(du / dv));
   const ca = Math.sqrt(1 - sa * sa);
-  const mLo = Math.ceil((-ca - u0) / du), mHi = Math.floor((ca - u0) / du);
-  const nLo = Math.ceil((-sa - v0) / dv), nHi = Math.floor((sa - v0) / dv);
+  // | 0: small integers (within the grid), and never −0, which would send V8's optimized
+  // code for this loop and phasedSum back to the interpreter ("not a Smi")
+  const mLo = Math.ceil((-ca - u0) / du) | 0, mHi = Math.floor((ca - u0) / du) | 0;
+  const nLo = Math.ceil((-sa - v0) / dv) | 0, nHi = Math.floor((sa - v0) / dv) | 0;
   reserve(out, 2 * Math.max(0, mHi - mLo + 1) + 2 * Math.max(0, nHi - nLo + 1));
   const { du: tu, dv: tv, au, av, p } = out;
   let k = 0;
@@ -231,8 +233,8 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
   let best = 0;
   const { mask, m0, n0, w, h, du: cu, dv: cv, outside } = lobe;
   for (let i = 0; i < n; i++) {
-    // inMain(lobe, Δu, Δv), written out (no call per sample)
-    const ra = Math.round(t.du[i]! / cu) - m0, rb = Math.round(t.dv[i]! / cv) - n0;
+    // inMain(lobe, Δu, Δv), written out (no call per sample); | 0 as in traceLattice (no −0)
+    const ra = (Math.round(t.du[i]! / cu) - m0) | 0, rb = (Math.round(t.dv[i]! / cv) - n0) | 0;
     const inside = ra >= 0 && rb >= 0 && ra < w && rb < h ? mask[rb * w + ra] === 1 : outside;
     main[i] = inside ? 1 : 0;
     if (!inside && t.p[i]! > best) best = t.p[i]!;
