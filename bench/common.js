@@ -5,6 +5,16 @@ import { mkdirSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { mulberry32 } from "../dist/core/quantize/randomized.js";
 
+/**
+ * Node reads every certificate named by NODE_EXTRA_CA_CERTS when it starts, before any of
+ * our code runs (~38 ms a process on the CI-type machine, whose sandbox sets it to reach
+ * its network proxy). steercode makes no network connection and a user's machine does not
+ * normally set it, so the bench clears it for every process it starts and times; the
+ * ladder measures what it would add to each Node process (nodeStartMs).
+ */
+export const EXTRA_CA_CERTS = process.env.NODE_EXTRA_CA_CERTS ?? null;
+delete process.env.NODE_EXTRA_CA_CERTS;
+
 export const ROOT = new URL("..", import.meta.url).pathname;
 export const BIN = join(ROOT, "bin", "steercode.js");
 

@@ -11,7 +11,7 @@ import { mkdtempSync, rmSync, readFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { parse } from "csv-parse/sync";
-import { ROOT, benchScenario, spread, timeCmd } from "./common.js";
+import { EXTRA_CA_CERTS, ROOT, benchScenario, spread, timeCmd } from "./common.js";
 
 const PY = "/usr/bin/python3";
 const RSS_PY = "import resource,runpy,sys; sys.argv=sys.argv[1:]; runpy.run_path(sys.argv[0], run_name='__main__'); sys.stderr.write('\\nMAXRSS %d\\n' % resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)";
@@ -55,8 +55,15 @@ export function benchLadder(runs = 3, sides = [16, 32, 64, 128], beamCounts = [4
       }
     });
   rmSync(tmp, { recursive: true, force: true });
+  // a bare Node start, as timed here and with NODE_EXTRA_CA_CERTS as the machine set it (see common.js)
+  const bare = [], withCa = [];
+  for (let i = 0; i < 7; i++) {
+    bare.push(timeCmd(process.execPath, ["-e", "0"]).ms);
+    if (EXTRA_CA_CERTS) withCa.push(timeCmd(process.execPath, ["-e", "0"], { env: { ...process.env, NODE_EXTRA_CA_CERTS: EXTRA_CA_CERTS } }).ms);
+  }
   return {
-    note: "whole processes, interleaved, medians with min–max; steercode: `build`, default --jobs, table.bin + beams.csv; numpy: bench/baseline_numpy.py, codes + the same metrics",
+    note: "whole processes, interleaved, medians with min–max; steercode: `build`, default --jobs, table.bin + beams.csv; numpy: bench/baseline_numpy.py, codes + the same metrics; NODE_EXTRA_CA_CERTS cleared (bench/common.js)",
+    nodeStartMs: { bare: spread(bare), withExtraCaCerts: withCa.length ? spread(withCa) : null },
     taylorWindowMaxDiffVsScipy: taylorDiff,
     rows: cases.map((c, k) => {
       const t = times[k];
@@ -71,6 +78,7 @@ export function printLadder(l) {
   const s = (x) => `${f(x.median)} (${f(x.min)}–${f(x.max)})`;
   console.log(`\n| elements | beams | steercode (ms) | numpy script (ms) | ratio (per-run range) | peak RSS steercode / numpy (MB) |\n|---|---|---|---|---|---|`);
   for (const r of l.rows) console.log(`| ${r.side}×${r.side} | ${r.beams} | ${s(r.steercodeMs)} | ${s(r.numpyMs)} | ${f(r.ratio, 2)} (${f(r.ratioPerRun.min, 2)}–${f(r.ratioPerRun.max, 2)}) | ${f(r.steercodePeakRssMB)} / ${f(r.numpyPeakRssMB)} |`);
+  if (l.nodeStartMs) console.log(`\nbare \`node -e 0\`: ${s(l.nodeStartMs.bare)} ms${l.nodeStartMs.withExtraCaCerts ? `; with this machine's NODE_EXTRA_CA_CERTS ${s(l.nodeStartMs.withExtraCaCerts)} ms` : ""}`);
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {
