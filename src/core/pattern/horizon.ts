@@ -274,5 +274,19 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     }
     if (bp > out.p) { out.p = bp; out.du = Math.cos(ba) - u0; out.dv = Math.sin(ba) - v0; }
   }
+  // The circle's four extreme points (u = ±1 or v = ±1), evaluated exactly. There u or v
+  // turns back along the circle, so a lobe cut off by the horizon has its largest
+  // visible value at one of them, which may lie between two samples even when those
+  // are less than a cell apart: a line array's grid is one cell wide across the line
+  // (1×8 at λ/2: du = 0.5), its samples at v = −0.98 on either side of (0, −1) sat 6 dB
+  // below the value there, past a null. A line array's pattern depends on one
+  // coordinate, so along the circle its only maxima besides the lobe peaks are these.
+  for (let e = 0; e < 4; e++) {
+    const cu = e === 0 ? 1 : e === 2 ? -1 : 0, cv = e === 1 ? 1 : e === 3 ? -1 : 0;
+    const du = cu - u0, dv = cv - v0;
+    if (inMain(lobe, du, dv)) continue;
+    const pe = ev.power(du, dv);
+    if (!(out.p >= pe)) { out.p = pe; out.du = du; out.dv = dv; }
+  }
   return out;
 }

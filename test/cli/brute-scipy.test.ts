@@ -1,0 +1,88 @@
+/**
+ * steercode's printed beams.csv / squint.csv against an independent brute force in
+ * numpy/scipy (test/fixtures/scipy/brute_beams.py, Debian's /usr/bin/python3): dense
+ * u-v raster over the visible disc, dense horizon trace, scipy.optimize refinement,
+ * weights from codes.csv through the documented channel model. Adversarial geometries at
+ * the edge of visible space. Tolerances as README: PSL 0.05 dB, pointing 0.001°.
+ */
+import { spawnSync } from "node:child_process";
+import { readFileSync } from "node:fs";
+import { join } from "node:path";
+import { describe, expect } from "vitest";
+import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
+import { itWith, TOOLS } from "../tools.js";
+
+const SCRIPT = join(import.meta.dirname, "..", "fixtures", "scipy", "brute_beams.py");
+
+function rows(path: string): Record<string, string>[] {
+  const [head, ...lines] = readFileSync(path, "utf8").trim().split("\n");
+  const h = head!.split(",");
+  return lines.map((l) => Object.fromEntries(l.split(",").map((v, i) => [h[i]!, v])));
+}
+
+function brute(out: string, band = false): Record<string, number>[] {
+  const r = spawnSync("/usr/bin/python3", [SCRIPT, out, ...(band ? ["--band"] : [])], { encoding: "utf8", timeout: 120_000, env: { ...process.env, BRUTE_NGRID: "601" } });
+  if (r.status !== 0) throw new Error(r.stderr);
+  return JSON.parse(r.stdout.replace(/-Infinity/g, "null"));
+}
+
+const cases: { name: string; over: Record<string, unknown>; files?: Record<string, string> }[] = [
+  {
+    // a line along y, beams onto the horizon off its plane (the ideal PSL there was −24.37 dB, brute force −20.42 dB)
+    name: "1×8 line at λ/2, Taylor −25 dB, θ = 90° at φ = 45° and 90°",
+    over: { array: { lattice: { kind: "rectangular", columns: 1, rows: 8, dx: "0.5 lambda", dy: "0.5 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "thetaphi", theta: { from: 85, to: 90, step: 5 }, phi: { from: 0, to: 90, step: 45 } }, phaseShifter: { bits: 5 } },
+  },
+  {
+    name: "5×4 triangular at 0.55 λ, beams at az/el 89°–89.9°",
+    over: { array: { lattice: { kind: "triangular", columns: 5, rows: 4, dx: "0.55 lambda", dy: "0.5 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 } },
+    files: { "beams.csv": "az_deg,el_deg\n89,0\n89.9,0\n-89.9,-60\n0,89.9\n" },
+  },
+  {
+    // grating lobe exactly on the horizon (u0 = 2/3 at 0.6 λ) and just either side of it
+    name: "6×5 at 0.6 λ, uniform, grating lobe on and about the horizon",
+    over: { array: { lattice: { kind: "rectangular", columns: 6, rows: 5, dx: "0.6 lambda", dy: "0.6 lambda" } }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 } },
+    files: { "beams.csv": "u,v\n0.6666666666666666,0\n0.66,0\n0.67,0\n" },
+  },
+];
+
+describe("beams.csv against the numpy/scipy brute force", () => {
+  for (const c of cases) {
+    itWith([TOOLS.scipy], c.name, () => {
+      const dir = tempDir();
+      const sc = writeScenario(baseScenario({ outputs: ["csv"], ...c.over }), c.files ?? {}, dir);
+      const out = join(dir, "out");
+      expect(cli(["build", sc, "-o", out]).code).toBe(0);
+      const mine = rows(join(out, "beams.csv"));
+      const ref = brute(out);
+      expect(ref.length).toBe(mine.length);
+      for (const r of ref) {
+        const m = mine[r.beam!]!;
+        // reference: brute force, numpy/scipy via /usr/bin/python3 (brute_beams.py)
+        expect(Math.abs(Number(m.pointing_error_deg) - r.pointing_error_deg!), `beam ${r.beam} pointing`).toBeLessThan(0.001);
+        expect(Math.abs(Number(m.psl_db) - r.psl_db!), `beam ${r.beam} psl`).toBeLessThan(0.05);
+        expect(Math.abs(Number(m.psl_ideal_db) - r.psl_ideal_db!), `beam ${r.beam} ideal psl`).toBeLessThan(0.05);
+        expect(Math.abs(Number(m.gain_loss_db) - r.gain_loss_db!), `beam ${r.beam} gain loss`).toBeLessThan(0.001);
+      }
+    }, 180_000);
+  }
+
+  itWith([TOOLS.scipy], "squint.csv: 6×2 lattice, beams at θ = 80° and 89°, band ±5 %", () => {
+    const dir = tempDir();
+    const sc = writeScenario(baseScenario({
+      outputs: ["csv"], array: { lattice: { kind: "rectangular", columns: 6, rows: 2, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "thetaphi", theta: { from: 80, to: 89, step: 9 }, phi: { from: 0, to: 0, step: 1 } },
+      phaseShifter: { bits: 5 }, band: { from: "9.5 GHz", to: "10.5 GHz", step: "0.5 GHz" },
+    }), {}, dir);
+    const out = join(dir, "out");
+    expect(cli(["build", sc, "-o", out]).code).toBe(0);
+    const mine = rows(join(out, "squint.csv"));
+    const ref = brute(out, true);
+    expect(ref.length).toBe(mine.length);
+    for (const r of ref) {
+      const m = mine.find((x) => Number(x.beam) === r.beam && Number(x.frequency_hz) === r.frequency_hz)!;
+      // reference: brute force, numpy/scipy via /usr/bin/python3 (brute_beams.py --band)
+      expect(Math.abs(Number(m.pointing_error_deg) - r.pointing_error_deg!), `beam ${r.beam} at ${r.frequency_hz} Hz`).toBeLessThan(0.001);
+      expect(Math.abs(Number(m.gain_loss_db) - r.gain_loss_db!)).toBeLessThan(0.001);
+    }
+  }, 180_000);
+});
