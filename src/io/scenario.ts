@@ -540,6 +540,11 @@ class Loader {
       this.problem("/band", `"to" (${to.exact.toString()} Hz) is below "from" (${from.exact.toString()} Hz); expected from ≤ to`);
       return null;
     }
+    const span = to.exact.minus(from.exact);
+    if (span.gt(0) && step.exact.gt(span)) {
+      this.problem("/band/step", `step ${step.exact.toString()} Hz is larger than the span ${span.toString()} Hz; the band would hold only "from". Expected a step ≤ ${span.toString()} Hz (or from = to for one point)`);
+      return null;
+    }
     const count = axisCount(from.exact.toString(), to.exact.toString(), step.exact.toString());
     if (count > MAX_BAND_POINTS) {
       this.problem("/band/step", `step ${step.exact.toString()} Hz gives ${count} band points; expected at most ${MAX_BAND_POINTS}`);

@@ -130,6 +130,8 @@ const cases: Case[] = [
   { name: "band with a negative step", doc: B({ band: { from: "9 GHz", to: "10 GHz", step: "-1 GHz" } }), expect: [/\/band\/step: expected a frequency in \(0, ∞\)/] },
   { name: "band upside down", doc: B({ band: { from: "11 GHz", to: "10 GHz", step: "0.1 GHz" } }), expect: [/\/band: "to" \(10000000000 Hz\) is below "from"/] },
   { name: "band with too many points", doc: B({ band: { from: "9 GHz", to: "11 GHz", step: "0.01 GHz" } }), expect: [/\/band\/step: step 10000000 Hz gives 201 band points; expected at most 64/] },
+  // a step past the span kept only "from" and dropped "to" without a word (beam axes refuse it)
+  { name: "band step larger than its span", doc: B({ band: { from: "9 GHz", to: "10 GHz", step: "5 GHz" } }), expect: [/scenario\.json: \/band\/step: step 5000000000 Hz is larger than the span 1000000000 Hz; the band would hold only "from"/] },
   { name: "band with a unit that is not a frequency", doc: B({ band: { from: "9 GHz", to: "11 mm", step: "1 GHz" } }), expect: [/\/band\/to: expected a frequency/] },
   { name: "unknown option", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--colour"], expect: [/unknown option --colour/] },
   { name: "--jobs 0", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "0"], expect: [/--jobs: expected a whole number from 1 to 256, got 0/] },
