@@ -2,6 +2,7 @@ import { runCalibrate, writeCalFile } from "../workflows/calibrate.js";
 import type { MethodName, Probe } from "../core/calibrate/index.js";
 import { fmt, printJson, warn, type Io } from "./shared.js";
 import { UsageError } from "./usage.js";
+import { MAX_LENGTH_M } from "../io/scenario.js";
 
 export interface CalibrateArgs {
   scenario: string;
@@ -23,6 +24,8 @@ export function parseProbe(direction: string | null, position: string | null): P
   if (direction !== null && position !== null) throw new UsageError("give --probe-direction or --probe-position, not both");
   if (position !== null) {
     const [x, y, z] = numbers(position, 3, "--probe-position", "X,Y,Z in metres (three numbers)");
+    // the bound on element positions: farther out the path k·|p − r_n| loses the array in rounding (1e300 gave NaN, exit 3)
+    if ([x!, y!, z!].some((c) => Math.abs(c) > MAX_LENGTH_M)) throw new UsageError(`--probe-position: expected coordinates within ±${MAX_LENGTH_M} m (10 km; farther away use --probe-direction), got "${position}"`);
     return { kind: "near", x: x!, y: y!, z: z! };
   }
   if (direction !== null) {
