@@ -449,6 +449,12 @@ class Loader {
       const t = this.file(b.file, "beams", "/beams/file", MAX_BEAMS, "beams in a table");
       if (!t) return null;
       const azel = t.header.includes("az_deg");
+      // both pairs of columns: the u,v columns were ignored without a word
+      const mixed = t.header.filter((c) => c === "az_deg" || c === "el_deg").length && t.header.filter((c) => c === "u" || c === "v").length;
+      if (mixed) {
+        this.problems.push({ file: t.file, line: t.comments.length + 1, message: `header ${t.header.join(",")} names both az_deg,el_deg and u,v columns; expected one pair (az_deg,el_deg or u,v)` });
+        return null;
+      }
       const [ca, cb] = azel ? ["az_deg", "el_deg"] : ["u", "v"];
       const a: string[] = [];
       const bb: string[] = [];

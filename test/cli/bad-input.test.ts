@@ -99,6 +99,8 @@ const cases: Case[] = [
   { name: "elements.csv: two elements at one place", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["0,0,0", "1,0,0"]) }, expect: [/el\.csv, line 3: element 1 sits at the same position as element 0/] },
   { name: "beam list missing", doc: B({ beams: { kind: "list", file: "beams.csv" } }), expect: [/beams\.csv: \/beams\/file: file not found/] },
   { name: "beam list outside visible space", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "u,v\n0,0\n0.9,0.9\n" }, expect: [/beams\.csv, line 3: beam \(u=0\.9, v=0\.9\) is outside visible space/] },
+  // both column pairs: u,v were dropped without a word and the beam built at az 0, el 0
+  { name: "beam list with both az_deg,el_deg and u,v", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "# two pairs\naz_deg,el_deg,u,v\n0,0,0.5,0\n" }, expect: [/beams\.csv, line 2: header az_deg,el_deg,u,v names both az_deg,el_deg and u,v columns; expected one pair/] },
   { name: "beam list with only a header", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "az_deg,el_deg\n" }, expect: [/beams\.csv, line 1: expected data rows after the header/] },
   { name: "beam list cell not a number", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "az_deg,el_deg\n10,x\n" }, expect: [/beams\.csv, line 2, column el_deg: expected a number, got "x"/] },
   { name: "phase states: code past the part", doc: B({ phaseShifter: { bits: 2, states: "ps.csv" } }), files: { "ps.csv": "code,phase_deg,gain_db\n0,0,0\n1,90,0\n2,180,0\n3,270,0\n4,0,0\n" }, expect: [/ps\.csv, line 6, column code: code 4 does not exist on a 2-bit part/] },
