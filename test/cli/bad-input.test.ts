@@ -162,6 +162,8 @@ const cases: Case[] = [
   { name: "a measured state gain of 1e300 dB", doc: B({ phaseShifter: { bits: 2, states: "ps.csv" } }), files: { "ps.csv": "code,phase_deg,gain_db\n0,0,0\n1,90,1e300\n2,180,0\n3,270,0\n" }, expect: [/ps\.csv, line 3, column gain_db: expected a number from -200 to 200, got "1e300"/] },
   // a list with no quantizer in it wrote a sweep of 0 parts (exit 0)
   { name: "sweep --quantizer ,", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--quantizer", ","], expect: [/--quantizer: expected at least one of nearest, randomized, optimized/] },
+  // an empty -o is the working folder to resolve(): the build was written into it
+  { name: "build -o an empty string", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", ""], expect: [/-o: expected a folder name, got an empty string/] },
   { name: "sweep --atten-step 1e300", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--atten-step", "1e300"], expect: [/--atten-step: expected steps in dB greater than 0 and at most 100/] },
   // only regular files are read, with limits that hold for streams too
   { name: "calibration is /dev/zero", doc: B({ calibration: "/dev/zero" }), expect: [/\/dev\/zero: \/calibration: expected a regular file, found a character device/] },
