@@ -2,6 +2,9 @@ import { runCalibrate, writeCalFile } from "../workflows/calibrate.js";
 import type { MethodName, Probe } from "../core/calibrate/index.js";
 import { fmt, printJson, warn, type Io } from "./shared.js";
 import { UsageError } from "./usage.js";
+import { statSync } from "node:fs";
+import { InputError } from "../core/errors.js";
+import { MAX_LENGTH_M } from "../io/scenario.js";
 
 export interface CalibrateArgs {
   scenario: string;
@@ -23,6 +26,8 @@ export function parseProbe(direction: string | null, position: string | null): P
   if (direction !== null && position !== null) throw new UsageError("give --probe-direction or --probe-position, not both");
   if (position !== null) {
     const [x, y, z] = numbers(position, 3, "--probe-position", "X,Y,Z in metres (three numbers)");
+    // the bound on element positions: farther out the path k·|p − r_n| loses the array in rounding (1e300 gave NaN, exit 3)
+    if ([x!, y!, z!].some((c) => Math.abs(c) > MAX_LENGTH_M)) throw new UsageError(`--probe-position: expected coordinates within ±${MAX_LENGTH_M} m (10 km; farther away use --probe-direction), got "${position}"`);
     return { kind: "near", x: x!, y: y!, z: z! };
   }
   if (direction !== null) {
@@ -33,9 +38,21 @@ export function parseProbe(direction: string | null, position: string | null): P
   return { kind: "far", azDeg: 0, elDeg: 0 };
 }
 
+function sameFile(a: string, b: string): boolean {
+  try {
+    const x = statSync(a), y = statSync(b);
+    return x.isFile() && x.dev === y.dev && x.ino === y.ino;
+  } catch {
+    return false;
+  }
+}
+
 export function calibrateCommand(io: Io, a: CalibrateArgs): number {
   if (a.method !== "rev" && a.method !== "field") throw new UsageError(`--method: expected rev or field, got "${a.method}"`);
   const probe = parseProbe(a.probeDirection, a.probePosition);
+  // -o onto an input replaced the range readings (or the scenario) with the calibration it derived from them
+  for (const [input, what] of [[a.data, "--data file (the readings)"], [a.scenario, "scenario"]] as const)
+    if (sameFile(a.out, input)) throw new InputError({ file: a.out, message: `is the ${what}; writing the calibration there would replace it. Expected another -o file (e.g. cal.csv)` });
   const r = runCalibrate({ scenario: a.scenario, data: a.data, method: a.method as MethodName, probe });
   const sha = writeCalFile(a.out, r.calCsv);
   if (io.json) {

@@ -38,6 +38,7 @@ export function parseQuantizers(text: string): QuantizerMethod[] {
     if (part !== "nearest" && part !== "randomized" && part !== "optimized") throw new UsageError(`--quantizer: expected one or more of nearest, randomized, optimized (comma-separated), got "${part}"`);
     if (!out.includes(part)) out.push(part);
   }
+  if (!out.length) throw new UsageError("--quantizer: expected at least one of nearest, randomized, optimized");
   return out;
 }
 

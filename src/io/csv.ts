@@ -5,6 +5,7 @@
  */
 import { createRequire } from "node:module";
 import type { Problem } from "../core/errors.js";
+import { D } from "../core/exact.js";
 import type { InputFile } from "./files.js";
 
 export interface CsvRow {
@@ -176,6 +177,9 @@ export function numberCell(t: CsvTable, row: CsvRow, col: string, problems: Prob
   };
   if (!NUMBER_RE.test(text)) return bad();
   const value = Number(text);
+  // A whole number is judged on the text, not on the double it rounds to: "2147483647.0000000001"
+  // and "1e-400" are not whole numbers, though Number() makes them 2147483647 and 0.
+  if (opts.integer && !new D(text).isInteger()) return bad();
   if (!Number.isFinite(value) || (opts.integer && !Number.isInteger(value)) || (opts.min !== undefined && value < opts.min) || (opts.max !== undefined && value > opts.max)) return bad();
   return { text, value };
 }

@@ -103,7 +103,7 @@ function fromMap(t: CsvTable, els: Elements, channels: number, problems: Problem
   const seen = new Map<number, number>();
   const slots = new Slots(channels);
   for (const r of t.rows) {
-    const id = numberCell(t, r, "element", problems, { integer: true, min: 0 });
+    const id = numberCell(t, r, "element", problems, { integer: true, min: 0, max: MAX_ID });
     const dev = numberCell(t, r, "device", problems, { integer: true, min: 0, max: MAX_ID });
     const ch = numberCell(t, r, "channel", problems, { integer: true, min: 0, max: MAX_ID });
     if (!id || !dev || !ch) continue;

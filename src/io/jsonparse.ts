@@ -5,7 +5,16 @@
  * Infinity), and nesting deeper than MAX_JSON_DEPTH is an error (not a stack overflow
  * later). Every error carries the line and column, and the JSON pointer where known.
  */
+import { D } from "../core/exact.js";
+
 export const MAX_JSON_DEPTH = 64;
+
+/** A number whose text is not a whole number though its double is (2.0000000000000001, 1e-400). */
+export interface RoundedNumber {
+  pointer: string;
+  text: string;
+  value: number;
+}
 
 export class JsonError extends Error {
   constructor(
@@ -24,7 +33,8 @@ function escapePointer(key: string): string {
 
 const NUMBER_RE = /-?(?:0|[1-9]\d*)(?:\.\d+)?(?:[eE][+-]?\d+)?/y;
 
-export function parseJsonStrict(text: string): unknown {
+/** `rounded`, when given, collects every RoundedNumber (the caller decides where a whole number was due). */
+export function parseJsonStrict(text: string, rounded?: RoundedNumber[]): unknown {
   let i = 0;
   const fail = (message: string, at = i, pointer?: string): never => {
     const before = text.slice(0, at);
@@ -139,6 +149,7 @@ export function parseJsonStrict(text: string): unknown {
       i += m[0].length;
       const n = Number(m[0]);
       if (!Number.isFinite(n)) fail(`number ${m[0]} is too large (beyond ±1.8e308, the range of a double)`, at, pointer);
+      if (rounded && Number.isInteger(n) && /[.eE]/.test(m[0]) && !new D(m[0]).isInteger()) rounded.push({ pointer, text: m[0], value: n });
       return n;
     }
     return fail(`unexpected ${what()}; expected a value`);

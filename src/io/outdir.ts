@@ -59,6 +59,8 @@ export function isOurs(dir: string): boolean {
  * build, `build -o` never a sweep.
  */
 export function checkTarget(target: string, command: OutputCommand): void {
+  // resolve("") is the working folder: `-o "$UNSET"` wrote the build into it, reported as "wrote :"
+  if (target.trim() === "") throw new InputError({ file: "-o", message: `expected a folder name, got an empty string (write -o . for the working folder)` });
   const abs = resolve(target);
   // a link (dangling or not) is never written through nor replaced: the rename would replace the link itself
   if (isLink(abs)) throw new InputError({ file: target, message: "is a symbolic link; expected a new folder or an earlier steercode output (steercode does not write through links)" });

@@ -18,7 +18,7 @@ import { checkLayout, wordBytes, type WordLayout } from "../core/words.js";
 import { numberCell, readCsv, type CsvRow, type CsvTable } from "./csv.js";
 import { calibrationAt, type CalibrationServed, type CalibrationTable } from "../core/calibrate/per-frequency.js";
 import { MAX_SCENARIO_BYTES, readInput, type InputFile } from "./files.js";
-import { JsonError, parseJsonStrict } from "./jsonparse.js";
+import { JsonError, parseJsonStrict, type RoundedNumber } from "./jsonparse.js";
 import { ProblemList } from "./problems.js";
 import { validateScenarioJson } from "./schema.js";
 import { loadDevices } from "./devices-load.js";
@@ -82,14 +82,17 @@ export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenar
   const scenario = readInput(path, display, problems, undefined, MAX_SCENARIO_BYTES);
   if (!scenario) throw new InputError(problems);
   let doc: unknown;
+  const rounded: RoundedNumber[] = [];
   try {
-    doc = parseJsonStrict(scenario.text);
+    doc = parseJsonStrict(scenario.text, rounded);
   } catch (e) {
     if (!(e instanceof JsonError)) throw e;
     throw new InputError({ file: display, line: e.line, ...(e.pointer !== undefined ? { pointer: e.pointer } : {}), message: `not valid JSON (${e.message}) at column ${e.column}` });
   }
   if (typeof doc !== "object" || doc === null || Array.isArray(doc)) throw new InputError({ file: display, pointer: "", message: "expected a JSON object (a steercode-scenario/1 document)" });
   const schemaProblems = validateScenarioJson(doc, display);
+  for (const r of rounded)
+    if (wholeNumberDue(doc, r.pointer, display)) schemaProblems.push({ file: display, pointer: r.pointer, message: `expected a whole number, got ${r.text} (not whole as written, though a double rounds it to ${r.value})` });
   const d = doc as Record<string, any>;
   const arr = (d.array ?? {}) as Record<string, unknown>;
   if (typeof d.array === "object" && d.array !== null && !Array.isArray(d.array)) {
@@ -103,6 +106,19 @@ export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenar
     throw new InputError(capped.all());
   }
   return new Loader(path, display, scenario, d, opts).load();
+}
+
+/**
+ * Does the schema want a whole number at `pointer`? Asked by putting 0.5 there and looking for a
+ * type error at that pointer (runs only for the rare numbers a double rounded to a whole one).
+ */
+function wholeNumberDue(doc: object, pointer: string, display: string): boolean {
+  const copy = structuredClone(doc) as Record<string, unknown>;
+  const keys = pointer.split("/").slice(1).map((k) => k.replace(/~1/g, "/").replace(/~0/g, "~"));
+  let at: any = copy;
+  for (const k of keys.slice(0, -1)) at = at[k];
+  at[keys[keys.length - 1]!] = 0.5;
+  return validateScenarioJson(copy, display).some((p) => p.pointer === pointer && /\binteger\b/.test(p.message));
 }
 
 class Loader {
@@ -433,6 +449,12 @@ class Loader {
       const t = this.file(b.file, "beams", "/beams/file", MAX_BEAMS, "beams in a table");
       if (!t) return null;
       const azel = t.header.includes("az_deg");
+      // both pairs of columns: the u,v columns were ignored without a word
+      const mixed = t.header.filter((c) => c === "az_deg" || c === "el_deg").length && t.header.filter((c) => c === "u" || c === "v").length;
+      if (mixed) {
+        this.problems.push({ file: t.file, line: t.comments.length + 1, message: `header ${t.header.join(",")} names both az_deg,el_deg and u,v columns; expected one pair (az_deg,el_deg or u,v)` });
+        return null;
+      }
       const [ca, cb] = azel ? ["az_deg", "el_deg"] : ["u", "v"];
       const a: string[] = [];
       const bb: string[] = [];
@@ -538,6 +560,11 @@ class Loader {
     if (!from || !to || !step) return null;
     if (to.exact.lt(from.exact)) {
       this.problem("/band", `"to" (${to.exact.toString()} Hz) is below "from" (${from.exact.toString()} Hz); expected from ≤ to`);
+      return null;
+    }
+    const span = to.exact.minus(from.exact);
+    if (span.gt(0) && step.exact.gt(span)) {
+      this.problem("/band/step", `step ${step.exact.toString()} Hz is larger than the span ${span.toString()} Hz; the band would hold only "from". Expected a step ≤ ${span.toString()} Hz (or from = to for one point)`);
       return null;
     }
     const count = axisCount(from.exact.toString(), to.exact.toString(), step.exact.toString());

@@ -28,7 +28,7 @@ import { SPEED_OF_LIGHT } from "../core/units.js";
 import { numberCell, readCsv } from "../io/csv.js";
 import { readInput, sha256 } from "../io/files.js";
 import { fixed } from "../io/format.js";
-import { compactIds, loadScenario } from "../io/scenario.js";
+import { compactIds, loadScenario, MAX_ELEMENT_ID } from "../io/scenario.js";
 
 export interface CalibrateOptions {
   scenario: string;
@@ -117,7 +117,7 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
   const keyOf = new Map<string, string>();
   const [ca, cb] = o.method === "rev" ? ["power_db", "power_db"] : ["amplitude_db", "phase_deg"];
   for (const r of t.rows) {
-    const id = numberCell(t, r, "element", problems, { integer: true, min: 0 });
+    const id = numberCell(t, r, "element", problems, { integer: true, min: 0, max: MAX_ELEMENT_ID });
     const code = o.method === "rev" ? numberCell(t, r, "phase_code", problems, { integer: true, min: 0 }) : { text: "0", value: 0 };
     const a = numberCell(t, r, ca!, problems);
     const b = o.method === "rev" ? a : numberCell(t, r, cb!, problems);
