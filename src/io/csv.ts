@@ -178,8 +178,9 @@ export function numberCell(t: CsvTable, row: CsvRow, col: string, problems: Prob
   if (!NUMBER_RE.test(text)) return bad();
   const value = Number(text);
   // A whole number is judged on the text, not on the double it rounds to: "2147483647.0000000001"
-  // and "1e-400" are not whole numbers, though Number() makes them 2147483647 and 0.
-  if (opts.integer && !new D(text).isInteger()) return bad();
+  // and "1e-400" are not whole numbers, though Number() makes them 2147483647 and 0. Plain digits
+  // are whole as written (decimal.js only for a point or an exponent: ids are most of a big file's cells).
+  if (opts.integer && /[.eE]/.test(text) && !new D(text).isInteger()) return bad();
   if (!Number.isFinite(value) || (opts.integer && !Number.isInteger(value)) || (opts.min !== undefined && value < opts.min) || (opts.max !== undefined && value > opts.max)) return bad();
   return { text, value };
 }
