@@ -4,7 +4,7 @@ import { setFlagsFromString } from "node:v8";
 // (+23 MB peak at 16 384 beams); the command keeps it at its start size, at no measured
 // cost in time (DEVELOPERS.md, "Memory"). The library leaves its caller's heap alone.
 setFlagsFromString("--semi-space-growth-factor=1");
-// the command line bundled into a few files (scripts/bundle-cli.mjs: ~35 ms less module loading a run)
+// the command line bundled into a few files (scripts/bundle-cli.mjs: ~30 ms less module loading a run)
 const { main } = await import("../dist/cli-bundle/main.js");
 
 // a reader that stops early (steercode diff A B | head) is not an error

@@ -2,9 +2,9 @@
 // command line as a few files, dist/cli-bundle/, which bin/steercode.js runs.
 //
 // Why: an ordinary build loaded ~65 of our ES modules and ~25 files of small packages one
-// by one; Node's ES module loader resolves, reads and links each, and that cost ~35 ms of
+// by one; Node's ES module loader resolves, reads and links each, and that cost ~30 ms of
 // every run (measured: `build --no-analysis` of 16×16 × 441 beams, 15 interleaved runs,
-// 263 → 226 ms median; DEVELOPERS.md, "Start-up"). esbuild (already a devDependency for
+// 263 → 234 ms median; DEVELOPERS.md, "Start-up"). esbuild (already a devDependency for
 // the report page) bundles the compiled dist/ JavaScript, so what runs is what tsc
 // emitted; code splitting keeps every dynamic import() a separate file, so a command
 // still loads only what it needs.
