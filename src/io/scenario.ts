@@ -91,8 +91,9 @@ export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenar
   }
   if (typeof doc !== "object" || doc === null || Array.isArray(doc)) throw new InputError({ file: display, pointer: "", message: "expected a JSON object (a steercode-scenario/1 document)" });
   const schemaProblems = validateScenarioJson(doc, display);
+  const due = rounded.length ? wholeNumbersDue(doc, rounded, display) : null;
   for (const r of rounded)
-    if (wholeNumberDue(doc, r.pointer, display)) schemaProblems.push({ file: display, pointer: r.pointer, message: `expected a whole number, got ${r.text} (not whole as written, though a double rounds it to ${r.value})` });
+    if (due!.has(r.pointer)) schemaProblems.push({ file: display, pointer: r.pointer, message: `expected a whole number, got ${r.text} (not whole as written, though a double rounds it to ${r.value})` });
   const d = doc as Record<string, any>;
   const arr = (d.array ?? {}) as Record<string, unknown>;
   if (typeof d.array === "object" && d.array !== null && !Array.isArray(d.array)) {
@@ -109,16 +110,20 @@ export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenar
 }
 
 /**
- * Does the schema want a whole number at `pointer`? Asked by putting 0.5 there and looking for a
- * type error at that pointer (runs only for the rare numbers a double rounded to a whole one).
+ * The pointers, among `rounded`, where the schema wants a whole number. Asked once for all of
+ * them: 0.5 is put at each and a copy validated, looking for a type error at that pointer
+ * (one validation, not one per number: 20 000 such numbers took 51 s that way).
  */
-function wholeNumberDue(doc: object, pointer: string, display: string): boolean {
+function wholeNumbersDue(doc: object, rounded: RoundedNumber[], display: string): Set<string> {
   const copy = structuredClone(doc) as Record<string, unknown>;
-  const keys = pointer.split("/").slice(1).map((k) => k.replace(/~1/g, "/").replace(/~0/g, "~"));
-  let at: any = copy;
-  for (const k of keys.slice(0, -1)) at = at[k];
-  at[keys[keys.length - 1]!] = 0.5;
-  return validateScenarioJson(copy, display).some((p) => p.pointer === pointer && /\binteger\b/.test(p.message));
+  for (const r of rounded) {
+    const keys = r.pointer.split("/").slice(1).map((k) => k.replace(/~1/g, "/").replace(/~0/g, "~"));
+    let at: any = copy;
+    for (const k of keys.slice(0, -1)) at = at[k];
+    at[keys[keys.length - 1]!] = 0.5;
+  }
+  const asked = new Set(rounded.map((r) => r.pointer));
+  return new Set(validateScenarioJson(copy, display).filter((p) => p.pointer !== undefined && asked.has(p.pointer) && /\binteger\b/.test(p.message)).map((p) => p.pointer!));
 }
 
 class Loader {
