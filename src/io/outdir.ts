@@ -58,9 +58,17 @@ export function isOurs(dir: string): boolean {
  * of the same command: `sweep -o` never replaces a build's tables, `diff -o` never a
  * build, `build -o` never a sweep.
  */
+/**
+ * An output named by an empty string is refused (exit 2): resolve("") is the working folder,
+ * so `-o "$UNSET"` wrote a build into it, reported as "wrote :", and a report or a
+ * calibration failed with a message that named no file.
+ */
+export function refuseEmptyTarget(target: string, expected: string, hint = ""): void {
+  if (target.trim() === "") throw new InputError({ file: "-o", message: `expected ${expected}, got an empty string${hint}` });
+}
+
 export function checkTarget(target: string, command: OutputCommand): void {
-  // resolve("") is the working folder: `-o "$UNSET"` wrote the build into it, reported as "wrote :"
-  if (target.trim() === "") throw new InputError({ file: "-o", message: `expected a folder name, got an empty string (write -o . for the working folder)` });
+  refuseEmptyTarget(target, "a folder name", " (write -o . for the working folder)");
   const abs = resolve(target);
   // a link (dangling or not) is never written through nor replaced: the rename would replace the link itself
   if (isLink(abs)) throw new InputError({ file: target, message: "is a symbolic link; expected a new folder or an earlier steercode output (steercode does not write through links)" });
@@ -121,6 +129,7 @@ export function writeProblem(e: NodeJS.ErrnoException, target: string, what = "c
  * steercode report, so a report never overwrites a manifest, a table or a scenario.
  */
 export function checkReportTarget(out: string): void {
+  refuseEmptyTarget(out, "a file name for the report (e.g. report.html)");
   if (!existsSync(out)) return;
   if (statSync(out).isDirectory()) throw new InputError({ file: out, message: "is a folder; expected a file name for the report (e.g. report.html)" });
   let head = "";

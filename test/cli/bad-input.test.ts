@@ -166,6 +166,9 @@ const cases: Case[] = [
   { name: "sweep --quantizer ,", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--quantizer", ","], expect: [/--quantizer: expected at least one of nearest, randomized, optimized/] },
   // an empty -o is the working folder to resolve(): the build was written into it
   { name: "build -o an empty string", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", ""], expect: [/-o: expected a folder name, got an empty string/] },
+  // the same for the commands that write one file: the message named no file ("cannot write the report: ENOENT"; calibrate: "steercode: is a folder")
+  { name: "report -o an empty string", prepare: (d) => mkdirSync(join(d, "out")), args: (d) => ["report", join(d, "out"), "-o", ""], expect: [/-o: expected a file name for the report \(e\.g\. report\.html\), got an empty string/] },
+  { name: "calibrate -o an empty string", doc: B(), files: { "rev.csv": REV(revRows()) }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", ""], expect: [/-o: expected a file name for the calibration \(e\.g\. cal\.csv\), got an empty string/] },
   { name: "sweep --atten-step 1e300", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--atten-step", "1e300"], expect: [/--atten-step: expected steps in dB greater than 0 and at most 100/] },
   // only regular files are read, with limits that hold for streams too
   { name: "calibration is /dev/zero", doc: B({ calibration: "/dev/zero" }), expect: [/\/dev\/zero: \/calibration: expected a regular file, found a character device/] },
