@@ -3,6 +3,18 @@ import { METRICS, M } from "../../src/core/pattern/analyze.js";
 import { baseScenario, load } from "../helpers.js";
 import { analyseAll } from "./engine-run.js";
 
+/** psl_ideal_db of the two listed beams on a columns × rows line at λ/2, Taylor −25 dB n̄ = 3. */
+function lineIdealPsl(columns: number, rows: number, beamsCsv: string): [number, number] {
+  const L = load(baseScenario({
+    array: { lattice: { kind: "rectangular", columns, rows, dx: "0.5 lambda", dy: "0.5 lambda" } },
+    beams: { kind: "list", file: "beams.csv" },
+    taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 },
+    phaseShifter: { bits: 5 },
+  }), { "beams.csv": beamsCsv });
+  const out = analyseAll(L.plan);
+  return [out[M.psl_ideal_db]!, out[METRICS + M.psl_ideal_db]!];
+}
+
 describe("line arrays: the ideal PSL of a beam commanded onto the horizon", () => {
   // 1 column × 8 rows at λ/2 (a line along y), Taylor −25 dB n̄ = 3. The pattern depends on
   // v only, so every v in [−1, 1] is visible (at u = 0) whatever the beam's u.
@@ -13,28 +25,15 @@ describe("line arrays: the ideal PSL of a beam commanded onto the horizon", () =
   // psl_ideal_db −20.41866 for both (|AF|² at v = −1, on the grating lobe's flank).
   // Before the fix (horizon.ts: the circle's extreme points) beam 0 gave −24.37 dB.
   it("matches brute force, and the beam at u = 0 with the same v", () => {
-    const L = load(baseScenario({
-      array: { lattice: { kind: "rectangular", columns: 1, rows: 8, dx: "0.5 lambda", dy: "0.5 lambda" } },
-      beams: { kind: "list", file: "beams.csv" },
-      taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 },
-      phaseShifter: { bits: 5 },
-    }), { "beams.csv": "az_deg,el_deg\n90,45\n0,45\n" });
-    const out = analyseAll(L.plan);
-    if (process.env.DEBUG_PSL) console.log(out[M.psl_ideal_db], out[METRICS + M.psl_ideal_db], out[M.psl_db], out[METRICS + M.psl_db]);
-    expect(Math.abs(out[M.psl_ideal_db]! - -20.41866)).toBeLessThan(0.05);
-    expect(Math.abs(out[METRICS + M.psl_ideal_db]! - -20.41866)).toBeLessThan(0.05);
+    const [onHorizon, atU0] = lineIdealPsl(1, 8, "az_deg,el_deg\n90,45\n0,45\n");
+    expect(Math.abs(onHorizon - -20.41866)).toBeLessThan(0.05);
+    expect(Math.abs(atU0 - -20.41866)).toBeLessThan(0.05);
   });
   // The same line along x (8 columns × 1 row): the pattern depends on u only; by symmetry
   // the same brute-force value holds for the beam at θ = 90°, φ = 45° and for az 45°, el 0°.
   it("along x too", () => {
-    const L = load(baseScenario({
-      array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" } },
-      beams: { kind: "list", file: "beams.csv" },
-      taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 },
-      phaseShifter: { bits: 5 },
-    }), { "beams.csv": "u,v\n0.7071067811865476,0.7071067811865475\n0.7071067811865476,0\n" });
-    const out = analyseAll(L.plan);
-    expect(Math.abs(out[M.psl_ideal_db]! - -20.41866)).toBeLessThan(0.05);
-    expect(Math.abs(out[METRICS + M.psl_ideal_db]! - -20.41866)).toBeLessThan(0.05);
+    const [onHorizon, atV0] = lineIdealPsl(8, 1, "u,v\n0.7071067811865476,0.7071067811865475\n0.7071067811865476,0\n");
+    expect(Math.abs(onHorizon - -20.41866)).toBeLessThan(0.05);
+    expect(Math.abs(atV0 - -20.41866)).toBeLessThan(0.05);
   });
 });
