@@ -1,11 +1,12 @@
 #!/usr/bin/env node
-import { setFlagsFromString } from "node:v8";
+// CommonJS (bin/package.json): no ES module loader at start (scripts/bundle-cli.mjs).
+const { setFlagsFromString } = require("node:v8");
 // Memory flat in beams: V8 doubles its young generation as a long run's survivors add up
 // (+23 MB peak at 16 384 beams); the command keeps it at its start size, at no measured
 // cost in time (DEVELOPERS.md, "Memory"). The library leaves its caller's heap alone.
 setFlagsFromString("--semi-space-growth-factor=1");
-// the command line bundled into a few files (scripts/bundle-cli.mjs: ~30 ms less module loading a run)
-const { main } = await import("../dist/cli-bundle/main.js");
+// the command line bundled into one CommonJS file (scripts/bundle-cli.mjs)
+const { main } = require("../dist/cli-bundle/main.js");
 
 // a reader that stops early (steercode diff A B | head) is not an error
 process.stdout.on("error", (e) => {

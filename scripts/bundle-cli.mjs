@@ -1,26 +1,36 @@
 // Build step (npm run build / prepare), after tsc, compile-schema and bundle-report: the
-// command line as a few files, dist/cli-bundle/, which bin/steercode.js runs.
+// command line as two CommonJS files, dist/cli-bundle/main.js and analysis-worker.js,
+// which bin/steercode.js runs.
 //
-// Why: an ordinary build loaded ~65 of our ES modules and ~25 files of small packages one
-// by one; Node's ES module loader resolves, reads and links each, and that cost ~30 ms of
-// every run (measured: `build --no-analysis` of 16×16 × 441 beams, 15 interleaved runs,
-// 263 → 234 ms median; DEVELOPERS.md, "Start-up"). esbuild (already a devDependency for
-// the report page) bundles the compiled dist/ JavaScript, so what runs is what tsc
-// emitted; code splitting keeps every dynamic import() a separate file, so a command
-// still loads only what it needs.
+// Why a bundle: an ordinary build loaded ~65 of our ES modules and ~25 files of small
+// packages one by one; Node's ES module loader resolves, reads and links each, and that
+// cost ~30 ms of every run (measured: `build --no-analysis` of 16×16 × 441 beams, 15
+// interleaved runs, 263 → 234 ms median; DEVELOPERS.md, "Start-up"). esbuild (already a
+// devDependency for the report page) bundles the compiled dist/ JavaScript, so what runs
+// is what tsc emitted.
+//
+// Why CommonJS: Node's ES module loader itself (its resolver, translators and the
+// fs/promises, readline and stream modules it loads), and the import of a built-in module
+// as an ES module (it evaluates every lazy export: `node:crypto` loads webcrypto,
+// `node:module` the source-map support) cost ~20–30 ms of CPU a run beyond `require`
+// (DEVELOPERS.md, "Start-up"). A `package.json` of `{"type":"commonjs"}` beside the two
+// files (and in bin/) makes Node read them as CommonJS under their .js names. Each
+// `import()` of the sources becomes a lazily run module inside the file (esbuild's
+// wrappers), so a command still runs only what it needs; the file is parsed whole.
 //
 // Layout: dist/cli-bundle/ sits at the same depth as dist/io/ and dist/report/, so the
 // modules' `new URL("../../…", import.meta.url)` paths (schemas, package.json, demo)
-// resolve as before, and so do those that name their own folder on the way (schema.ts:
-// "../io/scenario-validate.cjs", page.ts: "../report/explorer.js"); the analysis worker,
-// opened as "./analysis-worker.js" beside the pool, is a second entry point here. The
-// library (dist/index.js) is not bundled.
+// resolve as before (import.meta.url is defined as the bundle file's URL), and so do
+// those that name their own folder on the way (schema.ts: "../io/scenario-validate.cjs",
+// page.ts: "../report/explorer.js"); the analysis worker, opened as
+// "./analysis-worker.js" beside the pool, is the second entry point here (it carries its
+// own copy of the analysis code). The library (dist/index.js) is not bundled.
 //
-// External (loaded from node_modules as they are): the packages loaded on demand through
-// import() or createRequire (yargs, ajv, csv-parse, cli-progress, safe-stable-stringify)
+// External (loaded from node_modules as they are, through their CommonJS entries): the
+// packages loaded on demand (yargs, ajv, csv-parse, cli-progress, safe-stable-stringify)
 // and yargs-parser, so that test/cli/startup.test.ts still sees which packages a command
 // loads.
-import { mkdirSync, rmSync } from "node:fs";
+import { mkdirSync, rmSync, writeFileSync } from "node:fs";
 import { fileURLToPath } from "node:url";
 
 const dist = (p) => fileURLToPath(new URL(`../dist/${p}`, import.meta.url));
@@ -33,16 +43,17 @@ export async function bundleCli() {
   await build({
     entryPoints: { main: dist("cli/main.js"), "analysis-worker": dist("io/analysis-worker.js") },
     bundle: true,
-    splitting: true,
-    format: "esm",
+    format: "cjs",
     platform: "node",
     target: "node20",
     outdir: out,
-    chunkNames: "chunk-[hash]",
+    define: { "import.meta.url": "__bundle_url" },
+    banner: { js: 'const __bundle_url = require("node:url").pathToFileURL(__filename).href;' },
     external: ["yargs", "yargs/*", "yargs-parser", "ajv", "ajv/*", "csv-parse", "csv-parse/*", "cli-progress", "safe-stable-stringify", "*.cjs"],
     legalComments: "inline",
     logLevel: "warning",
   });
+  writeFileSync(`${out}/package.json`, JSON.stringify({ type: "commonjs" }) + "\n");
 }
 
 if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) await bundleCli();

@@ -1,7 +1,8 @@
 /**
  * What a run loads: an ordinary command line must not load yargs' help machinery, ajv,
  * csv-parse or cli-progress (they are loaded on demand); help still goes through yargs.
- * Checked by the modules the built command loads (a module loader hook), not by time.
+ * Checked by the modules the built command loads (a hook on CommonJS resolution, the
+ * command being CommonJS, and an ES module loader hook for anything imported), not by time.
  */
 import { spawnSync } from "node:child_process";
 import { readFileSync, writeFileSync } from "node:fs";
@@ -21,10 +22,15 @@ function packagesLoaded(args: string[]): { code: number; packages: Set<string> }
   writeFileSync(trace, "");
   writeFileSync(join(d, "hooks.mjs"), `import { appendFileSync } from "node:fs";\nexport async function load(url, context, next) { appendFileSync(${JSON.stringify(trace)}, url + "\\n"); return next(url, context); }\n`);
   writeFileSync(join(d, "register.mjs"), `import { register } from "node:module";\nregister(${JSON.stringify(pathToFileURL(join(d, "hooks.mjs")).href)});\n`);
-  const r = spawnSync(process.execPath, ["--import", pathToFileURL(join(d, "register.mjs")).href, BIN, ...args], { cwd: d, encoding: "utf8", env: { ...process.env, NO_COLOR: "1" } });
-  // ESM imports go through the hook; CommonJS requires (createRequire) show as their package's files too
+  writeFileSync(
+    join(d, "require.cjs"),
+    `const Module = require("node:module"), { appendFileSync } = require("node:fs");\nconst resolve = Module._resolveFilename;\nModule._resolveFilename = function (...a) { const f = resolve.apply(this, a); appendFileSync(${JSON.stringify(trace)}, f + "\\n"); return f; };\n`,
+  );
+  const r = spawnSync(process.execPath, ["--require", join(d, "require.cjs"), "--import", pathToFileURL(join(d, "register.mjs")).href, BIN, ...args], { cwd: d, encoding: "utf8", env: { ...process.env, NO_COLOR: "1" } });
+  // CommonJS requires show as the files they resolve to, ES module imports as their URLs
   const urls = readFileSync(trace, "utf8").split("\n").filter(Boolean);
-  const packages = new Set(urls.map((u) => /node_modules\/((?:@[^/]+\/)?[^/]+)\//.exec(u)?.[1]).filter((p): p is string => !!p));
+  // the standalone validator's two runtime helpers (node_modules/ajv/dist/runtime/) are not ajv's compiler
+  const packages = new Set(urls.map((u) => (/node_modules\/ajv\/dist\/runtime\//.test(u) ? "ajv/dist/runtime" : /node_modules\/((?:@[^/]+\/)?[^/]+)\//.exec(u)?.[1])).filter((p): p is string => !!p));
   return { code: r.status ?? -1, packages };
 }
 
