@@ -26,10 +26,15 @@
 // "./analysis-worker.js" beside the pool, is the second entry point here (it carries its
 // own copy of the analysis code). The library (dist/index.js) is not bundled.
 //
+// `node:module` is replaced by scripts/cjs-shims/module.js: createRequire is the bundle's
+// own require, and Node's "module" built-in, which loads the ES module loader when
+// required, is never loaded.
+//
 // External (loaded from node_modules as they are, through their CommonJS entries): the
-// packages loaded on demand (yargs, ajv, csv-parse, cli-progress, safe-stable-stringify)
-// and yargs-parser, so that test/cli/startup.test.ts still sees which packages a command
-// loads.
+// packages loaded on demand (yargs, ajv, csv-parse, cli-progress, safe-stable-stringify),
+// so that test/cli/startup.test.ts still sees which packages a command loads. yargs-parser,
+// which every run's fast path uses, is bundled: requiring a package that declares
+// "exports" makes Node load its ES module resolver (~25 internal modules).
 import { mkdirSync, rmSync, writeFileSync } from "node:fs";
 import { fileURLToPath } from "node:url";
 
@@ -48,8 +53,9 @@ export async function bundleCli() {
     target: "node20",
     outdir: out,
     define: { "import.meta.url": "__bundle_url" },
+    alias: { "node:module": fileURLToPath(new URL("./cjs-shims/module.js", import.meta.url)) },
     banner: { js: 'const __bundle_url = require("node:url").pathToFileURL(__filename).href;' },
-    external: ["yargs", "yargs/*", "yargs-parser", "ajv", "ajv/*", "csv-parse", "csv-parse/*", "cli-progress", "safe-stable-stringify", "*.cjs"],
+    external: ["yargs", "yargs/*", "ajv", "ajv/*", "csv-parse", "csv-parse/*", "cli-progress", "safe-stable-stringify", "*.cjs"],
     legalComments: "inline",
     logLevel: "warning",
   });

@@ -43,7 +43,6 @@ describe("start-up: a command loads what it needs", () => {
     const c = packagesLoaded(["check", DEMO]);
     expect(c.code).toBe(0);
     for (const p of ["yargs", "cliui", "y18n", "ajv", "csv-parse", "cli-progress", "safe-stable-stringify"]) expect(c.packages.has(p), p).toBe(false);
-    expect(c.packages.has("yargs-parser")).toBe(true); // the fast path's parser
   });
 
   it("help and a usage error still go through yargs", () => {
