@@ -26,10 +26,10 @@ function write(name, doc, files = {}) {
   writeFileSync(p, JSON.stringify(doc));
   return p;
 }
-/** wall time and peak RSS of one CLI run (the child reports its own, bench/rss.js) */
+/** wall time and peak RSS of one CLI run (the child reports its own, bench/rss.cjs) */
 function run(args, expectCode = 0) {
   const t = performance.now();
-  const r = spawnSync(process.execPath, [join(ROOT, "bench", "rss.js"), ...args], { encoding: "utf8", maxBuffer: 1 << 28 });
+  const r = spawnSync(process.execPath, [join(ROOT, "bench", "rss.cjs"), ...args], { encoding: "utf8", maxBuffer: 1 << 28 });
   const ms = performance.now() - t;
   if (r.status !== expectCode) throw new Error(`steercode ${args.join(" ")}: exit ${r.status}, expected ${expectCode}: ${r.stderr.slice(0, 2000)}`);
   const rss = Number(/MAXRSS (\d+)/.exec(r.stderr)?.[1] ?? NaN) / 1024;

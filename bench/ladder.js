@@ -36,7 +36,7 @@ export function benchLadder(runs = 3, sides = [16, 32, 64, 128], beamCounts = [4
     cases.forEach((c, k) => {
       const out = join(tmp, "out");
       rmSync(out, { recursive: true, force: true });
-      const ours = () => timeCmd(process.execPath, [join(ROOT, "bench", "rss.js"), "build", c.scenario, "-o", out]);
+      const ours = () => timeCmd(process.execPath, [join(ROOT, "bench", "rss.cjs"), "build", c.scenario, "-o", out]);
       const numpy = () => timeCmd(PY, ["-c", RSS_PY, join(ROOT, "bench", "baseline_numpy.py"), c.scenario, join(tmp, "numpy.csv")]);
       const [a, b] = i % 2 === 0 ? [ours(), numpy()] : (() => { const y = numpy(); return [ours(), y]; })();
       const t = times[k];

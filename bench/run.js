@@ -155,7 +155,7 @@ if (!ONLY || ONLY === "memory") {
     const ms = [], rss = [];
     for (let i = 0; i < RUNS; i++) {
       rmSync(out, { recursive: true, force: true });
-      const r = timeCmd(process.execPath, [join(ROOT, "bench", "rss.js"), "build", s, "-o", out]);
+      const r = timeCmd(process.execPath, [join(ROOT, "bench", "rss.cjs"), "build", s, "-o", out]);
       ms.push(r.ms);
       rss.push(r.maxRssKb / 1024);
     }
@@ -241,7 +241,7 @@ if (!ONLY || ONLY === "diff") {
   timeCmd(process.execPath, [BIN, "build", join(bDir, "scenario.json"), "-o", ob, "--no-analysis"]);
   const diffRun = (extra) => {
     const t = performance.now();
-    const r = spawnSync(process.execPath, [join(ROOT, "bench", "rss.js"), "diff", oa, ob, ...extra], { encoding: "utf8", maxBuffer: 1 << 20, stdio: ["ignore", extra.includes("--json") ? "ignore" : "pipe", "pipe"] });
+    const r = spawnSync(process.execPath, [join(ROOT, "bench", "rss.cjs"), "diff", oa, ob, ...extra], { encoding: "utf8", maxBuffer: 1 << 20, stdio: ["ignore", extra.includes("--json") ? "ignore" : "pipe", "pipe"] });
     if (r.status !== 1) throw new Error(`diff: exit ${r.status}: ${r.stderr}`);
     return { ms: performance.now() - t, peakRssMB: Number(/MAXRSS (\d+)/.exec(r.stderr)[1]) / 1024 };
   };

@@ -35,6 +35,7 @@
 // so that test/cli/startup.test.ts still sees which packages a command loads. yargs-parser,
 // which every run's fast path uses, is bundled: requiring a package that declares
 // "exports" makes Node load its ES module resolver (~25 internal modules).
+import { spawnSync } from "node:child_process";
 import { mkdirSync, rmSync, writeFileSync } from "node:fs";
 import { fileURLToPath } from "node:url";
 
@@ -60,6 +61,18 @@ export async function bundleCli() {
     logLevel: "warning",
   });
   writeFileSync(`${out}/package.json`, JSON.stringify({ type: "commonjs" }) + "\n");
+  // the code cache fits only the Node version that made it: made where steercode is built
+  // (npm ci, npm run build), left out of the npm package
+  writeFileSync(`${out}/.npmignore`, "*.cache\n");
 }
 
-if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) await bundleCli();
+/** The bundle's V8 code cache (scripts/code-cache.cjs), made in a child process with its output discarded. */
+export function codeCache() {
+  const r = spawnSync(process.execPath, [fileURLToPath(new URL("./code-cache.cjs", import.meta.url))], { stdio: ["ignore", "ignore", "pipe"], encoding: "utf8" });
+  if (r.status !== 0) throw new Error(`scripts/code-cache.cjs failed (exit ${r.status}): ${r.stderr}`);
+}
+
+if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
+  await bundleCli();
+  codeCache();
+}

@@ -1,0 +1,63 @@
+// Loads the command's CommonJS bundle (dist/cli-bundle/main.js) with the V8 code cache
+// that the build made beside it (main.js.cache, scripts/code-cache.cjs): the functions a
+// command runs are then deserialised instead of parsed and compiled at every start
+// (DEVELOPERS.md, "Start-up"). Without a cache, or with one made for other bytes or by
+// another V8 (a different Node version, other V8 flags), the bundle is compiled as usual.
+//
+// The cache file is a 12-byte header (magic "SCC1", the source's length in UTF-16 code
+// units and its CRC-32, both uint32 little-endian) and V8's cached data. V8 itself checks
+// its version and flags but identifies the source by its length only, so the CRC-32 of the
+// bytes is checked here before V8 is given the cache.
+"use strict";
+const { readFileSync } = require("node:fs");
+const { dirname } = require("node:path");
+const { Script } = require("node:vm");
+
+const MAGIC = 0x31434353; // "SCC1"
+
+/** CRC-32 (zlib's) of a string's UTF-8 bytes; loaded lazily (node:zlib). */
+function crcOf(text) {
+  return require("node:zlib").crc32(text) >>> 0;
+}
+
+/** The header for `source`'s cache. */
+function cacheHeader(source) {
+  const h = Buffer.alloc(12);
+  h.writeUInt32LE(MAGIC, 0);
+  h.writeUInt32LE(source.length >>> 0, 4);
+  h.writeUInt32LE(crcOf(source), 8);
+  return h;
+}
+
+/**
+ * Runs `file` (CommonJS) as Node's require would, using `file + ".cache"` when it
+ * matches (unless useCache is false). Returns { exports, status, script, cacheHeader }:
+ * status is "used", "rejected" (V8 refused it), "stale" (made for other bytes) or "none".
+ * (A source this process compiled before comes from V8's own in-memory cache; the file's
+ * is then not consulted and counts as used.)
+ */
+function loadBundle(file, useCache = true) {
+  const source = readFileSync(file, "utf8");
+  let cache = null;
+  let status = "none";
+  try {
+    if (!useCache) throw new Error("no cache asked for");
+    const c = readFileSync(file + ".cache");
+    if (c.length > 12 && c.readUInt32LE(0) === MAGIC && c.readUInt32LE(4) === source.length >>> 0 && c.readUInt32LE(8) === crcOf(source)) cache = c.subarray(12);
+    else status = "stale";
+  } catch {
+    // no cache: compile as usual
+  }
+  const Module = module.constructor;
+  const script = new Script(Module.wrap(source), { filename: file, cachedData: cache ?? undefined });
+  if (cache) status = script.cachedDataRejected ? "rejected" : "used";
+  const m = new Module(file, module);
+  m.filename = file;
+  m.paths = Module._nodeModulePaths(dirname(file));
+  const req = (id) => m.require(id);
+  script.runInThisContext().call(m.exports, m.exports, req, m, file, dirname(file));
+  m.loaded = true;
+  return { exports: m.exports, status, script, cacheHeader: () => cacheHeader(source) };
+}
+
+module.exports = { loadBundle };

@@ -1,0 +1,36 @@
+// Build step (run by scripts/bundle-cli.mjs after bundling): the V8 code cache of the
+// command's bundle, dist/cli-bundle/main.js.cache, which bin/load-bundle.js hands to V8.
+// V8 caches the functions compiled when the cache is taken, so this process loads the
+// bundle exactly as bin/steercode.js does (same V8 flags: the cache is checked against
+// them), runs the commands of an ordinary session on the demo (check, build with every
+// format and the analysis, diff, verify, report) and then writes the cache.
+"use strict";
+const { mkdtempSync, rmSync, writeFileSync } = require("node:fs");
+const { tmpdir } = require("node:os");
+const { join } = require("node:path");
+
+require("node:v8").setFlagsFromString("--semi-space-growth-factor=1"); // as bin/steercode.js
+const root = join(__dirname, "..");
+const file = join(root, "dist", "cli-bundle", "main.js");
+const { exports: bundle, script, cacheHeader } = require(join(root, "bin", "load-bundle.js")).loadBundle(file);
+
+async function train() {
+  const demo = join(root, "fixtures", "demo", "scenario.json");
+  const tmp = mkdtempSync(join(tmpdir(), "steercode-code-cache-"));
+  try {
+    const out = join(tmp, "build");
+    const sessions = [["check", demo], ["build", demo, "-o", out, "--jobs", "1"], ["diff", out, out], ["verify", out, "--jobs", "1"], ["report", out, "-o", join(tmp, "report.html")]];
+    for (const argv of sessions) {
+      const code = await bundle.main(argv);
+      if (code !== 0) throw new Error(`code cache: steercode ${argv[0]} exited ${code}`);
+    }
+  } finally {
+    rmSync(tmp, { recursive: true, force: true });
+  }
+  writeFileSync(file + ".cache", Buffer.concat([cacheHeader(), script.createCachedData()]));
+}
+
+train().catch((e) => {
+  process.stderr.write(String(e?.stack ?? e) + "\n");
+  process.exit(1);
+});
