@@ -26,6 +26,9 @@
 // "./analysis-worker.js" beside the pool, is the second entry point here (it carries its
 // own copy of the analysis code). The library (dist/index.js) is not bundled.
 //
+// The standalone validator (dist/io/scenario-validate.cjs) is bundled too (the
+// validatorInBundle plugin), so that its compiled code is in the code cache.
+//
 // `node:module` is replaced by scripts/cjs-shims/module.js: createRequire is the bundle's
 // own require, and Node's "module" built-in, which loads the ES module loader when
 // required, is never loaded.
@@ -41,6 +44,25 @@ import { fileURLToPath } from "node:url";
 
 const dist = (p) => fileURLToPath(new URL(`../dist/${p}`, import.meta.url));
 
+/**
+ * schema.ts opens the standalone validator with createRequire (it is absent when running
+ * from source); esbuild sees no require there, so this plugin turns that one call into a
+ * plain require, which bundles dist/io/scenario-validate.cjs and its ajv runtime helpers
+ * into main.js (and so into its code cache). It fails the build if the call is not found.
+ */
+const validatorInBundle = {
+  name: "validator-in-bundle",
+  setup(b) {
+    b.onLoad({ filter: /[\\/]dist[\\/]io[\\/]schema\.js$/ }, async (args) => {
+      const { readFile } = await import("node:fs/promises");
+      const call = 'createRequire(import.meta.url)("../io/scenario-validate.cjs")';
+      const text = await readFile(args.path, "utf8");
+      if (!text.includes(call)) throw new Error(`bundle-cli: ${args.path} no longer contains ${call}`);
+      return { contents: text.replace(call, 'require("../io/scenario-validate.cjs")'), loader: "js" };
+    });
+  },
+};
+
 export async function bundleCli() {
   const { build } = await import("esbuild");
   const out = dist("cli-bundle");
@@ -55,8 +77,9 @@ export async function bundleCli() {
     outdir: out,
     define: { "import.meta.url": "__bundle_url" },
     alias: { "node:module": fileURLToPath(new URL("./cjs-shims/module.js", import.meta.url)) },
+    plugins: [validatorInBundle],
     banner: { js: 'const __bundle_url = require("node:url").pathToFileURL(__filename).href;' },
-    external: ["yargs", "yargs/*", "ajv", "ajv/*", "csv-parse", "csv-parse/*", "cli-progress", "safe-stable-stringify", "*.cjs"],
+    external: ["yargs", "yargs/*", "ajv/dist/2020.js", "csv-parse", "csv-parse/*", "cli-progress", "safe-stable-stringify"],
     legalComments: "inline",
     logLevel: "warning",
   });
