@@ -166,6 +166,8 @@ export function squintBandwidth(plan: Plan, fi: number): SquintBandwidth | null 
     }
     for (let it = 0; it < 60; it++) {
       const m = (a + bnd) / 2;
+      // a and bnd adjacent doubles: further halvings keep returning m (same result, fewer evaluations)
+      if (m === a || m === bnd) break;
       if (at(theta0 + dir * m) > p0 / 2) a = m;
       else bnd = m;
     }
