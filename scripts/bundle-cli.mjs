@@ -89,10 +89,15 @@ export async function bundleCli() {
   writeFileSync(`${out}/.npmignore`, "*.cache\n");
 }
 
-/** The bundle's V8 code cache (scripts/code-cache.cjs), made in a child process with its output discarded. */
+/**
+ * The bundle's V8 code cache (scripts/code-cache.cjs), made in a child process with its
+ * output discarded. Not fatal: the command runs without it (a little slower to start), so
+ * a machine where the demo session cannot run (no temporary folder, say) still installs;
+ * test/cli/code-cache.test.ts fails when the cache is missing.
+ */
 export function codeCache() {
   const r = spawnSync(process.execPath, [fileURLToPath(new URL("./code-cache.cjs", import.meta.url))], { stdio: ["ignore", "ignore", "pipe"], encoding: "utf8" });
-  if (r.status !== 0) throw new Error(`scripts/code-cache.cjs failed (exit ${r.status}): ${r.stderr}`);
+  if (r.status !== 0) process.stderr.write(`bundle-cli: warning: no code cache (scripts/code-cache.cjs exited ${r.status}): ${r.stderr}\n`);
 }
 
 if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {

@@ -5,7 +5,7 @@
 // them), runs the commands of an ordinary session on the demo (check, build with every
 // format and the analysis, diff, verify, report) and then writes the cache.
 "use strict";
-const { mkdtempSync, rmSync, writeFileSync } = require("node:fs");
+const { mkdtempSync, renameSync, rmSync, writeFileSync } = require("node:fs");
 const { tmpdir } = require("node:os");
 const { join } = require("node:path");
 
@@ -27,9 +27,12 @@ async function train() {
   } finally {
     rmSync(tmp, { recursive: true, force: true });
   }
-  writeFileSync(file + ".cache", Buffer.concat([cacheHeader(), script.createCachedData()]));
+  // written whole or not at all (a cut file would only be refused by V8, but needs no test)
+  writeFileSync(file + ".cache.tmp", Buffer.concat([cacheHeader(), script.createCachedData()]));
+  renameSync(file + ".cache.tmp", file + ".cache");
 }
 
+rmSync(file + ".cache", { force: true }); // no stale cache if this fails
 train().catch((e) => {
   process.stderr.write(String(e?.stack ?? e) + "\n");
   process.exit(1);
