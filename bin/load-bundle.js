@@ -4,8 +4,8 @@
 // (DEVELOPERS.md, "Start-up"). Without a cache, or with one made for other bytes or by
 // another V8 (a different Node version, other V8 flags), the bundle is compiled as usual.
 //
-// The cache file is a 12-byte header (magic "SCC1", the source's length in UTF-16 code
-// units and its CRC-32, both uint32 little-endian) and V8's cached data. V8 itself checks
+// The cache file is a 12-byte header (magic "SCC1", the source file's length in bytes and
+// their CRC-32, both uint32 little-endian) and V8's cached data. V8 itself checks
 // its version and flags but identifies the source by its length only, so the CRC-32 of the
 // bytes is checked here before V8 is given the cache.
 "use strict";
@@ -15,17 +15,12 @@ const { Script } = require("node:vm");
 
 const MAGIC = 0x31434353; // "SCC1"
 
-/** CRC-32 (zlib's) of a string's UTF-8 bytes; loaded lazily (node:zlib). */
-function crcOf(text) {
-  return require("node:zlib").crc32(text) >>> 0;
-}
-
-/** The header for `source`'s cache. */
-function cacheHeader(source) {
+/** The header for a cache of the source `bytes`: magic, byte length, CRC-32 (zlib's, loaded lazily). */
+function cacheHeader(bytes) {
   const h = Buffer.alloc(12);
   h.writeUInt32LE(MAGIC, 0);
-  h.writeUInt32LE(source.length >>> 0, 4);
-  h.writeUInt32LE(crcOf(source), 8);
+  h.writeUInt32LE(bytes.length >>> 0, 4);
+  h.writeUInt32LE(require("node:zlib").crc32(bytes) >>> 0, 8);
   return h;
 }
 
@@ -37,13 +32,14 @@ function cacheHeader(source) {
  * is then not consulted and counts as used.)
  */
 function loadBundle(file, useCache = true) {
-  const source = readFileSync(file, "utf8");
+  const bytes = readFileSync(file);
+  const source = bytes.toString("utf8");
   let cache = null;
   let status = "none";
   try {
     if (!useCache) throw new Error("no cache asked for");
     const c = readFileSync(file + ".cache");
-    if (c.length > 12 && c.readUInt32LE(0) === MAGIC && c.readUInt32LE(4) === source.length >>> 0 && c.readUInt32LE(8) === crcOf(source)) cache = c.subarray(12);
+    if (c.length > 12 && c.subarray(0, 12).equals(cacheHeader(bytes))) cache = c.subarray(12);
     else status = "stale";
   } catch {
     // no cache: compile as usual
@@ -57,7 +53,7 @@ function loadBundle(file, useCache = true) {
   const req = (id) => m.require(id);
   script.runInThisContext().call(m.exports, m.exports, req, m, file, dirname(file));
   m.loaded = true;
-  return { exports: m.exports, status, script, cacheHeader: () => cacheHeader(source) };
+  return { exports: m.exports, status, script, cacheHeader: () => cacheHeader(bytes) };
 }
 
 module.exports = { loadBundle };
