@@ -222,7 +222,8 @@ export class PatternGrid {
       const vv = v * v;
       const o = j * wm;
       const h = Math.sqrt(Math.max(0, 1 - vv));
-      let lo = Math.max(0, Math.min(wm - 1, Math.ceil((-h - u0) / du) - m0));
+      // + 0: Math.ceil gives −0 for (−1, −0] (see inMain, horizon.ts)
+      let lo = Math.max(0, Math.min(wm - 1, Math.ceil((-h - u0) / du) + 0 - m0));
       let hi = Math.max(0, Math.min(wm - 1, Math.floor((h - u0) / du) - m0));
       while (lo > 0 && vis(lo - 1, vv)) lo--;
       while (lo < wm && !vis(lo, vv)) lo++;

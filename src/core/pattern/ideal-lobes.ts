@@ -78,7 +78,8 @@ export class IdealLobes {
     const q = this.lobeCell[k]!;
     const a = q % this.W, b = (q - a) / this.W;
     const r = refine(this.ev, (a - this.M) * this.du, (b - this.N) * this.dv, this.du, this.dv, null);
-    const ra = Math.round(r.du / this.du) + this.M, rb = Math.round(r.dv / this.dv) + this.N;
+    // + 0: no −0 from Math.round reaches an index (see inMain, horizon.ts)
+    const ra = Math.round(r.du / this.du) + 0 + this.M, rb = Math.round(r.dv / this.dv) + 0 + this.N;
     const inMain = ra < 0 || rb < 0 || ra >= this.W || rb >= this.H || this.main[rb * this.W + ra] === 1;
     if (inMain || !(r.p >= this.lobeGrid[k]!)) {
       this.refU[k] = (a - this.M) * this.du;

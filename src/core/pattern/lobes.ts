@@ -227,8 +227,9 @@ export class LobeFinder {
       d0.p = st[o + 2]!; d0.pu = st[o + 3]!; d0.pv = st[o + 4]!; d0.puu = st[o + 5]!; d0.pvv = st[o + 6]!; d0.puv = st[o + 7]!;
       const r = refine(ev, st[o]!, st[o + 1]!, du, dv, { u0, v0 }, d0);
       // the refined point must stay outside the main lobe; otherwise keep the grid value
-      const ra = Math.round(r.du / du) - win.m0;
-      const rb = Math.round(r.dv / dv) - win.n0;
+      // + 0: no −0 from Math.round reaches an index (see inMain, horizon.ts)
+      const ra = Math.round(r.du / du) + 0 - win.m0;
+      const rb = Math.round(r.dv / dv) + 0 - win.n0;
       const inside = ra >= 0 && rb >= 0 && ra < wm && rb < wn && mask[rb * wm + ra] === 1;
       let val = r.p, vu = r.du, vv = r.dv;
       if (inside || !(r.p >= candP[k]!)) { val = candP[k]!; vu = (win.m0 + a) * du; vv = (win.n0 + b) * dv; }
