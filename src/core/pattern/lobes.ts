@@ -110,6 +110,50 @@ export function quadraticPeak(ev: AfEvaluator, d: PowerDerivs, du: number, dv: n
   return Number.isFinite(v) ? v : Infinity;
 }
 
+/**
+ * Step 4 of LobeFinder.analyse: the CANDIDATES largest local maxima of the visible cells
+ * outside the main lobe (8-neighbourhood) into cand/candP; returns how many. A function of
+ * its own so that V8's on-stack replacement of this loop ends with the function (code
+ * after a hot loop that had not run yet when the loop was compiled made the optimized
+ * analyse bail out once a beam at 64×64: "insufficient type feedback").
+ */
+function scanCandidates(p: Float64Array, visible: Uint8Array, mask: Uint8Array, wm: number, wn: number, cand: Int32Array, candP: Float64Array): number {
+  let nc = 0;
+  // once CANDIDATES are held, a cell not above the smallest of them cannot enter
+  let floorP = -Infinity;
+  for (let b = 0; b < wn; b++)
+    for (let a = 0; a < wm; a++) {
+      const q = b * wm + a;
+      if (!visible[q] || mask[q]) continue;
+      const pq = p[q]!;
+      if (nc === CANDIDATES && !(pq > floorP)) continue;
+      // cheap rejection by the horizontal neighbours first (most cells fail here)
+      if (a > 0 && p[q - 1]! > pq && visible[q - 1] && !mask[q - 1]) continue;
+      if (a + 1 < wm && p[q + 1]! > pq && visible[q + 1] && !mask[q + 1]) continue;
+      let isMax = true;
+      for (let dj = -1; dj <= 1 && isMax; dj += 2) {
+        const y = b + dj;
+        if (y < 0 || y >= wn) continue;
+        for (let di = -1; di <= 1; di++) {
+          const x = a + di;
+          if (x < 0 || x >= wm) continue;
+          const r = y * wm + x;
+          if (visible[r] && !mask[r] && p[r]! > pq) { isMax = false; break; }
+        }
+      }
+      if (!isMax) continue;
+      // keep the CANDIDATES largest
+      if (nc < CANDIDATES) { cand[nc] = q; candP[nc] = pq; nc++; }
+      else {
+        let lo = 0;
+        for (let k = 1; k < nc; k++) if (candP[k]! < candP[lo]!) lo = k;
+        if (pq > candP[lo]!) { cand[lo] = q; candP[lo] = pq; }
+      }
+      if (nc === CANDIDATES) { floorP = candP[0]!; for (let k = 1; k < nc; k++) if (candP[k]! < floorP) floorP = candP[k]!; }
+    }
+  return nc;
+}
+
 export class LobeFinder {
   private mask: Uint8Array;
   private stack: Int32Array;
@@ -157,39 +201,7 @@ export class LobeFinder {
     floodMainLobe(p, wm, wn, top, mask, this.stack);
     // 4. sidelobe candidates: local maxima of visible cells outside the main lobe
     const { cand, candP } = this;
-    let nc = 0;
-    // once CANDIDATES are held, a cell not above the smallest of them cannot enter
-    let floorP = -Infinity;
-    for (let b = 0; b < wn; b++)
-      for (let a = 0; a < wm; a++) {
-        const q = b * wm + a;
-        if (!visible[q] || mask[q]) continue;
-        const pq = p[q]!;
-        if (nc === CANDIDATES && !(pq > floorP)) continue;
-        // cheap rejection by the horizontal neighbours first (most cells fail here)
-        if (a > 0 && p[q - 1]! > pq && visible[q - 1] && !mask[q - 1]) continue;
-        if (a + 1 < wm && p[q + 1]! > pq && visible[q + 1] && !mask[q + 1]) continue;
-        let isMax = true;
-        for (let dj = -1; dj <= 1 && isMax; dj += 2) {
-          const y = b + dj;
-          if (y < 0 || y >= wn) continue;
-          for (let di = -1; di <= 1; di++) {
-            const x = a + di;
-            if (x < 0 || x >= wm) continue;
-            const r = y * wm + x;
-            if (visible[r] && !mask[r] && p[r]! > pq) { isMax = false; break; }
-          }
-        }
-        if (!isMax) continue;
-        // keep the CANDIDATES largest
-        if (nc < CANDIDATES) { cand[nc] = q; candP[nc] = pq; nc++; }
-        else {
-          let lo = 0;
-          for (let k = 1; k < nc; k++) if (candP[k]! < candP[lo]!) lo = k;
-          if (pq > candP[lo]!) { cand[lo] = q; candP[lo] = pq; }
-        }
-        if (nc === CANDIDATES) { floorP = candP[0]!; for (let k = 1; k < nc; k++) if (candP[k]! < floorP) floorP = candP[k]!; }
-      }
+    const nc = scanCandidates(p, visible, mask, wm, wn, cand, candP);
     let sl = NaN, sdu = NaN, sdv = NaN;
     let bestGrid = 0;
     for (let k = 0; k < nc; k++) bestGrid = Math.max(bestGrid, candP[k]!);

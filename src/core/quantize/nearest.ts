@@ -15,6 +15,27 @@ export function fillCommon(prep: FrequencyPrep, out: BeamCodes): void {
   out.clipped = prep.clipped;
 }
 
+/** Nearest codes of every element (ψ/LSB rounded, ties up, mod 2^B); true when some value lies within EDGE of a boundary (left for the exact decision). */
+function phaseCodes(prep: FrequencyPrep, n: number, u: number, v: number, w: number, pc: Int32Array, mask: number): boolean {
+  const { X, Y, Z, C } = prep;
+  let edge = false;
+  for (let i = 0; i < n; i++) {
+    const t = X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!;
+    const r = t + 0.5;
+    const fl = Math.floor(r);
+    const frac = r - fl;
+    if (frac < EDGE || frac > 1 - EDGE) edge = true;
+    else pc[i] = fl & mask;
+  }
+  return edge;
+}
+
+/** The commanded phase ψ of every element (degrees). */
+function commandedPhases(prep: FrequencyPrep, n: number, u: number, v: number, w: number, pd: Float64Array, states: number, lsbDeg: number): void {
+  const { X, Y, Z, C } = prep;
+  for (let i = 0; i < n; i++) pd[i] = commandedDeg(X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!, states, lsbDeg);
+}
+
 export function nearestQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = prepareFrequency(plan, fi), commanded = true): Quantizer {
   const { X, Y, Z, C, states, lsbDeg } = prep;
   const n = plan.elements.count;
@@ -27,19 +48,19 @@ export function nearestQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = p
       const u = beams.u[b]!;
       const v = beams.v[b]!;
       const w = beams.w[b]!;
-      const pc = out.phaseCode;
-      const pd = out.phaseDeg;
-      for (let i = 0; i < n; i++) {
-        const t = X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!;
-        const r = t + 0.5;
-        const fl = Math.floor(r);
-        const frac = r - fl;
-        pc[i] = frac < EDGE || frac > 1 - EDGE ? exactPhaseCode(plan, fi, i, exact.get(b)) : fl & mask;
-      }
-      if (commanded)
+      // each loop a function of its own: V8 compiles a long loop on the stack (OSR) before the
+      // code after it has run, and such code after the loop bailed out at every beam
+      // (64×64: "insufficient type feedback for call", 441 times in a 441-beam build)
+      if (phaseCodes(prep, n, u, v, w, out.phaseCode, mask)) {
+        // a value within EDGE of a code boundary: that element re-decided exactly
+        const pc = out.phaseCode;
         for (let i = 0; i < n; i++) {
-          pd[i] = commandedDeg(X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]!, states, lsbDeg);
+          const r = X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]! + 0.5;
+          const frac = r - Math.floor(r);
+          if (frac < EDGE || frac > 1 - EDGE) pc[i] = exactPhaseCode(plan, fi, i, exact.get(b));
         }
+      }
+      if (commanded) commandedPhases(prep, n, u, v, w, out.phaseDeg, states, lsbDeg);
       fillCommon(prep, out);
     },
   };
