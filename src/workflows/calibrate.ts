@@ -6,7 +6,7 @@
  * removes the probe path, refers the offsets and renders cal.csv. Writing is separate
  * (writeCalFile: a temporary file renamed into place), so nothing is written on error.
  */
-import { existsSync, renameSync, rmSync, statSync, writeFileSync } from "node:fs";
+import { renameSync, rmSync, writeFileSync } from "node:fs";
 import { basename, dirname, resolve } from "node:path";
 import { InputError, type Problem } from "../core/errors.js";
 import { D } from "../core/exact.js";
@@ -28,7 +28,7 @@ import { SPEED_OF_LIGHT } from "../core/units.js";
 import { numberCell, readCsv } from "../io/csv.js";
 import { readInput, sha256 } from "../io/files.js";
 import { fixed } from "../io/format.js";
-import { refuseEmptyTarget } from "../io/outdir.js";
+import { checkCalibrationTarget } from "../io/outdir.js";
 import { compactIds, loadScenario, MAX_ELEMENT_ID } from "../io/scenario.js";
 
 export interface CalibrateOptions {
@@ -305,10 +305,8 @@ export function renderCalCsv(r: Omit<CalibrateResult, "calCsv">, ids: ArrayLike<
 
 /** Write cal.csv through a temporary file renamed into place: never half-written. */
 export function writeCalFile(path: string, text: string): string {
-  refuseEmptyTarget(path, "a file name for the calibration (e.g. cal.csv)");
+  checkCalibrationTarget(path);
   const abs = resolve(path);
-  if (existsSync(abs) && statSync(abs).isDirectory()) throw new InputError({ file: path, message: "is a folder; expected a file name for the calibration (e.g. cal.csv)" });
-  if (!existsSync(dirname(abs))) throw new InputError({ file: path, message: `the parent folder ${dirname(abs)} does not exist` });
   const tmp = `${dirname(abs)}/.${basename(abs)}.steercode-tmp-${process.pid}`;
   try {
     writeFileSync(tmp, text, { flag: "w" });

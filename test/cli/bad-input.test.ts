@@ -4,7 +4,7 @@
  * nothing (no output folder, no staging folder), and show no stack trace.
  */
 import { execFileSync } from "node:child_process";
-import { existsSync, mkdirSync, readdirSync, symlinkSync, writeFileSync } from "node:fs";
+import { existsSync, lstatSync, mkdirSync, readdirSync, readFileSync, symlinkSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, tempDir } from "../helpers.js";
@@ -209,6 +209,15 @@ const cases: Case[] = [
   { name: "calibrate: -o is the --data file", doc: B(), files: { "rev.csv": REV(revRows()) }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "rev.csv")], expect: [/rev\.csv: is the --data file \(the readings\); writing the calibration there would replace it/] },
   // an id past 2^53 was named rounded ("element 9007199254740992 is not in the array")
   { name: "calibrate: element id 2^53 + 1 in the data", doc: B(), files: { "rev.csv": REV([...revRows(), "9007199254740993,0,0"]) }, args: CALIBRATE(), expect: [/rev\.csv, line 66, column element: expected a whole number from 0 to 2147483647, got "9007199254740993"/] },
+  // -o FILE (calibrate, report): a link, a FIFO or a file that is not of the command's kind.
+  // `calibrate -o /dev/stdout` (a link) replaced the system's /dev/stdout link with a file (exit 0);
+  // `report -o FIFO` read the FIFO's head and waited for a writer for ever, deaf to SIGTERM
+  { name: "calibrate: -o a symbolic link", doc: B(), files: { "rev.csv": REV(revRows()), "old.csv": CAL8 }, prepare: (d) => symlinkSync(join(d, "old.csv"), join(d, "link.csv")), args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "link.csv")], expect: [/link\.csv: is a symbolic link; expected a new file or an earlier calibration file \(steercode does not write through links nor replace them\)/] },
+  { name: "calibrate: -o a FIFO", doc: B(), files: { "rev.csv": REV(revRows()) }, prepare: (d) => execFileSync("mkfifo", [join(d, "fifo")]), args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "fifo")], expect: [/fifo: is not a regular file \(a device, FIFO or socket\); expected a new file or an earlier calibration file/] },
+  { name: "calibrate: -o a file that is not a calibration (a table)", doc: B(), files: { "rev.csv": REV(revRows()), "table.h": "#define X 1\n" }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "table.h")], expect: [/table\.h: exists and is not a calibration file; calibrate -o may replace only an earlier calibration file, so nothing was written/] },
+  { name: "calibrate: -o inside a build's inputs/", doc: B(), files: { "rev.csv": REV(revRows()) }, prepare: (d) => { mkdirSync(join(d, "b", "inputs"), { recursive: true }); writeFileSync(join(d, "b", "manifest.json"), JSON.stringify(MANIFEST)); writeFileSync(join(d, "b", "inputs", "calibration.csv"), CAL8); }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "b", "inputs", "calibration.csv")], expect: [/calibration\.csv: lies inside a steercode build \(manifest\.json\) at .*calibrate -o never writes into a steercode output/] },
+  { name: "report: -o a FIFO (waited for a writer for ever)", prepare: (d) => { writeFileSync(join(d, "manifest.json"), JSON.stringify(MANIFEST)); execFileSync("mkfifo", [join(d, "fifo")]); }, args: (d) => ["report", d, "-o", join(d, "fifo")], expect: [/fifo: is not a regular file \(a device, FIFO or socket\); expected a new file or an earlier report/] },
+  { name: "report: -o a symbolic link", prepare: (d) => { writeFileSync(join(d, "manifest.json"), JSON.stringify(MANIFEST)); symlinkSync(join(d, "elsewhere.html"), join(d, "r.html")); }, args: (d) => ["report", d, "-o", join(d, "r.html")], expect: [/r\.html: is a symbolic link; expected a new file or an earlier report/] },
   { name: "calibrate: probe direction and position both", doc: B(), files: { "rev.csv": REV(revRows()) }, args: CALIBRATE(["--probe-direction", "0,0", "--probe-position", "0,0,1"]), expect: [/give --probe-direction or --probe-position, not both/] },
   { name: "cal.csv per frequency: scenario frequency outside the listed span", doc: B({ frequency: ["10 GHz", "12 GHz"], calibration: "cal.csv" }), files: { "cal.csv": CALF }, expect: [/scenario\.json: \/frequency\/1: frequency 12000000000 Hz lies outside the calibrated span 9000000000 … 11000000000 Hz; expected a frequency within it \(calibration is interpolated, never extrapolated\)/] },
   { name: "band reaching outside the span of cal.csv's frequency_hz sets", doc: B({ calibration: "cal.csv", band: { from: "10 GHz", to: "11.5 GHz", step: "0.5 GHz" } }), files: { "cal.csv": CALF }, expect: [/scenario\.json: \/band: 1 of 4 band point\(s\) \(11500000000 Hz\) lie outside the span 9000000000 … 11000000000 Hz of the frequency_hz sets in cal\.csv; expected a band within the calibrated span/] },
@@ -287,6 +296,17 @@ describe("bad input: exit 2, a message naming file and field or line, nothing wr
       if (!c.prepare) expect(existsSync(join(dir, "out"))).toBe(false);
     });
   }
+
+  it("calibrate -o a link leaves the link and the file it names as they were", () => {
+    const dir = tempDir("steercode-bad-");
+    writeFileSync(join(dir, "scenario.json"), JSON.stringify(B()));
+    writeFileSync(join(dir, "rev.csv"), REV(revRows()));
+    writeFileSync(join(dir, "old.csv"), CAL8);
+    symlinkSync(join(dir, "old.csv"), join(dir, "link.csv"));
+    expect(cli(CALIBRATE()(dir).map((x) => (x === join(dir, "cal.csv") ? join(dir, "link.csv") : x))).code).toBe(2);
+    expect(lstatSync(join(dir, "link.csv")).isSymbolicLink()).toBe(true);
+    expect(readFileSync(join(dir, "old.csv"), "utf8")).toBe(CAL8);
+  });
 
   it("--json reports the problems as one JSON document with exit 2", () => {
     const dir = tempDir();
