@@ -89,6 +89,8 @@ const cases: Case[] = [
   { name: "calibration row duplicated", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8 + "3,5,0\n" }, expect: [/cal\.csv, line 10, column element: element 3 is listed twice \(also on line 5\)/] },
   { name: "calibration row for an unknown element", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8 + "99,5,0\n" }, expect: [/cal\.csv, line 10, column element: element 99 is not in the array/] },
   { name: "calibration cell not a number", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8.replace("\n4,0,0", "\n4,12deg,0") }, expect: [/cal\.csv, line 6, column phase_offset_deg: expected a number, got "12deg"/] },
+  // a cell's terminal escape sequence reached the terminal raw inside the message quoting it (ESC [2J cleared the screen)
+  { name: "calibration cell holding a terminal escape sequence", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8.replace("\n4,0,0", "\n4,\u001b[2J\u009b31m,0") }, expect: [/cal\.csv, line 6, column phase_offset_deg: expected a number, got "\\u001b\[2J\\u009b31m"/], notExpect: [/[\u001b\u009b]/] },
   { name: "calibration with a wrong header", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": "id,phase,gain\n0,0,0\n" }, expect: [/cal\.csv, line 1, column id: unknown column "id"/] },
   { name: "calibration file empty", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": "" }, expect: [/cal\.csv: expected a header row/] },
   { name: "calibration not UTF-8", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": Buffer.from([0x65, 0x6c, 0xff, 0xfe, 0x0a]) }, expect: [/cal\.csv: \/calibration: expected UTF-8 text/] },

@@ -77,6 +77,17 @@ describe("check", () => {
     expect(b.stderr + b.stdout).toMatch(/warning: \/beams\/az: step 7 does not divide -45 … 45/);
   });
 
+  it("prints a scenario name and calibration comments with their control characters escaped (ESC [2J cleared the terminal)", () => {
+    const s = writeScenario(baseScenario({ name: "panel\u001b[2J\u0007", calibration: "cal.csv" }), { "cal.csv": "# made \u001b[31mred\nelement,phase_offset_deg,gain_offset_db\n" + Array.from({ length: 8 }, (_, i) => `${i},0,0`).join("\n") + "\n" });
+    const r = cli(["check", s]);
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stdout).toContain("(panel\\u001b[2J\\u0007)");
+    expect(r.stdout).toContain("made \\u001b[31mred");
+    expect(r.stdout).not.toMatch(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/);
+    // --json keeps the text as it is (JSON escapes it)
+    expect(JSON.parse(cli(["check", s, "--json"]).stdout).name).toBe("panel\u001b[2J\u0007");
+  });
+
   it("warns when the analysis grid would pass its limit (28 THz on a 4 × 4 lattice); build --no-analysis still writes the tables", () => {
     // derived: the grid has (⌈2/du⌉ + 4)(⌈2/dv⌉ + 4) cells, du = λ/(5.2 mm·16) at 28 THz → 2.42e8 > 2048²
     const s = writeScenario(baseScenario({ frequency: "28 THz", array: { lattice: { kind: "rectangular", columns: 4, rows: 4, dx: "5.2 mm", dy: "5.2 mm" } } }));
