@@ -144,6 +144,9 @@ const cases: Case[] = [
   { name: "band step larger than its span", doc: B({ band: { from: "9 GHz", to: "10 GHz", step: "5 GHz" } }), expect: [/scenario\.json: \/band\/step: step 5000000000 Hz is larger than the span 1000000000 Hz; the band would hold only "from"/] },
   { name: "band with a unit that is not a frequency", doc: B({ band: { from: "9 GHz", to: "11 mm", step: "1 GHz" } }), expect: [/\/band\/to: expected a frequency/] },
   { name: "unknown option", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--colour"], expect: [/unknown option --colour/] },
+  // the two values were joined: `-o a -o b` wrote a build into a folder named "a,b" (exit 0)
+  { name: "an option given twice (-o a -o b)", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "a"), "-o", join(d, "b"), "--no-analysis"], expect: [/-o was given 2 times \(.*a, .*b\); expected it once/] },
+  { name: "--jobs given twice", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "1", "--jobs=2"], expect: [/--jobs was given 2 times \(1, 2\); expected it once/] },
   { name: "--jobs 0", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "0"], expect: [/--jobs: expected a whole number from 1 to 256, got 0/] },
   // ---- issue 9: hostile and huge inputs
   // element ids are whole numbers 0 … 2^31 − 1, refused as written (never wrapped to 32 bits nor rounded past 2^53)
