@@ -21,6 +21,9 @@ const MARKERS: { command: OutputCommand; file: string; format: string; what: str
   { command: "diff", file: "diff.json", format: "steercode-diff/1", what: "a steercode diff (diff.json)" },
 ];
 
+/** "a steercode build (manifest.json)" … per command, for messages. */
+export const MARKERS_WHAT = Object.fromEntries(MARKERS.map((m) => [m.command, m.what])) as Record<OutputCommand, string>;
+
 /**
  * What an existing folder holds: "empty", the commands whose outputs it holds (a build
  * made with --compare also holds a diff.json: it counts as a build), or [] when it

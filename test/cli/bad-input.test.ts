@@ -143,6 +143,11 @@ const cases: Case[] = [
   // a step past the span kept only "from" and dropped "to" without a word (beam axes refuse it)
   { name: "band step larger than its span", doc: B({ band: { from: "9 GHz", to: "10 GHz", step: "5 GHz" } }), expect: [/scenario\.json: \/band\/step: step 5000000000 Hz is larger than the span 1000000000 Hz; the band would hold only "from"/] },
   { name: "band with a unit that is not a frequency", doc: B({ band: { from: "9 GHz", to: "11 mm", step: "1 GHz" } }), expect: [/\/band\/to: expected a frequency/] },
+  // init: "" was exit 3 (cp's EEXIST in the working folder); a dangling link said "no such file or folder (mkdir)";
+  // a build folder took the demo's files, which the next build -o there deletes
+  { name: "init \"\"", args: () => ["init", ""], expect: [/init: expected a folder name for the demo, got an empty string/] },
+  { name: "init into a dangling symbolic link", prepare: (d) => symlinkSync(join(d, "nowhere"), join(d, "link")), args: (d) => ["init", join(d, "link")], expect: [/link: is a symbolic link; expected a new folder or one without the demo's files/] },
+  { name: "init into a build folder", prepare: (d) => { mkdirSync(join(d, "b")); writeFileSync(join(d, "b", "manifest.json"), JSON.stringify(MANIFEST)); }, args: (d) => ["init", join(d, "b")], expect: [/b: holds a steercode build \(manifest\.json\); the next build -o there would replace the folder, the demo's files with it/] },
   { name: "unknown option", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--colour"], expect: [/unknown option --colour/] },
   // the two values were joined: `-o a -o b` wrote a build into a folder named "a,b" (exit 0)
   { name: "an option given twice (-o a -o b)", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "a"), "-o", join(d, "b"), "--no-analysis"], expect: [/-o was given 2 times \(.*a, .*b\); expected it once/] },
