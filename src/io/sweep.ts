@@ -31,6 +31,9 @@ export interface SweepResult {
   dir: string;
 }
 
+/** Beams a sweep analyses in all (parts × frequencies × beams): 4 194 304, ~370 MB of metrics. */
+export const MAX_SWEEP_ANALYSES = 4_194_304;
+
 export function sweepVariants(loaded: LoadedScenario, o: SweepOptions): SweepVariantSpec[] {
   const plan = loaded.plan;
   const rangeDb = (2 ** plan.attenBits - 1) * plan.attenStepDb;
@@ -40,6 +43,10 @@ export function sweepVariants(loaded: LoadedScenario, o: SweepOptions): SweepVar
   for (const q of o.quantizers)
     for (const s of o.attenStepsDb)
       for (const b of o.phaseBits) out.push({ phaseBits: b, attenStepDb: s.value, attenStepExact: s.exact, attenBits: plan.attenBits === 0 ? 0 : attenBitsFor(rangeDb, s.value), quantizer: q });
+  // every part analyses the whole grid into one shared array (11 doubles a beam): 72 parts × 1 M beams ran for hours towards 6.6 GB
+  const analyses = out.length * plan.frequenciesHz.length * plan.beams.count;
+  if (analyses > MAX_SWEEP_ANALYSES)
+    throw new InputError({ file: loaded.scenario.name, pointer: "/beams", message: `the sweep would analyse ${out.length} part(s) × ${plan.frequenciesHz.length} frequenc${plan.frequenciesHz.length === 1 ? "y" : "ies"} × ${plan.beams.count} beams = ${analyses} beams; expected at most ${MAX_SWEEP_ANALYSES}: sweep fewer bit depths, steps or quantizers, or a coarser beam grid` });
   return out;
 }
 
