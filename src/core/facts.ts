@@ -4,7 +4,7 @@ import { enabledCount, type Plan } from "./plan.js";
 import { prepareFrequency } from "./quantize/prepare.js";
 import { SPEED_OF_LIGHT } from "./units.js";
 import { squintBandwidth, type SquintBandwidth } from "./band.js";
-import { analysisSizeProblem } from "./pattern/grid.js";
+import { analysisSizeProblem, MAX_ANALYSED_BEAMS } from "./pattern/grid.js";
 import { D } from "./exact.js";
 
 export interface FrequencyFacts {
@@ -106,6 +106,8 @@ export function deriveFacts(plan: Plan): Facts {
   }
   warnings.push(...shortSteps(plan));
   const big = analysisSizeProblem(plan);
+  const analysed = plan.frequenciesHz.length * plan.beams.count;
+  if (analysed > MAX_ANALYSED_BEAMS) warnings.push(`build refuses to analyse ${plan.frequenciesHz.length} frequencies × ${plan.beams.count} beams = ${analysed} beams (at most ${MAX_ANALYSED_BEAMS}); build --no-analysis writes the tables`);
   if (big) warnings.push(big.band ? `build refuses its band analysis (sweep, report and --no-analysis builds are not concerned): ${big.message}` : `build, sweep and report refuse to analyse this scenario: ${big.message}`);
   if (!plan.lattice && plan.elements.count > 1) warnings.push("element list: grating-lobe limits are not computed for arbitrary geometries");
   if (plan.attenBits === 0 && plan.taper.kind !== "uniform") warnings.push("no attenuator: the taper cannot be applied; every tapered element is clipped");

@@ -28,6 +28,12 @@ function span(a: Float64Array): number {
  * and 256 λ along an axis. An analysis thread needs roughly 75 bytes a cell.
  */
 export const MAX_ANALYSIS_CELLS = 2048 * 2048;
+/**
+ * Beams analysed in one run (build: frequencies × beams; sweep: × parts), each keeping 11
+ * doubles of metrics in one shared array: 4 194 304 (~370 MB), as many as squint.csv rows.
+ * 64 frequencies × 1 M beams on 2 elements ran on towards a 5.6 GB array.
+ */
+export const MAX_ANALYSED_BEAMS = 4_194_304;
 /** Element lists also keep per-element phasor tables, (2⌈2/du⌉ + 2⌈2/dv⌉ + 10)·elements entries of 16 bytes. */
 export const MAX_DIRECT_TABLE_ENTRIES = 2 ** 25;
 
