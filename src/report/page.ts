@@ -73,6 +73,9 @@ function taperWords(t: Plan["taper"]): string {
   }
 }
 
+/** Beams (frequencies × beams) one report page carries: 1 048 576 (~170 MB of page with beams.csv's metrics). */
+export const MAX_REPORT_BEAMS = 1_048_576;
+
 /**
  * CRC-32 of every beam's words in table.bin, read a beam at a time. A table.bin the
  * manifest lists but that is missing or of another length gives no CRCs and a problem:
@@ -115,6 +118,11 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   const plan = loaded.plan;
   // the page runs the analysis engine: refuse a scenario whose analysis grid is past its limit
   refuseOversizedAnalysis(plan, dir, { band: false });
+  // the page carries every beam's direction, CRC and metrics: 64 frequencies × 1 M beams made a 396 MB page (151 s, 2 GB),
+  // its text grows toward V8's longest string (512 MiB), and no browser opens such a page
+  const pageBeams = plan.frequenciesHz.length * plan.beams.count;
+  if (pageBeams > MAX_REPORT_BEAMS)
+    throw new InputError({ file: join(dir, "inputs", "scenario.json"), pointer: "/beams", message: `the report would carry ${plan.frequenciesHz.length} frequenc${plan.frequenciesHz.length === 1 ? "y" : "ies"} × ${plan.beams.count} beams = ${pageBeams} beams; expected at most ${MAX_REPORT_BEAMS} (a page a browser can open): report a build of fewer beams or frequencies` });
   const F = plan.frequenciesHz.length, B = plan.beams.count;
   let metricColumns: string[] = [];
   let metrics: Float64Array | null = null;

@@ -374,6 +374,20 @@ describe("diff and report on a damaged table.bin say so (they trusted the rest o
   });
 });
 
+describe("report: a page a browser can open", () => {
+  // 64 frequencies × 1 M beams made a 396 MB page (151 s, 2 GB of memory), exit 0
+  it("a build of more than 1 048 576 beams (frequencies × beams) → exit 2 before any work", () => {
+    // derived: 3 frequencies × 601 × 601 beams = 1 083 603 > 1 048 576
+    const s = writeScenario(baseScenario({ frequency: ["10 GHz", "10.1 GHz", "10.2 GHz"], beams: { kind: "uv", u: { from: -0.6, to: 0.6, step: 0.002 }, v: { from: -0.6, to: 0.6, step: 0.002 } }, outputs: ["bin"] }), {}, join(root, "big-s"));
+    const out = join(root, "big");
+    expect(cli(["build", s, "-o", out, "--no-analysis"]).code).toBe(0);
+    const r = cli(["report", out]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/inputs\/scenario\.json: \/beams: the report would carry 3 frequencies × 361201 beams = 1083603 beams; expected at most 1048576/);
+    expect(existsSync(join(out, "report.html"))).toBe(false);
+  });
+});
+
 describe("report: nothing from the folder reaches the page unescaped", () => {
   it("a sweep folder with markup in sweep.json and sweep.svg: escaped text, the figure drawn from the numbers", () => {
     const s = writeScenario(baseScenario(), {}, join(root, "sw"));
