@@ -1,6 +1,6 @@
 import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
 import { deriveFacts } from "../core/facts.js";
-import { loadScenario } from "../io/scenario.js";
+import { loadScenario, MAX_FREQUENCY_HZ, MIN_FREQUENCY_HZ } from "../io/scenario.js";
 import { fmt, printable, printJson, SAFETY, type Io } from "./shared.js";
 import { parseQuantity } from "../core/units.js";
 import { UsageError } from "./usage.js";
@@ -24,7 +24,8 @@ export function busOptions(clock: unknown, wordBits: unknown, overhead: unknown)
   let clockHz: number | null = null;
   if (clock !== undefined) {
     const q = parseQuantity(String(clock).replace(/^([0-9.eE+-]+)([a-zA-Z])/, "$1 $2"), "frequency");
-    if (!q.ok || !(q.q.value > 0)) throw new UsageError(`--bus-clock: expected a clock frequency > 0 such as 10MHz, got ${String(clock)}`);
+    // bounded like every frequency: 1e400Hz was taken as an infinite clock ("full load 0.000 µs")
+    if (!q.ok || !(q.q.value >= MIN_FREQUENCY_HZ && q.q.value <= MAX_FREQUENCY_HZ)) throw new UsageError(`--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got ${String(clock)}`);
     clockHz = q.q.value;
   }
   const whole = (name: string, v: unknown, min: number) => {

@@ -299,7 +299,9 @@ const cases: Case[] = [
   { name: "devices: elements.csv channel past the device", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device,channel\n0,0,0,0,0\n1,0.01,0,0,2\n" }, expect: [/el\.csv, line 3, column channel: channel 2 does not exist on a 2-channel device/] },
   { name: "devices: elements.csv two elements on one channel", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device,channel\n0,0,0,3,1\n1,0.01,0,3,1\n" }, expect: [/el\.csv, line 3, column channel: element 1 and element 0 \(line 2\) are both on device 3 channel 1/] },
   { name: "devices: elements.csv with a device column but no channel column", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device\n0,0,0,3\n1,0.01,0,3\n" }, expect: [/el\.csv: has a device column but no channel column; expected both/] },
-  { name: "check --bus-clock that is not a frequency", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10 parsec"], expect: [/--bus-clock: expected a clock frequency > 0 such as 10MHz, got 10 parsec/] },
+  { name: "check --bus-clock that is not a frequency", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10 parsec"], expect: [/--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got 10 parsec/] },
+  // 1e400Hz was an infinite clock: "full load 0.000 µs each", exit 0
+  { name: "check --bus-clock 1e400Hz", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "1e400Hz"], expect: [/--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got 1e400Hz/] },
   { name: "check --bus-overhead-bits negative", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10MHz", "--bus-overhead-bits", "-1"], expect: [/--bus-overhead-bits: expected a whole number from 0 to 4096, got -1/] },
 ];
 
