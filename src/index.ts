@@ -14,7 +14,7 @@ import { allocBeamCodes, makeQuantizer, prepareFrequency, type BeamCodes } from 
 import { packPlan, unpackWord } from "./core/words.js";
 import { theoryFor, type Theory } from "./core/theory.js";
 import { deriveFacts } from "./core/facts.js";
-import { loadScenario as loadScenarioFile, type LoadedScenario } from "./io/scenario.js";
+import { loadScenario as loadScenarioFile, MAX_FREQUENCY_HZ, MAX_LENGTH_M, MIN_FREQUENCY_HZ, type LoadedScenario } from "./io/scenario.js";
 import { runBuild, type Manifest } from "./io/build.js";
 import { diffBuilds as diffBuildFolders, type DiffResult } from "./io/diff.js";
 import { verifyBuild as verifyBuildFolder, type VerifyResult } from "./io/verify.js";
@@ -94,6 +94,7 @@ export interface BeamTable {
 
 function checkRef(s: Scenario, ref: BeamRef): void {
   const nf = s.frequenciesHz.length, nb = s.beamCount;
+  if (ref === null || typeof ref !== "object") throw new InputError({ file: s.path, message: "expected { frequency, beam } (0-based indices)" });
   const problems: Problem[] = [];
   if (!Number.isInteger(ref.frequency) || ref.frequency < 0 || ref.frequency >= nf) problems.push({ file: s.path, message: `frequency index ${String(ref.frequency)}: expected a whole number from 0 to ${nf - 1}` });
   if (!Number.isInteger(ref.beam) || ref.beam < 0 || ref.beam >= nb) problems.push({ file: s.path, message: `beam ${String(ref.beam)}: expected a whole number from 0 to ${nb - 1}` });
@@ -151,6 +152,9 @@ export function* tables(s: Scenario, opts: { reuse?: boolean } = {}): Generator<
 /** Unpack a word into its phase and attenuation codes with the scenario's layout. */
 export function unpack(s: Scenario, word: number): { phaseCode: number; attenCode: number } {
   const plan = s.loaded.plan;
+  // a word the layout cannot hold was unpacked anyway: −1 gave codes 63/63, 2^40 and NaN gave 0/0, 1.5 gave phase 1
+  const max = 2 ** plan.word.bits - 1;
+  if (!Number.isInteger(word) || word < 0 || word > max) throw new InputError({ file: s.path, pointer: "/word/bits", message: `word ${String(word)}: expected a whole number from 0 to ${max} (a ${plan.word.bits}-bit word)` });
   const u = unpackWord(packPlan(plan.word), plan.word, word);
   return { phaseCode: u.phaseCode, attenCode: u.attenCode };
 }
@@ -243,12 +247,26 @@ export const version: string = toolVersion();
 
 /** Calibration of every element at one frequency (Hz): the scenario's own set, or (cal.csv with frequency_hz) the listed or interpolated one. */
 export function calibrationAt(s: Scenario, frequencyHz: number | string): { ok: true; phaseDeg: Float64Array; gainDb: Float64Array; served: CalibrationServed | null } | { ok: false; message: string } {
-  const r = planCalibrationAt(s.loaded.plan, frequencyHz);
+  // NaN, −1 Hz and 1e30 Hz were served the one calibration set (ok: true); "abc" threw a DecimalError
+  const text = String(frequencyHz).trim();
+  const f = typeof frequencyHz === "number" ? frequencyHz : /^[+]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(text) ? Number(text) : NaN;
+  if (!(f >= MIN_FREQUENCY_HZ && f <= MAX_FREQUENCY_HZ)) return { ok: false, message: `frequency ${text} Hz: expected a number of Hz from ${MIN_FREQUENCY_HZ} to ${MAX_FREQUENCY_HZ}` };
+  const r = planCalibrationAt(s.loaded.plan, typeof frequencyHz === "number" ? frequencyHz : text);
   return r.ok ? { ok: true, phaseDeg: r.cal.phaseDeg, gainDb: r.cal.gainDb, served: r.served } : r;
 }
 
 /** `steercode calibrate` as a value: offsets, per-element report and the cal.csv text (nothing is written). */
 export function calibrate(options: CalibrateOptions): CalibrateResult {
+  // the command checks these on its command line; from code an unknown method was a TypeError and a NaN probe "non-finite value NaN in an output"
+  const { method, probe } = options ?? ({} as CalibrateOptions);
+  const problems: Problem[] = [];
+  if (method !== "rev" && method !== "field") problems.push({ message: `method ${String(method)}: expected "rev" or "field"` });
+  if (probe?.kind === "far") {
+    if (![probe.azDeg, probe.elDeg].every((a) => Number.isFinite(a) && Math.abs(a) <= 90)) problems.push({ message: `probe direction az ${String(probe.azDeg)}, el ${String(probe.elDeg)}: expected |az| and |el| ≤ 90 degrees (in front of the array)` });
+  } else if (probe?.kind === "near") {
+    if (![probe.x, probe.y, probe.z].every((c) => Number.isFinite(c) && Math.abs(c) <= MAX_LENGTH_M)) problems.push({ message: `probe position ${String(probe.x)}, ${String(probe.y)}, ${String(probe.z)}: expected coordinates within ±${MAX_LENGTH_M} m` });
+  } else problems.push({ message: 'probe: expected { kind: "far", azDeg, elDeg } or { kind: "near", x, y, z }' });
+  if (problems.length) throw new InputError(problems);
   return runCalibrate(options);
 }
 export type { CalibrateOptions, CalibrateResult, CalibrationServed, Probe };

@@ -1,5 +1,5 @@
 import { deriveFacts } from "../core/facts.js";
-import { makeManifest, runBuild, type Manifest } from "../io/build.js";
+import { makeManifest, refuseBuildAnalysis, runBuild, type Manifest } from "../io/build.js";
 import { InputError } from "../core/errors.js";
 import { loadScenario } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
@@ -29,6 +29,7 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
 
 async function buildWith(io: Io, args: BuildArgs): Promise<number> {
   const loaded = loadScenario(args.scenario);
+  refuseBuildAnalysis(loaded, args.analysis);
   let diff: DiffScan | null = null;
   const { scanDiff, incompatibility, readManifest, writeDiffFiles, diffLines } = args.compare ? await compareModules() : ({} as Awaited<ReturnType<typeof compareModules>>);
   if (args.compare) {

@@ -1,4 +1,5 @@
 import { runCalibrate, writeCalFile } from "../workflows/calibrate.js";
+import { checkCalibrationTarget } from "../io/outdir.js";
 import type { MethodName, Probe } from "../core/calibrate/index.js";
 import { fmt, printJson, warn, type Io } from "./shared.js";
 import { UsageError } from "./usage.js";
@@ -53,6 +54,7 @@ export function calibrateCommand(io: Io, a: CalibrateArgs): number {
   // -o onto an input replaced the range readings (or the scenario) with the calibration it derived from them
   for (const [input, what] of [[a.data, "--data file (the readings)"], [a.scenario, "scenario"]] as const)
     if (sameFile(a.out, input)) throw new InputError({ file: a.out, message: `is the ${what}; writing the calibration there would replace it. Expected another -o file (e.g. cal.csv)` });
+  checkCalibrationTarget(a.out); // before any work: a new file or an earlier calibration file only
   const r = runCalibrate({ scenario: a.scenario, data: a.data, method: a.method as MethodName, probe });
   const sha = writeCalFile(a.out, r.calCsv);
   if (io.json) {

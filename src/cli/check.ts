@@ -1,7 +1,7 @@
 import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
 import { deriveFacts } from "../core/facts.js";
-import { loadScenario } from "../io/scenario.js";
-import { fmt, printJson, SAFETY, type Io } from "./shared.js";
+import { loadScenario, MAX_FREQUENCY_HZ, MIN_FREQUENCY_HZ } from "../io/scenario.js";
+import { fmt, printable, printJson, SAFETY, type Io } from "./shared.js";
 import { parseQuantity } from "../core/units.js";
 import { UsageError } from "./usage.js";
 import { deviceFacts, type BusModel, type DeviceFact } from "../workflows/devices.js";
@@ -24,7 +24,8 @@ export function busOptions(clock: unknown, wordBits: unknown, overhead: unknown)
   let clockHz: number | null = null;
   if (clock !== undefined) {
     const q = parseQuantity(String(clock).replace(/^([0-9.eE+-]+)([a-zA-Z])/, "$1 $2"), "frequency");
-    if (!q.ok || !(q.q.value > 0)) throw new UsageError(`--bus-clock: expected a clock frequency > 0 such as 10MHz, got ${String(clock)}`);
+    // bounded like every frequency: 1e400Hz was taken as an infinite clock ("full load 0.000 µs")
+    if (!q.ok || !(q.q.value >= MIN_FREQUENCY_HZ && q.q.value <= MAX_FREQUENCY_HZ)) throw new UsageError(`--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got ${String(clock)}`);
     clockHz = q.q.value;
   }
   const whole = (name: string, v: unknown, min: number) => {
@@ -71,7 +72,7 @@ export function checkCommand(io: Io, scenario: string, bus: BusOptions = { clock
     return 0;
   }
   const lines: string[] = [];
-  lines.push(`scenario   ${scenario}${plan.name ? `  (${plan.name})` : ""}`);
+  lines.push(printable(`scenario   ${scenario}${plan.name ? `  (${plan.name})` : ""}`));
   lines.push(`elements   ${f.elements} (${f.enabledElements} enabled)${plan.lattice ? `, ${plan.lattice.kind} lattice ${plan.lattice.columns} × ${plan.lattice.rows}` : ", element list"}`);
   lines.push(`beams      ${f.beams} × ${f.frequencies} frequenc${f.frequencies === 1 ? "y" : "ies"} = ${f.words} words, ${f.tableBytes} bytes in table.bin (${plan.word.bytes} byte(s)/word)`);
   lines.push(`beam grid  scans up to θ = ${fmt(f.maxScanDeg, 1)}° from broadside`);
@@ -81,7 +82,7 @@ export function checkCommand(io: Io, scenario: string, bus: BusOptions = { clock
   lines.push(`aperture   D = ${fmt(f.apertureM * 1000, 2)} mm (largest dimension)`);
   if (plan.element) lines.push(`element    ${plan.element.pattern === "cosine" ? `cos^${plan.element.exponent} θ power pattern` : `measured pattern table (${plan.element.thetaDeg.length} θ × ${plan.element.phiDeg.length} φ)`}`);
   if (plan.band) lines.push(`band       ${(plan.band.frequenciesHz[0]! / 1e9).toPrecision(6)} … ${(plan.band.frequenciesHz[plan.band.frequenciesHz.length - 1]! / 1e9).toPrecision(6)} GHz, ${plan.band.frequenciesHz.length} point(s)`);
-  if (cal) lines.push(`calibration ${cal.ref} (sha256 ${cal.file.sha256.slice(0, 12)}…)${cal.comments.length ? `: ${cal.comments.join(" | ")}` : ""}`);
+  if (cal) lines.push(printable(`calibration ${cal.ref} (sha256 ${cal.file.sha256.slice(0, 12)}…)${cal.comments.length ? `: ${cal.comments.join(" | ")}` : ""}`));
   for (const pf of f.perFrequency) {
     lines.push("");
     lines.push(`at ${(pf.frequencyHz / 1e9).toPrecision(6)} GHz: λ = ${fmt(pf.wavelengthM * 1000, 4)} mm`);

@@ -6,7 +6,7 @@ import { checkTarget, StagedDir } from "../io/outdir.js";
 import { stableJson } from "../io/build.js";
 import { writeFileSync } from "node:fs";
 import { sha256 } from "../io/files.js";
-import { fmt, type Io } from "./shared.js";
+import { fmt, printable, type Io } from "./shared.js";
 import { servedText } from "./check.js";
 import { deviceDiffLines } from "../workflows/devices.js";
 
@@ -21,7 +21,7 @@ export function writeDiffFiles(dir: string, r: DiffScan, a: string, b: string) {
 
 function calLines(label: string, c: CalibrationRef | null): string[] {
   if (!c) return [`${label}: no calibration file`];
-  return [`${label}: ${c.ref} (sha256 ${c.sha256})`, ...c.comments.map((t) => `    # ${t}`)];
+  return [printable(`${label}: ${c.ref} (sha256 ${c.sha256})`), ...c.comments.map((t) => printable(`    # ${t}`))];
 }
 
 export function diffLines(r: Pick<DiffScan, "identical" | "summary">): string[] {

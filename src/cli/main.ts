@@ -8,7 +8,7 @@
  */
 import { InputError, formatProblem } from "../core/errors.js";
 import { UsageError } from "./usage.js";
-import { defaultIo } from "./shared.js";
+import { defaultIo, printable } from "./shared.js";
 import { cleanUpOnSignals, isSystemError, writeProblem } from "../io/outdir.js";
 import { toolVersion } from "../io/version.js";
 import { COMMANDS } from "./commands.js";
@@ -30,13 +30,13 @@ export async function main(argv: string[]): Promise<number> {
   } catch (e) {
     if (e instanceof InputError) {
       if (json) process.stdout.write(JSON.stringify({ ok: false, problems: e.problems, messages: e.problems.map(formatProblem) }, null, 2) + "\n");
-      process.stderr.write(e.problems.map((p) => `steercode: ${formatProblem(p)}`).join("\n") + "\n");
+      process.stderr.write(e.problems.map((p) => `steercode: ${printable(formatProblem(p))}`).join("\n") + "\n");
       return 2;
     }
     if (e instanceof UsageError) {
       if (json) process.stdout.write(JSON.stringify({ ok: false, problems: [{ message: e.message }] }, null, 2) + "\n");
       const first = argv.find((x) => !x.startsWith("-"));
-      process.stderr.write(`steercode: ${e.message}\nsee: steercode ${first !== undefined && COMMANDS.includes(first) && first !== "help" ? `help ${first}` : "--help"}\n`);
+      process.stderr.write(`steercode: ${printable(e.message)}\nsee: steercode ${first !== undefined && COMMANDS.includes(first) && first !== "help" ? `help ${first}` : "--help"}\n`);
       return 2;
     }
     if (isSystemError(e)) {
@@ -44,11 +44,11 @@ export async function main(argv: string[]): Promise<number> {
       const p = writeProblem(e, e.path ?? "", "cannot complete").problems[0]!;
       const msg = `${p.file ? `${p.file}: ` : ""}cannot complete: ${p.message.replace(/^cannot complete: /, "").replace(/; nothing was written.*$/, "")}`;
       if (json) process.stdout.write(JSON.stringify({ ok: false, problems: [{ ...(e.path ? { file: e.path } : {}), message: msg }] }, null, 2) + "\n");
-      process.stderr.write(`steercode: ${msg}\n`);
+      process.stderr.write(`steercode: ${printable(msg)}\n`);
       return 2;
     }
     const msg = e instanceof Error ? e.message : String(e);
-    process.stderr.write(`steercode: internal error: ${msg}\n`);
+    process.stderr.write(`steercode: internal error: ${printable(msg)}\n`);
     if (process.env.STEERCODE_DEBUG && e instanceof Error) process.stderr.write(String(e.stack) + "\n");
     return 3;
   }

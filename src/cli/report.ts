@@ -32,7 +32,10 @@ export async function reportCommand(io: Io, a: { dir: string; out: string | null
   if (!existsSync(dirname(out))) throw new InputError({ file: out, message: `the folder ${dirname(out)} does not exist` });
   const r = await makeReport(a.dir, { beam: a.beam, frequencyIndex: frequencyIndex(a.dir, a.frequency) });
   writeReport(out, r.html);
-  if (io.json) printJson(io, { ok: true, report: out, beam: r.beam, bytes: Buffer.byteLength(r.html) });
-  else io.stdout(`wrote ${out} (${Buffer.byteLength(r.html)} bytes${r.beam !== null ? `, beam ${r.beam}` : ""}); open it in a browser\n`);
+  if (io.json) printJson(io, { ok: true, report: out, beam: r.beam, bytes: Buffer.byteLength(r.html), warnings: r.warnings });
+  else {
+    io.stdout(`wrote ${out} (${Buffer.byteLength(r.html)} bytes${r.beam !== null ? `, beam ${r.beam}` : ""}); open it in a browser\n`);
+    for (const w of r.warnings) io.stderr(`warning: ${w}\n`);
+  }
   return 0;
 }

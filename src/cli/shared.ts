@@ -31,6 +31,16 @@ export function printJson(io: Io, doc: unknown): void {
   io.stdout(stableJson(doc, null, 2) + "\n");
 }
 
+/**
+ * Text from an input (a scenario name, a calibration comment, a cell quoted in a message)
+ * as it may reach a terminal: control characters (C0 but tab and newline, DEL, C1) as
+ * \uXXXX escapes. A name holding ESC [2J cleared the screen of whoever ran `check`, and
+ * ESC sequences in a cell could recolour or hide the message quoting it.
+ */
+export function printable(text: string): string {
+  return text.replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, "0")}`);
+}
+
 export function warn(io: Io, text: string): string {
   return io.stderrIsTty ? styleText("yellow", text, { stream: process.stderr }) : text;
 }

@@ -15,7 +15,11 @@ export function parseBits(text: string): number[] {
     const a = Number(m[1]);
     const b = m[2] === undefined ? a : Number(m[2]);
     if (b < a || a < 1 || b > 12) throw new UsageError(`--phase-bits: expected bit depths from 1 to 12 in increasing order, got "${part}"`);
-    for (let k = a; k <= b; k++) out.add(k);
+    for (let k = a; k <= b; k++) {
+      // as in the scenario (frequencies, disabled ids, outputs): a value given twice is refused, never merged — it is likely a typo for another
+      if (out.has(k)) throw new UsageError(`--phase-bits: ${k} bits is listed twice in "${text}"; expected each bit depth once`);
+      out.add(k);
+    }
   }
   if (!out.size) throw new UsageError("--phase-bits: expected at least one bit depth");
   return [...out].sort((x, y) => x - y);
@@ -26,7 +30,9 @@ export function parseSteps(text: string): { value: number; exact: string }[] {
   for (const part of text.split(",").map((s) => s.trim()).filter(Boolean)) {
     const r = parseQuantity(/^[\d.eE+-]+$/.test(part) ? `${part} dB` : part, "level");
     if (!r.ok || !(r.q.value > 0) || !(r.q.value <= MAX_ATTEN_STEP_DB)) throw new UsageError(`--atten-step: expected steps in dB greater than 0 and at most ${MAX_ATTEN_STEP_DB} like 0.25,0.5,1, got "${part}"`);
-    if (!out.some((s) => s.value === r.q.value)) out.push({ value: r.q.value, exact: r.q.exact.toString() });
+    const twin = out.find((s) => r.q.exact.eq(s.exact));
+    if (twin) throw new UsageError(`--atten-step: ${r.q.exact.toString()} dB is listed twice in "${text}"; expected each step once`);
+    out.push({ value: r.q.value, exact: r.q.exact.toString() });
   }
   if (!out.length) throw new UsageError("--atten-step: expected at least one step");
   return out.sort((a, b) => a.value - b.value);
@@ -36,7 +42,8 @@ export function parseQuantizers(text: string): QuantizerMethod[] {
   const out: QuantizerMethod[] = [];
   for (const part of text.split(",").map((s) => s.trim()).filter(Boolean)) {
     if (part !== "nearest" && part !== "randomized" && part !== "optimized") throw new UsageError(`--quantizer: expected one or more of nearest, randomized, optimized (comma-separated), got "${part}"`);
-    if (!out.includes(part)) out.push(part);
+    if (out.includes(part)) throw new UsageError(`--quantizer: ${part} is listed twice in "${text}"; expected each quantizer once`);
+    out.push(part);
   }
   if (!out.length) throw new UsageError("--quantizer: expected at least one of nearest, randomized, optimized");
   return out;

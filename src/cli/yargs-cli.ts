@@ -81,6 +81,12 @@ export async function runYargs(argv: string[], io: Io, main: (argv: string[]) =>
       builder: builder(spec),
       handler: async (a) => {
         if (run) {
+          // an option given twice became an array that the command joined: `build -o x -o y` wrote a folder named "x,y"
+          for (const [name, o] of Object.entries({ ...GLOBAL, ...spec.options })) {
+            const v = a[name];
+            if (!Array.isArray(v) || (o.type === "boolean" && v.every((x) => x === v[0]))) continue;
+            throw new UsageError(`${dash(o.alias && argv.includes(dash(o.alias)) ? o.alias : name)} was given ${v.length} times (${v.map(String).join(", ")}); expected it once`);
+          }
           code = await (runner ? runner(spec, a) : run(a, io));
           return;
         }

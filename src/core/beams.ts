@@ -13,6 +13,8 @@ export interface AxisSpec {
   from: string;
   step: string;
   count: number;
+  /** The scenario's "to" (exact); the last value from + (count − 1)·step falls short of it when the step does not divide the span. */
+  to?: string;
 }
 
 export type BeamSpec =

@@ -4,7 +4,8 @@ import { enabledCount, type Plan } from "./plan.js";
 import { prepareFrequency } from "./quantize/prepare.js";
 import { SPEED_OF_LIGHT } from "./units.js";
 import { squintBandwidth, type SquintBandwidth } from "./band.js";
-import { analysisSizeProblem } from "./pattern/grid.js";
+import { analysisSizeProblem, MAX_ANALYSED_BEAMS } from "./pattern/grid.js";
+import { D } from "./exact.js";
 
 export interface FrequencyFacts {
   frequencyHz: number;
@@ -103,10 +104,16 @@ export function deriveFacts(plan: Plan): Facts {
     if (pf.clipped)
       warnings.push(`${fGHz} GHz: ${pf.clipped} element(s) need more attenuation than the attenuator's ${((2 ** plan.attenBits - 1) * plan.attenStepDb).toFixed(2)} dB range; their codes are clipped to the last step`);
   }
+  warnings.push(...shortSteps(plan));
   const big = analysisSizeProblem(plan);
+  const analysed = plan.frequenciesHz.length * plan.beams.count;
+  if (analysed > MAX_ANALYSED_BEAMS) warnings.push(`build refuses to analyse ${plan.frequenciesHz.length} frequencies × ${plan.beams.count} beams = ${analysed} beams (at most ${MAX_ANALYSED_BEAMS}); build --no-analysis writes the tables`);
   if (big) warnings.push(big.band ? `build refuses its band analysis (sweep, report and --no-analysis builds are not concerned): ${big.message}` : `build, sweep and report refuse to analyse this scenario: ${big.message}`);
   if (!plan.lattice && plan.elements.count > 1) warnings.push("element list: grating-lobe limits are not computed for arbitrary geometries");
   if (plan.attenBits === 0 && plan.taper.kind !== "uniform") warnings.push("no attenuator: the taper cannot be applied; every tapered element is clipped");
+  const attenField = plan.word.fields.find((f) => f.name === "atten");
+  if (plan.attenBits === 0 && attenField)
+    warnings.push(`no attenuator ("bits": 0) but the word has a ${attenField.width}-bit "atten" field: it holds 0 (no attenuation) in every word; the taper and calibration gains are not applied`);
   const disabledIds = Array.from(plan.elements.ids).filter((_, i) => !plan.elements.enabled[i]);
   if (disabledIds.length)
     warnings.push(`${disabledIds.length} element(s) disabled (${idList(disabledIds)}): they get the off word and take no part in G_ref or the analysis`);
@@ -136,4 +143,31 @@ function squintFacts(plan: Plan, fi: number): { squint: SquintBandwidth | null; 
   const lo = band[0]!, hi = band[band.length - 1]!;
   const needs = squint !== null && (lo < squint.lowHz || (squint.highHz !== null && hi > squint.highHz));
   return { squint, bandNeedsTrueTimeDelay: needs };
+}
+
+/**
+ * Grid axes and a band whose step does not divide the span end at the last whole step,
+ * short of "to" (27 … 29 GHz in 0.3 GHz steps ends at 28.8 GHz): said, not silently dropped.
+ */
+export function shortSteps(plan: Plan): string[] {
+  const out: string[] = [];
+  const spec = plan.beams.spec;
+  if (spec.grid) {
+    const names: Record<string, [string, string]> = { azel: ["az", "el"], uv: ["u", "v"], thetaphi: ["theta", "phi"] };
+    const [n1, n2] = names[spec.kind]!;
+    for (const [name, a] of [[n1, spec.inner], [n2, spec.outer]] as const) {
+      if (a.to === undefined) continue;
+      const last = new D(a.from).plus(new D(a.step).times(a.count - 1));
+      if (last.lt(a.to)) out.push(`/beams/${name}: step ${a.step} does not divide ${a.from} … ${a.to}: the grid ends at ${last.toString()}, ${new D(a.to).minus(last).toString()} short of "to"`);
+    }
+  }
+  const band = plan.band;
+  if (band?.toExact !== undefined) {
+    const last = band.frequenciesExact[band.frequenciesExact.length - 1]!;
+    if (new D(last).lt(band.toExact)) {
+      const ghz = (x: string | InstanceType<typeof D>) => `${new D(x).div(1e9).toString()} GHz`;
+      out.push(`/band: the step does not divide ${ghz(band.frequenciesExact[0]!)} … ${ghz(band.toExact)}: the band ends at ${ghz(last)}, ${ghz(new D(band.toExact).minus(last))} short of "to"`);
+    }
+  }
+  return out;
 }

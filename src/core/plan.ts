@@ -86,6 +86,8 @@ export interface Plan {
 export interface BandSpec {
   frequenciesHz: number[];
   frequenciesExact: string[];
+  /** The scenario's "to" in Hz (exact); the last band point falls short of it when the step does not divide the span. */
+  toExact?: string;
 }
 
 export function enabledCount(plan: Plan): number {

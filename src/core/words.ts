@@ -62,6 +62,9 @@ export function checkLayout(layout: WordLayout, phaseBits: number, attenBits: nu
     });
   });
   if (!seen.has("phase")) problems.push({ pointer: `${at}/fields`, message: `expected a field named "phase"` });
+  // without an "atten" field the attenuation codes (and with them the taper and calibration gains) never reached the words
+  if (attenBits > 0 && !seen.has("atten"))
+    problems.push({ pointer: `${at}/fields`, message: `expected a field named "atten" (at least ${attenBits} bits wide) for the attenuator's ${attenBits}-bit codes; without it every word would command 0 dB and the table would drop the taper and the calibration gains. Add the field, or set "attenuator": {"bits": 0} if the part has no attenuator` });
   return problems;
 }
 

@@ -23,13 +23,24 @@ import { METRICS } from "../core/pattern/analyze.js";
 import { analyseRange, type AnalyzerCache } from "../core/pattern/run.js";
 import { SQUINT_METRICS } from "../core/band.js";
 import { OptimizedQuantizer, OPT_FIELDS, writeReport } from "../core/quantize/optimized.js";
-import { analysisSizeProblem } from "../core/pattern/grid.js";
+import { analysisSizeProblem, MAX_ANALYSED_BEAMS } from "../core/pattern/grid.js";
 import { InputError } from "../core/errors.js";
 
 /** Refuse (exit 2, before any work) an analysis whose grid would pass its stated size (grid.ts MAX_ANALYSIS_CELLS). */
 export function refuseOversizedAnalysis(plan: Plan, file: string, opts: { band?: boolean } = {}): void {
   const p = analysisSizeProblem(plan, opts);
   if (p) throw new InputError({ file, pointer: p.band ? "/band" : "/frequency", message: p.message });
+}
+
+/** A build's analysis keeps every beam's metrics: refused past MAX_ANALYSED_BEAMS (frequencies × beams), before any work. */
+export function refuseTooManyAnalysedBeams(plan: Plan, file: string): void {
+  const n = plan.frequenciesHz.length * plan.beams.count;
+  if (n > MAX_ANALYSED_BEAMS) throw new InputError({ file, pointer: "/beams", message: analysedBeamsMessage(plan) });
+}
+
+export function analysedBeamsMessage(plan: Plan): string {
+  const nf = plan.frequenciesHz.length;
+  return `the analysis would cover ${nf} frequenc${nf === 1 ? "y" : "ies"} × ${plan.beams.count} beams = ${nf * plan.beams.count} beams; expected at most ${MAX_ANALYSED_BEAMS} (build --no-analysis writes the tables of any allowed size)`;
 }
 
 export const CHUNK_BEAMS = 8;

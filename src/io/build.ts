@@ -18,7 +18,7 @@ import { stringify } from "csv-stringify/sync";
 import { METRIC_COLUMNS, METRICS } from "../core/pattern/analyze.js";
 import { quantile, summarise, type Distribution } from "../core/pattern/summary.js";
 import { theoryFor, type Theory } from "../core/theory.js";
-import { refuseOversizedAnalysis, ringSource, startAnalysis } from "./analysis-pool.js";
+import { refuseOversizedAnalysis, refuseTooManyAnalysedBeams, ringSource, startAnalysis } from "./analysis-pool.js";
 import { setTimeout as sleep } from "node:timers/promises";
 import { fixed } from "./format.js";
 import { bandSummary, SQUINT_COLUMNS, SQUINT_METRICS, type BandBeamSummary } from "../core/band.js";
@@ -317,9 +317,16 @@ export async function produceOutputs(loaded: LoadedScenario, dir: string, scenar
   }
 }
 
-export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
+/** What a build cannot analyse, refused before any work (the command calls it before its facts, which take seconds on millions of beams). */
+export function refuseBuildAnalysis(loaded: LoadedScenario, analysis: boolean): void {
   // the optimized quantizer searches on the analysis grid: it needs it even with --no-analysis
-  if (opts.analysis || loaded.plan.quantizer.method === "optimized") refuseOversizedAnalysis(loaded.plan, loaded.scenario.name, { band: opts.analysis });
+  if (!analysis && loaded.plan.quantizer.method !== "optimized") return;
+  refuseOversizedAnalysis(loaded.plan, loaded.scenario.name, { band: analysis });
+  refuseTooManyAnalysedBeams(loaded.plan, loaded.scenario.name);
+}
+
+export async function runBuild(loaded: LoadedScenario, outDir: string, opts: BuildOptions): Promise<BuildResult> {
+  refuseBuildAnalysis(loaded, opts.analysis);
   const stage = new StagedDir(outDir, "build");
   try {
     const tmp = stage.tmp;

@@ -6,7 +6,7 @@
  * before a byte is written. On SIGINT/SIGTERM or an error
  * the temporary folder is removed and the previous output stays as it was.
  */
-import { existsSync, lstatSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync } from "node:fs";
+import { closeSync, constants, existsSync, lstatSync, mkdirSync, openSync, readdirSync, readFileSync, readSync, renameSync, rmSync, statSync } from "node:fs";
 import { basename, dirname, join, resolve } from "node:path";
 import { InputError } from "../core/errors.js";
 
@@ -20,6 +20,9 @@ const MARKERS: { command: OutputCommand; file: string; format: string; what: str
   { command: "sweep", file: "sweep.json", format: "steercode-sweep/1", what: "a steercode sweep (sweep.json)" },
   { command: "diff", file: "diff.json", format: "steercode-diff/1", what: "a steercode diff (diff.json)" },
 ];
+
+/** "a steercode build (manifest.json)" … per command, for messages. */
+export const MARKERS_WHAT = Object.fromEntries(MARKERS.map((m) => [m.command, m.what])) as Record<OutputCommand, string>;
 
 /**
  * What an existing folder holds: "empty", the commands whose outputs it holds (a build
@@ -125,21 +128,82 @@ export function writeProblem(e: NodeJS.ErrnoException, target: string, what = "c
 }
 
 /**
+ * A file output (`report -o`, `calibrate -o`), checked before any work: new (its folder
+ * exists), or a regular file holding an earlier output of its kind (`ours` judges its
+ * first 4 KiB). Refused: a symbolic link, dangling or not (the rename would replace the
+ * link: `calibrate -o /dev/stdout` replaced the system's /dev/stdout link with a file), a
+ * folder, a device, FIFO or socket (reading a FIFO's head waited for a writer for ever,
+ * deaf to SIGTERM), and any other file (`calibrate -o build/table.bin` replaced a table).
+ */
+export function checkFileTarget(out: string, o: { expected: string; command: string; kind: string; short: string; ours: (head: string) => boolean; other?: (head: string) => string }): void {
+  refuseEmptyTarget(out, o.expected);
+  let st;
+  try {
+    st = lstatSync(out);
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    if (code === "ENOTDIR") throw new InputError({ file: out, message: `a part of the path is not a folder; expected ${o.expected}` });
+    if (code !== "ENOENT") throw writeProblem(e as NodeJS.ErrnoException, out, "cannot check the output");
+    const parent = dirname(resolve(out));
+    if (!existsSync(parent) || !statSync(parent).isDirectory()) throw new InputError({ file: out, message: `the folder ${dirname(out)} does not exist` });
+    return;
+  }
+  const expected = `expected a new file or an earlier ${o.short}`;
+  if (st.isSymbolicLink()) throw new InputError({ file: out, message: `is a symbolic link; ${expected} (steercode does not write through links nor replace them)` });
+  if (st.isDirectory()) throw new InputError({ file: out, message: `is a folder; expected ${o.expected}` });
+  if (!st.isFile()) throw new InputError({ file: out, message: `is not a regular file (a device, FIFO or socket); ${expected}` });
+  if (st.size === 0) return; // an empty file holds nothing to lose
+  let head = "";
+  let fd = -1;
+  try {
+    fd = openSync(out, constants.O_RDONLY | constants.O_NOFOLLOW | constants.O_NONBLOCK);
+    const buf = Buffer.alloc(4096);
+    head = buf.subarray(0, readSync(fd, buf, 0, buf.length, 0)).toString("utf8");
+  } catch {
+    /* unreadable: refused below */
+  } finally {
+    if (fd >= 0) closeSync(fd);
+  }
+  if (o.ours(head)) return;
+  throw new InputError({ file: out, message: `exists and is not a ${o.kind}${o.other?.(head) ?? ""}; ${o.command} -o may replace only an earlier ${o.short}, so nothing was written. Choose another file name` });
+}
+
+/**
  * `report -o FILE`: refuse (before any work) to replace anything but an earlier
  * steercode report, so a report never overwrites a manifest, a table or a scenario.
  */
 export function checkReportTarget(out: string): void {
-  refuseEmptyTarget(out, "a file name for the report (e.g. report.html)");
-  if (!existsSync(out)) return;
-  if (statSync(out).isDirectory()) throw new InputError({ file: out, message: "is a folder; expected a file name for the report (e.g. report.html)" });
-  let head = "";
-  try {
-    head = readFileSync(out, "utf8").slice(0, 4096);
-  } catch {
-    /* unreadable: refused below */
+  checkFileTarget(out, {
+    expected: "a file name for the report (e.g. report.html)",
+    command: "report",
+    kind: "steercode report",
+    short: "report",
+    ours: (head) => REPORT_MARKER.test(head),
+    other: (head) => (/\.json$/i.test(out) && /"format":\s*"steercode-/.test(head) ? " (it is a steercode output file)" : ""),
+  });
+}
+
+/** `calibrate -o FILE`: a new file or a calibration file (after its `#` lines, a header naming element, phase_offset_deg and gain_offset_db). */
+export function checkCalibrationTarget(out: string): void {
+  refuseEmptyTarget(out, "a file name for the calibration (e.g. cal.csv)");
+  // a build's recorded inputs (inputs/calibration.csv) or any file of an output folder: replacing it would falsify that output
+  const folder = dirname(resolve(out));
+  for (const dir of basename(folder) === "inputs" ? [folder, dirname(folder)] : [folder]) {
+    const k = outputCommands(dir);
+    if (k !== "empty" && k.length) throw new InputError({ file: out, message: `lies inside ${k.map((c) => MARKERS.find((m) => m.command === c)!.what).join(" and ")} at ${dir}; calibrate -o never writes into a steercode output (verify would then find its recorded inputs changed). Expected a file outside it (e.g. cal.csv)` });
   }
-  if (REPORT_MARKER.test(head)) return;
-  throw new InputError({ file: out, message: `exists and is not a steercode report${/\.json$/i.test(out) && /"format":\s*"steercode-/.test(head) ? " (it is a steercode output file)" : ""}; report -o may replace only an earlier report, so nothing was written. Choose another file name` });
+  checkFileTarget(out, {
+    expected: "a file name for the calibration (e.g. cal.csv)",
+    command: "calibrate",
+    kind: "calibration file",
+    short: "calibration file",
+    ours: (head) => {
+      const header = head.replace(/^\uFEFF/, "").split(/\r\n|\r|\n/).find((l) => !l.startsWith("#"));
+      if (header === undefined) return false;
+      const cells = header.split(",").map((c) => c.trim().replace(/^"(.*)"$/, "$1"));
+      return ["element", "phase_offset_deg", "gain_offset_db"].every((c) => cells.includes(c));
+    },
+  });
 }
 
 /** The generator tag every report carries in its <head> (see makeReport). */

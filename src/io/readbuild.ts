@@ -256,6 +256,9 @@ export function readCodesCsv(dir: string): CodesCsv | null {
 
 /** The words of a build from the first format present (table.bin, table.json, table.mem, table.h). */
 export function buildWords(dir: string, m: Manifest): Decoded {
+  // a table the manifest lists but the folder lacks: the folder is damaged (diff fell back to codes.csv and said "identical")
+  for (const name of ["table.bin", "table.json", "table.mem", "table.h", "codes.csv"])
+    if (m.files[name] && folderEntry(dir, name).kind === "missing") throw new InputError({ file: join(dir, name), message: "is listed in manifest.json but missing; run steercode verify on this folder" });
   const d = wordsFromBin(dir, m) ?? wordsFromJson(dir) ?? wordsFromMem(dir) ?? wordsFromHeader(dir);
   if (d) return d;
   const c = readCodesCsv(dir);

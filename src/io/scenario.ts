@@ -444,7 +444,7 @@ class Loader {
       this.problem(`${pointer}/step`, `step ${raw.step} gives ${count} values; expected at most ${MAX_BEAMS} beams in a table`);
       return null;
     }
-    return { from, step, count };
+    return { from, step, count, to: new D(raw.to).toString() };
   }
 
   private beams() {
@@ -579,7 +579,7 @@ class Loader {
     }
     const frequenciesExact: string[] = [];
     for (let i = 0; i < count; i++) frequenciesExact.push(from.exact.plus(step.exact.times(i)).toString());
-    return { frequenciesExact, frequenciesHz: frequenciesExact.map(Number) };
+    return { frequenciesExact, frequenciesHz: frequenciesExact.map(Number), toExact: to.exact.toString() };
   }
 
   private taper(): TaperSpec | null {

@@ -6,6 +6,7 @@ import { stringify } from "csv-stringify/sync";
 import { InputError } from "../core/errors.js";
 import { METRICS } from "../core/pattern/analyze.js";
 import { BeamAnalyzer } from "../core/pattern/analyze.js";
+import { MAX_ANALYSED_BEAMS } from "../core/pattern/grid.js";
 import { attenBitsFor, SWEEP_COLUMNS, sweepRow, type SweepRow, type SweepVariantSpec } from "../core/sweep.js";
 import { planForPart, theoryFor, type TheoryValue } from "../core/theory.js";
 import { refuseOversizedAnalysis, startAnalysis } from "./analysis-pool.js";
@@ -40,6 +41,10 @@ export function sweepVariants(loaded: LoadedScenario, o: SweepOptions): SweepVar
   for (const q of o.quantizers)
     for (const s of o.attenStepsDb)
       for (const b of o.phaseBits) out.push({ phaseBits: b, attenStepDb: s.value, attenStepExact: s.exact, attenBits: plan.attenBits === 0 ? 0 : attenBitsFor(rangeDb, s.value), quantizer: q });
+  // every part analyses the whole grid into one shared array (11 doubles a beam): 72 parts × 1 M beams ran for hours towards 6.6 GB
+  const analyses = out.length * plan.frequenciesHz.length * plan.beams.count;
+  if (analyses > MAX_ANALYSED_BEAMS)
+    throw new InputError({ file: loaded.scenario.name, pointer: "/beams", message: `the sweep would analyse ${out.length} part(s) × ${plan.frequenciesHz.length} frequenc${plan.frequenciesHz.length === 1 ? "y" : "ies"} × ${plan.beams.count} beams = ${analyses} beams; expected at most ${MAX_ANALYSED_BEAMS}: sweep fewer bit depths, steps or quantizers, or a coarser beam grid` });
   return out;
 }
 

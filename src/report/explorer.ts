@@ -348,7 +348,10 @@ ${extra}
 ${row("computed in", `${shown.ms.toFixed(0)} ms`, "this page, steercode's own engine")}
 </tbody></table>`;
   const badge = $("crc-badge");
-  if (shown.crcOk === null) {
+  if (shown.crcOk === null && data.crcProblem) {
+    badge.className = "badge bad";
+    badge.textContent = `✗ ${data.crcProblem}`;
+  } else if (shown.crcOk === null) {
     badge.className = "badge na";
     badge.textContent = "codes recomputed by steercode's engine (no table.bin CRC in this folder to check them against)";
   } else if (shown.crcOk) {

@@ -13,6 +13,8 @@ export interface PageData {
   metrics: string | null;
   /** base64 Uint32Array [frequency·beams + beam]: CRC-32 of that beam's words in table.bin. */
   crc: string | null;
+  /** Why there are no CRCs although the manifest lists table.bin (missing, another length): the page says so on every beam. */
+  crcProblem?: string;
   start: { f: number; beam: number };
 }
 

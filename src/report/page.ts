@@ -73,26 +73,36 @@ function taperWords(t: Plan["taper"]): string {
   }
 }
 
-/** CRC-32 of every beam's words in table.bin, read a beam at a time. */
-function beamCrcs(dir: string, m: Manifest): Uint32Array | null {
+/** Beams (frequencies × beams) one report page carries: 1 048 576 (~170 MB of page with beams.csv's metrics). */
+export const MAX_REPORT_BEAMS = 1_048_576;
+
+/**
+ * CRC-32 of every beam's words in table.bin, read a beam at a time. A table.bin the
+ * manifest lists but that is missing or of another length gives no CRCs and a problem:
+ * the page said "no table.bin CRC in this folder to check them against" for a truncated
+ * table.bin, as if the build had none.
+ */
+function beamCrcs(dir: string, m: Manifest): { crc: Uint32Array | null; problem: string | null } {
   const f = m.files["table.bin"];
+  if (!f) return { crc: null, problem: null };
   const entry = folderEntry(dir, "table.bin");
-  if (!f || entry.kind === "missing") return null;
   const per = m.counts.elements * m.layout.bytes;
   const n = m.counts.frequencies * m.counts.beams;
-  if (per * n !== entry.size) return null;
+  const verifyIt = "the codes cannot be checked against it: run steercode verify on this folder";
+  if (entry.kind === "missing") return { crc: null, problem: `table.bin is listed in manifest.json but missing; ${verifyIt}` };
+  if (per * n !== entry.size) return { crc: null, problem: `table.bin holds ${entry.size} bytes, the manifest's counts give ${per * n} (${n} beams × ${per} bytes); ${verifyIt}` };
   const out = new Uint32Array(n);
   const buf = Buffer.alloc(per);
   const fd = openFolderFile(entry.path);
   try {
     for (let k = 0; k < n; k++) {
-      if (readSync(fd, buf, 0, per, k * per) !== per) return null;
+      if (readSync(fd, buf, 0, per, k * per) !== per) return { crc: null, problem: `table.bin ended early (beam ${k} of ${n}); ${verifyIt}` };
       out[k] = crc32(buf);
     }
   } finally {
     closeSync(fd);
   }
-  return out;
+  return { crc: out, problem: null };
 }
 
 const b64 = (bytes: Uint8Array) => Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength).toString("base64");
@@ -108,6 +118,11 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   const plan = loaded.plan;
   // the page runs the analysis engine: refuse a scenario whose analysis grid is past its limit
   refuseOversizedAnalysis(plan, dir, { band: false });
+  // the page carries every beam's direction, CRC and metrics: 64 frequencies × 1 M beams made a 396 MB page (151 s, 2 GB),
+  // its text grows toward V8's longest string (512 MiB), and no browser opens such a page
+  const pageBeams = plan.frequenciesHz.length * plan.beams.count;
+  if (pageBeams > MAX_REPORT_BEAMS)
+    throw new InputError({ file: join(dir, "inputs", "scenario.json"), pointer: "/beams", message: `the report would carry ${plan.frequenciesHz.length} frequenc${plan.frequenciesHz.length === 1 ? "y" : "ies"} × ${plan.beams.count} beams = ${pageBeams} beams; expected at most ${MAX_REPORT_BEAMS} (a page a browser can open): report a build of fewer beams or frequencies` });
   const F = plan.frequenciesHz.length, B = plan.beams.count;
   let metricColumns: string[] = [];
   let metrics: Float64Array | null = null;
@@ -147,13 +162,14 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   }
   if (beam < 0 || beam >= B) throw new InputError({ file: dir, message: `--beam ${beam}: expected a beam from 0 to ${B - 1}` });
   if (fi < 0 || fi >= F) throw new InputError({ file: dir, message: `--frequency ${fi}: expected 0 to ${F - 1}` });
-  const crc = beamCrcs(dir, m);
+  const { crc, problem: crcProblem } = beamCrcs(dir, m);
   const data: PageData = {
     title: plan.name || "build",
     plan: encodeTyped(plan, b64),
     metricColumns,
     metrics: metrics ? b64(new Uint8Array(metrics.buffer)) : null,
     crc: crc ? b64(new Uint8Array(crc.buffer)) : null,
+    ...(crcProblem ? { crcProblem } : {}),
     start: { f: fi, beam },
   };
   // facts from the recorded inputs (the plan), so a crafted manifest cannot break the page;
@@ -173,7 +189,7 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
     ["quantizer", `${plan.quantizer.method}${plan.quantizer.method === "randomized" ? ` (seed ${plan.quantizer.seed})` : ""}`],
     ["calibration", cal ? `${cal.ref} (SHA-256 ${cal.sha256})${cal.comments.length ? ` — ${cal.comments.join(" | ")}` : ""}` : "none"],
     ["G_ref, clipped elements", m.perFrequency.map((p, i) => `${Number(((plan.frequenciesHz[i] ?? NaN) / 1e9).toPrecision(9))} GHz: ${fin(p?.gRefDb, 3)} dB, ${fin(p?.clipped, 0)} clipped`).join("; ")],
-    ["table.bin CRC-32", typeof binCrc === "string" ? binCrc : "no table.bin in this build"],
+    ["table.bin CRC-32", `${typeof binCrc === "string" ? binCrc : "no table.bin in this build"}${crcProblem ? ` — ✗ ${crcProblem}` : ""}`],
   ];
   // estimates that fit this quantizer and part, and why a gain loss is negative (issue 8 items 3, 4)
   const t = theoryFor(plan);
@@ -391,7 +407,7 @@ function bandPart(m: Manifest): string {
 <h3>Beams that lose most gain across the band</h3><table><tbody>${worst("worstGainLossDb", "worstGainLossAtHz", 3, "dB")}</tbody></table></section>`;
 }
 
-export async function makeReport(dir: string, o: ReportOptions): Promise<{ html: string; beam: number | null }> {
+export async function makeReport(dir: string, o: ReportOptions): Promise<{ html: string; beam: number | null; warnings: string[] }> {
   checkFolder(dir);
   const has = (name: string) => folderEntry(dir, name).kind === "file";
   const hasBuild = has("manifest.json");
@@ -429,7 +445,7 @@ ${parts.join("\n")}
 ${script}
 </body></html>
 `;
-  return { html, beam };
+  return { html, beam, warnings: data?.crcProblem ? [data.crcProblem] : [] };
 }
 
 /**

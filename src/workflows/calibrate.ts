@@ -6,7 +6,7 @@
  * removes the probe path, refers the offsets and renders cal.csv. Writing is separate
  * (writeCalFile: a temporary file renamed into place), so nothing is written on error.
  */
-import { existsSync, renameSync, rmSync, statSync, writeFileSync } from "node:fs";
+import { renameSync, rmSync, writeFileSync } from "node:fs";
 import { basename, dirname, resolve } from "node:path";
 import { InputError, type Problem } from "../core/errors.js";
 import { D } from "../core/exact.js";
@@ -28,8 +28,8 @@ import { SPEED_OF_LIGHT } from "../core/units.js";
 import { numberCell, readCsv } from "../io/csv.js";
 import { readInput, sha256 } from "../io/files.js";
 import { fixed } from "../io/format.js";
-import { refuseEmptyTarget } from "../io/outdir.js";
-import { compactIds, loadScenario, MAX_ELEMENT_ID } from "../io/scenario.js";
+import { checkCalibrationTarget } from "../io/outdir.js";
+import { compactIds, loadScenario, MAX_ELEMENT_ID, MAX_FREQUENCY_HZ, MAX_GAIN_DB, MAX_PHASE_DEG, MIN_FREQUENCY_HZ } from "../io/scenario.js";
 
 export interface CalibrateOptions {
   scenario: string;
@@ -97,6 +97,9 @@ interface Group {
   rows: Map<number, { code: number; a: number; b: number; line: number }[]>;
 }
 
+/** Range readings (power or amplitude, dB, any common reference) within ±300 dB: 10^(±30) in power, far from a double's limits. */
+export const MAX_READING_DB = 300;
+
 export function runCalibrate(o: CalibrateOptions): CalibrateResult {
   const loaded = loadScenario(o.scenario, { ignoreCalibration: true });
   const plan = loaded.plan;
@@ -120,15 +123,12 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
   for (const r of t.rows) {
     const id = numberCell(t, r, "element", problems, { integer: true, min: 0, max: MAX_ELEMENT_ID });
     const code = o.method === "rev" ? numberCell(t, r, "phase_code", problems, { integer: true, min: 0 }) : { text: "0", value: 0 };
-    const a = numberCell(t, r, ca!, problems);
-    const b = o.method === "rev" ? a : numberCell(t, r, cb!, problems);
+    // bounded like every input: a power of −1e300 dB became 10^(−1e29) = 0 and then "non-finite value Infinity in an output" (exit 3)
+    const a = numberCell(t, r, ca!, problems, { min: -MAX_READING_DB, max: MAX_READING_DB });
+    const b = o.method === "rev" ? a : numberCell(t, r, cb!, problems, { min: -MAX_PHASE_DEG, max: MAX_PHASE_DEG });
     let f: { text: string; value: number } | null = { text: plan.frequenciesExact[0] ?? "0", value: plan.frequenciesHz[0] ?? 0 };
     if (perFrequency) {
-      f = numberCell(t, r, "frequency_hz", problems);
-      if (f && !(f.value > 0)) {
-        problems.push({ file, line: r.line, column: "frequency_hz", message: `expected a frequency > 0 Hz, got "${f.text}"` });
-        f = null;
-      }
+      f = numberCell(t, r, "frequency_hz", problems, { min: MIN_FREQUENCY_HZ, max: MAX_FREQUENCY_HZ });
     }
     if (!id || !code || !a || !b || !f) continue;
     const i = index.get(id.value);
@@ -238,6 +238,12 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
       if (fieldSum.error > Math.max(5 * fieldSum.sigma, 0.05))
         warnings.push(`the kept element fields do not add up to the whole array's (Σ e_n/E0 = ${sr.toFixed(3)}${si < 0 ? " − " : " + "}${Math.abs(si).toFixed(3)}j, expected 1 within ${(5 * fieldSum.sigma).toFixed(3)}): some root choices are wrong or the readings drifted; re-measure with the array phased up toward the probe`);
     }
+    // an offset build refuses (cal.csv gains within ±200 dB) is refused here, at the element's readings: it was written, and build then failed on it
+    ref.offsets.forEach((off, j) => {
+      if (Math.abs(off.gainDb) <= MAX_GAIN_DB) return;
+      const rows = g.rows.get(fields[j]!.index)!;
+      problems.push({ file, line: rows[0]!.line, message: `element ${off.element} (line${rows.length > 1 ? "s" : ""} ${compactIds(rows.map((x) => x.line), Infinity)}): its gain offset ${off.gainDb.toFixed(1)} dB (referred to the enabled elements' mean) lies outside ±${MAX_GAIN_DB} dB, which cal.csv holds; expected readings within that of the other channels (re-measure it, or add it to array.disabled)` });
+    });
     ssrAll += ssr;
     nAll += readings;
     freqReports.push({
@@ -252,6 +258,7 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
       warnings,
     });
   }
+  if (problems.length) throw new InputError(problems);
   const rmsResidualDb = o.method === "rev" ? Math.sqrt(ssrAll / nAll) : null;
   const flagged = freqReports.flatMap((f) => f.elements.filter((e) => e.flags.length).map((e) => ({ frequencyHz: f.frequencyHz, element: e.element, flags: e.flags, advice: e.advice })));
   const withData = new Set(sortedGroups.flatMap((g) => [...g.rows.keys()]));
@@ -305,10 +312,8 @@ export function renderCalCsv(r: Omit<CalibrateResult, "calCsv">, ids: ArrayLike<
 
 /** Write cal.csv through a temporary file renamed into place: never half-written. */
 export function writeCalFile(path: string, text: string): string {
-  refuseEmptyTarget(path, "a file name for the calibration (e.g. cal.csv)");
+  checkCalibrationTarget(path);
   const abs = resolve(path);
-  if (existsSync(abs) && statSync(abs).isDirectory()) throw new InputError({ file: path, message: "is a folder; expected a file name for the calibration (e.g. cal.csv)" });
-  if (!existsSync(dirname(abs))) throw new InputError({ file: path, message: `the parent folder ${dirname(abs)} does not exist` });
   const tmp = `${dirname(abs)}/.${basename(abs)}.steercode-tmp-${process.pid}`;
   try {
     writeFileSync(tmp, text, { flag: "w" });

@@ -4,7 +4,7 @@
  * nothing (no output folder, no staging folder), and show no stack trace.
  */
 import { execFileSync } from "node:child_process";
-import { existsSync, mkdirSync, readdirSync, symlinkSync, writeFileSync } from "node:fs";
+import { existsSync, lstatSync, mkdirSync, readdirSync, readFileSync, symlinkSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, tempDir } from "../helpers.js";
@@ -80,6 +80,8 @@ const cases: Case[] = [
   { name: "phase field too narrow", doc: B({ phaseShifter: { bits: 6 }, word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 4 }, { name: "atten", shift: 8, width: 8 }] } }), expect: [/\/word\/fields\/0\/width: field "phase" is 4 bits wide but the phase shifter has 6 bits/] },
   { name: "field past the word", doc: B({ word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 8 }, { name: "atten", shift: 12, width: 8 }] } }), expect: [/\/word\/fields\/1: field "atten" \(bits 12…19\) runs past the 16-bit word/] },
   { name: "off word too wide", doc: B({ word: { bits: 16, off: 70000, fields: [{ name: "phase", shift: 0, width: 8 }, { name: "atten", shift: 8, width: 8 }] } }), expect: [/\/word\/off: expected an off word that fits in 16 bits/] },
+  // a 6-bit attenuator and no "atten" field: every word commanded 0 dB (exit 0) while beams.csv analysed the taper as applied
+  { name: "attenuator bits but no atten field in the word", doc: B({ word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 8 }] } }), expect: [/scenario\.json: \/word\/fields: expected a field named "atten" \(at least 6 bits wide\) for the attenuator's 6-bit codes/] },
   { name: "constant field without a value", doc: B({ word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 8 }, { name: "atten", shift: 8, width: 6 }, { name: "enable", shift: 15, width: 1 }] } }), expect: [/\/word\/fields\/2: constant field "enable" needs a "value"/] },
   { name: "calibration file missing", doc: B({ calibration: "nope.csv" }), expect: [/nope\.csv: \/calibration: file not found/] },
   { name: "problems in several places are reported together", doc: B({ frequency: "-3 GHz", array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "15 mm", dy: "15 mm" } }, calibration: "cal.csv", word: { bits: 16, fields: [{ name: "phase", shift: 0, width: 2 }] } }), files: { "cal.csv": "element,phase_offset_deg,gain_offset_db\n0,1,0\n" }, expect: [/\/frequency: expected a frequency > 0/, /cal\.csv: missing 7 element\(s\)/, /\/word\/fields\/0\/width: field "phase" is 2 bits wide/] },
@@ -87,6 +89,8 @@ const cases: Case[] = [
   { name: "calibration row duplicated", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8 + "3,5,0\n" }, expect: [/cal\.csv, line 10, column element: element 3 is listed twice \(also on line 5\)/] },
   { name: "calibration row for an unknown element", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8 + "99,5,0\n" }, expect: [/cal\.csv, line 10, column element: element 99 is not in the array/] },
   { name: "calibration cell not a number", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8.replace("\n4,0,0", "\n4,12deg,0") }, expect: [/cal\.csv, line 6, column phase_offset_deg: expected a number, got "12deg"/] },
+  // a cell's terminal escape sequence reached the terminal raw inside the message quoting it (ESC [2J cleared the screen)
+  { name: "calibration cell holding a terminal escape sequence", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": CAL8.replace("\n4,0,0", "\n4,\u001b[2J\u009b31m,0") }, expect: [/cal\.csv, line 6, column phase_offset_deg: expected a number, got "\\u001b\[2J\\u009b31m"/], notExpect: [/[\u001b\u009b]/] },
   { name: "calibration with a wrong header", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": "id,phase,gain\n0,0,0\n" }, expect: [/cal\.csv, line 1, column id: unknown column "id"/] },
   { name: "calibration file empty", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": "" }, expect: [/cal\.csv: expected a header row/] },
   { name: "calibration not UTF-8", doc: B({ calibration: "cal.csv" }), files: { "cal.csv": Buffer.from([0x65, 0x6c, 0xff, 0xfe, 0x0a]) }, expect: [/cal\.csv: \/calibration: expected UTF-8 text/] },
@@ -111,6 +115,14 @@ const cases: Case[] = [
   { name: "optimized quantizer: unknown objective", doc: B({ quantizer: { method: "optimized", objective: "rms" } }), expect: [/\/quantizer\/objective: expected one of "psl"/] },
   { name: "gain-loss limit on a quantizer that does not optimise", doc: B({ quantizer: { method: "nearest", maxGainLossDb: 0.3 } }), expect: [/\/quantizer\/maxGainLossDb: "maxGainLossDb" applies to the optimized quantizer only/] },
   { name: "sweep: unknown quantizer", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--phase-bits", "3", "--quantizer", "nearest,optimised"], expect: [/--quantizer: expected one or more of nearest, randomized, optimized/] },
+  // a value listed twice in a sweep list was merged without a word while the scenario refuses every repeated value (frequencies, disabled ids, outputs)
+  { name: "sweep: a bit depth listed twice (overlapping ranges)", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--phase-bits", "3..5,5..6"], expect: [/--phase-bits: 5 bits is listed twice in "3\.\.5,5\.\.6"; expected each bit depth once/] },
+  { name: "sweep: an attenuator step listed twice (0.5 and 0.50 dB)", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--phase-bits", "3", "--atten-step", "0.5,1,0.50"], expect: [/--atten-step: 0\.5 dB is listed twice in "0\.5,1,0\.50"; expected each step once/] },
+  { name: "sweep: a quantizer listed twice", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--phase-bits", "3", "--quantizer", "nearest,randomized,nearest"], expect: [/--quantizer: nearest is listed twice in "nearest,randomized,nearest"; expected each quantizer once/] },
+  // 72 parts × 1 M beams ran for hours towards a 6.6 GB metrics array; derived: 12 bit depths × 601 × 601 beams = 4 334 412 > 4 194 304
+  { name: "sweep: more analysed beams than a sweep holds", doc: B({ beams: { kind: "uv", u: { from: -0.6, to: 0.6, step: 0.002 }, v: { from: -0.6, to: 0.6, step: 0.002 } } }), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--phase-bits", "1..12"], expect: [/scenario\.json: \/beams: the sweep would analyse 12 part\(s\) × 1 frequency × 361201 beams = 4334412 beams; expected at most 4194304/] },
+  // 64 frequencies × 1 M beams ran on towards a 5.6 GB metrics array; derived: 12 × 601 × 601 = 4 334 412 > 4 194 304
+  { name: "build: more analysed beams than a build holds", doc: B({ frequency: Array.from({ length: 12 }, (_, i) => `${10 + i / 10} GHz`), beams: { kind: "uv", u: { from: -0.6, to: 0.6, step: 0.002 }, v: { from: -0.6, to: 0.6, step: 0.002 } } }), expect: [/scenario\.json: \/beams: the analysis would cover 12 frequencies × 361201 beams = 4334412 beams; expected at most 4194304 \(build --no-analysis writes the tables/] },
   { name: "unknown disabled element", doc: B({ array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "5 mm", dy: "5 mm" }, disabled: [3, 12] } }), expect: [/\/array\/disabled\/1: no element 12 in the array/] },
   { name: "every element disabled", doc: B({ array: { lattice: { kind: "rectangular", columns: 2, rows: 1, dx: "5 mm", dy: "5 mm" }, disabled: [0, 1] } }), expect: [/\/array\/disabled: every element is disabled/] },
   { name: "scenario file that does not exist", args: (d) => ["build", join(d, "missing.json"), "-o", join(d, "out")], expect: [/missing\.json: file not found/] },
@@ -135,7 +147,15 @@ const cases: Case[] = [
   // a step past the span kept only "from" and dropped "to" without a word (beam axes refuse it)
   { name: "band step larger than its span", doc: B({ band: { from: "9 GHz", to: "10 GHz", step: "5 GHz" } }), expect: [/scenario\.json: \/band\/step: step 5000000000 Hz is larger than the span 1000000000 Hz; the band would hold only "from"/] },
   { name: "band with a unit that is not a frequency", doc: B({ band: { from: "9 GHz", to: "11 mm", step: "1 GHz" } }), expect: [/\/band\/to: expected a frequency/] },
+  // init: "" was exit 3 (cp's EEXIST in the working folder); a dangling link said "no such file or folder (mkdir)";
+  // a build folder took the demo's files, which the next build -o there deletes
+  { name: "init \"\"", args: () => ["init", ""], expect: [/init: expected a folder name for the demo, got an empty string/] },
+  { name: "init into a dangling symbolic link", prepare: (d) => symlinkSync(join(d, "nowhere"), join(d, "link")), args: (d) => ["init", join(d, "link")], expect: [/link: is a symbolic link; expected a new folder or one without the demo's files/] },
+  { name: "init into a build folder", prepare: (d) => { mkdirSync(join(d, "b")); writeFileSync(join(d, "b", "manifest.json"), JSON.stringify(MANIFEST)); }, args: (d) => ["init", join(d, "b")], expect: [/b: holds a steercode build \(manifest\.json\); the next build -o there would replace the folder, the demo's files with it/] },
   { name: "unknown option", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--colour"], expect: [/unknown option --colour/] },
+  // the two values were joined: `-o a -o b` wrote a build into a folder named "a,b" (exit 0)
+  { name: "an option given twice (-o a -o b)", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "a"), "-o", join(d, "b"), "--no-analysis"], expect: [/-o was given 2 times \(.*a, .*b\); expected it once/] },
+  { name: "--jobs given twice", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "1", "--jobs=2"], expect: [/--jobs was given 2 times \(1, 2\); expected it once/] },
   { name: "--jobs 0", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "0"], expect: [/--jobs: expected a whole number from 1 to 256, got 0/] },
   // ---- issue 9: hostile and huge inputs
   // element ids are whole numbers 0 … 2^31 − 1, refused as written (never wrapped to 32 bits nor rounded past 2^53)
@@ -194,7 +214,7 @@ const cases: Case[] = [
   { name: "calibrate: an enabled element without readings", doc: B(), files: { "rev.csv": REV(revRows((e) => e === 5)) }, args: CALIBRATE(), expect: [/rev\.csv: no readings for 1 enabled element\(s\): 5; expected readings for every enabled element/] },
   { name: "calibrate: too few codes", doc: B(), files: { "rev.csv": REV(revRows((e, k) => e === 2 && k > 2)) }, args: CALIBRATE(), expect: [/rev\.csv, line 18: element 2 \(lines 18–20\) has 2 code\(s\) besides code 0; expected at least three/] },
   { name: "calibrate: code 0 missing", doc: B(), files: { "rev.csv": REV(revRows((e, k) => e === 3 && k === 0)) }, args: CALIBRATE(), expect: [/rev\.csv, line 26: element 3 .* has no reading at code 0/] },
-  { name: "calibrate: NaN power", doc: B(), files: { "rev.csv": REV(revRows()).replace(/\n4,2,[-\d.]+/, "\n4,2,NaN") }, args: CALIBRATE(), expect: [/rev\.csv, line 36, column power_db: expected a number, got "NaN"/] },
+  { name: "calibrate: NaN power", doc: B(), files: { "rev.csv": REV(revRows()).replace(/\n4,2,[-\d.]+/, "\n4,2,NaN") }, args: CALIBRATE(), expect: [/rev\.csv, line 36, column power_db: expected a number from -300 to 300, got "NaN"/] },
   { name: "calibrate: duplicate (element, code)", doc: B(), files: { "rev.csv": REV([...revRows(), "1,3,-0.5"]) }, args: CALIBRATE(), expect: [/rev\.csv, line 66: element 1 code 3 is listed twice \(also on line 13\)/] },
   { name: "calibrate: power that does not vary", doc: B(), files: { "rev.csv": REV(revRows().map((r) => (r.startsWith("6,") ? r.replace(/,[-\d.]+$/, ",-1.5") : r))) }, args: CALIBRATE(), expect: [/rev\.csv, line 50: element 6 \(lines 50–57\): the power does not vary with the code \(no solution\)/] },
   { name: "calibrate: code past the phase shifter", doc: B(), files: { "rev.csv": REV([...revRows(), "0,8,0"]) }, args: CALIBRATE(), expect: [/rev\.csv, line 66, column phase_code: code 8 does not exist on the scenario's 3-bit phase shifter/] },
@@ -209,6 +229,22 @@ const cases: Case[] = [
   { name: "calibrate: -o is the --data file", doc: B(), files: { "rev.csv": REV(revRows()) }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "rev.csv")], expect: [/rev\.csv: is the --data file \(the readings\); writing the calibration there would replace it/] },
   // an id past 2^53 was named rounded ("element 9007199254740992 is not in the array")
   { name: "calibrate: element id 2^53 + 1 in the data", doc: B(), files: { "rev.csv": REV([...revRows(), "9007199254740993,0,0"]) }, args: CALIBRATE(), expect: [/rev\.csv, line 66, column element: expected a whole number from 0 to 2147483647, got "9007199254740993"/] },
+  // -o FILE (calibrate, report): a link, a FIFO or a file that is not of the command's kind.
+  // `calibrate -o /dev/stdout` (a link) replaced the system's /dev/stdout link with a file (exit 0);
+  // `report -o FIFO` read the FIFO's head and waited for a writer for ever, deaf to SIGTERM
+  { name: "calibrate: -o a symbolic link", doc: B(), files: { "rev.csv": REV(revRows()), "old.csv": CAL8 }, prepare: (d) => symlinkSync(join(d, "old.csv"), join(d, "link.csv")), args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "link.csv")], expect: [/link\.csv: is a symbolic link; expected a new file or an earlier calibration file \(steercode does not write through links nor replace them\)/] },
+  { name: "calibrate: -o a FIFO", doc: B(), files: { "rev.csv": REV(revRows()) }, prepare: (d) => execFileSync("mkfifo", [join(d, "fifo")]), args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "fifo")], expect: [/fifo: is not a regular file \(a device, FIFO or socket\); expected a new file or an earlier calibration file/] },
+  { name: "calibrate: -o a file that is not a calibration (a table)", doc: B(), files: { "rev.csv": REV(revRows()), "table.h": "#define X 1\n" }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "table.h")], expect: [/table\.h: exists and is not a calibration file; calibrate -o may replace only an earlier calibration file, so nothing was written/] },
+  { name: "calibrate: -o inside a build's inputs/", doc: B(), files: { "rev.csv": REV(revRows()) }, prepare: (d) => { mkdirSync(join(d, "b", "inputs"), { recursive: true }); writeFileSync(join(d, "b", "manifest.json"), JSON.stringify(MANIFEST)); writeFileSync(join(d, "b", "inputs", "calibration.csv"), CAL8); }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "b", "inputs", "calibration.csv")], expect: [/calibration\.csv: lies inside a steercode build \(manifest\.json\) at .*calibrate -o never writes into a steercode output/] },
+  { name: "report: -o a FIFO (waited for a writer for ever)", prepare: (d) => { writeFileSync(join(d, "manifest.json"), JSON.stringify(MANIFEST)); execFileSync("mkfifo", [join(d, "fifo")]); }, args: (d) => ["report", d, "-o", join(d, "fifo")], expect: [/fifo: is not a regular file \(a device, FIFO or socket\); expected a new file or an earlier report/] },
+  { name: "report: -o a symbolic link", prepare: (d) => { writeFileSync(join(d, "manifest.json"), JSON.stringify(MANIFEST)); symlinkSync(join(d, "elsewhere.html"), join(d, "r.html")); }, args: (d) => ["report", d, "-o", join(d, "r.html")], expect: [/r\.html: is a symbolic link; expected a new file or an earlier report/] },
+  // a power of −1e300 dB became 10^(−1e29) = 0: "internal error: non-finite value Infinity in an output" (exit 3)
+  { name: "calibrate: power -1e300 dB", doc: B(), files: { "rev.csv": REV(revRows()).replace(/\n4,2,[-\d.]+/, "\n4,2,-1e300") }, args: CALIBRATE(), expect: [/rev\.csv, line 36, column power_db: expected a number from -300 to 300, got "-1e300"/] },
+  { name: "calibrate field: amplitude past ±300 dB, phase past ±1e6°", doc: B(), files: { "f.csv": "element,amplitude_db,phase_deg\n" + Array.from({ length: 8 }, (_, e) => `${e},${e === 2 ? "1e309" : e === 3 ? "-400" : "0"},${e === 5 ? "2e6" : "0"}`).join("\n") + "\n" }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "f.csv"), "--method", "field", "-o", join(d, "cal.csv")], expect: [/f\.csv, line 4, column amplitude_db: expected a number from -300 to 300, got "1e309"/, /f\.csv, line 5, column amplitude_db: expected a number from -300 to 300, got "-400"/, /f\.csv, line 7, column phase_deg: expected a number from -1000000 to 1000000, got "2e6"/] },
+  // an offset past what cal.csv holds (±200 dB) was written, and build then refused the cal.csv calibrate had made
+  // derived: readings 250 dB on element 3, 0 dB elsewhere → mean 31.25 dB → element 3's offset 218.75 dB
+  { name: "calibrate field: a referred gain offset past ±200 dB", doc: B(), files: { "f.csv": "element,amplitude_db,phase_deg\n" + Array.from({ length: 8 }, (_, e) => `${e},${e === 3 ? 250 : 0},0`).join("\n") + "\n" }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "f.csv"), "--method", "field", "-o", join(d, "cal.csv")], expect: [/f\.csv, line 5: element 3 \(line 5\): its gain offset 218\.8 dB \(referred to the enabled elements' mean\) lies outside ±200 dB/] },
+  { name: "calibrate: frequency_hz 1e300", doc: B(), files: { "rev.csv": "element,phase_code,power_db,frequency_hz\n" + revRows().map((r) => r + ",1e300").join("\n") + "\n" }, args: CALIBRATE(), expect: [/rev\.csv, line 2, column frequency_hz: expected a number from 1 to 1000000000000000, got "1e300"/] },
   { name: "calibrate: probe direction and position both", doc: B(), files: { "rev.csv": REV(revRows()) }, args: CALIBRATE(["--probe-direction", "0,0", "--probe-position", "0,0,1"]), expect: [/give --probe-direction or --probe-position, not both/] },
   { name: "cal.csv per frequency: scenario frequency outside the listed span", doc: B({ frequency: ["10 GHz", "12 GHz"], calibration: "cal.csv" }), files: { "cal.csv": CALF }, expect: [/scenario\.json: \/frequency\/1: frequency 12000000000 Hz lies outside the calibrated span 9000000000 … 11000000000 Hz; expected a frequency within it \(calibration is interpolated, never extrapolated\)/] },
   { name: "band reaching outside the span of cal.csv's frequency_hz sets", doc: B({ calibration: "cal.csv", band: { from: "10 GHz", to: "11.5 GHz", step: "0.5 GHz" } }), files: { "cal.csv": CALF }, expect: [/scenario\.json: \/band: 1 of 4 band point\(s\) \(11500000000 Hz\) lie outside the span 9000000000 … 11000000000 Hz of the frequency_hz sets in cal\.csv; expected a band within the calibrated span/] },
@@ -263,7 +299,9 @@ const cases: Case[] = [
   { name: "devices: elements.csv channel past the device", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device,channel\n0,0,0,0,0\n1,0.01,0,0,2\n" }, expect: [/el\.csv, line 3, column channel: channel 2 does not exist on a 2-channel device/] },
   { name: "devices: elements.csv two elements on one channel", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device,channel\n0,0,0,3,1\n1,0.01,0,3,1\n" }, expect: [/el\.csv, line 3, column channel: element 1 and element 0 \(line 2\) are both on device 3 channel 1/] },
   { name: "devices: elements.csv with a device column but no channel column", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device\n0,0,0,3\n1,0.01,0,3\n" }, expect: [/el\.csv: has a device column but no channel column; expected both/] },
-  { name: "check --bus-clock that is not a frequency", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10 parsec"], expect: [/--bus-clock: expected a clock frequency > 0 such as 10MHz, got 10 parsec/] },
+  { name: "check --bus-clock that is not a frequency", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10 parsec"], expect: [/--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got 10 parsec/] },
+  // 1e400Hz was an infinite clock: "full load 0.000 µs each", exit 0
+  { name: "check --bus-clock 1e400Hz", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "1e400Hz"], expect: [/--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got 1e400Hz/] },
   { name: "check --bus-overhead-bits negative", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10MHz", "--bus-overhead-bits", "-1"], expect: [/--bus-overhead-bits: expected a whole number from 0 to 4096, got -1/] },
 ];
 
@@ -287,6 +325,17 @@ describe("bad input: exit 2, a message naming file and field or line, nothing wr
       if (!c.prepare) expect(existsSync(join(dir, "out"))).toBe(false);
     });
   }
+
+  it("calibrate -o a link leaves the link and the file it names as they were", () => {
+    const dir = tempDir("steercode-bad-");
+    writeFileSync(join(dir, "scenario.json"), JSON.stringify(B()));
+    writeFileSync(join(dir, "rev.csv"), REV(revRows()));
+    writeFileSync(join(dir, "old.csv"), CAL8);
+    symlinkSync(join(dir, "old.csv"), join(dir, "link.csv"));
+    expect(cli(CALIBRATE()(dir).map((x) => (x === join(dir, "cal.csv") ? join(dir, "link.csv") : x))).code).toBe(2);
+    expect(lstatSync(join(dir, "link.csv")).isSymbolicLink()).toBe(true);
+    expect(readFileSync(join(dir, "old.csv"), "utf8")).toBe(CAL8);
+  });
 
   it("--json reports the problems as one JSON document with exit 2", () => {
     const dir = tempDir();

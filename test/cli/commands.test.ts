@@ -57,6 +57,37 @@ describe("check", () => {
     expect(r.stdout).toMatch(/RF safety/);
   });
 
+  // steps that do not divide the span ended short of "to" without a word; an attenuator of 0 bits beside an "atten" field
+  it("says when a grid or band step stops short of \"to\", and when an atten field holds 0 because the attenuator has no bits", () => {
+    const s = writeScenario(baseScenario({
+      beams: { kind: "azel", az: { from: -45, to: 45, step: 7 }, el: { from: -0.3, to: 0.3, step: 0.3 } },
+      band: { from: "9.5 GHz", to: "10.5 GHz", step: "0.3 GHz" },
+      attenuator: { bits: 0, step: "1 dB" },
+    }));
+    const r = cli(["check", s, "--json"]);
+    expect(r.code, r.stderr).toBe(0);
+    const w: string[] = JSON.parse(r.stdout).warnings;
+    // derived by hand: −45 + 12·7 = 39; 9.5 + 3·0.3 = 10.4 GHz; the el axis −0.3 … 0.3 in 0.3 ends on "to" (exact decimals)
+    expect(w).toContain('/beams/az: step 7 does not divide -45 … 45: the grid ends at 39, 6 short of "to"');
+    expect(w).toContain('/band: the step does not divide 9.5 GHz … 10.5 GHz: the band ends at 10.4 GHz, 0.1 GHz short of "to"');
+    expect(w.filter((x) => x.startsWith("/beams/el"))).toEqual([]);
+    expect(w).toContain('no attenuator ("bits": 0) but the word has a 8-bit "atten" field: it holds 0 (no attenuation) in every word; the taper and calibration gains are not applied');
+    const b = cli(["build", s, "-o", join(tempDir(), "out"), "--no-analysis"]);
+    expect(b.code, b.stderr).toBe(0);
+    expect(b.stderr + b.stdout).toMatch(/warning: \/beams\/az: step 7 does not divide -45 … 45/);
+  });
+
+  it("prints a scenario name and calibration comments with their control characters escaped (ESC [2J cleared the terminal)", () => {
+    const s = writeScenario(baseScenario({ name: "panel\u001b[2J\u0007", calibration: "cal.csv" }), { "cal.csv": "# made \u001b[31mred\nelement,phase_offset_deg,gain_offset_db\n" + Array.from({ length: 8 }, (_, i) => `${i},0,0`).join("\n") + "\n" });
+    const r = cli(["check", s]);
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stdout).toContain("(panel\\u001b[2J\\u0007)");
+    expect(r.stdout).toContain("made \\u001b[31mred");
+    expect(r.stdout).not.toMatch(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/);
+    // --json keeps the text as it is (JSON escapes it)
+    expect(JSON.parse(cli(["check", s, "--json"]).stdout).name).toBe("panel\u001b[2J\u0007");
+  });
+
   it("warns when the analysis grid would pass its limit (28 THz on a 4 × 4 lattice); build --no-analysis still writes the tables", () => {
     // derived: the grid has (⌈2/du⌉ + 4)(⌈2/dv⌉ + 4) cells, du = λ/(5.2 mm·16) at 28 THz → 2.42e8 > 2048²
     const s = writeScenario(baseScenario({ frequency: "28 THz", array: { lattice: { kind: "rectangular", columns: 4, rows: 4, dx: "5.2 mm", dy: "5.2 mm" } } }));

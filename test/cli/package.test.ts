@@ -102,4 +102,23 @@ describe("library API", () => {
     expect(() => lib.beamTable(s, { frequency: 1, beam: 0 })).toThrow(/frequency index 1: expected a whole number from 0 to 0/);
     expect((await lib.verifyBuild(out)).ok).toBe(true);
   });
+
+  // these came back as garbage or as a TypeError/Error instead of an InputError or { ok: false }:
+  // unpack(−1) gave codes 63/63, unpack(2^40) and unpack(NaN) 0/0; calibrationAt(NaN or −1 Hz) served the calibration;
+  // calibrate with an unknown method was a TypeError, with a NaN probe "non-finite value NaN in an output", az 200° was taken
+  it("refuses what the command line would: words the layout cannot hold, frequencies out of range, bad methods and probes", async () => {
+    const lib = await import("../../src/index.js");
+    const demo = join(ROOT, "fixtures", "demo");
+    const s = lib.loadScenario(join(demo, "scenario.json"));
+    for (const w of [-1, 2 ** 16, 2 ** 40, NaN, 1.5]) expect(() => lib.unpack(s, w)).toThrow(lib.InputError);
+    // the demo's 16-bit layout: phase bits 0…5, atten bits 8…13 (fixtures/demo/scenario.json)
+    expect(lib.unpack(s, 0xffff)).toEqual({ phaseCode: 63, attenCode: 63 });
+    for (const f of [NaN, -1, 0, 1e30, Infinity, "abc"]) expect(lib.calibrationAt(s, f).ok).toBe(false);
+    expect(lib.calibrationAt(s, "28e9").ok).toBe(true);
+    expect(() => lib.beamTable(s, undefined as never)).toThrow(lib.InputError);
+    const base = { scenario: join(demo, "scenario.json"), data: join(ROOT, "fixtures", "demo", "range-rev-1.csv") };
+    expect(() => lib.calibrate({ ...base, method: "zzz" as never, probe: { kind: "far", azDeg: 0, elDeg: 0 } })).toThrow(/method zzz: expected "rev" or "field"/);
+    expect(() => lib.calibrate({ ...base, method: "rev", probe: { kind: "near", x: NaN, y: 0, z: 1 } })).toThrow(lib.InputError);
+    expect(() => lib.calibrate({ ...base, method: "rev", probe: { kind: "far", azDeg: 200, elDeg: 0 } })).toThrow(/expected \|az\| and \|el\| ≤ 90 degrees/);
+  });
 });

@@ -348,6 +348,46 @@ describe("crafted folders: verify and report stay inside the folder; exit 2, nev
   });
 });
 
+describe("diff and report on a damaged table.bin say so (they trusted the rest of the folder)", () => {
+  // report: a truncated table.bin gave the badge "no table.bin CRC in this folder to check them against", exit 0 without a word;
+  // diff: a missing table.bin fell back to codes.csv and printed "identical"
+  it("report: a truncated or missing table.bin → a warning on stderr and a ✗ on the page; diff: a missing table.bin → exit 2", () => {
+    const cut = copy("cut-bin");
+    const bin = readFileSync(join(cut, "table.bin"));
+    expect(bin.length).toBe(96); // derived: 2 frequencies × 3 beams = 6 beams of 8 elements × 2 bytes
+    writeFileSync(join(cut, "table.bin"), bin.subarray(0, 50));
+    const r = cli(["report", cut, "-o", join(cut, "r.html"), "--json"]);
+    expect(r.code, r.stderr).toBe(0);
+    const want = "table.bin holds 50 bytes, the manifest's counts give 96 (6 beams × 16 bytes); the codes cannot be checked against it: run steercode verify on this folder";
+    expect(JSON.parse(r.stdout).warnings).toEqual([want]);
+    const page = readFileSync(join(cut, "r.html"), "utf8");
+    expect(page.includes(`"crcProblem":${JSON.stringify(want)}`), "the page's data carries the problem for the badge").toBe(true);
+    expect(page.includes("— ✗ table.bin holds 50 bytes"), "the summary names it").toBe(true);
+    const gone = copy("no-bin");
+    rmSync(join(gone, "table.bin"));
+    const p = cli(["report", gone, "-o", join(gone, "r.html")]);
+    expect(p.code, p.stderr).toBe(0);
+    expect(p.stderr).toMatch(/warning: table\.bin is listed in manifest\.json but missing/);
+    const d = cli(["diff", base, gone]);
+    expect(d.code).toBe(2);
+    expect(d.stderr).toMatch(/no-bin\/table\.bin: is listed in manifest\.json but missing; run steercode verify on this folder/);
+  });
+});
+
+describe("report: a page a browser can open", () => {
+  // 64 frequencies × 1 M beams made a 396 MB page (151 s, 2 GB of memory), exit 0
+  it("a build of more than 1 048 576 beams (frequencies × beams) → exit 2 before any work", () => {
+    // derived: 3 frequencies × 601 × 601 beams = 1 083 603 > 1 048 576
+    const s = writeScenario(baseScenario({ frequency: ["10 GHz", "10.1 GHz", "10.2 GHz"], beams: { kind: "uv", u: { from: -0.6, to: 0.6, step: 0.002 }, v: { from: -0.6, to: 0.6, step: 0.002 } }, outputs: ["bin"] }), {}, join(root, "big-s"));
+    const out = join(root, "big");
+    expect(cli(["build", s, "-o", out, "--no-analysis"]).code).toBe(0);
+    const r = cli(["report", out]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/inputs\/scenario\.json: \/beams: the report would carry 3 frequencies × 361201 beams = 1083603 beams; expected at most 1048576/);
+    expect(existsSync(join(out, "report.html"))).toBe(false);
+  });
+});
+
 describe("report: nothing from the folder reaches the page unescaped", () => {
   it("a sweep folder with markup in sweep.json and sweep.svg: escaped text, the figure drawn from the numbers", () => {
     const s = writeScenario(baseScenario(), {}, join(root, "sw"));

@@ -27,4 +27,13 @@ describe("word packing", () => {
     expect(msgs.join("\n")).toMatch(/\/word\/fields\/1: field "atten" overlaps field "phase"/);
     expect(msgs.join("\n")).toMatch(/\/word\/fields\/2: field "strobe" \(bits 10…13\) runs past the 12-bit word/);
   });
+
+  // a 6-bit attenuator with no "atten" field: every word commanded 0 dB while beams.csv analysed the taper as applied
+  it("requires an atten field when the attenuator has bits, and none when it has none", () => {
+    const phaseOnly: WordLayout = { bits: 8, bytes: 1, off: 0, fields: [{ name: "phase", shift: 0, width: 6 }] };
+    expect(checkLayout(phaseOnly, 6, 0, "/word")).toEqual([]);
+    const msgs = checkLayout(phaseOnly, 6, 6, "/word").map((p) => `${p.pointer}: ${p.message}`);
+    expect(msgs).toHaveLength(1);
+    expect(msgs[0]).toMatch(/^\/word\/fields: expected a field named "atten" \(at least 6 bits wide\) for the attenuator's 6-bit codes/);
+  });
 });
