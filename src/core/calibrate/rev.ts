@@ -60,7 +60,20 @@ export interface RevFit {
   /** one-sigma uncertainty of |x| (relative) and of ∠x (rad), from the fit's residual and Jacobian */
   relStd: number;
   phaseStdRad: number;
+  /**
+   * true when the kept field is within NOISE_FLOOR_SIGMAS of its 1σ of zero: the
+   * readings cannot tell the element's field from none (a dead channel, or one at the
+   * noise floor), so its phase is not measured and the linearised 1σ does not hold
+   */
+  belowNoise: boolean;
 }
+
+/**
+ * A fitted field |x| no larger than this many of its 1σ is not told from zero (derived:
+ * with no field, |x̂|/σ is Rayleigh distributed, P(|x̂| ≥ 3σ) = e^{−4.5} ≈ 1.1 %, so
+ * noise alone gives such a field at least that often).
+ */
+export const NOISE_FLOOR_SIGMAS = 3;
 
 export type RevResult = { ok: true; fit: RevFit } | { ok: false; message: string };
 
@@ -271,7 +284,10 @@ export function revFitElement(r: RevReadings): RevResult {
     : !separated
       ? `cannot be decided: the two roots give element fields of ${mk.toPrecision(3)} and ${mo.toPrecision(3)} of the array's, within the fit's uncertainty (${(3 * sigmaAbs).toPrecision(2)}, 3σ); kept the smaller`
       : `cannot be decided: the roots give element fields of ${mk.toPrecision(3)} and ${mo.toPrecision(3)} of the whole array's, not one far smaller than the other (the elements' fields largely cancel at the probe), so the smaller-field rule does not hold; kept the smaller`;
-  return { ok: true, fit: { linear: lin, roots, kept, decided, why, relStd: sigmaAbs / mk, phaseStdRad: Math.sqrt(Math.max(0, varTan)) / mk } };
+  // σ of one component of x (the larger of along and across: with no field both are the noise's)
+  const sigmaComp = Math.max(sigmaAbs, Math.sqrt(Math.max(0, varTan)));
+  const belowNoise = s2 > 0 && Number.isFinite(sigmaComp) && mk <= NOISE_FLOOR_SIGMAS * sigmaComp;
+  return { ok: true, fit: { linear: lin, roots, kept, decided, why, relStd: sigmaAbs / mk, phaseStdRad: Math.sqrt(Math.max(0, varTan)) / mk, belowNoise } };
 }
 
 export interface RevElementData {
@@ -313,6 +329,14 @@ export function revMethod(data: RevElementData[]): { ok: true; fields: MethodFie
     if (root.residualDb > Math.max(4 * medianRes, 0.01)) {
       flags.push("poor-fit");
       advice.push(`element ${id}: rms fit residual ${root.residualDb.toFixed(3)} dB against a median of ${medianRes.toFixed(3)} dB: re-measure it, and check its phase shifter (a stuck or skipped bit)`);
+    }
+    if (fit.belowNoise) {
+      const sig = Math.max(fit.relStd, fit.phaseStdRad) * Math.hypot(root.x.re, root.x.im);
+      flags.push("dead");
+      advice.push(
+        `element ${id}: its fitted field, |e/E0| = ${Math.hypot(root.x.re, root.x.im).toPrecision(2)}, is within ${NOISE_FLOOR_SIGMAS}σ (σ = ${sig.toPrecision(2)}, from the fit) of zero, as often as 1 time in 90 from the reading noise alone: the readings cannot tell it from no field, so its phase and gain are not measured (the values written are the noise's). Check its connection and bias and re-measure it, or add ${id} to "array.disabled" in the scenario`,
+      );
+      return { index, field: root.x, residualDb: root.residualDb, relStd: fit.relStd, phaseStdRad: fit.phaseStdRad, unmeasured: true, flags, advice };
     }
     if (!fit.decided) {
       flags.push("ambiguous-root");
