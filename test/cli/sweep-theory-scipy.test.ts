@@ -56,5 +56,26 @@ describe("sweep: theory beside measurement against scipy", () => {
         else expect(Number(c[k]), `${at}: ${k}`).toBeCloseTo(e[k]!, 5);
     });
     expect(clippedRows).toBeGreaterThan(0); // the case the floor's attenuator share depends on
+
+    // sweep.svg draws the floor per swept step and quantizer (it depends on the step; the scenario's own
+    // 0.5 dB is not swept here): one dashed curve per (step, quantizer), its points on one affine scale
+    // with scipy's values (y pixel = α + β·dB)
+    const svg = readFileSync(join(out, "sweep.svg"), "utf8");
+    const curves = [...svg.matchAll(/<path d="([^"]+)"[^>]*stroke-dasharray="8 3 2 3"/g)].map((m) => [...m[1]!.matchAll(/[ML]([\d.]+) ([\d.]+)/g)].map((p) => Number(p[2])));
+    expect(curves.length).toBe(6);
+    const groups = [...new Set(json.map((r) => `${r.atten_step_db}|${r.quantizer}`))];
+    const ys: number[] = [], vs: number[] = [];
+    groups.forEach((g, k) => {
+      const idx = json.map((r, i) => [r, i] as const).filter(([r]) => `${r.atten_step_db}|${r.quantizer}` === g).sort(([a], [b]) => (a.phase_bits as number) - (b.phase_bits as number));
+      expect(curves[k]!.length).toBe(idx.length);
+      idx.forEach(([, i], j) => {
+        ys.push(curves[k]![j]!);
+        vs.push(expected[i]!.theory_random_floor_db!);
+      });
+    });
+    const n = ys.length, mv = vs.reduce((a, b) => a + b) / n, my = ys.reduce((a, b) => a + b) / n;
+    const beta = vs.reduce((s, v, i) => s + (v - mv) * (ys[i]! - my), 0) / vs.reduce((s, v) => s + (v - mv) ** 2, 0);
+    expect(beta).toBeLessThan(0); // higher level, higher on the page
+    for (let i = 0; i < n; i++) expect(Math.abs(ys[i]! - (my + beta * (vs[i]! - mv))), `point ${i}`).toBeLessThan(0.02); // the SVG's 2-decimal pixels
   });
 });
