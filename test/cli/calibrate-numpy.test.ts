@@ -95,4 +95,25 @@ describe("calibrate (rev) on a numpy-simulated range", () => {
       expect(rms(z)).toBeLessThan(1.6);
     }
   });
+
+  itWith([TOOLS.numpy], "four codes (0, 3, 7, 12): the per-element 1σ is honest (the noise is pooled over the elements, not taken from one dof each)", () => {
+    // with four readings an element's own residual has one degree of freedom: its 1σ alone erred by
+    // more than 3× on a fifth of the elements (up to 6000×) before the noise was pooled
+    const z: number[] = [];
+    for (const seed of [1, 2, 3]) {
+      const { truth, els } = simulate({ noise: 0.02, seed, codes: [0, 3, 7, 12] });
+      const i = (id: number) => truth.ids.indexOf(id);
+      const ok = els.filter((e) => e.flags.length === 0);
+      expect(ok.length).toBeGreaterThan(56);
+      const dp = ok.map((e) => wrap(e.phaseDeg - truth.phaseDeg[i(e.element)]!));
+      const dg = ok.map((e) => e.gainDb - truth.gainDb[i(e.element)]!);
+      const mp = dp.reduce((a, b) => a + b) / dp.length, mg = dg.reduce((a, b) => a + b) / dg.length;
+      ok.forEach((e, j) => z.push((dp[j]! - mp) / e.phaseStdDeg!, (dg[j]! - mg) / e.gainStdDb!));
+    }
+    // Gaussian errors: |z| > 3 on 0.27 % (about 1 of these ~380); allow 2 %
+    expect(z.filter((v) => Math.abs(v) > 3).length / z.length).toBeLessThan(0.02);
+    const rms = Math.sqrt(z.reduce((s, v) => s + v * v, 0) / z.length);
+    expect(rms).toBeGreaterThan(0.7);
+    expect(rms).toBeLessThan(1.4);
+  });
 });

@@ -238,7 +238,12 @@ function refine(r: RevReadings, L0: number, x0: Complex): Refined {
 }
 
 /** Fit one element's readings: both roots, the kept one and why. */
-export function revFitElement(r: RevReadings): RevResult {
+/**
+ * `noiseVar`: the reading-noise variance (dB²) the 1σ figures and the root decision use;
+ * default the element's own residual, ssr/(n − 3) (revMethod passes one pooled over the
+ * elements: with few codes the element's own has as few degrees of freedom, one for four codes).
+ */
+export function revFitElement(r: RevReadings, noiseVar?: number): RevResult {
   const n = r.delta.length;
   let lo = Infinity, hi = -Infinity;
   for (const p of r.powerDb) {
@@ -264,7 +269,7 @@ export function revFitElement(r: RevReadings): RevResult {
   const mk = Math.min(ma, mb), mo = Math.max(ma, mb);
   // uncertainty of x along and across its direction, from s²·(JᵀJ)⁻¹ (s² = ssr/(n − 3))
   const inv = k.inv ?? a.inv;
-  const s2 = n > 3 ? k.ssr / (n - 3) : 0;
+  const s2 = noiseVar ?? (n > 3 ? k.ssr / (n - 3) : 0);
   let varRad = NaN, varTan = NaN;
   if (inv) {
     const ur = k.x.re / mk, ui = k.x.im / mk;
@@ -310,23 +315,48 @@ export interface RevElementResult {
  */
 export function revMethod(data: RevElementData[]): { ok: true; fields: MethodField[]; fits: RevElementResult[] } | { ok: false; errors: { index: number; message: string }[] } {
   const errors: { index: number; message: string }[] = [];
-  const fits: RevElementResult[] = [];
+  const first: RevElementResult[] = [];
   for (const d of data) {
     const r = revFitElement(d.readings);
     if (!r.ok) errors.push({ index: d.index, message: r.message });
-    else fits.push({ index: d.index, fit: r.fit });
+    else first.push({ index: d.index, fit: r.fit });
   }
   if (errors.length) return { ok: false, errors };
-  resolveBySum(fits, new Set(data.filter((d) => d.enabled).map((d) => d.index)));
-  const res = fits.map((f) => f.fit.roots[f.fit.kept].residualDb).sort((a, b) => a - b);
+  const res = first.map((f) => f.fit.roots[f.fit.kept].residualDb).sort((a, b) => a - b);
   const medianRes = res.length ? res[Math.floor((res.length - 1) / 2)]! : 0;
+  const poorBar = Math.max(4 * medianRes, 0.01);
+  // The readings of one frequency share one noise level (one receiver, one range), so its
+  // variance is pooled over the elements that fit: Σ ssr / Σ (n − 3). An element's own residual
+  // has n − 3 degrees of freedom (one for four codes), so a 1σ from it alone can be far too small
+  // (with four codes, a fifth of the elements erred by more than 3 of their own 1σ). A poor-fit
+  // element keeps its own residual when that is larger.
+  let ssrPool = 0, dofPool = 0;
+  first.forEach((f) => {
+    const root = f.fit.roots[f.fit.kept];
+    const n = data.find((d) => d.index === f.index)!.readings.delta.length;
+    if (root.residualDb > poorBar || n <= 3) return;
+    ssrPool += root.residualDb * root.residualDb * n;
+    dofPool += n - 3;
+  });
+  const pooled = dofPool > 0 ? ssrPool / dofPool : undefined;
+  const byIndex = new Map(data.map((d) => [d.index, d]));
+  const fits: RevElementResult[] = first.map((f) => {
+    if (pooled === undefined) return f;
+    const d = byIndex.get(f.index)!;
+    const n = d.readings.delta.length;
+    const root = f.fit.roots[f.fit.kept];
+    const own = n > 3 ? (root.residualDb * root.residualDb * n) / (n - 3) : 0;
+    const r = revFitElement(d.readings, root.residualDb > poorBar ? Math.max(own, pooled) : pooled);
+    return r.ok ? { index: f.index, fit: r.fit } : f;
+  });
+  resolveBySum(fits, new Set(data.filter((d) => d.enabled).map((d) => d.index)));
   const ids = new Map(data.map((d) => [d.index, d.id]));
   const fields = fits.map(({ index, fit }): MethodField => {
     const root = fit.roots[fit.kept];
     const flags: Flag[] = [];
     const advice: string[] = [];
     const id = ids.get(index)!;
-    if (root.residualDb > Math.max(4 * medianRes, 0.01)) {
+    if (root.residualDb > poorBar) {
       flags.push("poor-fit");
       advice.push(`element ${id}: rms fit residual ${root.residualDb.toFixed(3)} dB against a median of ${medianRes.toFixed(3)} dB: re-measure it, and check its phase shifter (a stuck or skipped bit)`);
     }
