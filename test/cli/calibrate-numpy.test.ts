@@ -116,4 +116,14 @@ describe("calibrate (rev) on a numpy-simulated range", () => {
     expect(rms).toBeGreaterThan(0.7);
     expect(rms).toBeLessThan(1.4);
   });
+
+  itWith([TOOLS.numpy], "fields that largely cancel at the probe: more than 16 undecided roots, and the warning says the sum check was not tried", () => {
+    // seed 4: |E0| small (shares up to 0.57), so a third of the roots are undecided (README "Which REV root")
+    const { truth, els, calCsv, stdout } = simulate({ noise: 0.02, seed: 4 });
+    expect(Math.max(...truth.share)).toBeGreaterThan(0.5);
+    const undecided = els.filter((e) => e.flags.includes("ambiguous-root")).length;
+    expect(undecided).toBeGreaterThan(16);
+    expect(calCsv).toMatch(new RegExp(`# warning: ${undecided} enabled elements' root choices are undecided, more than the 16 the sum check .* so it was not tried`));
+    expect(stdout).toMatch(/so it was not tried/);
+  });
 });

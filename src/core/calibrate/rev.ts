@@ -386,6 +386,9 @@ export function revMethod(data: RevElementData[]): { ok: true; fields: MethodFie
  * applied, and the elements it covers are marked as decided by the sum; otherwise the
  * choices stay as they are (and stay flagged).
  */
+/** The most undecided root choices the sum check tries together (2^16 combinations). */
+export const SUM_CHECK_MAX_UNDECIDED = 16;
+
 function resolveBySum(fits: RevElementResult[], enabled: Set<number>): void {
   const used = fits.filter((f) => enabled.has(f.index));
   if (used.length < 2) return;
@@ -402,7 +405,7 @@ function resolveBySum(fits: RevElementResult[], enabled: Set<number>): void {
   const miss = (re: number) => Math.hypot(re - 1, si);
   const shift = (f: RevElementResult) => f.fit.roots[1 - f.fit.kept]!.x.re - f.fit.roots[f.fit.kept].x.re;
   const undecided = used.filter((f) => !f.fit.decided);
-  if (undecided.length > 16) return;
+  if (undecided.length > SUM_CHECK_MAX_UNDECIDED) return;
   const solutions: RevElementResult[][] = [];
   for (let mask = 0; mask < 1 << undecided.length; mask++) {
     let re = sr;
