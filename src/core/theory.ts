@@ -96,13 +96,19 @@ interface AttenFacts {
   /** unclipped elements, and how many need a rounding (not a whole number of steps) */
   rounded: number;
   offGrid: number;
+  /**
+   * Σ a_n² over the elements with a rounding error (unclipped, off the step grid) over
+   * Σ a_n² over all enabled ones (taper amplitudes, all frequencies): the share of the
+   * array's power that carries the attenuator's random rounding error
+   */
+  roundedPowerShare: number;
 }
 
 function attenFacts(plan: Plan): AttenFacts {
   const el = plan.elements;
   const maxCode = 2 ** plan.attenBits - 1;
   const range = maxCode * plan.attenStepDb;
-  let gain = 0, n = 0, clipped = 0, clipSq = 0, rounded = 0, offGrid = 0;
+  let gain = 0, n = 0, clipped = 0, clipSq = 0, rounded = 0, offGrid = 0, a2 = 0, a2Rounded = 0;
   for (let fi = 0; fi < plan.frequenciesHz.length; fi++) {
     const prep = prepareFrequency(plan, fi);
     let sr = 0, si = 0;
@@ -116,18 +122,23 @@ function attenFacts(plan: Plan): AttenFacts {
       const ideal = Math.pow(10, prep.gRefDb / 20) * plan.amplitude[i]!;
       si += ideal;
       sr += ideal * Math.pow(10, e / 20);
+      const amp = plan.amplitude[i]!;
+      a2 += amp * amp;
       if (plan.attenBits === 0 || prep.clippedMask[i]) {
         clipped += prep.clippedMask[i]!; // the count the manifest and check report
         clipSq += (plan.attenBits === 0 ? a : a - range) ** 2;
       } else {
         rounded++;
         const t = a / plan.attenStepDb;
-        if (Math.abs(t - Math.round(t)) > 1e-9) offGrid++;
+        if (Math.abs(t - Math.round(t)) > 1e-9) {
+          offGrid++;
+          a2Rounded += amp * amp;
+        }
       }
     }
     gain += si > 0 ? -20 * Math.log10(sr / si) : 0;
   }
-  return { gainChangeDb: gain / Math.max(1, plan.frequenciesHz.length), n, clipped, clipSq, rounded, offGrid };
+  return { gainChangeDb: gain / Math.max(1, plan.frequenciesHz.length), n, clipped, clipSq, rounded, offGrid, roundedPowerShare: a2 > 0 ? a2Rounded / a2 : 0 };
 }
 
 const na = (unit: string, note: string): TheoryValue => ({ value: null, unit, formula: "n/a", source: "n/a", note });
@@ -172,6 +183,7 @@ export function theoryFor(plan: Plan): Theory {
   // ---- attenuator
   let rmsAmpErrorDb: TheoryValue, attenGainChangeDb: TheoryValue;
   let roundingVar = 0; // dB², the random-like part for the sidelobe floor
+  let roundedPowerShare = 0; // the share of Σa² that carries it (clipped and whole-step elements carry none)
   let clippedElements = 0;
   let clippingRms = 0;
   if (plan.attenStates) {
@@ -184,6 +196,7 @@ export function theoryFor(plan: Plan): Theory {
     attenGainChangeDb = na("dB", why);
   } else {
     const f = attenFacts(plan);
+    roundedPowerShare = f.roundedPowerShare;
     clippedElements = f.clipped;
     clippingRms = f.n ? Math.sqrt(f.clipSq / f.n) : 0;
     const step = plan.attenStepDb;
@@ -227,8 +240,10 @@ export function theoryFor(plan: Plan): Theory {
   else {
     const sigPhase = (rmsPhaseErrorDeg.value * Math.PI) / 180;
     const sigAmp = (Math.sqrt(roundingVar) * Math.LN10) / 20; // relative amplitude error, small-error approximation
-    const sigma2 = sigPhase ** 2 + sigAmp ** 2;
-    floor = { value: 10 * Math.log10(sigma2 / (eta * nEnabled)), unit: "dB", formula: "σ²/(η·N)", source: "Mailloux, ch. 7 (from memory); σ² = phase + attenuator-rounding error variance (clipping is a deterministic taper change, not a random error)" };
+    // derived: the floor is E|Σ a_n ε_n|²/|Σ a_n|² = Σ a_n² σ_n²/|Σ a_n|² = σ²/(η·N) with σ² the a²-weighted mean
+    // variance; only the elements that are rounded (not clipped, not on a whole step) carry the attenuator's part
+    const sigma2 = sigPhase ** 2 + sigAmp ** 2 * roundedPowerShare;
+    floor = { value: 10 * Math.log10(sigma2 / (eta * nEnabled)), unit: "dB", formula: "σ²/(η·N)", source: "Mailloux, ch. 7 (from memory); σ² = phase + attenuator-rounding error variance, the latter weighted by the share of Σa² of the rounded elements (derived: Σa_n²σ_n²/|Σa_n|²; clipping is a deterministic taper change, not a random error)" };
   }
 
   return {

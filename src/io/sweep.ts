@@ -126,6 +126,27 @@ function cell(v: number | string): string {
   return Number.isInteger(v) ? String(v) : fixed(v, 6);
 }
 
+/**
+ * The random-error floor depends on the attenuator step (its rounding variance), so it is
+ * drawn per swept step (and quantizer) from the rows' own estimates, not from the
+ * scenario's step, which the sweep may not even include.
+ */
+function floorSeries(rows: SweepRow[], multiQ: boolean): Series[] {
+  const keys = [...new Set(rows.map((r) => `${r.atten_step_db}|${r.quantizer}`))];
+  const steps = new Set(rows.map((r) => r.atten_step_db));
+  return keys
+    .map((k) => {
+      const [step, q] = k.split("|");
+      const points = rows
+        .filter((r) => `${r.atten_step_db}|${r.quantizer}` === k && Number.isFinite(Number(r.theory_random_floor_db)))
+        .sort((a, b) => Number(a.phase_bits) - Number(b.phase_bits))
+        .map((r) => [Number(r.phase_bits), Number(r.theory_random_floor_db)] as [number, number]);
+      const tags = [...(steps.size > 1 ? [`step ${step} dB`] : []), ...(multiQ || q !== "nearest" ? [q] : [])];
+      return { label: `random-error floor σ²/(ηN) [Mailloux]${tags.length ? `, ${tags.join(", ")}` : ""}`, points, colour: "#555555", dash: "8 3 2 3", marker: "none" as const, width: 1.4 };
+    })
+    .filter((s) => s.points.length);
+}
+
 export function sweepSvg(loaded: LoadedScenario, rows: SweepRow[]): string {
   const plan = loaded.plan;
   const keys = [...new Set(rows.map((r) => `${r.atten_step_db}|${r.quantizer}`))];
@@ -160,7 +181,7 @@ export function sweepSvg(loaded: LoadedScenario, rows: SweepRow[]): string {
       series: [
         ...seriesFor("psl_db_max", "worst"),
         ...theory("quantisation lobe 2^(-2B) [Mailloux]", (b, q) => t(b, q).quantizationLobeDb.value, "2 3"),
-        ...theory("random-error floor σ²/(ηN) [Mailloux]", (b, q) => t(b, q).randomSidelobeFloorDb.value, "8 3 2 3"),
+        ...floorSeries(rows, multiQ),
         { label: "ideal taper (worst beam)", points: bits.map((b) => [b, idealPsl]), colour: "#999999", dash: "1 2", marker: "none", width: 1.2 },
       ],
     },

@@ -17,6 +17,7 @@ import {
   probeClearanceM,
   referOffsets,
   revMethod,
+  SUM_CHECK_MAX_UNDECIDED,
   type ElementOffsets,
   type FieldElementData,
   type MethodField,
@@ -235,6 +236,9 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
         v += m2 * (a * a + b * b);
       }
       fieldSum = { re: sr, im: si, error: Math.hypot(sr - 1, si), sigma: Math.sqrt(v) };
+      const undecided = fields.filter((f) => el.enabled[f.index] && f.flags.includes("ambiguous-root")).length;
+      if (undecided > SUM_CHECK_MAX_UNDECIDED)
+        warnings.push(`${undecided} enabled elements' root choices are undecided, more than the ${SUM_CHECK_MAX_UNDECIDED} the sum check (Σ e_n = E0) tries together, so it was not tried: the kept roots are the smaller ones, unchecked; re-measure with the array phased up toward the probe`);
       if (fieldSum.error > Math.max(5 * fieldSum.sigma, 0.05))
         warnings.push(`the kept element fields do not add up to the whole array's (Σ e_n/E0 = ${sr.toFixed(3)}${si < 0 ? " − " : " + "}${Math.abs(si).toFixed(3)}j, expected 1 within ${(5 * fieldSum.sigma).toFixed(3)}): some root choices are wrong or the readings drifted; re-measure with the array phased up toward the probe`);
     }

@@ -79,6 +79,8 @@ export interface MethodField {
   /** relative one-sigma uncertainty of |field| and of its phase (rad); null without a fit */
   relStd: number | null;
   phaseStdRad: number | null;
+  /** true when the field is not told from the reading noise: no uncertainty is reported (the linearised one does not hold) */
+  unmeasured?: boolean;
   flags: Flag[];
   advice: string[];
 }
@@ -140,7 +142,7 @@ export function referOffsets(fields: MethodField[], o: ReferOptions): Referred {
     const flags = [...r.f.flags];
     const advice = [...r.f.advice];
     const id = el.ids[r.f.index]!;
-    if (r.gainDb < median - deadBelow) {
+    if (r.gainDb < median - deadBelow && !flags.includes("dead")) {
       flags.unshift("dead");
       advice.unshift(`element ${id} is ${(median - r.gainDb).toFixed(1)} dB below the median channel: check its connection and bias, re-measure it, or add ${id} to "array.disabled" in the scenario`);
     }
@@ -151,8 +153,8 @@ export function referOffsets(fields: MethodField[], o: ReferOptions): Referred {
       gainDb: r.gainDb - commonGainDb,
       fieldDb: r.fieldDb,
       residualDb: r.f.residualDb,
-      phaseStdDeg: r.f.phaseStdRad === null || !Number.isFinite(r.f.phaseStdRad) ? null : r.f.phaseStdRad / DEG,
-      gainStdDb: r.f.relStd === null || !Number.isFinite(r.f.relStd) ? null : (20 / Math.LN10) * r.f.relStd,
+      phaseStdDeg: r.f.unmeasured || r.f.phaseStdRad === null || !Number.isFinite(r.f.phaseStdRad) ? null : r.f.phaseStdRad / DEG,
+      gainStdDb: r.f.unmeasured || r.f.relStd === null || !Number.isFinite(r.f.relStd) ? null : (20 / Math.LN10) * r.f.relStd,
       flags,
       advice,
     };

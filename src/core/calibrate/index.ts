@@ -8,7 +8,7 @@ import { elementStates } from "../quantize/states.js";
 import type { Complex } from "./contract.js";
 
 export * from "./contract.js";
-export { revMethod, revFitElement, revLinear, revClosedForm, type RevReadings, type RevFit, type RevRoot, type RevElementData } from "./rev.js";
+export { revMethod, revFitElement, SUM_CHECK_MAX_UNDECIDED, revLinear, revClosedForm, type RevReadings, type RevFit, type RevRoot, type RevElementData } from "./rev.js";
 export { fieldMethod, type FieldElementData } from "./field.js";
 export { calibrationAt, type CalibrationTable, type CalibrationServed } from "./per-frequency.js";
 

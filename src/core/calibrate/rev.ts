@@ -60,7 +60,20 @@ export interface RevFit {
   /** one-sigma uncertainty of |x| (relative) and of ∠x (rad), from the fit's residual and Jacobian */
   relStd: number;
   phaseStdRad: number;
+  /**
+   * true when the kept field is within NOISE_FLOOR_SIGMAS of its 1σ of zero: the
+   * readings cannot tell the element's field from none (a dead channel, or one at the
+   * noise floor), so its phase is not measured and the linearised 1σ does not hold
+   */
+  belowNoise: boolean;
 }
+
+/**
+ * A fitted field |x| no larger than this many of its 1σ is not told from zero (derived:
+ * with no field, |x̂|/σ is Rayleigh distributed, P(|x̂| ≥ 3σ) = e^{−4.5} ≈ 1.1 %, so
+ * noise alone gives such a field at least that often).
+ */
+export const NOISE_FLOOR_SIGMAS = 3;
 
 export type RevResult = { ok: true; fit: RevFit } | { ok: false; message: string };
 
@@ -225,7 +238,12 @@ function refine(r: RevReadings, L0: number, x0: Complex): Refined {
 }
 
 /** Fit one element's readings: both roots, the kept one and why. */
-export function revFitElement(r: RevReadings): RevResult {
+/**
+ * `noiseVar`: the reading-noise variance (dB²) the 1σ figures and the root decision use;
+ * default the element's own residual, ssr/(n − 3) (revMethod passes one pooled over the
+ * elements: with few codes the element's own has as few degrees of freedom, one for four codes).
+ */
+export function revFitElement(r: RevReadings, noiseVar?: number): RevResult {
   const n = r.delta.length;
   let lo = Infinity, hi = -Infinity;
   for (const p of r.powerDb) {
@@ -251,7 +269,7 @@ export function revFitElement(r: RevReadings): RevResult {
   const mk = Math.min(ma, mb), mo = Math.max(ma, mb);
   // uncertainty of x along and across its direction, from s²·(JᵀJ)⁻¹ (s² = ssr/(n − 3))
   const inv = k.inv ?? a.inv;
-  const s2 = n > 3 ? k.ssr / (n - 3) : 0;
+  const s2 = noiseVar ?? (n > 3 ? k.ssr / (n - 3) : 0);
   let varRad = NaN, varTan = NaN;
   if (inv) {
     const ur = k.x.re / mk, ui = k.x.im / mk;
@@ -271,7 +289,10 @@ export function revFitElement(r: RevReadings): RevResult {
     : !separated
       ? `cannot be decided: the two roots give element fields of ${mk.toPrecision(3)} and ${mo.toPrecision(3)} of the array's, within the fit's uncertainty (${(3 * sigmaAbs).toPrecision(2)}, 3σ); kept the smaller`
       : `cannot be decided: the roots give element fields of ${mk.toPrecision(3)} and ${mo.toPrecision(3)} of the whole array's, not one far smaller than the other (the elements' fields largely cancel at the probe), so the smaller-field rule does not hold; kept the smaller`;
-  return { ok: true, fit: { linear: lin, roots, kept, decided, why, relStd: sigmaAbs / mk, phaseStdRad: Math.sqrt(Math.max(0, varTan)) / mk } };
+  // σ of one component of x (the larger of along and across: with no field both are the noise's)
+  const sigmaComp = Math.max(sigmaAbs, Math.sqrt(Math.max(0, varTan)));
+  const belowNoise = s2 > 0 && Number.isFinite(sigmaComp) && mk <= NOISE_FLOOR_SIGMAS * sigmaComp;
+  return { ok: true, fit: { linear: lin, roots, kept, decided, why, relStd: sigmaAbs / mk, phaseStdRad: Math.sqrt(Math.max(0, varTan)) / mk, belowNoise } };
 }
 
 export interface RevElementData {
@@ -294,25 +315,58 @@ export interface RevElementResult {
  */
 export function revMethod(data: RevElementData[]): { ok: true; fields: MethodField[]; fits: RevElementResult[] } | { ok: false; errors: { index: number; message: string }[] } {
   const errors: { index: number; message: string }[] = [];
-  const fits: RevElementResult[] = [];
+  const first: RevElementResult[] = [];
   for (const d of data) {
     const r = revFitElement(d.readings);
     if (!r.ok) errors.push({ index: d.index, message: r.message });
-    else fits.push({ index: d.index, fit: r.fit });
+    else first.push({ index: d.index, fit: r.fit });
   }
   if (errors.length) return { ok: false, errors };
-  resolveBySum(fits, new Set(data.filter((d) => d.enabled).map((d) => d.index)));
-  const res = fits.map((f) => f.fit.roots[f.fit.kept].residualDb).sort((a, b) => a - b);
+  const res = first.map((f) => f.fit.roots[f.fit.kept].residualDb).sort((a, b) => a - b);
   const medianRes = res.length ? res[Math.floor((res.length - 1) / 2)]! : 0;
+  const poorBar = Math.max(4 * medianRes, 0.01);
+  // The readings of one frequency share one noise level (one receiver, one range), so its
+  // variance is pooled over the elements that fit: Σ ssr / Σ (n − 3). An element's own residual
+  // has n − 3 degrees of freedom (one for four codes), so a 1σ from it alone can be far too small
+  // (with four codes, a fifth of the elements erred by more than 3 of their own 1σ). A poor-fit
+  // element keeps its own residual when that is larger.
+  let ssrPool = 0, dofPool = 0;
+  first.forEach((f) => {
+    const root = f.fit.roots[f.fit.kept];
+    const n = data.find((d) => d.index === f.index)!.readings.delta.length;
+    if (root.residualDb > poorBar || n <= 3) return;
+    ssrPool += root.residualDb * root.residualDb * n;
+    dofPool += n - 3;
+  });
+  const pooled = dofPool > 0 ? ssrPool / dofPool : undefined;
+  const byIndex = new Map(data.map((d) => [d.index, d]));
+  const fits: RevElementResult[] = first.map((f) => {
+    if (pooled === undefined) return f;
+    const d = byIndex.get(f.index)!;
+    const n = d.readings.delta.length;
+    const root = f.fit.roots[f.fit.kept];
+    const own = n > 3 ? (root.residualDb * root.residualDb * n) / (n - 3) : 0;
+    const r = revFitElement(d.readings, root.residualDb > poorBar ? Math.max(own, pooled) : pooled);
+    return r.ok ? { index: f.index, fit: r.fit } : f;
+  });
+  resolveBySum(fits, new Set(data.filter((d) => d.enabled).map((d) => d.index)));
   const ids = new Map(data.map((d) => [d.index, d.id]));
   const fields = fits.map(({ index, fit }): MethodField => {
     const root = fit.roots[fit.kept];
     const flags: Flag[] = [];
     const advice: string[] = [];
     const id = ids.get(index)!;
-    if (root.residualDb > Math.max(4 * medianRes, 0.01)) {
+    if (root.residualDb > poorBar) {
       flags.push("poor-fit");
       advice.push(`element ${id}: rms fit residual ${root.residualDb.toFixed(3)} dB against a median of ${medianRes.toFixed(3)} dB: re-measure it, and check its phase shifter (a stuck or skipped bit)`);
+    }
+    if (fit.belowNoise) {
+      const sig = Math.max(fit.relStd, fit.phaseStdRad) * Math.hypot(root.x.re, root.x.im);
+      flags.push("dead");
+      advice.push(
+        `element ${id}: its fitted field, |e/E0| = ${Math.hypot(root.x.re, root.x.im).toPrecision(2)}, is within ${NOISE_FLOOR_SIGMAS}σ (σ = ${sig.toPrecision(2)}, from the fit) of zero, as often as 1 time in 90 from the reading noise alone: the readings cannot tell it from no field, so its phase and gain are not measured (the values written are the noise's). Check its connection and bias and re-measure it, or add ${id} to "array.disabled" in the scenario`,
+      );
+      return { index, field: root.x, residualDb: root.residualDb, relStd: fit.relStd, phaseStdRad: fit.phaseStdRad, unmeasured: true, flags, advice };
     }
     if (!fit.decided) {
       flags.push("ambiguous-root");
@@ -332,6 +386,9 @@ export function revMethod(data: RevElementData[]): { ok: true; fields: MethodFie
  * applied, and the elements it covers are marked as decided by the sum; otherwise the
  * choices stay as they are (and stay flagged).
  */
+/** The most undecided root choices the sum check tries together (2^16 combinations). */
+export const SUM_CHECK_MAX_UNDECIDED = 16;
+
 function resolveBySum(fits: RevElementResult[], enabled: Set<number>): void {
   const used = fits.filter((f) => enabled.has(f.index));
   if (used.length < 2) return;
@@ -348,7 +405,7 @@ function resolveBySum(fits: RevElementResult[], enabled: Set<number>): void {
   const miss = (re: number) => Math.hypot(re - 1, si);
   const shift = (f: RevElementResult) => f.fit.roots[1 - f.fit.kept]!.x.re - f.fit.roots[f.fit.kept].x.re;
   const undecided = used.filter((f) => !f.fit.decided);
-  if (undecided.length > 16) return;
+  if (undecided.length > SUM_CHECK_MAX_UNDECIDED) return;
   const solutions: RevElementResult[][] = [];
   for (let mask = 0; mask < 1 << undecided.length; mask++) {
     let re = sr;
