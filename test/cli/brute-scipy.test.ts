@@ -39,6 +39,25 @@ const STEEP = elementTable(5, [0, 30, 60, 90, 120, 150, 180, 210, 240, 270, 300,
 /** rotationally symmetric, −3 dB at the horizon */
 const GENTLE = elementTable(2, [0], (t) => -3 * (t / 90) ** 2);
 
+/**
+ * cal.csv with a frequency_hz column: a set at each of `freqs`, phases spread over 360° and
+ * moved by up to ±170° between the sets, gains ±1.5 dB; element 0 moves by exactly 180°
+ * (interpolated the positive way) and element 1 from 359° to 1° (the shorter way, across 0).
+ */
+function calPerFrequency(n: number, freqs: number[]): string {
+  let seed = 12345;
+  const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+  const p0 = Array.from({ length: n }, () => 360 * rnd() - 180), g0 = Array.from({ length: n }, () => 2 * rnd() - 1);
+  let s = "element,phase_offset_deg,gain_offset_db,frequency_hz\n";
+  freqs.forEach((f, k) => {
+    for (let e = 0; e < n; e++) {
+      const p = e === 0 ? 10 + 180 * k : e === 1 ? (k % 2 ? 1 : 359) : p0[e]! + (k ? 340 * rnd() - 170 : 0);
+      s += `${e},${p.toFixed(4)},${(g0[e]! + (k ? 3 * rnd() - 1.5 : 0)).toFixed(4)},${f}\n`;
+    }
+  });
+  return s;
+}
+
 const cases: { name: string; over: Record<string, unknown>; files?: Record<string, string> }[] = [
   {
     // a line along y, beams onto the horizon off its plane (the ideal PSL there was −24.37 dB, brute force −20.42 dB)
@@ -82,6 +101,13 @@ const cases: { name: string; over: Record<string, unknown>; files?: Record<strin
     over: { array: { lattice: { kind: "triangular", columns: 5, rows: 4, dx: "0.55 lambda", dy: "0.5 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, element: { pattern: "table", file: "el.csv" } },
     files: { "beams.csv": "az_deg,el_deg\n89,0\n89.9,0\n", "el.csv": GENTLE },
   },
+  {
+    // a table frequency between the listed calibration sets (28 GHz, 28.7 GHz) and one listed (27 GHz; there a main lobe
+    // squeezed against the horizon by the opposite grating lobe has its flat top 2.6° inside)
+    name: "8×6 at 27, 28 and 28.7 GHz, calibration listed at 27 and 29 GHz (interpolated between), beams out to az 89.9°",
+    over: { frequency: ["27 GHz", "28 GHz", "28.7 GHz"], array: { lattice: { kind: "rectangular", columns: 8, rows: 6, dx: "0.5 lambda", dy: "0.5 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, attenuator: { bits: 5, step: "0.5 dB" }, calibration: "cal.csv" },
+    files: { "beams.csv": "az_deg,el_deg\n30,10\n85,0\n89.9,0\n", "cal.csv": calPerFrequency(48, [27e9, 29e9]) },
+  },
 ];
 
 describe("beams.csv against the numpy/scipy brute force", () => {
@@ -95,7 +121,7 @@ describe("beams.csv against the numpy/scipy brute force", () => {
       const ref = brute(out);
       expect(ref.length).toBe(mine.length);
       for (const r of ref) {
-        const m = mine[r.beam!]!;
+        const m = mine.find((x) => Number(x.beam) === r.beam && Number(x.frequency_hz) === r.frequency_hz)!;
         // reference: brute force, numpy/scipy via /usr/bin/python3 (brute_beams.py)
         expect(Math.abs(Number(m.pointing_error_deg) - r.pointing_error_deg!), `beam ${r.beam} pointing`).toBeLessThan(0.001);
         expect(Math.abs(Number(m.psl_db) - r.psl_db!), `beam ${r.beam} psl`).toBeLessThan(0.05);
@@ -105,6 +131,26 @@ describe("beams.csv against the numpy/scipy brute force", () => {
       }
     }, 180_000);
   }
+
+  itWith([TOOLS.scipy], "squint.csv: 8×6 at 28 GHz played from 27 to 29 GHz, calibration listed at 27 and 29 GHz (interpolated between), θ = 60° and 85°", () => {
+    const dir = tempDir();
+    const sc = writeScenario(baseScenario({
+      outputs: ["csv"], frequency: "28 GHz", array: { lattice: { kind: "rectangular", columns: 8, rows: 6, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, attenuator: { bits: 5, step: "0.5 dB" },
+      calibration: "cal.csv", band: { from: "27 GHz", to: "29 GHz", step: "0.5 GHz" },
+    }), { "beams.csv": "az_deg,el_deg\n60,0\n85,0\n", "cal.csv": calPerFrequency(48, [27e9, 29e9]) }, dir);
+    const out = join(dir, "out");
+    expect(cli(["build", sc, "-o", out]).code).toBe(0);
+    const mine = rows(join(out, "squint.csv"));
+    const ref = brute(out, true);
+    expect(ref.length).toBe(mine.length);
+    for (const r of ref) {
+      const m = mine.find((x) => Number(x.beam) === r.beam && Number(x.frequency_hz) === r.frequency_hz)!;
+      // reference: brute force, numpy/scipy via /usr/bin/python3 (brute_beams.py --band), calibration interpolated there from README's rule
+      expect(Math.abs(Number(m.pointing_error_deg) - r.pointing_error_deg!), `beam ${r.beam} at ${r.frequency_hz} Hz`).toBeLessThan(0.001);
+      expect(Math.abs(Number(m.gain_loss_db) - r.gain_loss_db!), `beam ${r.beam} at ${r.frequency_hz} Hz gain loss`).toBeLessThan(0.001);
+    }
+  }, 180_000);
 
   itWith([TOOLS.scipy], "squint.csv: 6×2 lattice, beams at θ = 80° and 89°, band ±5 %", () => {
     const dir = tempDir();
