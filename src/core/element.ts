@@ -251,9 +251,19 @@ export function makeElementPattern(spec: ElementSpec): ElementPattern {
   return e;
 }
 
-/** scan_loss_db: element power at boresight minus at (u, v), dB. */
+/** Smallest normal double: below it a linear power has lost precision (or is 0). */
+const MIN_NORMAL = 2.2250738585072014e-308;
+
+/**
+ * scan_loss_db: element power at boresight minus at (u, v), dB. A steep cosine close to
+ * the horizon has a linear power below the doubles' normal range (cos^100 θ at θ = 89.99°
+ * is 1e-376): there the loss is taken in dB from the formula, −10·(q/2)·log10(1 − u² − v²)
+ * (it had been 10·log10(1/0) = Infinity, an internal error).
+ */
 export function scanLossDb(e: ElementPattern, u: number, v: number): number {
-  return 10 * Math.log10(e.power(0, 0) / e.power(u, v));
+  const p = e.power(u, v);
+  if (p >= MIN_NORMAL || e.spec.pattern !== "cosine") return 10 * Math.log10(e.power(0, 0) / p);
+  return -5 * e.spec.exponent * Math.log10(1 - u * u - v * v);
 }
 
 /**
