@@ -54,8 +54,10 @@ class CosinePattern implements ElementPattern {
   }
   power(u: number, v: number): number {
     const t = 1 - u * u - v * v;
-    if (t < 0) return 0;
+    // within a rounding past the horizon is the horizon (q = 0 radiates there)
+    if (t < 0 && t < -1e-12) return 0;
     if (this.a === 0) return 1;
+    if (t < 0) return 0;
     return t === 0 ? 0 : Math.pow(t, this.a);
   }
   gridPower(u: number, v: number): number {
@@ -64,7 +66,7 @@ class CosinePattern implements ElementPattern {
   derivs(u: number, v: number, o: ElementDerivs): ElementDerivs {
     const t = 1 - u * u - v * v;
     const a = this.a;
-    if (a === 0 && t >= 0) {
+    if (a === 0 && t >= -1e-12) {
       o.p = 1;
       o.pu = o.pv = o.puu = o.pvv = o.puv = 0;
       return o;
