@@ -57,6 +57,44 @@ describe("build with an element pattern and a band", () => {
     expect(html).toContain(`<td>${m.extra.band.worstPointingDeg.max.toFixed(4)} °</td>`);
   });
 
+  it("a steep cosine element close to the horizon (cos^100 θ at θ = 89.97°–89.99° is below 1e-308): scan and gain loss from the formulas, no internal error", () => {
+    // cos^100 θ underflows the doubles there: scan_loss_db was 10·log10(1/0) (exit 3, "Infinity"),
+    // and gain_loss_db a ratio of two subnormal or zero products
+    const dir = tempDir();
+    const s = writeScenario(baseScenario({
+      outputs: ["csv"], array: { lattice: { kind: "rectangular", columns: 6, rows: 4, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 }, element: { pattern: "cosine", exponent: 100 },
+      band: { from: "9.9 GHz", to: "10.1 GHz", step: "0.1 GHz" },
+    }), { "beams.csv": "az_deg,el_deg\n89.99,0\n89.97,10\n60,0\n" }, dir);
+    const out = join(dir, "b");
+    const r = cli(["build", s, "-o", out]);
+    expect(r.code, r.stderr).toBe(0);
+    const beams = parse(readFileSync(join(out, "beams.csv")), { columns: true }) as Record<string, string>[];
+    const codes = parse(readFileSync(join(out, "codes.csv")), { columns: true }) as Record<string, string>[];
+    const sq = parse(readFileSync(join(out, "squint.csv")), { columns: true }) as Record<string, string>[];
+    const lam = 299792458 / 10e9;
+    // |AF| at the commanded direction from codes.csv (uniform taper, no calibration: the ideal gives N)
+    const gainLoss = (b: Record<string, string>, f: number) => {
+      const az = Number(b.az_deg) * DEG, el = Number(b.el_deg) * DEG;
+      const u = Math.cos(el) * Math.sin(az), v = Math.sin(el), k = (2 * Math.PI * f) / 299792458;
+      let re = 0, im = 0;
+      for (const c of codes.filter((x) => x.beam === b.beam)) {
+        const e = Number(c.element), x = (e % 6) * 0.5 * lam, y = Math.floor(e / 6) * 0.5 * lam;
+        const a = Math.pow(10, (-Number(c.atten_code) * 0.5) / 20), ph = (Number(c.phase_code) * 2 * Math.PI) / 16 + k * (x * u + y * v);
+        re += a * Math.cos(ph);
+        im += a * Math.sin(ph);
+      }
+      return -20 * Math.log10(Math.hypot(re, im) / 24);
+    };
+    for (const b of beams) {
+      // derived: scan loss = −10·log10(cos^100 θ), cos θ = cos el · cos az
+      const cosT = Math.cos(Number(b.el_deg) * DEG) * Math.cos(Number(b.az_deg) * DEG);
+      expect(Number(b.scan_loss_db), `beam ${b.beam}`).toBeCloseTo(-1000 * Math.log10(cosT), 2);
+      expect(Number(b.gain_loss_db), `beam ${b.beam}`).toBeCloseTo(gainLoss(b, 10e9), 4);
+      for (const row of sq.filter((x) => x.beam === b.beam)) expect(Number(row.gain_loss_db), `beam ${b.beam} at ${row.frequency_hz}`).toBeCloseTo(gainLoss(b, Number(row.frequency_hz)), 4);
+    }
+  });
+
   it("a band point past the analysis-grid limit: build refuses (exit 2, /band, nothing written), --no-analysis builds, check warns", () => {
     const t = tempDir();
     // derived: 8 × 5.2 mm at 2.8 THz is 388.5 λ, past the ~256 λ the 2048 × 2048 grid holds; at 280 GHz it is 38.9 λ

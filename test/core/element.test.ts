@@ -118,6 +118,27 @@ describe("measured element table", () => {
     expect(tdB(45, 90)).toBeCloseTo(gain[3 * 4 + 1]!, 9);
     expect(Math.abs(tdB(45, 359.9999) - tdB(45, 0.0001))).toBeLessThan(1e-3);
   });
+  it("on the horizon computed in doubles (cos α, sin α; u0 + Δu) it gives the table's 90° row (cos^0: 1), never 0", () => {
+    // the table itself: gain_db at θ = 90° is −3 dB (one φ column); a point of the horizon whose
+    // u² + v² rounds a hair past 1 had been given 0 (about a fifth of the trace's samples)
+    const e = makeElementPattern({ pattern: "table", thetaDeg: Float64Array.from([0, 45, 90]), phiDeg: Float64Array.from([0]), gainDb: Float64Array.from([0, -1, -3]) });
+    const u0 = 0.3, v0 = 0.2;
+    for (let i = 0; i < 1000; i++) {
+      const a = (2 * Math.PI * i) / 1000;
+      expect(10 * Math.log10(e.power(Math.cos(a), Math.sin(a)))).toBeCloseTo(-3, 5);
+      const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
+      expect(10 * Math.log10(e.power(u0 + du, v0 + dv))).toBeCloseTo(-3, 5);
+    }
+    // past the horizon: nothing radiates
+    expect(e.power(1.001, 0)).toBe(0);
+    // the formula: cos^0 θ = 1 up to and on the horizon
+    const c0 = makeElementPattern({ pattern: "cosine", exponent: 0 });
+    for (let i = 0; i < 1000; i++) {
+      const a = (2 * Math.PI * i) / 1000;
+      expect(c0.power(u0 + (Math.cos(a) - u0), v0 + (Math.sin(a) - v0))).toBe(1);
+    }
+    expect(c0.power(1.001, 0)).toBe(0);
+  });
 });
 
 describe("PSL with the element pattern against a brute-force direct sum", () => {

@@ -208,8 +208,7 @@ export class BeamAnalyzer {
     const pu = u0 + r.peakDu, pv = v0 + r.peakDv;
     const pointing = angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) });
     const pslR = 10 * Math.log10(r.sidelobePower / r.peakPower);
-    const fR = this.evR.power(0, 0);
-    const fI = this.evI.power(0, 0);
+    const [fR, fI] = this.gainPowers();
     let sp = 0, sa = 0, n = 0;
     for (let i = 0; i < plan.elements.count; i++) {
       if (!plan.elements.enabled[i]) continue;
@@ -249,7 +248,22 @@ export class BeamAnalyzer {
     out[off] = pu;
     out[off + 1] = pv;
     out[off + 2] = angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) });
-    out[off + 3] = -10 * Math.log10(this.evR.power(0, 0) / this.evI.power(0, 0));
+    const [fR, fI] = this.gainPowers();
+    out[off + 3] = -10 * Math.log10(fR / fI);
+  }
+
+  /**
+   * Realized and ideal power at the commanded direction, whose ratio is the gain loss
+   * (the element pattern cancels in it). Where the element's power there is below 1e-200
+   * (a steep cosine close to the horizon: cos^100 θ at θ = 89.99° is 1e-376, 0 in
+   * doubles) the products lose precision or vanish (0/0), so the array factors alone.
+   */
+  private gainPowers(): [number, number] {
+    const e = this.element;
+    if (!e || e.power(this.evR.u0, this.evR.v0) >= 1e-200) return [this.evR.power(0, 0), this.evI.power(0, 0)];
+    const r = this.evR.field(0, 0), rp = r[0] * r[0] + r[1] * r[1];
+    const i = this.evI.field(0, 0);
+    return [rp, i[0] * i[0] + i[1] * i[1]];
   }
 
   /**

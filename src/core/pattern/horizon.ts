@@ -176,6 +176,13 @@ export function alongCirclePeak(ev: AfEvaluator, a: number, u0: number, v0: numb
 /**
  * The main lobe as horizonMax sees it: offset (Δu, Δv) is in it when cell
  * (round(Δu/du) − m0, round(Δv/dv) − n0) of the w × h `mask` is 1; off the mask, `outside`.
+ *
+ * `visible` (non-null only for a window weighted by an element pattern): that window is 0
+ * past the horizon, so a main lobe that reaches the horizon floods the whole invisible rim
+ * and the rim's mask says nothing. A point whose cell is invisible then takes the mask of
+ * the nearest visible cell inward along its radius from the origin (u0, v0 the window's
+ * frame). Without it a sidelobe peaking within half a cell of the horizon, and every
+ * horizon sample, counted as main lobe whenever the main lobe touched the horizon.
  */
 export interface MainLobeMap {
   mask: Uint8Array;
@@ -186,6 +193,9 @@ export interface MainLobeMap {
   du: number;
   dv: number;
   outside: boolean;
+  visible: Uint8Array | null;
+  u0: number;
+  v0: number;
 }
 
 export function inMain(l: MainLobeMap, du: number, dv: number): boolean {
@@ -193,7 +203,24 @@ export function inMain(l: MainLobeMap, du: number, dv: number): boolean {
   // to the interpreter again and again ("minus zero": ~180 times in a 16×16 × 4096 build);
   // NaN stays NaN (not inside)
   const ra = Math.round(du / l.du) + 0 - l.m0, rb = Math.round(dv / l.dv) + 0 - l.n0;
-  return ra >= 0 && rb >= 0 && ra < l.w && rb < l.h ? l.mask[rb * l.w + ra] === 1 : l.outside;
+  if (!(ra >= 0 && rb >= 0 && ra < l.w && rb < l.h)) return l.outside;
+  if (l.visible && !l.visible[rb * l.w + ra]) return inwardMask(l, du, dv);
+  return l.mask[rb * l.w + ra] === 1;
+}
+
+/** The mask of the nearest visible cell inward along the radius through u0 + Δu, v0 + Δv (see MainLobeMap). */
+function inwardMask(l: MainLobeMap, du: number, dv: number): boolean {
+  const u = l.u0 + du, v = l.v0 + dv;
+  const r = Math.hypot(u, v);
+  const step = 0.5 * Math.min(l.du, l.dv);
+  for (let t = 1; t <= 64; t++) {
+    const rr = r - t * step;
+    if (!(rr > 0)) break;
+    const ra = Math.round((u * (rr / r) - l.u0) / l.du) + 0 - l.m0, rb = Math.round((v * (rr / r) - l.v0) / l.dv) + 0 - l.n0;
+    if (!(ra >= 0 && rb >= 0 && ra < l.w && rb < l.h)) return l.outside;
+    if (l.visible![rb * l.w + ra]) return l.mask[rb * l.w + ra] === 1;
+  }
+  return true;
 }
 
 export interface HorizonMax {
@@ -238,7 +265,8 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
   for (let i = 0; i < n; i++) {
     // inMain(lobe, Δu, Δv), written out (no call per sample); | 0 as in traceLattice (no −0)
     const ra = (Math.round(t.du[i]! / cu) - m0) | 0, rb = (Math.round(t.dv[i]! / cv) - n0) | 0;
-    const inside = ra >= 0 && rb >= 0 && ra < w && rb < h ? mask[rb * w + ra] === 1 : outside;
+    let inside = ra >= 0 && rb >= 0 && ra < w && rb < h ? mask[rb * w + ra] === 1 : outside;
+    if (lobe.visible && ra >= 0 && rb >= 0 && ra < w && rb < h && !lobe.visible[rb * w + ra]) inside = inwardMask(lobe, t.du[i]!, t.dv[i]!);
     main[i] = inside ? 1 : 0;
     if (!inside && t.p[i]! > best) best = t.p[i]!;
   }

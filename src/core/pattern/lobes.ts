@@ -13,7 +13,7 @@
  */
 import type { AfEvaluator, PowerDerivs } from "./evaluator.js";
 import type { PowerWindow } from "./grid.js";
-import { horizonMax, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
+import { horizonMax, inMain, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
 
 export interface LobeResult {
   peakDu: number;
@@ -169,7 +169,7 @@ export class LobeFinder {
   quadMargin = QUAD_MARGIN;
   private readonly hz: HorizonMax = { p: NaN, du: NaN, dv: NaN };
   /** the main lobe for horizonMax: the window's mask; off the window is not main lobe */
-  private readonly lobe: MainLobeMap = { mask: new Uint8Array(0), m0: 0, n0: 0, w: 0, h: 0, du: 1, dv: 1, outside: false };
+  private readonly lobe: MainLobeMap = { mask: new Uint8Array(0), m0: 0, n0: 0, w: 0, h: 0, du: 1, dv: 1, outside: false, visible: null, u0: 0, v0: 0 };
   constructor(cap: number) {
     this.mask = new Uint8Array(cap);
     this.stack = new Int32Array(cap);
@@ -202,6 +202,11 @@ export class LobeFinder {
     // 4. sidelobe candidates: local maxima of visible cells outside the main lobe
     const { cand, candP } = this;
     const nc = scanCandidates(p, visible, mask, wm, wn, cand, candP);
+    // the main lobe as the refined points and the horizon see it (horizon.ts inMain); an
+    // element-weighted window is 0 past the horizon, so there its rim's mask is not used
+    const lobe = this.lobe;
+    lobe.mask = mask; lobe.m0 = win.m0; lobe.n0 = win.n0; lobe.w = wm; lobe.h = wn; lobe.du = du; lobe.dv = dv;
+    lobe.visible = ev.element ? visible : null; lobe.u0 = u0; lobe.v0 = v0;
     let sl = NaN, sdu = NaN, sdv = NaN;
     let bestGrid = 0;
     for (let k = 0; k < nc; k++) bestGrid = Math.max(bestGrid, candP[k]!);
@@ -242,14 +247,12 @@ export class LobeFinder {
       // + 0: no −0 from Math.round reaches an index (see inMain, horizon.ts)
       const ra = Math.round(r.du / du) + 0 - win.m0;
       const rb = Math.round(r.dv / dv) + 0 - win.n0;
-      const inside = ra >= 0 && rb >= 0 && ra < wm && rb < wn && mask[rb * wm + ra] === 1;
+      const inside = ra >= 0 && rb >= 0 && ra < wm && rb < wn && (lobe.visible && !visible[rb * wm + ra] ? inMain(lobe, r.du, r.dv) : mask[rb * wm + ra] === 1);
       let val = r.p, vu = r.du, vv = r.dv;
       if (inside || !(r.p >= candP[k]!)) { val = candP[k]!; vu = (win.m0 + a) * du; vv = (win.n0 + b) * dv; }
       if (!(val <= sl)) { sl = val; sdu = vu; sdv = vv; }
     }
     // 5. the horizon, searched along the circle
-    const lobe = this.lobe;
-    lobe.mask = mask; lobe.m0 = win.m0; lobe.n0 = win.n0; lobe.w = wm; lobe.h = wn; lobe.du = du; lobe.dv = dv;
     const h = horizonMax(trace, ev, u0, v0, lobe, bestGrid, this.hz, sl / this.quadMargin);
     if (h.p > sl || (Number.isNaN(sl) && h.p >= 0)) { sl = h.p; sdu = h.du; sdv = h.dv; }
     return { peakDu: pk.du, peakDv: pk.dv, peakPower: pk.p, sidelobePower: sl, sidelobeDu: sdu, sidelobeDv: sdv };
