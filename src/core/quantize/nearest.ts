@@ -15,7 +15,7 @@ export function fillCommon(prep: FrequencyPrep, out: BeamCodes): void {
   out.clipped = prep.clipped;
 }
 
-/** Nearest codes of every element (ψ/LSB rounded, ties up, mod 2^B); true when some value lies within EDGE of a boundary (left for the exact decision). */
+/** Nearest codes of every element (ψ/LSB rounded, ties up, mod 2^B); a value within EDGE of a boundary gets −1 (left for the exact decision), and the result says whether any did. */
 function phaseCodes(prep: FrequencyPrep, n: number, u: number, v: number, w: number, pc: Int32Array, mask: number): boolean {
   const { X, Y, Z, C } = prep;
   let edge = false;
@@ -24,8 +24,10 @@ function phaseCodes(prep: FrequencyPrep, n: number, u: number, v: number, w: num
     const r = t + 0.5;
     const fl = Math.floor(r);
     const frac = r - fl;
-    if (frac < EDGE || frac > 1 - EDGE) edge = true;
-    else pc[i] = fl & mask;
+    if (frac < EDGE || frac > 1 - EDGE) {
+      pc[i] = -1;
+      edge = true;
+    } else pc[i] = fl & mask;
   }
   return edge;
 }
@@ -37,7 +39,7 @@ function commandedPhases(prep: FrequencyPrep, n: number, u: number, v: number, w
 }
 
 export function nearestQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = prepareFrequency(plan, fi), commanded = true): Quantizer {
-  const { X, Y, Z, C, states, lsbDeg } = prep;
+  const { states, lsbDeg } = prep;
   const n = plan.elements.count;
   const mask = states - 1;
   const exact = new ExactDirectionCache(plan);
@@ -54,11 +56,7 @@ export function nearestQuantizer(plan: Plan, fi: number, prep: FrequencyPrep = p
       if (phaseCodes(prep, n, u, v, w, out.phaseCode, mask)) {
         // a value within EDGE of a code boundary: that element re-decided exactly
         const pc = out.phaseCode;
-        for (let i = 0; i < n; i++) {
-          const r = X[i]! * u + Y[i]! * v + Z[i]! * w + C[i]! + 0.5;
-          const frac = r - Math.floor(r);
-          if (frac < EDGE || frac > 1 - EDGE) pc[i] = exactPhaseCode(plan, fi, i, exact.get(b));
-        }
+        for (let i = 0; i < n; i++) if (pc[i] === -1) pc[i] = exactPhaseCode(plan, fi, i, exact.get(b));
       }
       if (commanded) commandedPhases(prep, n, u, v, w, out.phaseDeg, states, lsbDeg);
       fillCommon(prep, out);
