@@ -11,10 +11,11 @@ const { mkdtempSync, renameSync, rmSync, writeFileSync } = require("node:fs");
 const { tmpdir } = require("node:os");
 const { join } = require("node:path");
 
-require("node:v8").setFlagsFromString("--semi-space-growth-factor=1"); // as bin/steercode.js
 const root = join(__dirname, "..");
 const file = join(root, "dist", "cli-bundle", "main.js");
-const { exports: bundle, script, cacheHeader } = require(join(root, "bin", "load-bundle.js")).loadBundle(file);
+const { loadBundle, setCommandFlags } = require(join(root, "bin", "load-bundle.js"));
+setCommandFlags(); // as bin/steercode.js
+const { exports: bundle, script, cacheHeader } = loadBundle(file);
 
 async function train() {
   const demo = join(root, "fixtures", "demo", "scenario.json");
