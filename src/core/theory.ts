@@ -96,6 +96,8 @@ interface AttenFacts {
   /** unclipped elements, and how many need a rounding (not a whole number of steps) */
   rounded: number;
   offGrid: number;
+  /** Σ over the unclipped enabled elements (all frequencies) of the actual rounding error² (A_n − q_n·step)², dB² */
+  roundSq: number;
   /**
    * Σ a_n² over the elements with a rounding error (unclipped, off the step grid) over
    * Σ a_n² over all enabled ones (taper amplitudes, all frequencies): the share of the
@@ -108,7 +110,7 @@ function attenFacts(plan: Plan): AttenFacts {
   const el = plan.elements;
   const maxCode = 2 ** plan.attenBits - 1;
   const range = maxCode * plan.attenStepDb;
-  let gain = 0, n = 0, clipped = 0, clipSq = 0, rounded = 0, offGrid = 0, a2 = 0, a2Rounded = 0;
+  let gain = 0, n = 0, clipped = 0, clipSq = 0, rounded = 0, offGrid = 0, a2 = 0, a2Rounded = 0, roundSq = 0;
   for (let fi = 0; fi < plan.frequenciesHz.length; fi++) {
     const prep = prepareFrequency(plan, fi);
     let sr = 0, si = 0;
@@ -129,6 +131,7 @@ function attenFacts(plan: Plan): AttenFacts {
         clipSq += (plan.attenBits === 0 ? a : a - range) ** 2;
       } else {
         rounded++;
+        roundSq += e * e;
         const t = a / plan.attenStepDb;
         if (Math.abs(t - Math.round(t)) > 1e-9) {
           offGrid++;
@@ -138,7 +141,7 @@ function attenFacts(plan: Plan): AttenFacts {
     }
     gain += si > 0 ? -20 * Math.log10(sr / si) : 0;
   }
-  return { gainChangeDb: gain / Math.max(1, plan.frequenciesHz.length), n, clipped, clipSq, rounded, offGrid, roundedPowerShare: a2 > 0 ? a2Rounded / a2 : 0 };
+  return { gainChangeDb: gain / Math.max(1, plan.frequenciesHz.length), n, clipped, clipSq, rounded, offGrid, roundSq, roundedPowerShare: a2 > 0 ? a2Rounded / a2 : 0 };
 }
 
 const na = (unit: string, note: string): TheoryValue => ({ value: null, unit, formula: "n/a", source: "n/a", note });
@@ -216,15 +219,23 @@ export function theoryFor(plan: Plan): Theory {
         note: "all of it clipping; step/√12 does not apply",
       };
     } else {
-      // published rounding estimate for the unclipped elements (0 when every commanded attenuation is a whole number of steps), exact excess for the clipped ones
+      // The attenuator's rounding is known per element before any beam (ideal parts; the attenuation A_n is
+      // beam-independent), so the estimate is the rms of the actual rounding errors A_n − q_n·step of the
+      // unclipped elements beside the exact excess of the clipped ones. The uniform-error rule step/√12
+      // holds only for those rounded elements, and only when their A_n spread over the step.
       roundingVar = f.offGrid ? (step * step) / 12 : 0;
-      const total = f.n ? Math.sqrt((f.rounded * roundingVar + f.clipSq) / f.n) : 0;
+      const total = f.n ? Math.sqrt((f.roundSq + f.clipSq) / f.n) : 0;
+      const uniform = f.n ? Math.sqrt((f.offGrid * roundingVar + f.clipSq) / f.n) : 0;
+      const roundingRms = f.rounded ? Math.sqrt(f.roundSq / f.rounded) : 0;
       rmsAmpErrorDb = {
         value: total,
         unit: "dB",
-        formula: f.clipped ? "√((N_rounded·step²/12 + Σ_clipped (A_n − range)²)/N)" : f.offGrid ? "step/√12" : "0 (every commanded attenuation is a whole number of steps)",
-        source: f.clipped ? "common practice (uniform rounding error) for the rounded elements; derived: the clipped elements' error is their exact excess over the range" : "common practice (uniform rounding error)",
-        ...(f.clipped ? { note: `clipping of ${f.clipped} element(s) alone gives ${clippingRms.toFixed(3)} dB rms over the enabled elements` } : {}),
+        formula: f.clipped ? "√((Σ_rounded (A_n − q_n·step)² + Σ_clipped (A_n − range)²)/N)" : "√(Σ (A_n − q_n·step)²/N)",
+        source: `derived: the rounding of each element's commanded attenuation A_n to the step (code q_n), known per element${f.clipped ? "; a clipped element's error is its exact excess over the range" : ""}`,
+        note:
+          `the ${f.rounded} rounded element value(s) have ${roundingRms.toFixed(3)} dB rms error (uniform rounding, common practice: step/√12 = ${(step / Math.sqrt(12)).toFixed(3)} dB; ${f.rounded - f.offGrid} sit on a whole step with none)` +
+          (f.clipped ? `; clipping of ${f.clipped} element(s) alone gives ${clippingRms.toFixed(3)} dB rms over the enabled elements` : "") +
+          `; step/√12 over the off-step elements only would give ${uniform.toFixed(3)} dB`,
       };
     }
   }

@@ -48,6 +48,9 @@ describe("sweep: theory beside measurement against scipy", () => {
         if (e[k] === null) expect(row[k], `${at}: ${k}`).toBeNull();
         else expect(row[k] as number, `${at}: ${k}`).toBeCloseTo(e[k]!, 6);
       }
+      // the attenuator's error is beam-independent (ideal parts), so numpy's rms of the actual per-element
+      // rounding is also what the analysis measures over every beam (README "Theory beside measurement")
+      if (e.theory_rms_amp_error_db !== null) expect(row.rms_amp_error_db as number, `${at}: measured rms amplitude error`).toBeCloseTo(e.theory_rms_amp_error_db!, 6);
       // sweep.csv carries the phase-quantisation ones, 6 decimals; an n/a is an empty cell
       const c = csv[i]!;
       expect(c.quantizer).toBe(row.quantizer);
