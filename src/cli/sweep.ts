@@ -80,9 +80,11 @@ async function sweepWith(io: Io, a: { scenario: string; out: string; attenStep: 
   const shown = r.rows.map((row, i) => ({ row, i })).sort((a, b) => Number(a.row.atten_step_db) - Number(b.row.atten_step_db) || Number(a.row.phase_bits) - Number(b.row.phase_bits) || qOrder(a.row.quantizer) - qOrder(b.row.quantizer) || a.i - b.i).map((x) => x.row);
   for (const row of shown)
     lines.push(
-      `${String(row.phase_bits).padStart(4)} ${String(row.atten_step_db).padStart(7)} ${String(row.quantizer).padEnd(10)} ${fmt(Number(row.psl_db_max), 2).padStart(8)} ${fmt(Number(row.sll_rise_db_p95), 2).padStart(8)} ${fmt(Number(row.sll_rise_db_max), 2).padStart(8)} ${fmt(Number(row.pointing_error_deg_max), 4).padStart(10)} ${fmt(Number(row.gain_loss_db_median), 3).padStart(8)} ${fmt(Number(row.theory_gain_loss_db), 3).padStart(7)} ${fmt(Number(row.rms_phase_error_deg), 3).padStart(7)} ${fmt(Number(row.theory_rms_phase_error_deg), 3).padStart(7)}`,
+      `${String(row.phase_bits).padStart(4)} ${String(row.atten_step_db).padStart(7)} ${String(row.quantizer).padEnd(10)} ${fmt(Number(row.psl_db_max), 2).padStart(8)} ${fmt(Number(row.sll_rise_db_p95), 2).padStart(8)} ${fmt(Number(row.sll_rise_db_max), 2).padStart(8)} ${fmt(Number(row.pointing_error_deg_max), 4).padStart(10)} ${fmt(Number(row.gain_loss_db_median), 3).padStart(8)} ${fmt(Number(row.theory_expected_gain_loss_db), 3).padStart(7)} ${fmt(Number(row.rms_phase_error_deg), 3).padStart(7)} ${fmt(Number(row.theory_rms_phase_error_deg), 3).padStart(7)}`,
     );
   lines.push("");
+  // the measured loss holds the attenuator's rounding and clipping too, so the theory beside it does
+  lines.push("theory beside the gain loss: phase-quantisation term + attenuator term (rounding and clipping of the attenuation codes), sweep.json theory_expected_gain_loss_db; sweep.csv theory_gain_loss_db is the phase term alone");
   const qs = new Set(r.rows.map((row) => String(row.quantizer)));
   if (qs.has("nearest")) lines.push("theory, nearest: gain loss −10·log10([sin(π/2^B)/(π/2^B)]²) and quantisation lobe 10·log10(2^(−2B)) = −6.0206·B dB: Mailloux ch. 7 (from memory); rms LSB/√12: common practice");
   if (qs.has("randomized")) lines.push("theory, randomized: gain loss −10·log10([sin(π/2^B)/(π/2^B)]⁴) and rms LSB/√6: derived for stochastic rounding (README); no periodic quantisation lobe");

@@ -338,15 +338,15 @@ function sweepPart(dir: string): string {
     { title: "Worst sidelobe level over the grid", xLabel: "phase-shifter bits", yLabel: "PSL, dB (worst beam)", series: [...seriesFor("psl_db_max", "worst"), ...theory("theory_quantization_lobe_db", "quantisation lobe 2^(−2B) (theory)", "2 3")] },
     { title: "Sidelobe rise from quantisation", xLabel: "phase-shifter bits", yLabel: "PSL rise, dB", series: [...seriesFor("sll_rise_db_max", "worst"), ...seriesFor("sll_rise_db_p95", "p95", "3 3")] },
     { title: "Pointing error", xLabel: "phase-shifter bits", yLabel: "degrees", series: [...seriesFor("pointing_error_deg_max", "max"), ...seriesFor("pointing_error_deg_rms", "rms", "3 3")] },
-    { title: "Gain loss at the commanded direction", xLabel: "phase-shifter bits", yLabel: "dB (positive = loss)", series: [...seriesFor("gain_loss_db_max", "max"), ...seriesFor("gain_loss_db_median", "median", "3 3"), ...theory("theory_gain_loss_db", "phase-quantisation loss (theory)", "2 3")] },
+    { title: "Gain loss at the commanded direction", xLabel: "phase-shifter bits", yLabel: "dB (positive = loss)", series: [...seriesFor("gain_loss_db_max", "max"), ...seriesFor("gain_loss_db_median", "median", "3 3"), ...seriesFor("theory_expected_gain_loss_db", "expected (phase + attenuator term)", "5 2 1 2"), ...theory("theory_gain_loss_db", "phase term alone (theory)", "2 3")] },
   ];
   const svg = chartSvg(`Bit-depth trade-off: ${typeof doc.name === "string" ? doc.name : "sweep"}`, panels, ["Theory curves: the estimates recorded in sweep.json for each row's quantizer (nearest: published; randomized: derived; sources in README, \"Theory beside measurement\")."]);
   const f = (x: unknown, d: number) => (Number.isFinite(n(x)) ? n(x).toFixed(d) : "n/a");
   const table = rows
-    .map((r) => `<tr><td>${f(r.phase_bits, 0)}</td><td>${f(r.atten_step_db, 3)}</td><td>${esc(String(r.quantizer ?? "nearest"))}</td><td>${f(r.psl_db_max, 2)}</td><td>${f(r.sll_rise_db_p95, 2)}</td><td>${f(r.pointing_error_deg_max, 4)}</td><td>${f(r.gain_loss_db_median, 3)}</td><td>${f(r.theory_gain_loss_db, 3)}</td></tr>`)
+    .map((r) => `<tr><td>${f(r.phase_bits, 0)}</td><td>${f(r.atten_step_db, 3)}</td><td>${esc(String(r.quantizer ?? "nearest"))}</td><td>${f(r.psl_db_max, 2)}</td><td>${f(r.sll_rise_db_p95, 2)}</td><td>${f(r.pointing_error_deg_max, 4)}</td><td>${f(r.gain_loss_db_median, 3)}</td><td>${f(r.theory_expected_gain_loss_db, 3)}</td><td>${f(r.theory_gain_loss_db, 3)}</td></tr>`)
     .join("");
   return `<section id="sweep"><h2>Choosing a part: the bit-depth sweep</h2><figure><div class="svg">${svg.replace(/^<\?xml[^>]*>/, "")}</div><figcaption>Worst and p95 sidelobe rise, pointing error and gain loss against phase bits, one line per attenuator step and quantizer, with the published theory.</figcaption></figure>
-<table><thead><tr><th>bits</th><th>step dB</th><th>quantizer</th><th>PSL max dB</th><th>rise p95 dB</th><th>pointing max °</th><th>gain loss median dB</th><th>theory gain loss dB</th></tr></thead><tbody>${table}</tbody></table></section>`;
+<table><thead><tr><th>bits</th><th>step dB</th><th>quantizer</th><th>PSL max dB</th><th>rise p95 dB</th><th>pointing max °</th><th>gain loss median dB</th><th>expected gain loss dB (phase + attenuator term)</th><th>phase term alone dB</th></tr></thead><tbody>${table}</tbody></table></section>`;
 }
 
 const CSS = `

@@ -60,6 +60,24 @@ describe("sweep: theory beside measurement against scipy", () => {
     });
     expect(clippedRows).toBeGreaterThan(0); // the case the floor's attenuator share depends on
 
+    // the printed table's theory beside the measured median gain loss is the expected loss, phase term + attenuator
+    // term (the measured loss holds both), not the phase term alone: numpy's value to the 3 printed decimals
+    const printed = new Map<string, string[]>();
+    for (const line of r.stdout.split("\n")) {
+      const f = line.trim().split(/\s+/);
+      if (f.length === 11 && /^\d+$/.test(f[0]!) && (f[2] === "nearest" || f[2] === "randomized")) printed.set(`${f[0]}|${Number(f[1])}|${f[2]}`, f);
+    }
+    expect(printed.size).toBe(24);
+    let attenMatters = 0;
+    json.forEach((row, i) => {
+      const e = expected[i]!;
+      const f = printed.get(`${row.phase_bits}|${row.atten_step_db}|${row.quantizer}`)!;
+      expect(Number(f[8]), `${row.phase_bits} bits, ${row.atten_step_db} dB, ${row.quantizer}: printed theory beside the loss`).toBeCloseTo(e.theory_expected_gain_loss_db!, 3);
+      if (Math.abs(e.theory_expected_gain_loss_db! - e.theory_gain_loss_db!) > 0.01) attenMatters++;
+    });
+    expect(attenMatters).toBeGreaterThan(0); // rows where the phase term alone would be visibly wrong
+    expect(r.stdout).toMatch(/theory beside the gain loss: phase-quantisation term \+ attenuator term/);
+
     // sweep.svg draws the floor per swept step and quantizer (it depends on the step; the scenario's own
     // 0.5 dB is not swept here): one dashed curve per (step, quantizer), its points on one affine scale
     // with scipy's values (y pixel = α + β·dB)
@@ -76,9 +94,28 @@ describe("sweep: theory beside measurement against scipy", () => {
         vs.push(expected[i]!.theory_random_floor_db!);
       });
     });
-    const n = ys.length, mv = vs.reduce((a, b) => a + b) / n, my = ys.reduce((a, b) => a + b) / n;
-    const beta = vs.reduce((s, v, i) => s + (v - mv) * (ys[i]! - my), 0) / vs.reduce((s, v) => s + (v - mv) ** 2, 0);
-    expect(beta).toBeLessThan(0); // higher level, higher on the page
-    for (let i = 0; i < n; i++) expect(Math.abs(ys[i]! - (my + beta * (vs[i]! - mv))), `point ${i}`).toBeLessThan(0.02); // the SVG's 2-decimal pixels
+    onOneScale(ys, vs);
+
+    // the gain-loss panel draws the expected loss (phase + attenuator term) per swept step and quantizer the same way
+    const lossCurves = [...svg.matchAll(/<path d="([^"]+)"[^>]*stroke-dasharray="5 2 1 2"/g)].map((m) => [...m[1]!.matchAll(/[ML]([\d.]+) ([\d.]+)/g)].map((p) => Number(p[2])));
+    expect(lossCurves.length).toBe(6);
+    const ly: number[] = [], lv: number[] = [];
+    groups.forEach((g, k) => {
+      const idx = json.map((r, i) => [r, i] as const).filter(([r]) => `${r.atten_step_db}|${r.quantizer}` === g).sort(([a], [b]) => (a.phase_bits as number) - (b.phase_bits as number));
+      expect(lossCurves[k]!.length).toBe(idx.length);
+      idx.forEach(([, i], j) => {
+        ly.push(lossCurves[k]![j]!);
+        lv.push(expected[i]!.theory_expected_gain_loss_db!);
+      });
+    });
+    onOneScale(ly, lv);
   });
 });
+
+/** y pixels of an SVG curve against values: one affine map y = α + β·value, β < 0 (higher value higher on the page), to the SVG's 2-decimal pixels */
+function onOneScale(ys: number[], vs: number[]): void {
+  const n = ys.length, mv = vs.reduce((a, b) => a + b) / n, my = ys.reduce((a, b) => a + b) / n;
+  const beta = vs.reduce((s, v, i) => s + (v - mv) * (ys[i]! - my), 0) / vs.reduce((s, v) => s + (v - mv) ** 2, 0);
+  expect(beta).toBeLessThan(0);
+  for (let i = 0; i < n; i++) expect(Math.abs(ys[i]! - (my + beta * (vs[i]! - mv))), `point ${i}`).toBeLessThan(0.02);
+}
