@@ -8,6 +8,7 @@ import type { Distribution } from "../core/pattern/summary.js";
 import type { DiffScan } from "../io/diff.js";
 import { negativeGainLossNote, theoryRows, type Theory } from "../core/theory.js";
 import { M, METRICS } from "../core/pattern/analyze.js";
+import { elementSidelobeNote, pulledAtPeaks, pullWarning } from "../core/pattern/pull.js";
 import type { OptimizedSummary } from "../core/quantize/optimized.js";
 import type { BandReport } from "../io/build.js";
 
@@ -60,8 +61,14 @@ async function buildWith(io: Io, args: BuildArgs): Promise<number> {
   }
   const m = result.manifest;
   const gainNote = result.metrics ? negativeGainLossNote(result.theory, countNegative(result.metrics), m.counts.beams * m.counts.frequencies) : null;
+  // with an element pattern: beams whose realized peak lies outside the array's own half-power main lobe
+  const mt = result.metrics;
+  const pulls = mt ? pulledAtPeaks(loaded.plan, mt, METRICS, M.peak_u, M.peak_v) : [];
+  const pull = mt ? pullWarning(loaded.plan, pulls, (fi, b) => mt[(fi * m.counts.beams + b) * METRICS + M.psl_db]!) : null;
+  const sidelobes = mt ? elementSidelobeNote(loaded.plan, pulls, mt, METRICS, M.psl_db, M.psl_ideal_db) : null;
+  const warnings = [...facts.warnings, ...(pull ? [pull] : []), ...(sidelobes ? [sidelobes] : [])];
   if (io.json) {
-    printJson(io, { ok: true, dir: args.out, notes: gainNote ? [gainNote] : [], manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffScan).identical, summary: (diff as DiffScan).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, ...(result.optimized ? { optimized: result.optimized.summary } : {}), band: result.band, theory: result.theory, warnings: facts.warnings, safety: SAFETY });
+    printJson(io, { ok: true, dir: args.out, notes: gainNote ? [gainNote] : [], manifest: m, compare: diff ? { against: args.compare, identical: (diff as DiffScan).identical, summary: (diff as DiffScan).summary } : null, summary: result.summary, worst: result.summary ? worstBeams(result.summary, m.counts.beams, m.frequenciesHz) : null, ...(result.optimized ? { optimized: result.optimized.summary } : {}), band: result.band, theory: result.theory, warnings, safety: SAFETY });
     return 0;
   }
   const lines = [
@@ -79,7 +86,7 @@ async function buildWith(io: Io, args: BuildArgs): Promise<number> {
   if (result.optimized) lines.push("", ...optimizedLines(result.optimized.summary, m));
   if (result.band) lines.push("", ...bandLines(result.band, m.counts.beams, m.frequenciesHz));
   if (diff) lines.push("", `compared with ${args.compare} (changes.csv, diff.json):`, ...diffLines(diff).map((l) => "  " + l));
-  for (const w of facts.warnings) lines.push(warn(io, `warning: ${w}`));
+  for (const w of warnings) lines.push(warn(io, `warning: ${w}`));
   lines.push("", SAFETY);
   io.stdout(lines.join("\n") + "\n");
   return 0;

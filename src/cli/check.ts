@@ -1,5 +1,7 @@
 import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
 import { deriveFacts } from "../core/facts.js";
+import { gridShape, MAX_ANALYSIS_CELLS, MAX_DIRECT_TABLE_ENTRIES } from "../core/pattern/grid.js";
+import { predictPulls, pullWarning } from "../core/pattern/pull.js";
 import { loadScenario, MAX_FREQUENCY_HZ, MIN_FREQUENCY_HZ } from "../io/scenario.js";
 import { fmt, printable, printJson, SAFETY, type Io } from "./shared.js";
 import { parseQuantity } from "../core/units.js";
@@ -63,12 +65,15 @@ export function checkCommand(io: Io, scenario: string, bus: BusOptions = { clock
   const loaded = loadScenario(scenario);
   const plan = loaded.plan;
   const f = deriveFacts(plan);
+  // with an element pattern: beams whose ideal total pattern peaks outside the array's half-power main lobe
+  const pull = pullWarning(plan, predictPulls(plan, (fi) => { const g = gridShape(plan, fi); return g.cells > MAX_ANALYSIS_CELLS || g.tableEntries > MAX_DIRECT_TABLE_ENTRIES; }), undefined, true);
+  const warnings = pull ? [...f.warnings, pull] : f.warnings;
   const cal = loaded.inputs.find((i) => i.role === "calibration");
   const model = busModel(plan, bus);
   const dev = deviceFacts(plan, model);
   if (io.json) {
     const devices = dev ? { channels: dev.map.spec.channels, address: { base: dev.map.spec.base, beamStride: dev.map.spec.beamStride, channelStride: dev.map.spec.channelStride }, fill: dev.map.spec.fill, source: dev.map.spec.source, bus: model, totalLoadSeconds: model ? dev.facts.reduce((a, d) => a + d.loadSeconds!, 0) : null, list: dev.facts } : null;
-    printJson(io, { ok: true, scenario, name: plan.name, facts: f, calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments, ...(plan.calServed ? { perFrequency: plan.calServed } : {}) } : null, warnings: f.warnings, ...(dev ? { devices } : {}) });
+    printJson(io, { ok: true, scenario, name: plan.name, facts: f, calibration: cal ? { ref: cal.ref, sha256: cal.file.sha256, comments: cal.comments, ...(plan.calServed ? { perFrequency: plan.calServed } : {}) } : null, warnings, ...(dev ? { devices } : {}) });
     return 0;
   }
   const lines: string[] = [];
@@ -112,9 +117,9 @@ export function checkCommand(io: Io, scenario: string, bus: BusOptions = { clock
     } else lines.push("  (give --bus-clock, e.g. 10MHz, for each image's full-load time)");
     lines.push(...deviceLines(dev.facts, model));
   }
-  if (f.warnings.length) {
+  if (warnings.length) {
     lines.push("");
-    for (const w of f.warnings) lines.push(`warning: ${w}`);
+    for (const w of warnings) lines.push(`warning: ${w}`);
   }
   lines.push("");
   lines.push(SAFETY);

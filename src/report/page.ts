@@ -29,6 +29,7 @@ import { SAFETY } from "../cli/shared.js";
 import { encodeTyped, type PageData } from "./model.js";
 import { REPORT_GENERATOR } from "../io/outdir.js";
 import { negativeGainLossNote, theoryFor, theoryRows } from "../core/theory.js";
+import { elementSidelobeNote, pulledAtPeaks, pullWarning } from "../core/pattern/pull.js";
 
 export interface ReportOptions {
   beam: number | null;
@@ -197,10 +198,16 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   let negatives = 0;
   if (metrics && gl >= 0) for (let k = gl; k < metrics.length; k += metricColumns.length) if (metrics[k]! < 0) negatives++;
   const gainNote = negativeGainLossNote(t, negatives, F * B);
+  // with an element pattern: beams whose realized peak lies outside the array's own half-power main lobe
+  const iu = metricColumns.indexOf("peak_u"), iv = metricColumns.indexOf("peak_v"), ip = metricColumns.indexOf("psl_db");
+  const mt = metrics;
+  const pulls = mt && iu >= 0 && iv >= 0 ? pulledAtPeaks(plan, mt, metricColumns.length, iu, iv) : [];
+  const pullNote = pullWarning(plan, pulls, mt && ip >= 0 ? (fi, b) => mt[(fi * B + b) * metricColumns.length + ip]! : undefined);
+  const sidelobeNote = mt && ip >= 0 ? elementSidelobeNote(plan, pulls, mt, metricColumns.length, ip, metricColumns.indexOf("psl_ideal_db")) : null;
   const estimates = `<section id="estimates"><h2>Estimates beside the measurements</h2><table><thead><tr><th>estimate for this quantizer (${esc(t.quantizer)}) and part</th><th>value</th><th>formula</th><th>source, or why n/a</th></tr></thead><tbody>${theoryRows(t)
     .map((r) => `<tr><th scope="row">${esc(r.label)}</th><td>${r.v.value === null ? "n/a" : `${r.v.value.toFixed(r.digits)} ${esc(r.v.unit)}`}</td><td class="src">${r.v.value === null ? "" : esc(r.v.formula)}</td><td class="src">${esc(r.v.value === null ? (r.v.note ?? "") : `${r.v.source}${r.v.note ? ` (${r.v.note})` : ""}`)}</td></tr>`)
     .join("")}</tbody></table>${gainNote ? `<p class="note" id="gain-note">Note: ${esc(gainNote)}.</p>` : ""}</section>`;
-  const html = `<section id="summary"><h2>What was built</h2><table class="kv">${summary.map(([k, v]) => `<tr><th scope="row">${esc(k)}</th><td>${esc(v)}</td></tr>`).join("")}</table></section>${estimates}
+  const html = `<section id="summary"><h2>What was built</h2><table class="kv">${summary.map(([k, v]) => `<tr><th scope="row">${esc(k)}</th><td>${esc(v)}</td></tr>`).join("")}</table>${pullNote ? `<p class="note" id="pull-note">Warning: ${esc(pullNote)}.</p>` : ""}${sidelobeNote ? `<p class="note" id="element-sidelobe-note">Note: ${esc(sidelobeNote)}.</p>` : ""}</section>${estimates}
 <section id="explorer"><h2>Beam explorer</h2>
 <div class="controls"><label>frequency <select id="freq-select" aria-label="frequency"></select></label>
 <label>beam <select id="beam-select" aria-label="beam"></select></label>

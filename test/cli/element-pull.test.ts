@@ -1,0 +1,93 @@
+/**
+ * A steep element pattern pulls the beam's peak out of the array's own half-power main lobe
+ * (README "Element pattern", "Pulled beams"): check (predicted from the ideal total pattern),
+ * build and the report (from the realized peaks) say so, naming the beams; the beams and the
+ * pulls are checked against a numpy brute force (test/fixtures/numpy/element_pull.py: the
+ * ideal total pattern |AF|²·cos^q θ sampled every 1e-5 in u, climbed from the commanded
+ * direction; pulled when the array factor alone is more than 10·log10 2 dB down at the peak —
+ * common practice for the half-power main lobe).
+ */
+import { spawnSync } from "node:child_process";
+import { readFileSync } from "node:fs";
+import { join } from "node:path";
+import { parse } from "csv-parse/sync";
+import { describe, expect, it } from "vitest";
+import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
+import { itWith, TOOLS } from "../tools.js";
+
+const SCRIPT = join(import.meta.dirname, "..", "fixtures", "numpy", "element_pull.py");
+const HALF_POWER_DB = 10 * Math.log10(2);
+
+const doc = (element: unknown) =>
+  baseScenario({
+    array: { lattice: { kind: "rectangular", columns: 16, rows: 4, dx: "0.5 lambda", dy: "0.5 lambda" } },
+    beams: { kind: "azel", az: { from: -60, to: 60, step: 10 }, el: { from: 0, to: 0, step: 1 } },
+    phaseShifter: { bits: 8 },
+    taper: { kind: "uniform" },
+    ...(element ? { element } : {}),
+  });
+
+/** The pull warning's count, beam list, worst beam's pull (°) and array-factor drop (dB). */
+function pullOf(text: string): { count: number; beams: number[]; worstDeg: number; dropDb: number } | null {
+  const m = /warning: (\d+) of \d+ beam\(s\) (?:are|will be) pulled by the .*? peak ([\d.]+)° away \(array factor ([\d.]+) dB down there[^)]*\); beams ([\d, ]+)\./.exec(text);
+  return m ? { count: Number(m[1]), beams: m[4]!.split(", ").map(Number), worstDeg: Number(m[2]), dropDb: Number(m[3]) } : null;
+}
+
+describe("beams pulled by the element pattern", () => {
+  itWith([TOOLS.numpy], "16 × 4 uniform, cos^40 θ, az −60…60°: check, build and report name the beams numpy finds pulled, and their pull", () => {
+    const s = writeScenario(doc({ pattern: "cosine", exponent: 40 }));
+    const py = spawnSync("/usr/bin/python3", [SCRIPT, s], { encoding: "utf8", timeout: 60_000 });
+    expect(py.status, py.stderr).toBe(0);
+    const ref = JSON.parse(py.stdout).beams as { beam: number; pointing_deg: number; af_drop_db: number; pulled: boolean }[];
+    const pulled = ref.filter((b) => b.pulled);
+    // the case must have both kinds, none of them on the fence (3.01 dB ± 0.3)
+    expect(pulled.length).toBeGreaterThan(0);
+    expect(pulled.length).toBeLessThan(ref.length);
+    for (const b of ref) expect(Math.abs(b.af_drop_db - HALF_POWER_DB)).toBeGreaterThan(0.3);
+    const worst = pulled.reduce((a, b) => (b.pointing_deg > a.pointing_deg ? b : a));
+
+    const c = cli(["check", s]);
+    expect(c.code, c.stderr).toBe(0);
+    const pc = pullOf(c.stdout)!;
+    expect(pc, c.stdout).not.toBeNull();
+    expect(c.stdout).toMatch(/will be pulled by the cos\^40 θ element pattern beyond the array's half-power main lobe/);
+    expect(pc.count).toBe(pulled.length);
+    expect(pc.beams).toEqual(pulled.map((b) => b.beam));
+    expect(pc.worstDeg).toBeCloseTo(worst.pointing_deg, 1); // printed to 0.01°
+    expect(pc.dropDb).toBeCloseTo(worst.af_drop_db, 1);
+
+    const out = join(tempDir(), "b");
+    const r = cli(["build", s, "-o", out]);
+    expect(r.code, r.stderr).toBe(0);
+    const pb = pullOf(r.stdout)!;
+    expect(pb, r.stdout).not.toBeNull();
+    expect(pb.beams).toEqual(pulled.map((b) => b.beam));
+    expect(r.stdout).toMatch(/PSL -?[\d.]+ dB\); beams/);
+    expect(r.stdout).toMatch(/describe the element pattern's pull, not quantisation/);
+    // the realized peaks (8-bit phase) are the ideal ones to a few hundredths of a degree
+    const rows = parse(readFileSync(join(out, "beams.csv")), { columns: true }) as Record<string, string>[];
+    for (const b of ref) expect(Number(rows[b.beam]!.pointing_error_deg), `beam ${b.beam}`).toBeCloseTo(b.pointing_deg, 1);
+    // beams not pulled whose PSL is still ≥ −3 dB (realized and ideal) get their own note, naming them from beams.csv
+    const high = ref.filter((b) => !b.pulled && Number(rows[b.beam]!.psl_db) >= -HALF_POWER_DB && Number(rows[b.beam]!.psl_ideal_db) >= -HALF_POWER_DB).map((b) => b.beam);
+    expect(high.length).toBeGreaterThan(0); // az ±30°: cos^40 θ is −25 dB there, the broadside sidelobes win
+    expect(r.stdout).toMatch(new RegExp(`${high.length} beam\\(s\\) within their main lobe still have a PSL of −3 dB or more, the ideal taper's too \\(beams ${high.join(", ")}\\)`));
+    const j = cli(["build", s, "-o", join(tempDir(), "j"), "--json"]);
+    expect((JSON.parse(j.stdout).warnings as string[]).some((w) => /pulled by the cos\^40/.test(w))).toBe(true);
+
+    const rep = cli(["report", out, "-o", join(out, "r.html")]);
+    expect(rep.code, rep.stderr).toBe(0);
+    expect(readFileSync(join(out, "r.html"), "utf8")).toMatch(new RegExp(`id="pull-note">Warning: ${pulled.length} of 13 beam\\(s\\) are pulled`));
+  });
+
+  it("no warning with isotropic elements or a mild pattern (cos^1 θ) on the same grid", () => {
+    for (const element of [null, { pattern: "cosine", exponent: 1 }]) {
+      const s = writeScenario(doc(element));
+      const c = cli(["check", s]);
+      expect(c.code, c.stderr).toBe(0);
+      expect(c.stdout).not.toMatch(/pulled/);
+      const r = cli(["build", s, "-o", join(tempDir(), "b")]);
+      expect(r.code, r.stderr).toBe(0);
+      expect(r.stdout).not.toMatch(/pulled|within their main lobe still have a PSL/);
+    }
+  });
+});
