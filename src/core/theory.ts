@@ -233,7 +233,7 @@ export function theoryFor(plan: Plan): Theory {
         formula: f.clipped ? "√((Σ_rounded (A_n − q_n·step)² + Σ_clipped (A_n − range)²)/N)" : "√(Σ (A_n − q_n·step)²/N)",
         source: `derived: the rounding of each element's commanded attenuation A_n to the step (code q_n), known per element${f.clipped ? "; a clipped element's error is its exact excess over the range" : ""}`,
         note:
-          `the ${f.rounded} rounded element value(s) have ${roundingRms.toFixed(3)} dB rms error (uniform rounding, common practice: step/√12 = ${(step / Math.sqrt(12)).toFixed(3)} dB; ${f.rounded - f.offGrid} sit on a whole step with none)` +
+          `the ${f.rounded} rounded attenuation(s) (enabled elements × frequencies, ${f.rounded - f.offGrid} of them on a whole step, without error) have ${roundingRms.toFixed(3)} dB rms error; common practice's uniform rounding gives step/√12 = ${(step / Math.sqrt(12)).toFixed(3)} dB` +
           (f.clipped ? `; clipping of ${f.clipped} element(s) alone gives ${clippingRms.toFixed(3)} dB rms over the enabled elements` : "") +
           `; step/√12 over the off-step elements only would give ${uniform.toFixed(3)} dB`,
       };
