@@ -1,7 +1,7 @@
 import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
 import { deriveFacts } from "../core/facts.js";
 import { gridShape, MAX_ANALYSIS_CELLS, MAX_DIRECT_TABLE_ENTRIES } from "../core/pattern/grid.js";
-import { predictPulls, pullWarning } from "../core/pattern/pull.js";
+import { predictionStoppedNote, predictPulls, pullWarning } from "../core/pattern/pull.js";
 import { loadScenario, MAX_FREQUENCY_HZ, MIN_FREQUENCY_HZ } from "../io/scenario.js";
 import { fmt, printable, printJson, SAFETY, type Io } from "./shared.js";
 import { parseQuantity } from "../core/units.js";
@@ -66,8 +66,10 @@ export function checkCommand(io: Io, scenario: string, bus: BusOptions = { clock
   const plan = loaded.plan;
   const f = deriveFacts(plan);
   // with an element pattern: beams whose ideal total pattern peaks outside the array's half-power main lobe
-  const pull = pullWarning(plan, predictPulls(plan, (fi) => { const g = gridShape(plan, fi); return g.cells > MAX_ANALYSIS_CELLS || g.tableEntries > MAX_DIRECT_TABLE_ENTRIES; }), undefined, true);
-  const warnings = pull ? [...f.warnings, pull] : f.warnings;
+  const predicted = predictPulls(plan, (fi) => { const g = gridShape(plan, fi); return g.cells > MAX_ANALYSIS_CELLS || g.tableEntries > MAX_DIRECT_TABLE_ENTRIES; });
+  const pull = pullWarning(plan, predicted.pulls, undefined, true);
+  const partial = predicted.examined < predicted.total ? [predictionStoppedNote(predicted)] : [];
+  const warnings = pull ? [...f.warnings, pull, ...partial] : [...f.warnings, ...partial];
   const cal = loaded.inputs.find((i) => i.role === "calibration");
   const model = busModel(plan, bus);
   const dev = deviceFacts(plan, model);

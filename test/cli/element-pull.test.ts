@@ -14,6 +14,8 @@ import { parse } from "csv-parse/sync";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
 import { itWith, TOOLS } from "../tools.js";
+import { loadScenario } from "../../src/io/scenario.js";
+import { predictionStoppedNote, predictPulls } from "../../src/core/pattern/pull.js";
 
 const SCRIPT = join(import.meta.dirname, "..", "fixtures", "numpy", "element_pull.py");
 const HALF_POWER_DB = 10 * Math.log10(2);
@@ -77,6 +79,18 @@ describe("beams pulled by the element pattern", () => {
     const rep = cli(["report", out, "-o", join(out, "r.html")]);
     expect(rep.code, rep.stderr).toBe(0);
     expect(readFileSync(join(out, "r.html"), "utf8")).toMatch(new RegExp(`id="pull-note">Warning: ${pulled.length} of 13 beam\\(s\\) are pulled`));
+  });
+
+  it("check's prediction is bounded in work: stopped early, it has examined a prefix of the beams, found the same pulls there, and says so", () => {
+    const plan = loadScenario(writeScenario(doc({ pattern: "cosine", exponent: 40 }))).plan;
+    const full = predictPulls(plan);
+    expect(full.examined).toBe(13);
+    expect(full.pulls.length).toBeGreaterThan(2);
+    // a bound that one climb already passes: the beams up to the first that leaves its cell
+    const cut = predictPulls(plan, undefined, 1);
+    expect(cut.examined).toBeLessThan(full.total);
+    expect(cut.pulls).toEqual(full.pulls.filter((p) => p.beam < cut.examined));
+    expect(predictionStoppedNote(cut)).toMatch(new RegExp(`predicted for the first ${cut.examined} of 13 beam\\(s\\) only .*build judges every realized peak`));
   });
 
   it("no warning with isotropic elements or a mild pattern (cos^1 θ) on the same grid", () => {

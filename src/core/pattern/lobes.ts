@@ -267,9 +267,11 @@ interface Refined { du: number; dv: number; p: number }
  * hill-climb from Δ = 0 and parabolic start, but every cell it visits is evaluated
  * exactly on demand (the evaluator's total pattern; an FFT cell is the same sample).
  * Used where only the peak is wanted (the band analysis): a few dozen evaluations
- * instead of a whole pattern.
+ * instead of a whole pattern. `gridPower(m, n)` is the total pattern at cell (m, n);
+ * a caller that knows it more cheaply (check's pull prediction: a planar array's
+ * ideal |AF|² does not depend on the beam) passes the same values its own way.
  */
-export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): Refined {
+export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number, v0: number, gridPower: (m: number, n: number) => number = (m, n) => ev.power(m * du, n * dv)): Refined {
   const mLo = Math.floor((-1 - u0) / du) - 1, mHi = Math.floor((1 - u0) / du) + 1;
   const nLo = Math.floor((-1 - v0) / dv) - 1, nHi = Math.floor((1 - v0) / dv) + 1;
   const seen = new Map<number, number>();
@@ -278,7 +280,7 @@ export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number
     if (m < mLo || m > mHi || n < nLo || n > nHi) return NaN;
     const key = (n - nLo) * W + (m - mLo);
     let v = seen.get(key);
-    if (v === undefined) seen.set(key, (v = ev.power(m * du, n * dv)));
+    if (v === undefined) seen.set(key, (v = gridPower(m, n)));
     return v;
   };
   let i = 0, j = 0;

@@ -83,44 +83,104 @@ export function pulledAtPeaks(plan: Plan, metrics: Float64Array, stride: number,
   return out;
 }
 
-/** Whether the total pattern at d̂ (cell 0, 0) is at least as high as at its 8 neighbouring cells (the hill-climb's first step). */
-function staysAtHome(ev: AfEvaluator, du: number, dv: number): boolean {
-  const p0 = ev.power(0, 0);
-  for (let j = -1; j <= 1; j++)
-    for (let i = -1; i <= 1; i++) {
-      if (i === 0 && j === 0) continue;
-      if ((ev.lockU && i !== 0) || (ev.lockV && j !== 0)) continue;
-      if (ev.power(i * du, j * dv) > p0) return false;
-    }
-  return true;
+/**
+ * What check may spend on predicting pulls: beams that leave their own cell cost a climb
+ * and an exact refinement (a few dozen evaluations of every element), and a non-planar
+ * array's beams every evaluation (its array factor changes with the beam). Past this many
+ * element evaluations (~2 s on the CI machine) the rest of the beams is left to build,
+ * which judges every realized peak, and the warning says how many were examined.
+ */
+export const PREDICT_ELEMENT_EVALUATIONS = 1e9;
+/**
+ * Evaluations counted for one climb and refinement, and what one evaluation costs beyond
+ * its elements, in element terms (a 4×4 array's climb took ~6 µs where its 16 elements
+ * alone would be ~1 µs): the count bounds the time, it does not measure it.
+ */
+const CLIMB_EVALUATIONS = 40;
+const CALL_OVERHEAD = 64;
+
+export interface PullPrediction {
+  pulls: BeamPull[];
+  /** beams (frequency × beam) examined, and in all; fewer examined when the work bound stopped the prediction */
+  examined: number;
+  total: number;
 }
 
 /**
  * The pulled beams predicted before any table is built (check): the peak of the ideal total
  * pattern, found as the band analysis finds a peak (hill-climb on the analysis grid's cell
- * from d̂, refined on the exact pattern). Frequencies whose grid is past the analysis limit
- * are skipped (check warns about them already).
+ * from d̂, refined on the exact pattern). Most beams' total pattern is highest at d̂'s own
+ * cell (it is at least as high as its 8 neighbours): their peak is within half a cell (an
+ * eighth of the beamwidth) of d̂, where the array factor is down by a small fraction of a
+ * dB, and they are not examined further. A planar array's ideal |AF|² at a cell offset
+ * does not depend on the beam, so it is evaluated once per frequency and offset, and only
+ * the element pattern per beam (the same numbers as evaluating the total pattern anew).
+ * Frequencies whose grid is past the analysis limit are skipped (check warns about them
+ * already); the work is bounded by PREDICT_ELEMENT_EVALUATIONS.
  */
-export function predictPulls(plan: Plan, skip: (fi: number) => boolean = () => false): BeamPull[] {
+export function predictPulls(plan: Plan, skip: (fi: number) => boolean = () => false, budget = PREDICT_ELEMENT_EVALUATIONS): PullPrediction {
   const out: BeamPull[] = [];
-  if (!plan.element) return out;
+  const nb = plan.beams.count;
+  const total = nb * plan.frequenciesHz.length;
+  if (!plan.element) return { pulls: out, examined: total, total };
+  const n = plan.elements.count;
+  let work = 0;
+  let examined = 0;
   for (let fi = 0; fi < plan.frequenciesHz.length; fi++) {
-    if (skip(fi)) continue;
+    if (skip(fi)) {
+      examined += nb;
+      continue;
+    }
     const { du, dv } = gridShape(plan, fi);
     const ev = idealEvaluator(plan, fi);
-    for (let b = 0; b < plan.beams.count; b++) {
+    const element = ev.element!;
+    // planar: |F|² at cell (m, n) for every beam; non-planar: the evaluator's total pattern
+    const af = new Map<number, number>();
+    const afAt = (m: number, k: number): number => {
+      const key = m * 67108864 + k;
+      let a = af.get(key);
+      if (a === undefined) {
+        const f = ev.field(m * du, k * dv);
+        af.set(key, (a = f[0] * f[0] + f[1] * f[1]));
+      }
+      return a;
+    };
+    const power = ev.planar ? (m: number, k: number) => afAt(m, k) * element.power(ev.u0 + m * du, ev.v0 + k * dv) : (m: number, k: number) => ev.power(m * du, k * dv);
+    // d̂'s cell and its 8 neighbours, which every beam looks at
+    const near = ev.planar ? Float64Array.from({ length: 9 }, (_, q) => afAt((q % 3) - 1, Math.floor(q / 3) - 1)) : null;
+    const home = near ? (m: number, k: number) => near[(k + 1) * 3 + m + 1]! * element.power(ev.u0 + m * du, ev.v0 + k * dv) : power;
+    for (let b = 0; b < nb; b++) {
+      if (work > budget) return { pulls: out, examined, total };
+      examined++;
       const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
       ev.setBeam(u0, v0, w0);
-      // most beams' total pattern is highest at d̂'s own cell (9 evaluations): their peak is within half a
-      // cell (an eighth of the beamwidth) of d̂, where the array factor is down by a small fraction of a dB
-      if (staysAtHome(ev, du, dv)) continue;
-      const r = peakOnDemand(ev, du, dv, u0, v0);
+      if (!ev.planar) work += 9 * (n + CALL_OVERHEAD);
+      if (staysAtHome(ev, home)) continue;
+      work += CLIMB_EVALUATIONS * (n + CALL_OVERHEAD);
+      const r = peakOnDemand(ev, du, dv, u0, v0, power);
       const drop = afDrop(ev, r.du, r.dv);
       const pu = u0 + r.du, pv = v0 + r.dv;
       if (drop > PULL_DROP_DB) out.push({ fi, beam: b, peakU: pu, peakV: pv, pointingDeg: angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) }), afDropDb: drop });
     }
   }
-  return out;
+  return { pulls: out, examined, total };
+}
+
+/** Whether the total pattern at d̂ (cell 0, 0) is at least as high as at its 8 neighbouring cells (the hill-climb's first step). */
+function staysAtHome(ev: AfEvaluator, power: (m: number, n: number) => number): boolean {
+  const p0 = power(0, 0);
+  for (let j = -1; j <= 1; j++)
+    for (let i = -1; i <= 1; i++) {
+      if (i === 0 && j === 0) continue;
+      if ((ev.lockU && i !== 0) || (ev.lockV && j !== 0)) continue;
+      if (power(i, j) > p0) return false;
+    }
+  return true;
+}
+
+/** When the work bound stopped the prediction: how far it got, and where the rest is judged. */
+export function predictionStoppedNote(p: PullPrediction): string {
+  return `the element pattern's pull was predicted for the first ${p.examined} of ${p.total} beam(s) only (a bound on check's work, PREDICT_ELEMENT_EVALUATIONS); build judges every realized peak and warns about pulled beams there`;
 }
 
 /**
