@@ -9,6 +9,7 @@ import { join } from "node:path";
 import { constants as bufferConstants } from "node:buffer";
 import { InputError, type Problem } from "../core/errors.js";
 import { INPUT_COPY, SCENARIO_COPY, type Manifest } from "./build.js";
+import { MAX_MANIFEST_BYTES } from "./files.js";
 import { loadScenario, type InputRole, type LoadedScenario } from "./scenario.js";
 
 /**
@@ -18,7 +19,7 @@ import { loadScenario, type InputRole, type LoadedScenario } from "./scenario.js
  * checked with lstat (symbolic links are refused, not followed); the file must be a
  * regular file and is opened with O_NOFOLLOW and checked again on its descriptor.
  */
-export const MAX_MANIFEST_BYTES = 64 * 1024 * 1024;
+export { MAX_MANIFEST_BYTES };
 /** Largest file a build folder may hold (table.bin is at most 4 GiB; its text forms are larger). */
 export const MAX_FOLDER_FILE_BYTES = 64 * 2 ** 30;
 
