@@ -23,6 +23,7 @@ import { toolVersion } from "./io/version.js";
 import { planCalibrationAt, type CalibrationServed } from "./core/calibrate/per-frequency.js";
 import type { Probe } from "./core/calibrate/contract.js";
 import { runCalibrate, type CalibrateOptions, type CalibrateResult } from "./workflows/calibrate.js";
+import { availableParallelism } from "node:os";
 
 export { InputError, formatProblem };
 export type { Problem, Manifest, DiffResult, VerifyResult, Theory };
@@ -209,6 +210,21 @@ export function theory(s: Scenario): Theory {
   return theoryFor(s.loaded.plan);
 }
 
+/** The most analysis threads asked for, as `--jobs` takes them (src/cli/commands.ts `jobsOption`). */
+const MAX_JOBS = 256;
+
+/**
+ * `jobs` as the command line takes `--jobs`: a whole number from 1 to 256, more than the
+ * cores only compete for them and are cut to the number of cores (silently: the library
+ * writes nothing to the console).
+ */
+function jobsArg(jobs: unknown): number {
+  // 0, −3, NaN and 1e9 were taken (one thread, or up to 1e9 − 1 workers allowed); 1.5 failed deep inside with a RangeError
+  if (jobs === undefined) return 1;
+  if (typeof jobs !== "number" || !Number.isInteger(jobs) || jobs < 1 || jobs > MAX_JOBS) throw new InputError({ message: `jobs ${typeof jobs === "string" ? JSON.stringify(jobs) : String(jobs)}: expected a whole number from 1 to ${MAX_JOBS} (the most threads for the analysis, this one included)` });
+  return Math.min(jobs, availableParallelism());
+}
+
 export interface BuildOptions {
   /** Write beams.csv (default true). */
   analysis?: boolean;
@@ -223,8 +239,9 @@ export interface BuildOptions {
  * place; an existing folder is replaced only when it is an earlier steercode build.
  */
 export async function build(s: Scenario, outDir: string, opts: BuildOptions = {}): Promise<{ dir: string; manifest: Manifest }> {
+  const jobs = jobsArg(opts?.jobs);
   checkTarget(outDir, "build");
-  const r = await runBuild(s.loaded, outDir, { analysis: opts.analysis ?? true, jobs: opts.jobs ?? 1, ...(opts.onProgress ? { onProgress: opts.onProgress } : {}) });
+  const r = await runBuild(s.loaded, outDir, { analysis: opts.analysis ?? true, jobs, ...(opts.onProgress ? { onProgress: opts.onProgress } : {}) });
   return { dir: r.dir, manifest: r.manifest };
 }
 
@@ -239,7 +256,7 @@ export function diffBuilds(dirA: string, dirB: string): DiffResult {
  * and compared byte for byte; `ok` is false on any mismatch.
  */
 export async function verifyBuild(dir: string, opts: { jobs?: number } = {}): Promise<VerifyResult> {
-  return verifyBuildFolder(dir, { jobs: opts.jobs ?? 1 });
+  return verifyBuildFolder(dir, { jobs: jobsArg(opts?.jobs) });
 }
 
 /** The package's version. */

@@ -1,11 +1,18 @@
 import { mkdtempSync, writeFileSync, mkdirSync } from "node:fs";
-import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { spawnSync } from "node:child_process";
+import { inject } from "vitest";
+import { RUN_ROOT_KEY } from "./run-root.js";
 import { loadScenario, type LoadedScenario } from "../src/io/scenario.js";
 
+/**
+ * A fresh folder inside the test run's folder (made by the global set-up, removed by its
+ * teardown with everything in it): a test needs not clean up after itself.
+ */
 export function tempDir(prefix = "steercode-test-"): string {
-  return mkdtempSync(join(tmpdir(), prefix));
+  const root = inject(RUN_ROOT_KEY);
+  if (!root) throw new Error("tempDir: no test run folder; run the tests with vitest (vitest.config.ts's globalSetup makes it)");
+  return mkdtempSync(join(root, prefix));
 }
 
 /** A minimal valid scenario; override any top-level key. */

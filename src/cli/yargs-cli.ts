@@ -20,6 +20,7 @@ export function closest(word: string, known: readonly string[]): string | null {
   return best && bestD <= Math.max(1, Math.floor(word.length / 3)) ? best : null;
 }
 
+const COMPLETION_DESCRIBE = "print a bash/zsh completion script (add `steercode completion >> ~/.bashrc`); takes no arguments";
 const dash = (o: string) => (o.length === 1 ? "-" : "--") + o;
 const GLOBAL_OPTIONS = ["help", "version", "json"];
 
@@ -69,6 +70,16 @@ function builder(spec: CommandSpec) {
  */
 export async function runYargs(argv: string[], io: Io, main: (argv: string[]) => Promise<number>, runner?: (spec: CommandSpec, a: Record<string, unknown>) => Promise<number>): Promise<number> {
   let code = 0;
+  if (argv.find((x) => !x.startsWith("-")) === "completion" && !argv.includes("--get-yargs-completions")) {
+    // yargs printed the script for `completion foo` (and then exit 2), and for `completion -h` instead of help
+    const rest = argv.slice(argv.indexOf("completion") + 1).concat(argv.slice(0, argv.indexOf("completion")));
+    const extra = rest.filter((x) => x !== "--json" && x !== "-h" && x !== "--help");
+    if (extra.length) throw new UsageError(`completion takes no arguments, got ${extra.join(" ")}; usage: steercode completion >> ~/.bashrc (prints a bash/zsh completion script)`);
+    if (rest.includes("-h") || rest.includes("--help")) {
+      process.stdout.write(`steercode completion\n\n${COMPLETION_DESCRIBE}\n\nExamples:\n  steercode completion >> ~/.bashrc  add steercode's completion to bash\n`);
+      return 0;
+    }
+  }
   let parser = yargs(argv)
     .scriptName("steercode")
     .usage("$0 <command> [options]\n\nBeam tables for phased-array firmware.");
@@ -101,7 +112,7 @@ export async function runYargs(argv: string[], io: Io, main: (argv: string[]) =>
     });
   }
   parser = parser
-    .completion("completion", "print a bash/zsh completion script (add `steercode completion >> ~/.bashrc`)")
+    .completion("completion", COMPLETION_DESCRIBE)
     .demandCommand(1, `expected a command: ${COMMANDS.join(", ")}`)
     .recommendCommands()
     .strict()

@@ -8,7 +8,7 @@ import { join } from "node:path";
 import { TableRun, type FrequencySummary } from "../core/engine.js";
 import { setImmediate as yieldNow } from "node:timers/promises";
 import { enabledCount, type Plan } from "../core/plan.js";
-import type { LoadedScenario, InputRole } from "./scenario.js";
+import { INPUT_COPY, type LoadedScenario, type InputRole } from "./scenario.js";
 import { isSystemError, StagedDir, writeProblem } from "./outdir.js";
 import { makeWriters, openHashedFile, TABLE_FILES, type OpenSink } from "./tables.js";
 import type { FileDigest } from "./hashed.js";
@@ -31,15 +31,7 @@ import { deviceManifest, type DeviceManifest } from "../workflows/devices.js";
 export { stableJson } from "./json.js";
 import { stableJson } from "./json.js";
 
-export const INPUT_COPY: Record<InputRole, string> = {
-  elements: "inputs/elements.csv",
-  calibration: "inputs/calibration.csv",
-  beams: "inputs/beams.csv",
-  phaseStates: "inputs/phase-states.csv",
-  attenStates: "inputs/atten-states.csv",
-  element: "inputs/element.csv",
-  deviceMap: "inputs/devices.csv",
-};
+export { INPUT_COPY };
 export const SCENARIO_COPY = "inputs/scenario.json";
 
 export interface ManifestFile {

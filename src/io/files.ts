@@ -30,6 +30,8 @@ export function sha256(data: Buffer | string): string {
 /** Largest scenario file, and largest CSV input, in bytes. */
 export const MAX_SCENARIO_BYTES = 1024 * 1024;
 export const MAX_CSV_BYTES = 64 * 1024 * 1024;
+/** A build folder's manifest.json (readbuild.ts; scenario.ts for a scenario read from a build's inputs/). */
+export const MAX_MANIFEST_BYTES = 64 * 1024 * 1024;
 
 /** Paths that name a descriptor the shell opened for us (a pipe here is not a named FIFO). */
 const OPEN_DESCRIPTOR_RE = /^\/(?:dev\/(?:stdin|fd\/(\d+))|proc\/self\/fd\/(\d+))$/;

@@ -318,7 +318,17 @@ export class StagedDir {
         try {
           renameSync(this.tmp, abs);
         } catch (e) {
-          if (old) renameSync(old, abs); // put the earlier output back
+          if (old) {
+            try {
+              renameSync(old, abs); // put the earlier output back
+            } catch (back) {
+              // another build's output arrived between our two renames: the earlier output is
+              // superseded, drop it (it was left beside the target: test/io/outdir-race.test.ts), then retry
+              const c = (back as NodeJS.ErrnoException).code;
+              if (c !== "ENOTEMPTY" && c !== "EEXIST") throw back;
+              rmSync(old, { recursive: true, force: true });
+            }
+          }
           throw e;
         }
       } catch (e) {

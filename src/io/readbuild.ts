@@ -8,7 +8,10 @@ import { closeSync, constants, fstatSync, lstatSync, openSync, readSync, statSyn
 import { join } from "node:path";
 import { constants as bufferConstants } from "node:buffer";
 import { InputError, type Problem } from "../core/errors.js";
-import { INPUT_COPY, SCENARIO_COPY, type Manifest } from "./build.js";
+import { INPUT_COPY, makeManifest, SCENARIO_COPY, type Manifest } from "./build.js";
+import { firstDifference } from "./json-diff.js";
+import { prepareFrequency } from "../core/quantize/index.js";
+import { MAX_MANIFEST_BYTES } from "./files.js";
 import { loadScenario, type InputRole, type LoadedScenario } from "./scenario.js";
 
 /**
@@ -18,7 +21,7 @@ import { loadScenario, type InputRole, type LoadedScenario } from "./scenario.js
  * checked with lstat (symbolic links are refused, not followed); the file must be a
  * regular file and is opened with O_NOFOLLOW and checked again on its descriptor.
  */
-export const MAX_MANIFEST_BYTES = 64 * 1024 * 1024;
+export { MAX_MANIFEST_BYTES };
 /** Largest file a build folder may hold (table.bin is at most 4 GiB; its text forms are larger). */
 export const MAX_FOLDER_FILE_BYTES = 64 * 2 ** 30;
 
@@ -280,4 +283,37 @@ export function loadBuildScenario(dir: string, m: Manifest): LoadedScenario {
   }
   const sc = folderEntry(dir, SCENARIO_COPY);
   return loadScenario(sc.path, { resolveRef: (ref) => copies.get(ref) ?? join(dir, "inputs", "missing-" + ref.replace(/[\\/]/g, "_")), displayName: join(dir, SCENARIO_COPY) });
+}
+
+/**
+ * Where manifest.json disagrees with what the recorded inputs say, or null: every field
+ * that follows from `inputs/` alone (name, scenario and input hashes and sizes, counts,
+ * element ids, frequencies, layout, parts, taper, quantizer, calibration, G_ref). `report`
+ * draws its page from the recorded inputs and prints a few manifest values beside them; a
+ * manifest edited after the build (7 beams where the inputs give 133, another layout, a
+ * forged calibration hash) was reported as if it belonged there. Not checked here (verify's
+ * job, which regenerates every file): the clip counts and everything about the output files.
+ */
+export function manifestInputsDisagreement(dir: string, m: Manifest, loaded: LoadedScenario): Problem | null {
+  const plan = loaded.plan;
+  const recorded = m.perFrequency as unknown[];
+  const perFrequency = Array.from(plan.frequenciesHz, (_, fi) => {
+    const p = prepareFrequency(plan, fi);
+    const r = recorded[fi] as { clipped?: unknown } | undefined;
+    return { gRefDb: p.gRefDb, gRefElement: p.gRefElement, clipped: r?.clipped as number };
+  });
+  const copies: Manifest["files"] = {};
+  for (const i of loaded.inputs) copies[INPUT_COPY[i.role]] = { bytes: i.file.bytes.length, sha256: i.file.sha256 };
+  copies[SCENARIO_COPY] = { bytes: loaded.scenario.bytes.length, sha256: loaded.scenario.sha256 };
+  const expected = makeManifest(loaded, m.scenario.source, perFrequency, copies, m.analysis) as unknown as Record<string, unknown>;
+  const found = m as unknown as Record<string, unknown>;
+  const pointerPart = (k: string) => k.replace(/~/g, "~0").replace(/\//g, "~1");
+  let d: ReturnType<typeof firstDifference> = null;
+  for (const k of Object.keys(expected).sort()) {
+    if (k === "tool" || k === "files") continue;
+    d ??= firstDifference(expected[k], found[k], `/${pointerPart(k)}`);
+  }
+  for (const k of Object.keys(copies).sort()) d ??= firstDifference(copies[k], m.files[k], `/files/${pointerPart(k)}`);
+  if (!d) return null;
+  return { file: join(dir, "manifest.json"), pointer: d.pointer, message: `says ${d.found}, the recorded inputs (${SCENARIO_COPY} and its input copies) give ${d.expected}: the folder was changed after the build; run steercode verify on it` };
 }

@@ -3,7 +3,8 @@
  * Every problem is collected and reported at once (InputError), each naming the
  * file and the JSON pointer or CSV line.
  */
-import { dirname, isAbsolute, resolve } from "node:path";
+import { lstatSync } from "node:fs";
+import { basename, dirname, isAbsolute, join, resolve } from "node:path";
 import { axisCount, makeBeamSet, type AxisSpec, type BeamSpec } from "../core/beams.js";
 import { InputError, type Problem } from "../core/errors.js";
 import { D, type Dec } from "../core/exact.js";
@@ -17,7 +18,7 @@ import { C_EXACT, parseQuantity, type QuantityKind } from "../core/units.js";
 import { checkLayout, wordBytes, type WordLayout } from "../core/words.js";
 import { numberCell, readCsv, type CsvRow, type CsvTable } from "./csv.js";
 import { calibrationAt, type CalibrationServed, type CalibrationTable } from "../core/calibrate/per-frequency.js";
-import { MAX_SCENARIO_BYTES, readInput, type InputFile } from "./files.js";
+import { MAX_MANIFEST_BYTES, MAX_SCENARIO_BYTES, readInput, type InputFile } from "./files.js";
 import { JsonError, parseJsonStrict, type RoundedNumber } from "./jsonparse.js";
 import { ProblemList } from "./problems.js";
 import { validateScenarioJson } from "./schema.js";
@@ -76,7 +77,62 @@ const POSITION = { min: -MAX_LENGTH_M, max: MAX_LENGTH_M };
 const PHASE = { min: -MAX_PHASE_DEG, max: MAX_PHASE_DEG };
 const GAIN = { min: -MAX_GAIN_DB, max: MAX_GAIN_DB };
 
-export function loadScenario(path: string, opts: LoadOptions = {}): LoadedScenario {
+/** Where a build folder keeps its copy of each input file (fixed names: README "What verify checks"). */
+export const INPUT_COPY: Record<InputRole, string> = {
+  elements: "inputs/elements.csv",
+  calibration: "inputs/calibration.csv",
+  beams: "inputs/beams.csv",
+  phaseStates: "inputs/phase-states.csv",
+  attenStates: "inputs/atten-states.csv",
+  element: "inputs/element.csv",
+  deviceMap: "inputs/devices.csv",
+};
+
+/**
+ * A scenario read from a build folder's `inputs/` (the folder holding it is named
+ * `inputs` and the one above holds a steercode manifest.json): each file reference the
+ * manifest lists (`inputs[k].ref`) maps to its stored copy (`inputs/<role>.csv`), so that
+ * `build B/inputs/scenario.json` rebuilds B (its scenario says `"calibration": "cal.csv"`,
+ * stored as inputs/calibration.csv: that rebuild was "cal.csv: file not found").
+ * Null when the scenario is not in a build folder; references the manifest does not list
+ * resolve as usual, next to the scenario.
+ */
+function recordedCopies(path: string): Map<string, string> | null {
+  const inputs = dirname(resolve(path));
+  if (basename(inputs) !== "inputs") return null;
+  const folder = dirname(inputs);
+  const mp = join(folder, "manifest.json");
+  try {
+    if (!lstatSync(mp).isFile()) return null;
+  } catch {
+    return null;
+  }
+  const problems: Problem[] = [];
+  const f = readInput(mp, mp, problems, undefined, MAX_MANIFEST_BYTES);
+  if (!f) throw new InputError(problems);
+  let m: { format?: unknown; inputs?: unknown };
+  try {
+    m = JSON.parse(f.text) as typeof m;
+  } catch {
+    return null; // not a build's manifest
+  }
+  if (typeof m !== "object" || m === null || m.format !== "steercode-manifest/1") return null;
+  if (!Array.isArray(m.inputs)) throw new InputError({ file: mp, pointer: "/inputs", message: "expected a list of the copied input files (the scenario is read from this build folder's inputs/)" });
+  const copies = new Map<string, string>();
+  (m.inputs as unknown[]).forEach((i, k) => {
+    const e = (typeof i === "object" && i !== null ? i : {}) as { role?: unknown; ref?: unknown; copy?: unknown };
+    const role = typeof e.role === "string" && Object.hasOwn(INPUT_COPY, e.role) ? (e.role as InputRole) : null;
+    if (!role || e.copy !== INPUT_COPY[role] || typeof e.ref !== "string") problems.push({ file: mp, pointer: `/inputs/${k}`, message: `expected { role, ref, copy } with copy inputs/<role>.csv (${Object.values(INPUT_COPY).join(", ")})` });
+    else copies.set(e.ref, join(folder, INPUT_COPY[role]));
+  });
+  if (problems.length) throw new InputError(problems);
+  return copies;
+}
+
+export function loadScenario(path: string, givenOpts: LoadOptions = {}): LoadedScenario {
+  const recorded = givenOpts.resolveRef ? null : recordedCopies(path);
+  const here = dirname(path);
+  const opts: LoadOptions = recorded ? { ...givenOpts, resolveRef: (ref) => recorded.get(ref) ?? (isAbsolute(ref) ? ref : resolve(here, ref)) } : givenOpts;
   const display = opts.displayName ?? path;
   const problems: Problem[] = [];
   const scenario = readInput(path, display, problems, undefined, MAX_SCENARIO_BYTES);

@@ -25,6 +25,7 @@ import { crc32 } from "node:zlib";
 import { InputError } from "../core/errors.js";
 import { frequencyText, hex32, INPUT_COPY, produceOutputs, SCENARIO_COPY, stableJson, type BeamCursor, type Manifest, type Produced } from "./build.js";
 import type { FileDigest } from "./hashed.js";
+import { firstDifference } from "./json-diff.js";
 import { folderEntry, loadBuildScenario, openFolderFile, readFolderFile, readManifest, MAX_FOLDER_FILE_BYTES, MAX_MANIFEST_BYTES, type FolderEntry } from "./readbuild.js";
 import type { LoadedScenario } from "./scenario.js";
 import { TABLE_FILES, type ByteSink, type OpenSink } from "./tables.js";
@@ -339,33 +340,7 @@ function hashFolderFile(entry: FolderEntry, limit: number): { bytes: number; sha
 
 // ---- the manifest -----------------------------------------------------------------------
 
-function pointerPart(k: string): string {
-  return k.replace(/~/g, "~0").replace(/\//g, "~1");
-}
-
-function show(v: unknown): string {
-  return v === undefined ? "(absent)" : clip(JSON.stringify(v) ?? String(v));
-}
-
-/** JSON pointer of the first value where two documents differ (keys in sorted order, as written). */
-export function firstDifference(a: unknown, b: unknown, ptr = ""): { pointer: string; expected: string; found: string } | null {
-  if (Object.is(a, b)) return null;
-  const obj = (x: unknown) => typeof x === "object" && x !== null;
-  if (!obj(a) || !obj(b) || Array.isArray(a) !== Array.isArray(b)) return { pointer: ptr || "/", expected: show(a), found: show(b) };
-  if (Array.isArray(a) && Array.isArray(b)) {
-    for (let i = 0; i < Math.max(a.length, b.length); i++) {
-      const d = firstDifference(a[i], b[i], `${ptr}/${i}`);
-      if (d) return d;
-    }
-    return null;
-  }
-  const ao = a as Record<string, unknown>, bo = b as Record<string, unknown>;
-  for (const k of [...new Set([...Object.keys(ao), ...Object.keys(bo)])].sort()) {
-    const d = firstDifference(ao[k], bo[k], `${ptr}/${pointerPart(k)}`);
-    if (d) return d;
-  }
-  return null;
-}
+export { firstDifference };
 
 function compareManifest(dir: string, expectedText: string): Mismatch | null {
   const actual = readFolderFile(dir, "manifest.json", MAX_MANIFEST_BYTES)!;

@@ -16,7 +16,7 @@ import { parse } from "csv-parse/sync";
 import { InputError } from "../core/errors.js";
 import type { Plan } from "../core/plan.js";
 import type { BandReport, Manifest } from "../io/build.js";
-import { checkFolder, folderEntry, loadBuildScenario, openFolderFile, readFolderFile, readManifest } from "../io/readbuild.js";
+import { checkFolder, folderEntry, loadBuildScenario, manifestInputsDisagreement, openFolderFile, readFolderFile, readManifest } from "../io/readbuild.js";
 import { enabledCount } from "../core/plan.js";
 
 /** Largest files the report reads from a folder (a 1 M-beam beams.csv is ~150 MB). */
@@ -116,6 +116,9 @@ interface BuildPart {
 
 function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   const loaded = loadBuildScenario(dir, m);
+  // the page comes from the recorded inputs: a manifest that says otherwise is a folder changed after the build
+  const disagreement = manifestInputsDisagreement(dir, m, loaded);
+  if (disagreement) throw new InputError(disagreement);
   const plan = loaded.plan;
   // the page runs the analysis engine: refuse a scenario whose analysis grid is past its limit
   refuseOversizedAnalysis(plan, dir, { band: false });

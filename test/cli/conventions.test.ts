@@ -81,6 +81,27 @@ describe("completion", () => {
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/complete .*steercode/);
   });
+
+  // `completion foo` printed the whole script on stdout and then exit 2 ("unknown argument foo");
+  // `completion -h` and `help completion` printed the script instead of help
+  it("takes no arguments: anything after it is exit 2 with nothing on stdout; -h is its help", () => {
+    for (const extra of [["foo"], ["bash"], ["--foo"], ["foo", "bar"], ["--shell", "zsh"]]) {
+      const r = cli(["completion", ...extra]);
+      expect(r.code, extra.join(" ")).toBe(2);
+      expect(r.stdout, extra.join(" ")).toBe("");
+      expect(r.stderr).toContain(`completion takes no arguments, got ${extra.join(" ")}`);
+    }
+    for (const h of [["completion", "-h"], ["completion", "--help"], ["help", "completion"]]) {
+      const r = cli(h);
+      expect(r.code).toBe(0);
+      expect(r.stdout).toMatch(/^steercode completion\n/);
+      expect(r.stdout).not.toMatch(/complete .*steercode/);
+    }
+    // the script's own call back into steercode still completes
+    const c = cli(["--get-yargs-completions", "steercode", "bu"]);
+    expect(c.code).toBe(0);
+    expect(c.stdout.split("\n")).toContain("build");
+  });
 });
 
 describe("report --frequency and build --compare", () => {

@@ -4,10 +4,10 @@
  * (The global set-up has already compiled dist/.)
  */
 import { execFileSync } from "node:child_process";
-import { mkdirSync, readFileSync, writeFileSync } from "node:fs";
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
-import { tempDir } from "../helpers.js";
+import { baseScenario, tempDir, writeScenario } from "../helpers.js";
 
 const ROOT = join(import.meta.dirname, "..", "..");
 
@@ -120,5 +120,23 @@ describe("library API", () => {
     expect(() => lib.calibrate({ ...base, method: "zzz" as never, probe: { kind: "far", azDeg: 0, elDeg: 0 } })).toThrow(/method zzz: expected "rev" or "field"/);
     expect(() => lib.calibrate({ ...base, method: "rev", probe: { kind: "near", x: NaN, y: 0, z: 1 } })).toThrow(lib.InputError);
     expect(() => lib.calibrate({ ...base, method: "rev", probe: { kind: "far", azDeg: 200, elDeg: 0 } })).toThrow(/expected \|az\| and \|el\| ≤ 90 degrees/);
+  });
+
+  // build() and verifyBuild() took jobs 0, −3, NaN and 1e9 (one thread, or up to 1e9 − 1 workers allowed) and
+  // failed on 1.5 with a RangeError from deep inside the analysis pool; --jobs takes a whole number from 1 to 256
+  it("build and verifyBuild refuse jobs that --jobs would refuse, before writing anything", async () => {
+    const lib = await import("../../src/index.js");
+    const s = lib.loadScenario(writeScenario(baseScenario()));
+    const t = tempDir();
+    for (const jobs of [0, -3, NaN, Infinity, 1.5, 257, 1e9, "2" as never]) {
+      const out = join(t, `out-${String(jobs)}`);
+      await expect(lib.build(s, out, { jobs })).rejects.toThrow(lib.InputError);
+      await expect(lib.build(s, out, { jobs })).rejects.toThrow(/jobs .*: expected a whole number from 1 to 256/);
+      expect(existsSync(out)).toBe(false);
+    }
+    const ok = join(t, "ok");
+    await lib.build(s, ok, { jobs: 256 }); // more than the cores: cut to the cores, as --jobs is
+    expect((await lib.verifyBuild(ok, { jobs: 1 })).ok).toBe(true);
+    for (const jobs of [0, NaN, 2.5]) await expect(lib.verifyBuild(ok, { jobs })).rejects.toThrow(/jobs .*: expected a whole number from 1 to 256/);
   });
 });

@@ -168,6 +168,74 @@ describe("recalibration loop: build, change calibration, build --compare, diff, 
   });
 });
 
+/** Every file below `dir`, relative, with its bytes. */
+function folderFiles(dir: string): Map<string, Buffer> {
+  const out = new Map<string, Buffer>();
+  for (const e of readdirSync(dir, { recursive: true, withFileTypes: true })) if (e.isFile()) {
+    const abs = join(e.parentPath, e.name);
+    out.set(abs.slice(dir.length + 1), readFileSync(abs));
+  }
+  return out;
+}
+
+// `build B/inputs/scenario.json` was exit 2, "cal.csv: /calibration: file not found (B/inputs/cal.csv)":
+// the demo's scenario says "calibration": "cal.csv" and the build stores it as inputs/calibration.csv
+describe("rebuilding from a build's inputs/ (the loop closes on the recorded inputs)", () => {
+  const t = tempDir();
+  const demo = join(t, "demo");
+  cpSync(DEMO, demo, { recursive: true });
+  const b = join(t, "b");
+
+  it("build B/inputs/scenario.json gives B again, byte for byte (manifest included); verify and diff agree", () => {
+    expect(cli(["build", join(demo, "scenario.json"), "-o", b, "--no-analysis"]).code).toBe(0);
+    const r = join(t, "r");
+    const built = cli(["build", join(b, "inputs", "scenario.json"), "-o", r, "--no-analysis"]);
+    expect(built.stderr).toBe("");
+    expect(built.code).toBe(0);
+    const [fb, fr] = [folderFiles(b), folderFiles(r)];
+    expect([...fr.keys()].sort()).toEqual([...fb.keys()].sort());
+    for (const [k, v] of fb) expect(fr.get(k)!.equals(v), k).toBe(true);
+    expect(cli(["verify", r, "--jobs", "1"]).code).toBe(0);
+    const d = cli(["diff", b, r, "--json"]);
+    expect(d.code).toBe(0);
+    expect(JSON.parse(d.stdout).identical).toBe(true);
+  });
+
+  it("a calibration changed in the recorded inputs rebuilds as a fresh build of the changed scenario does", () => {
+    const b2 = join(t, "b2");
+    cpSync(b, b2, { recursive: true });
+    editCal(join(b2, "inputs", "calibration.csv"), [5, 6, 200], 7.5, 0);
+    const demo2 = join(t, "demo2");
+    cpSync(DEMO, demo2, { recursive: true });
+    editCal(join(demo2, "cal.csv"), [5, 6, 200], 7.5, 0);
+    const fresh = join(t, "fresh"), again = join(t, "again");
+    expect(cli(["build", join(demo2, "scenario.json"), "-o", fresh, "--no-analysis"]).code).toBe(0);
+    expect(cli(["build", join(b2, "inputs", "scenario.json"), "-o", again, "--no-analysis"]).code).toBe(0);
+    const [ff, fa] = [folderFiles(fresh), folderFiles(again)];
+    expect([...fa.keys()].sort()).toEqual([...ff.keys()].sort());
+    for (const [k, v] of ff) expect(fa.get(k)!.equals(v), k).toBe(true);
+    const d = cli(["diff", b, again, "--json"]);
+    expect(d.code).toBe(1);
+    expect(new Set((JSON.parse(d.stdout).changes as { element: number }[]).map((c) => c.element))).toEqual(new Set([5, 6, 200]));
+  });
+
+  it("a build folder whose manifest maps an input to another name is refused there (exit 2, nothing written); a folder named inputs without a manifest is read as usual", () => {
+    const b3 = join(t, "b3");
+    cpSync(b, b3, { recursive: true });
+    const m = JSON.parse(readFileSync(join(b3, "manifest.json"), "utf8"));
+    m.inputs[0].copy = "../../demo/cal.csv";
+    writeFileSync(join(b3, "manifest.json"), JSON.stringify(m));
+    const out = join(t, "r3");
+    const r = cli(["build", join(b3, "inputs", "scenario.json"), "-o", out, "--no-analysis"]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/manifest\.json: \/inputs\/0: expected \{ role, ref, copy \} with copy inputs\/<role>\.csv/);
+    expect(existsSync(out)).toBe(false);
+    const plain = join(t, "plain", "inputs");
+    cpSync(DEMO, plain, { recursive: true });
+    expect(cli(["build", join(plain, "scenario.json"), "-o", join(t, "r4"), "--no-analysis"]).code).toBe(0);
+  });
+});
+
 describe("faults: a build that dies midway leaves the previous output intact and nothing half-written", () => {
   const big = () => {
     const d = tempDir();

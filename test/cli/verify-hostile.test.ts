@@ -425,3 +425,48 @@ describe("report: nothing from the folder reaches the page unescaped", () => {
     expect(readFileSync(target, "utf8")).toBe("previous");
   });
 });
+
+// report drew its page from the recorded inputs and took a manifest that disagreed with them
+// (7 beams where the inputs give 3, another layout, a forged calibration hash, an edited
+// calibration copy with the hashes redone): exit 0 and a page. verify finds each (exit 1);
+// report now refuses the folder (exit 2) at the manifest's JSON pointer, writing nothing.
+describe("report on a folder whose manifest disagrees with its recorded inputs", () => {
+  const cases: [string, (d: string) => void, RegExp][] = [
+    ["a beam count", (d) => rehash(d, (m) => (m.counts.beams = 7)), /\/counts\/beams: says 7, the recorded inputs .* give 3\b/],
+    ["the word layout", (d) => rehash(d, (m) => (m.layout.bits = 12)), /\/layout\/bits: says 12, .* give 16\b/],
+    ["an element id", (d) => rehash(d, (m) => (m.elementIds[0] = 999)), /\/elementIds\/0: says 999, .* give 0\b/],
+    ["the frequencies", (d) => rehash(d, (m) => (m.frequenciesHz[1] = "11000000000")), /\/frequenciesHz\/1: says "11000000000"/],
+    ["G_ref", (d) => rehash(d, (m) => (m.perFrequency[0].gRefDb = -99)), /\/perFrequency\/0\/gRefDb: says -99/],
+    ["the calibration's hash", (d) => rehash(d, (m) => (m.calibration.sha256 = "0".repeat(64))), /\/calibration\/sha256: says "0{64}"/],
+    ["the scenario's hash", (d) => rehash(d, (m) => (m.scenario.sha256 = "0".repeat(64))), /\/scenario\/sha256: says "0{64}"/],
+    [
+      "the calibration copy, edited, every hash redone but the manifest's calibration record",
+      (d) => {
+        const p = join(d, "inputs", "calibration.csv");
+        writeFileSync(p, readFileSync(p, "utf8").replace("\n3,", "\n3,1"));
+        rehash(d);
+      },
+      /\/calibration\/sha256: says "[0-9a-f]{64}", the recorded inputs .* give "[0-9a-f]{64}"/,
+    ],
+  ];
+  for (const [what, forge, re] of cases)
+    it(`${what}: verify exit 1, report exit 2 naming manifest.json and the pointer, nothing written`, () => {
+      const d = copy(`disagree-${what.split(" ")[1]}-${what.length}`);
+      forge(d);
+      const v = cli(["verify", d, "--jobs", "1", "--json"]);
+      expect(v.code, v.stderr).toBe(1);
+      const out = join(d, "r.html");
+      const r = cli(["report", d, "-o", out]);
+      expect(r.code, r.stderr).toBe(2);
+      expect(r.stderr).toMatch(/manifest\.json: /);
+      expect(r.stderr).toMatch(re);
+      expect(r.stderr).toMatch(/run steercode verify on it/);
+      expect(existsSync(out)).toBe(false);
+    });
+
+  it("the unchanged folder still reports (exit 0)", () => {
+    const d = copy("disagree-none");
+    const r = cli(["report", d, "-o", join(d, "r.html")]);
+    expect(r.code, r.stderr).toBe(0);
+  });
+});
