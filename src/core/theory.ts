@@ -99,18 +99,19 @@ interface AttenFacts {
   /** Σ over the unclipped enabled elements (all frequencies) of the actual rounding error² (A_n − q_n·step)², dB² */
   roundSq: number;
   /**
-   * Σ a_n² over the elements with a rounding error (unclipped, off the step grid) over
-   * Σ a_n² over all enabled ones (taper amplitudes, all frequencies): the share of the
-   * array's power that carries the attenuator's random rounding error
+   * Σ a_n²·ε_n² over the unclipped elements over Σ a_n² over all enabled ones (taper
+   * amplitudes, all frequencies), ε_n = 10^((A_n − q_n·step)/20) − 1 the actual relative
+   * amplitude error of the rounding: the a²-weighted mean square of the attenuator's
+   * rounding error (whole steps add nothing; clipped elements are left out, see the floor)
    */
-  roundedPowerShare: number;
+  roundingErrorPower: number;
 }
 
 function attenFacts(plan: Plan): AttenFacts {
   const el = plan.elements;
   const maxCode = 2 ** plan.attenBits - 1;
   const range = maxCode * plan.attenStepDb;
-  let gain = 0, n = 0, clipped = 0, clipSq = 0, rounded = 0, offGrid = 0, a2 = 0, a2Rounded = 0, roundSq = 0;
+  let gain = 0, n = 0, clipped = 0, clipSq = 0, rounded = 0, offGrid = 0, a2 = 0, a2Err = 0, roundSq = 0;
   for (let fi = 0; fi < plan.frequenciesHz.length; fi++) {
     const prep = prepareFrequency(plan, fi);
     let sr = 0, si = 0;
@@ -132,16 +133,14 @@ function attenFacts(plan: Plan): AttenFacts {
       } else {
         rounded++;
         roundSq += e * e;
+        a2Err += amp * amp * (Math.pow(10, e / 20) - 1) ** 2;
         const t = a / plan.attenStepDb;
-        if (Math.abs(t - Math.round(t)) > 1e-9) {
-          offGrid++;
-          a2Rounded += amp * amp;
-        }
+        if (Math.abs(t - Math.round(t)) > 1e-9) offGrid++;
       }
     }
     gain += si > 0 ? -20 * Math.log10(sr / si) : 0;
   }
-  return { gainChangeDb: gain / Math.max(1, plan.frequenciesHz.length), n, clipped, clipSq, rounded, offGrid, roundSq, roundedPowerShare: a2 > 0 ? a2Rounded / a2 : 0 };
+  return { gainChangeDb: gain / Math.max(1, plan.frequenciesHz.length), n, clipped, clipSq, rounded, offGrid, roundSq, roundingErrorPower: a2 > 0 ? a2Err / a2 : 0 };
 }
 
 const na = (unit: string, note: string): TheoryValue => ({ value: null, unit, formula: "n/a", source: "n/a", note });
@@ -185,8 +184,7 @@ export function theoryFor(plan: Plan): Theory {
 
   // ---- attenuator
   let rmsAmpErrorDb: TheoryValue, attenGainChangeDb: TheoryValue;
-  let roundingVar = 0; // dB², the random-like part for the sidelobe floor
-  let roundedPowerShare = 0; // the share of Σa² that carries it (clipped and whole-step elements carry none)
+  let roundingErrorPower = 0; // the attenuator's part of the sidelobe floor (AttenFacts.roundingErrorPower)
   let clippedElements = 0;
   let clippingRms = 0;
   if (plan.attenStates) {
@@ -199,7 +197,7 @@ export function theoryFor(plan: Plan): Theory {
     attenGainChangeDb = na("dB", why);
   } else {
     const f = attenFacts(plan);
-    roundedPowerShare = f.roundedPowerShare;
+    roundingErrorPower = f.roundingErrorPower;
     clippedElements = f.clipped;
     clippingRms = f.n ? Math.sqrt(f.clipSq / f.n) : 0;
     const step = plan.attenStepDb;
@@ -223,7 +221,7 @@ export function theoryFor(plan: Plan): Theory {
       // beam-independent), so the estimate is the rms of the actual rounding errors A_n − q_n·step of the
       // unclipped elements beside the exact excess of the clipped ones. The uniform-error rule step/√12
       // holds only for those rounded elements, and only when their A_n spread over the step.
-      roundingVar = f.offGrid ? (step * step) / 12 : 0;
+      const roundingVar = f.offGrid ? (step * step) / 12 : 0;
       const total = f.n ? Math.sqrt((f.roundSq + f.clipSq) / f.n) : 0;
       const uniform = f.n ? Math.sqrt((f.offGrid * roundingVar + f.clipSq) / f.n) : 0;
       const roundingRms = f.rounded ? Math.sqrt(f.roundSq / f.rounded) : 0;
@@ -250,11 +248,12 @@ export function theoryFor(plan: Plan): Theory {
   if (rmsPhaseErrorDeg.value === null || measured) floor = na("dB", rmsPhaseErrorDeg.note ?? measuredWhy);
   else {
     const sigPhase = (rmsPhaseErrorDeg.value * Math.PI) / 180;
-    const sigAmp = (Math.sqrt(roundingVar) * Math.LN10) / 20; // relative amplitude error, small-error approximation
-    // derived: the floor is E|Σ a_n ε_n|²/|Σ a_n|² = Σ a_n² σ_n²/|Σ a_n|² = σ²/(η·N) with σ² the a²-weighted mean
-    // variance; only the elements that are rounded (not clipped, not on a whole step) carry the attenuator's part
-    const sigma2 = sigPhase ** 2 + sigAmp ** 2 * roundedPowerShare;
-    floor = { value: 10 * Math.log10(sigma2 / (eta * nEnabled)), unit: "dB", formula: "σ²/(η·N)", source: "Mailloux, ch. 7 (from memory); σ² = phase + attenuator-rounding error variance, the latter weighted by the share of Σa² of the rounded elements (derived: Σa_n²σ_n²/|Σa_n|²; clipping is a deterministic taper change, not a random error)" };
+    // derived: the floor is the error pattern's mean power over u-v space, E|Σ a_n ε_n|²/|Σ a_n|² =
+    // Σ a_n² σ_n²/|Σ a_n|²; the phase errors are random with variance σ_φ², the attenuator's rounding errors
+    // ε_n are known per element (ideal parts, beam-independent), so they enter as they are (an element on a
+    // whole step adds nothing); with equal variances this is σ²/(η·N)
+    const sigma2 = sigPhase ** 2 + roundingErrorPower;
+    floor = { value: 10 * Math.log10(sigma2 / (eta * nEnabled)), unit: "dB", formula: "σ²/(η·N)", source: "Mailloux, ch. 7 (from memory); σ² = phase error variance + the a²-weighted mean square of each element's actual attenuator rounding error (derived: Σa_n²σ_n²/|Σa_n|²; clipping is a deterministic taper change, not a random error)" };
   }
 
   return {
