@@ -24,7 +24,7 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
   checkTarget(args.out, "build");
   // the comparison's modules only for --compare
   if (args.compare) (await compareModules()).readManifest(args.compare);
-  // the analysis starts its workers itself, when the measured work pays for them (analysis-pool.ts)
+  // the analysis starts its workers itself (or takes those started with the command), when the work pays for them (analysis-pool.ts)
   return buildWith(io, args);
 }
 

@@ -48,7 +48,7 @@ export const GLOBAL: Record<string, OptionSpec> = {
 };
 
 /** --jobs N: the most threads for the analysis, the main thread included; how many run is measured (README). */
-const JOBS_OPTION: OptionSpec = { type: "number", default: availableParallelism(), describe: "most threads for the analysis, the main thread included (at most the number of cores); more start only when the measured work pays for them" };
+const JOBS_OPTION: OptionSpec = { type: "number", default: availableParallelism(), describe: "most threads for the analysis, the main thread included (at most the number of cores); more start only when the work pays for them" };
 
 export function jobsOption(raw: unknown): number {
   const jobs = Number(raw);
@@ -60,6 +60,11 @@ export function jobsOption(raw: unknown): number {
     return cores;
   }
   return jobs;
+}
+
+/** The analysis workers start with the command, so that their start overlaps the loading of the scenario (io/spare-workers.ts). */
+async function prestart(jobs: number): Promise<void> {
+  (await import("../io/spare-workers.js")).prestartWorkers(jobs - 1);
 }
 
 const SCENARIO: PositionalSpec = { name: "scenario", type: "string", demandOption: true, describe: "the scenario file (JSON, steercode-scenario/1)" };
@@ -112,6 +117,7 @@ export const COMMAND_SPECS: Record<string, CommandSpec> = {
     ],
     run: async (a, io) => {
       const jobs = jobsOption(a.jobs);
+      if (jobs > 1 && a.analysis !== false) await prestart(jobs);
       return (await import("./build.js")).buildCommand(io, { scenario: String(a.scenario), out: String(a.o), jobs, analysis: a.analysis !== false, compare: opt(a.compare) });
     },
   },
@@ -130,6 +136,7 @@ export const COMMAND_SPECS: Record<string, CommandSpec> = {
     examples: [["$0 sweep scenario.json --phase-bits 3..7 --atten-step 0.25,0.5,1", "every part over the whole grid: sweep.csv, sweep.json, sweep.svg"]],
     run: async (a, io) => {
       const jobs = jobsOption(a.jobs);
+      if (jobs > 1) await prestart(jobs);
       return (await import("./sweep.js")).sweepCommand(io, { scenario: String(a.scenario), out: String(a.o), phaseBits: String(a["phase-bits"]), attenStep: opt(a["atten-step"]), quantizer: opt(a.quantizer), jobs });
     },
   },

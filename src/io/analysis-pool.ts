@@ -4,7 +4,9 @@
  * metrics go straight into one shared Float64Array [frequency][beam][metric] (METRICS
  * numbers a beam: flat next to the tables). A failing worker rejects the whole analysis.
  *
- * How many threads: the main thread starts analysing at once and times its chunks; it
+ * How many threads: workers started with the command (`build`, `sweep`) take a job whose
+ * rough work is large (EARLY_WORK_MS) at once. Otherwise the main thread starts analysing
+ * at once and times its chunks; it
  * starts the workers (all N − 1 of them) only when the work left, at its measured cost
  * per beam, clearly exceeds what a worker costs before it is any use: starting a thread
  * and loading the modules (WORKER_START_MS) plus the set-up and warm-up the main thread
@@ -15,7 +17,7 @@
  * one thread. Any decision gives the same bytes (each beam is a pure function of the
  * plan and its index).
  */
-import { Worker } from "node:worker_threads";
+import type { Worker } from "node:worker_threads";
 import { setImmediate as yieldNow } from "node:timers/promises";
 import type { Plan } from "../core/plan.js";
 import type { CodeSource } from "../core/engine.js";
@@ -25,6 +27,7 @@ import { SQUINT_METRICS } from "../core/band.js";
 import { OptimizedQuantizer, OPT_FIELDS, writeReport } from "../core/quantize/optimized.js";
 import { analysisSizeProblem, MAX_ANALYSED_BEAMS } from "../core/pattern/grid.js";
 import { InputError } from "../core/errors.js";
+import { dropSpares, sparesWaiting, takeWorker } from "./spare-workers.js";
 
 /** Refuse (exit 2, before any work) an analysis whose grid would pass its stated size (grid.ts MAX_ANALYSIS_CELLS). */
 export function refuseOversizedAnalysis(plan: Plan, file: string, opts: { band?: boolean } = {}): void {
@@ -138,6 +141,28 @@ export function ringSource(ring: CodeRing, beams: number): CodeSource {
  * beams no faster than `--jobs 1` while burning 0.6 s more CPU.
  */
 export const WORKER_START_MS = 400;
+/**
+ * Workers started with the command (`build`, `sweep`: spare-workers.ts) are ready about
+ * when the analysis begins. They take the job at once when its rough warm work
+ * (roughWorkMs) is at least this, and are stopped otherwise, the measured decision then
+ * starting new ones if the work turns out to pay. Measured on the idle 2-core CI machine
+ * (2026-12-02, interleaved, medians of 3–7 whole builds, against deciding by measurement
+ * alone): 32×32 × 441 beams 475 → 435 ms, 16×16 × 4096 1069 → 822, 64×64 × 441 1290 →
+ * 944, 128×128 × 441 3324 → 2944, 64×64 × 4096 5883 → 5440; the demo (133 beams) and
+ * 16×16 × 441 the same within the spread. Taking the job at once at 16×16 × 441 (rough
+ * work 75 ms) was slower, 282 → 352 ms: two threads warming up at once, each with V8's
+ * compiler behind it, on two cores.
+ */
+export const EARLY_WORK_MS = 300;
+/**
+ * A rough warm analysis time (ms) for `beams` beams: 0.17 ms a beam at 256 elements, ×
+ * (N/256)^1.1 (warm costs on the ladder's 16² … 128² panels, DEVELOPERS.md "Analysis
+ * speed"). It only decides whether started workers take a job at once; an optimized
+ * quantizer or a band costs more, so their jobs are underestimated, never over.
+ */
+export function roughWorkMs(plan: Plan, beams: number): number {
+  return beams * 0.17 * Math.pow(plan.elements.count / 256, 1.1);
+}
 /** Workers start only when the work left is this many times what they cost to start. */
 export const SPAWN_MARGIN = 2;
 /** Chunks the main thread times before it decides (the first ones run cold). */
@@ -369,14 +394,6 @@ export interface AnalysisJob {
   readonly stats: { workers: number; workerBeams: number };
 }
 
-/** The worker: compiled JS in dist; from source (tests), a bootstrap that registers tsx first. */
-function makeWorker(): Worker {
-  if (!import.meta.url.endsWith(".ts")) return new Worker(new URL("./analysis-worker.js", import.meta.url));
-  const target = new URL("./analysis-worker.ts", import.meta.url).href;
-  const boot = `import("tsx/esm/api").then((t) => { t.register(); return import(${JSON.stringify(target)}); });`;
-  return new Worker(boot, { eval: true });
-}
-
 export interface StartOptions {
   failForTest?: boolean;
   variants?: Variant[];
@@ -424,8 +441,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   const workers: Worker[] = [];
   const exits: Promise<void>[] = [];
   let workerBeams = 0;
-  /** STEERCODE_DEBUG's timeline: when the workers were started, and what each reported at its end */
-  let spawnAt = 0;
+  /** STEERCODE_DEBUG's timeline: what each worker reported at its end */
   const workerLog: string[] = [];
   let failure: unknown = null;
   let failed: (e: unknown) => void = () => {};
@@ -441,9 +457,8 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   const spawn = () => {
     spawned = true;
     spawnedAfter = timing.chunks;
-    spawnAt = performance.timeOrigin + performance.now();
     for (let k = 0; k < cap; k++) {
-      const w = makeWorker();
+      const { worker: w, startedAt } = takeWorker();
       workers.push(w);
       w.postMessage({ plan, shared, self: k + 1, failForTest: !!opts.failForTest });
       exits.push(
@@ -456,7 +471,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
             }
             if (m.error !== undefined) fail(new Error(`analysis worker failed: ${m.error}`));
             if (m.done !== undefined) {
-              const at = (t: number | undefined) => (t ? `${(t - spawnAt).toFixed(0)} ms` : "never");
+              const at = (t: number | undefined) => (t ? `${(t - startedAt).toFixed(0)} ms` : "never");
               workerLog.push(`worker ${k + 1}: job received ${at(m.readyAt)} after its start, first chunk done ${at(m.firstAt)}, ${m.done} beams in ${(m.busyMs ?? 0).toFixed(0)} ms`);
               ok = true;
               resolve();
@@ -470,12 +485,18 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
         }),
       );
     }
+    dropSpares();
   };
   // the fault-injection test needs its workers whatever the size; STEERCODE_SPAWN_AFTER=n (tests,
   // diagnosis) starts them after n main-thread chunks whatever the timing says
   const env = process.env.STEERCODE_SPAWN_AFTER;
   const forced = opts.failForTest ? 0 : (opts.spawnAfterChunksForTest ?? (env !== undefined && /^\d+$/.test(env) ? Number(env) : undefined));
-  if (forced === 0 && !spawned) spawn();
+  // workers started with the command (spare-workers.ts) have already paid their start: a
+  // large enough job is theirs at once, the tail rule deciding how much of it they do; for
+  // a smaller one they are stopped, and the measured decision below may start new ones
+  const early = forced === undefined && sparesWaiting() > 0 ? (roughWorkMs(plan, total) >= EARLY_WORK_MS ? "taken at once" : "stopped") : null;
+  if (!spawned && (forced === 0 || early === "taken at once")) spawn();
+  if (spawned || forced === undefined) dropSpares();
   const onChunk = (ms: number, n: number, setupMs: number) => {
     if (timing.chunks === 0) shared.times[TIME_FIRST] = ms;
     addChunk(timing, ms, n, setupMs);
@@ -491,6 +512,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   const stop = () => {
     closed = true;
     for (const w of workers) void w.terminate();
+    dropSpares();
   };
   return {
     ring: shared.ring,
@@ -525,7 +547,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
         if (failure) throw failure;
         // the debug timeline waits (1 s at most) for the workers' reports, sent when each has stopped claiming
         if (process.env.STEERCODE_DEBUG && workers.length) await Promise.race([Promise.all(exits), new Promise((r) => setTimeout(r, 1000).unref())]);
-        if (process.env.STEERCODE_DEBUG) process.stderr.write(`steercode: debug: analysis: ${cap === 0 ? "one thread (--jobs 1 or one chunk)" : workers.length ? `${workers.length} worker(s) started after ${spawnedAfter} main-thread chunk(s), ${workerBeams} of ${total} beams analysed by them` : `no worker started (the work left never paid for one)`}; main thread ${timing.chunks} chunk(s) in ${timing.busyMs.toFixed(0)} ms, lowest ${timing.minPerBeamMs.toFixed(3)} ms a beam${workerLog.map((l) => "; " + l).join("")}\n`);
+        if (process.env.STEERCODE_DEBUG) process.stderr.write(`steercode: debug: analysis: ${cap === 0 ? "one thread (--jobs 1 or one chunk)" : workers.length ? `${workers.length} worker(s) started after ${spawnedAfter} main-thread chunk(s), ${workerBeams} of ${total} beams analysed by them` : `no worker started (the work left never paid for one)`}${early ? `; the workers started with the command: ${early} (rough work ${roughWorkMs(plan, total).toFixed(0)} ms, at once from ${EARLY_WORK_MS} ms)` : ""}; main thread ${timing.chunks} chunk(s) in ${timing.busyMs.toFixed(0)} ms, lowest ${timing.minPerBeamMs.toFixed(3)} ms a beam${workerLog.map((l) => "; " + l).join("")}\n`);
         return shared.metrics;
       } finally {
         // progress messages still on their way are dropped: every beam is done

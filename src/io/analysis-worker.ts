@@ -2,7 +2,7 @@
  * Worker thread: waits for a job (the plan and the shared arrays), then prepares its
  * analyser and claims beam chunks from the shared counter (Atomics) while the tail rule
  * allows, writing metrics straight into the shared result array. The main thread
- * starts workers only when its measured work pays for them (analysis-pool.ts).
+ * gives a job to workers (started with the command, or later) only when the work pays for them (analysis-pool.ts).
  */
 import { parentPort } from "node:worker_threads";
 import type { Plan } from "../core/plan.js";

@@ -2,6 +2,7 @@ import { execFileSync } from "node:child_process";
 import { itWith, TOOLS } from "../tools.js";
 import { existsSync, readdirSync, readFileSync, statSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
+import { availableParallelism } from "node:os";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
 
@@ -179,6 +180,44 @@ describe("--jobs: how many threads analyse changes no byte", () => {
     const v = cli(["verify", b, "--jobs", "2"], { env });
     expect(v.code, v.stdout + v.stderr).toBe(0);
     expect(v.stderr).toMatch(/analysis: 1 worker\(s\) started after 2 main-thread chunk\(s\)/);
+  });
+
+  // a machine of one core clamps --jobs 2 to 1: nothing to start there
+  it.skipIf(availableParallelism() < 2)("workers started with the command (build, sweep) take a large job at once, are stopped for a small one, and change no byte", () => {
+    const env = { STEERCODE_DEBUG: "1" };
+    const same = (a: string, b: string) => {
+      for (const f of readdirSync(a, { recursive: true }) as string[]) if (statSync(join(a, f)).isFile()) expect(readFileSync(join(b, f)).equals(readFileSync(join(a, f))), f).toBe(true);
+    };
+    // 32 × 32 × 441 beams: rough work 441 · 0.17 ms · 4^1.1 = 344 ms, over EARLY_WORK_MS
+    const big = writeScenario(baseScenario({
+      array: { lattice: { kind: "rectangular", columns: 32, rows: 32, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      beams: { kind: "azel", az: { from: -50, to: 50, step: 5 }, el: { from: -50, to: 50, step: 5 } },
+    }));
+    const a = join(tempDir(), "a"), b = join(tempDir(), "b");
+    expect(cli(["build", big, "-o", a, "--jobs", "1"]).code).toBe(0);
+    const r = cli(["build", big, "-o", b, "--jobs", "2"], { env });
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stderr).toMatch(/analysis: 1 worker\(s\) started after 0 main-thread chunk\(s\), \d+ of 441 beams analysed by them; the workers started with the command: taken at once \(rough work 344 ms/);
+    same(a, b);
+    // the demo, 133 beams of 16 × 16: 23 ms, so the started worker is stopped and the measured decision keeps to one thread
+    const demo = join(import.meta.dirname, "..", "..", "fixtures", "demo", "scenario.json");
+    const c = join(tempDir(), "c"), d = join(tempDir(), "d");
+    expect(cli(["build", demo, "-o", c, "--jobs", "1"]).code).toBe(0);
+    const q = cli(["build", demo, "-o", d, "--jobs", "2"], { env });
+    expect(q.code, q.stderr).toBe(0);
+    expect(q.stderr).toMatch(/analysis: no worker started .*; the workers started with the command: stopped \(rough work 23 ms/);
+    same(c, d);
+    // a sweep counts every part: 4 phase depths × 121 beams of 32 × 32 = 378 ms
+    const sweepScenario = writeScenario(baseScenario({
+      array: { lattice: { kind: "rectangular", columns: 32, rows: 32, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      beams: { kind: "azel", az: { from: -50, to: 50, step: 10 }, el: { from: -50, to: 50, step: 10 } },
+    }));
+    const sa = join(tempDir(), "sa"), sb = join(tempDir(), "sb");
+    expect(cli(["sweep", sweepScenario, "-o", sa, "--phase-bits", "3..6", "--jobs", "1"]).code).toBe(0);
+    const w = cli(["sweep", sweepScenario, "-o", sb, "--phase-bits", "3..6", "--jobs", "2"], { env });
+    expect(w.code, w.stderr).toBe(0);
+    expect(w.stderr).toMatch(/analysis: 1 worker\(s\) started after 0 main-thread chunk\(s\).*taken at once \(rough work 378 ms/);
+    for (const f of ["sweep.csv", "sweep.json"]) expect(readFileSync(join(sb, f)).equals(readFileSync(join(sa, f))), f).toBe(true);
   });
 });
 
