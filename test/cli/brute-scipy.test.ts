@@ -149,6 +149,45 @@ const cases: { name: string; over: Record<string, unknown>; files?: Record<strin
     over: { frequency: ["27 GHz", "28 GHz", "28.7 GHz"], array: { lattice: { kind: "rectangular", columns: 8, rows: 6, dx: "0.5 lambda", dy: "0.5 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, attenuator: { bits: 5, step: "0.5 dB" }, calibration: "cal.csv" },
     files: { "beams.csv": "az_deg,el_deg\n30,10\n85,0\n89.9,0\n", "cal.csv": calPerFrequency(48, [27e9, 29e9]) },
   },
+  // tiny planar arrays steered at the edge of visible space: the realized main lobe peaks on
+  // the horizon and a grating lobe as high as it appears across the disc (PSL 0 dB); a third,
+  // polar-raster check agreed with both (peak u, v within 2e-6, PSL within 0.05 dB)
+  {
+    name: "2×2 at λ/2, 4 bits, beams at θ 80°–89.9°",
+    over: { array: { lattice: { kind: "rectangular", columns: 2, rows: 2, dx: "0.5 lambda", dy: "0.5 lambda" } }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 } },
+    files: { "beams.csv": "az_deg,el_deg\n80,0\n89.9,0\n0,85\n45,44\n-60,29.5\n" },
+  },
+  {
+    name: "3×2 at λ/2, Taylor −25 dB, 5 bits, beams at θ 80°–89.9°",
+    over: { array: { lattice: { kind: "rectangular", columns: 3, rows: 2, dx: "0.5 lambda", dy: "0.5 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 } },
+    files: { "beams.csv": "az_deg,el_deg\n80,0\n89,0\n0,89.9\n45,44\n-60,29.5\n" },
+  },
+  {
+    name: "2×1 at λ/2 (two elements in a row), 3 bits, beams at θ 80°–89.9°",
+    over: { array: { lattice: { kind: "rectangular", columns: 2, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" } }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 3 } },
+    files: { "beams.csv": "az_deg,el_deg\n80,0\n89.9,0\n0,85\n-60,29.5\n" },
+  },
+  // line arrays with an element pattern: E on the cut through the commanded direction
+  // (README "Element pattern"); the lobe search had compared the main lobe at the commanded
+  // v0 with the same |AF|² ridge nearer boresight, where E is larger
+  {
+    // beam 4 (el 85°): PSL +2.65 dB printed, beam 5 (el 89.9°) +28.13 dB; brute force: none (E is 0 past the cut's chord)
+    name: "8×1 row at λ/2, cos^1.5 element, beams at az 80°–89.9° and el 85°–89.9°",
+    over: { array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" } }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 }, element: { pattern: "cosine", exponent: 1.5 } },
+    files: { "beams.csv": "az_deg,el_deg\n80,0\n89.9,0\n0,85\n0,89.9\n45,44\n-60,29.5\n" },
+  },
+  {
+    // az 85° (chord |v| ≤ 0.087): PSL −9.09 dB printed, brute force −48.38 dB; az 45° el 44°: −14.47 / −16.78 dB
+    name: "1×8 column at λ/2, Taylor −25 dB, tabulated element (φ-dependent, −25 dB onto the horizon), beams at θ 80°–89.9°",
+    over: { array: { lattice: { kind: "rectangular", columns: 1, rows: 8, dx: "0.5 lambda", dy: "0.5 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, element: { pattern: "table", file: "el.csv" } },
+    files: { "beams.csv": "az_deg,el_deg\n0,80\n0,89.9\n85,0\n45,44\n-60,29.5\n", "el.csv": STEEP },
+  },
+  {
+    // az 60°: PSL +4.17 dB printed, brute force +0.63 dB (the cut's own horizon point beyond a dip, E +10.4 dB there)
+    name: "6×1 row at 0.7 λ (grating lobes), tabulated element rising toward the horizon, beams at az 60°–89.9°",
+    over: { array: { lattice: { kind: "rectangular", columns: 6, rows: 1, dx: "0.7 lambda", dy: "0.5 lambda" } }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 }, element: { pattern: "table", file: "el.csv" } },
+    files: { "beams.csv": "az_deg,el_deg\n60,0\n89.9,0\n30,60\n-75,10\n", "el.csv": RISING },
+  },
 ];
 
 describe("beams.csv against the numpy/scipy brute force", () => {

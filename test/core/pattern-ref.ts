@@ -170,3 +170,73 @@ export function denseReference(P: (u: number, v: number) => number, u0: number, 
 }
 
 
+
+/**
+ * A line array's metrics with an element pattern, as README "Element pattern" defines them
+ * (our own brute force, derived from that text; no engine code beyond the quantizer): the
+ * pattern on the cut through the commanded direction along the line, |AF(t)|²·E at
+ * (t, c0) (row; a column (c0, t)) where t² + c0² ≤ 1, past that chord `horizonPower` at
+ * t; sampled at 400 001 points of t ∈ [−1, 1]; the peak by hill-climbing from t0 and a
+ * golden-section search within the chord, the main lobe the monotone run around it, the
+ * sidelobe the largest sample outside it.
+ */
+export function bruteForceLineCut(plan: Plan, b: number, elementPower: (u: number, v: number) => number, horizonPower: number, fi = 0) {
+  const el = plan.elements;
+  const prep = prepareFrequency(plan, fi);
+  const q = makeQuantizer(plan, fi, prep);
+  const codes = allocBeamCodes(el.count);
+  q.beam(b, codes);
+  const k = (2 * Math.PI * plan.frequenciesHz[fi]!) / SPEED_OF_LIGHT;
+  const lsb = 360 / 2 ** plan.phaseBits;
+  const row = el.y.every((y) => y === el.y[0]);
+  const pos = row ? el.x : el.y;
+  const wr: number[] = [], wi: number[] = [];
+  for (let i = 0; i < el.count; i++) {
+    const amp = el.enabled[i] ? Math.pow(10, (plan.cals[fi]!.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0;
+    const ph = ((plan.cals[fi]!.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180;
+    wr.push(amp * Math.cos(ph));
+    wi.push(amp * Math.sin(ph));
+  }
+  const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!;
+  const [t0, c0] = row ? [u0, v0] : [v0, u0];
+  const chord = Math.sqrt(Math.max(0, 1 - c0 * c0));
+  const f = (t: number) => {
+    let re = 0, im = 0;
+    for (let i = 0; i < el.count; i++) {
+      const a = k * pos[i]! * t;
+      re += wr[i]! * Math.cos(a) - wi[i]! * Math.sin(a);
+      im += wr[i]! * Math.sin(a) + wi[i]! * Math.cos(a);
+    }
+    const e = Math.abs(t) <= chord ? (row ? elementPower(t, c0) : elementPower(c0, t)) : horizonPower;
+    return (re * re + im * im) * e;
+  };
+  const N = 400001, h = 2 / (N - 1);
+  const y = new Float64Array(N);
+  for (let i = 0; i < N; i++) y[i] = f(-1 + i * h);
+  let i = Math.round((t0 + 1) / h);
+  for (;;) {
+    const j = i + 1 < N && y[i + 1]! > y[i]! ? i + 1 : i > 0 && y[i - 1]! > y[i]! ? i - 1 : i;
+    if (j === i) break;
+    i = j;
+  }
+  let lo = i, hi = i;
+  while (lo > 0 && y[lo - 1]! <= y[lo]!) lo--;
+  while (hi < N - 1 && y[hi + 1]! <= y[hi]!) hi++;
+  // golden-section search for the peak within two samples and the chord
+  let a = Math.max(-1 + (i - 2) * h, -chord), c = Math.min(-1 + (i + 2) * h, chord);
+  const g = (Math.sqrt(5) - 1) / 2;
+  for (let it = 0; it < 200 && c - a > 1e-14; it++) {
+    const x1 = c - g * (c - a), x2 = a + g * (c - a);
+    if (f(x1) < f(x2)) a = x1; else c = x2;
+  }
+  const tp = (a + c) / 2;
+  const peak = Math.max(f(tp), f(-chord) * (Math.abs(-chord - tp) < 4 * h ? 1 : 0), f(chord) * (Math.abs(chord - tp) < 4 * h ? 1 : 0));
+  const tPeak = f(tp) >= peak ? tp : Math.abs(chord - tp) < Math.abs(-chord - tp) ? chord : -chord;
+  let side = 0;
+  for (let j = 0; j < N; j++) if ((j < lo || j > hi) && y[j]! > side) side = y[j]!;
+  const [pu, pv] = row ? [tPeak, c0] : [c0, tPeak];
+  return {
+    pslDb: side > 0 ? 10 * Math.log10(side / peak) : NaN,
+    pointingDeg: angleBetweenDeg({ u: u0, v: v0, w: uvToW(u0, v0) }, { u: pu, v: pv, w: uvToW(pu, pv) }),
+  };
+}

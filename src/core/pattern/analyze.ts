@@ -11,7 +11,7 @@ import { elementStates, type ElementStates } from "../quantize/states.js";
 import { SPEED_OF_LIGHT } from "../units.js";
 import { AfEvaluator } from "./evaluator.js";
 import { allocWindow, applyWeight, elementWindow, PatternGrid, type PowerWindow } from "./grid.js";
-import { makeElementPattern, scanLossDb, type ElementPattern } from "../element.js";
+import { LineCutPattern, makeElementPattern, scanLossDb, type ElementPattern } from "../element.js";
 import { LobeFinder, peakOnDemand } from "./lobes.js";
 import { allocTrace, traceExact, traceLattice, type HorizonTrace, type LatticeSpectra } from "./horizon.js";
 import { IdealLobes } from "./ideal-lobes.js";
@@ -71,6 +71,8 @@ export class BeamAnalyzer {
   private readonly qAmp: Float64Array;
   /** Element pattern (null: isotropic) and its weights on the current beam's window frame. */
   readonly element: ElementPattern | null;
+  /** line arrays with an element pattern: the pattern the analysis uses (set to each beam) */
+  private readonly lineCut: LineCutPattern | null = null;
   private readonly winE: Float64Array | null;
   private winEKey = "";
 
@@ -85,8 +87,10 @@ export class BeamAnalyzer {
     this.winR = allocWindow(this.grid.cap);
     this.winI = allocWindow(this.grid.cap);
     this.element = plan.element ? makeElementPattern(plan.element) : null;
-    this.evR.element = this.element;
-    this.evI.element = this.element;
+    // a line array: the element pattern on the cut through the commanded direction (LineCutPattern)
+    if (this.element && this.evR.lockU !== this.evR.lockV) this.lineCut = new LineCutPattern(this.element, this.evR.lockV);
+    this.evR.element = this.lineCut ?? this.element;
+    this.evI.element = this.lineCut ?? this.element;
     this.winE = this.element ? new Float64Array(this.grid.cap) : null;
     const n = el.count;
     const scale = Math.pow(10, this.prep.gRefDb / 20);
@@ -112,7 +116,7 @@ export class BeamAnalyzer {
       traceLattice(spectra, u0, v0, out);
       // the spectra hold |AF|² alone: weigh the horizon samples by the element pattern
       // (traceExact evaluates ev.power, which already includes it)
-      const el = this.element;
+      const el = this.lineCut ?? this.element;
       if (el) for (let k = 0; k < out.n; k++) out.p[k] = out.p[k]! * el.power(u0 + out.du[k]!, v0 + out.dv[k]!);
     } else traceExact(ev, u0, v0, Math.min(this.grid.du, this.grid.dv), out);
     return out;
@@ -164,7 +168,7 @@ export class BeamAnalyzer {
     if (!this.element) return;
     const key = `${u0},${v0},${win.m0},${win.n0},${win.wm},${win.wn}`;
     if (key !== this.winEKey) {
-      elementWindow(this.element, win, u0, v0, this.grid.du, this.grid.dv, this.winE!);
+      elementWindow(this.lineCut ?? this.element, win, u0, v0, this.grid.du, this.grid.dv, this.winE!);
       this.winEKey = key;
     }
     applyWeight(win, this.winE!);
@@ -176,6 +180,7 @@ export class BeamAnalyzer {
     const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
     const g = this.grid;
     this.evI.setBeam(u0, v0, w0);
+    this.lineCut?.setBeam(u0, v0);
     // the cached lobe structure assumes a beam-independent pattern: not so with an element pattern
     if (this.idealPeriodic && !this.evI.lockU && !this.evI.lockV && !this.element) {
       if (!this.idealLobes) this.idealLobes = new IdealLobes(this.idealPeriodic, g.fftSize[0], g.fftSize[1], g.du, g.dv, this.evI, this.idealSpectra!);
@@ -200,6 +205,7 @@ export class BeamAnalyzer {
     const g = this.grid;
     this.evR.setBeam(u0, v0, w0);
     this.evI.setBeam(u0, v0, w0);
+    this.lineCut?.setBeam(u0, v0);
     g.fill(this.evR.wr, this.evR.wi, u0, v0, w0, this.winR);
     this.weigh(this.winR, u0, v0);
     const spR = g.mode === "fft" ? g.spectra(this.evR.wr, this.evR.wi, false) : null;
@@ -243,6 +249,7 @@ export class BeamAnalyzer {
     this.realized(b, codes);
     this.evR.setBeam(u0, v0, w0);
     this.evI.setBeam(u0, v0, w0);
+    this.lineCut?.setBeam(u0, v0);
     const r = peakOnDemand(this.evR, this.grid.du, this.grid.dv, u0, v0);
     const pu = u0 + r.du, pv = v0 + r.dv;
     out[off] = pu;
