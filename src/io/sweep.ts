@@ -127,46 +127,30 @@ function cell(v: number | string): string {
 }
 
 /**
- * The random-error floor depends on the attenuator step (its rounding variance), so it is
- * drawn per swept step (and quantizer) from the rows' own estimates, not from the
- * scenario's step, which the sweep may not even include.
+ * One theory curve per swept step (and quantizer), from the rows' own estimates of `column`:
+ * the estimates that depend on the attenuator step (the random-error floor through its
+ * rounding errors, the expected gain loss through its attenuator term) are drawn for each
+ * swept step, not for the scenario's step, which the sweep may not even include.
  */
-function floorSeries(rows: SweepRow[], multiQ: boolean): Series[] {
+function perStepSeries(rows: SweepRow[], multiQ: boolean, column: "theory_random_floor_db" | "theory_expected_gain_loss_db", label: string, style: Pick<Series, "colour" | "dash">): Series[] {
   const keys = [...new Set(rows.map((r) => `${r.atten_step_db}|${r.quantizer}`))];
   const steps = new Set(rows.map((r) => r.atten_step_db));
   return keys
     .map((k) => {
       const [step, q] = k.split("|");
       const points = rows
-        .filter((r) => `${r.atten_step_db}|${r.quantizer}` === k && Number.isFinite(Number(r.theory_random_floor_db)))
+        .filter((r) => `${r.atten_step_db}|${r.quantizer}` === k && Number.isFinite(Number(r[column])))
         .sort((a, b) => Number(a.phase_bits) - Number(b.phase_bits))
-        .map((r) => [Number(r.phase_bits), Number(r.theory_random_floor_db)] as [number, number]);
+        .map((r) => [Number(r.phase_bits), Number(r[column])] as [number, number]);
       const tags = [...(steps.size > 1 ? [`step ${step} dB`] : []), ...(multiQ || q !== "nearest" ? [q] : [])];
-      return { label: `random-error floor σ²/(ηN) [Mailloux]${tags.length ? `, ${tags.join(", ")}` : ""}`, points, colour: "#555555", dash: "8 3 2 3", marker: "none" as const, width: 1.4 };
+      return { label: `${label}${tags.length ? `, ${tags.join(", ")}` : ""}`, points, ...style, marker: "none" as const, width: 1.4 };
     })
     .filter((s) => s.points.length);
 }
 
-/**
- * The expected gain loss, phase term + attenuator term, beside the measured loss (which holds both): the
- * attenuator term depends on the step (rounding and clipping), so it is drawn per swept step and quantizer
- * from the rows' own estimates, like the floor.
- */
-function expectedLossSeries(rows: SweepRow[], multiQ: boolean): Series[] {
-  const keys = [...new Set(rows.map((r) => `${r.atten_step_db}|${r.quantizer}`))];
-  const steps = new Set(rows.map((r) => r.atten_step_db));
-  return keys
-    .map((k) => {
-      const [step, q] = k.split("|");
-      const points = rows
-        .filter((r) => `${r.atten_step_db}|${r.quantizer}` === k && Number.isFinite(Number(r.theory_expected_gain_loss_db)))
-        .sort((a, b) => Number(a.phase_bits) - Number(b.phase_bits))
-        .map((r) => [Number(r.phase_bits), Number(r.theory_expected_gain_loss_db)] as [number, number]);
-      const tags = [...(steps.size > 1 ? [`step ${step} dB`] : []), ...(multiQ || q !== "nearest" ? [q] : [])];
-      return { label: `expected: phase term + attenuator term${tags.length ? `, ${tags.join(", ")}` : ""}`, points, colour: "#222222", dash: "5 2 1 2", marker: "none" as const, width: 1.4 };
-    })
-    .filter((s) => s.points.length);
-}
+const floorSeries = (rows: SweepRow[], multiQ: boolean) => perStepSeries(rows, multiQ, "theory_random_floor_db", "random-error floor σ²/(ηN) [Mailloux]", { colour: "#555555", dash: "8 3 2 3" });
+/** The expected gain loss, phase term + attenuator term, beside the measured loss (which holds both). */
+const expectedLossSeries = (rows: SweepRow[], multiQ: boolean) => perStepSeries(rows, multiQ, "theory_expected_gain_loss_db", "expected: phase term + attenuator term", { colour: "#222222", dash: "5 2 1 2" });
 
 export function sweepSvg(loaded: LoadedScenario, rows: SweepRow[]): string {
   const plan = loaded.plan;

@@ -15,21 +15,32 @@ import { SPEED_OF_LIGHT } from "../../src/core/units.js";
  * (no derivatives, no FFT) around the peak and the top sidelobe.
  */
 /** `elementPower`: multiply |AF|² by this power pattern (taken at the horizon point radially inward past it). */
-export function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = "realized", fi = 0, G = 401, elementPower?: (u: number, v: number) => number) {
+/**
+ * Element i's realized weight for beam b at frequency fi, straight from the channel model
+ * (calibration gain and phase plus the codes' attenuation and phase): [amplitude, phase rad].
+ */
+function realizedWeights(plan: Plan, b: number, fi: number): (i: number) => [number, number] {
   const el = plan.elements;
-  const prep = prepareFrequency(plan, fi);
-  const q = makeQuantizer(plan, fi, prep);
+  const q = makeQuantizer(plan, fi, prepareFrequency(plan, fi));
   const codes = allocBeamCodes(el.count);
   q.beam(b, codes);
+  const lsb = 360 / 2 ** plan.phaseBits;
+  return (i) => [
+    el.enabled[i] ? Math.pow(10, (plan.cals[fi]!.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0,
+    ((plan.cals[fi]!.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180,
+  ];
+}
+
+export function bruteForce(plan: Plan, b: number, which: "realized" | "ideal" = "realized", fi = 0, G = 401, elementPower?: (u: number, v: number) => number) {
+  const el = plan.elements;
+  const realized = realizedWeights(plan, b, fi);
   const k = (2 * Math.PI * plan.frequenciesHz[fi]!) / SPEED_OF_LIGHT;
   const planar = el.z.every((z) => z === 0);
-  const lsb = 360 / 2 ** plan.phaseBits;
   const wr: number[] = [], wi: number[] = [];
   for (let i = 0; i < el.count; i++) {
     let amp: number, ph: number;
     if (which === "realized") {
-      amp = el.enabled[i] ? Math.pow(10, (plan.cals[fi]!.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0;
-      ph = ((plan.cals[fi]!.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180;
+      [amp, ph] = realized(i);
     } else {
       // ideal: a_n·exp(jφ_n), φ_n = −k r_n·d̂ (interface contract)
       amp = el.enabled[i] ? plan.amplitude[i]! : 0;
@@ -182,18 +193,13 @@ export function denseReference(P: (u: number, v: number) => number, u0: number, 
  */
 export function bruteForceLineCut(plan: Plan, b: number, elementPower: (u: number, v: number) => number, horizonPower: number, fi = 0) {
   const el = plan.elements;
-  const prep = prepareFrequency(plan, fi);
-  const q = makeQuantizer(plan, fi, prep);
-  const codes = allocBeamCodes(el.count);
-  q.beam(b, codes);
+  const realized = realizedWeights(plan, b, fi);
   const k = (2 * Math.PI * plan.frequenciesHz[fi]!) / SPEED_OF_LIGHT;
-  const lsb = 360 / 2 ** plan.phaseBits;
   const row = el.y.every((y) => y === el.y[0]);
   const pos = row ? el.x : el.y;
   const wr: number[] = [], wi: number[] = [];
   for (let i = 0; i < el.count; i++) {
-    const amp = el.enabled[i] ? Math.pow(10, (plan.cals[fi]!.gainDb[i]! - codes.attenCode[i]! * plan.attenStepDb) / 20) : 0;
-    const ph = ((plan.cals[fi]!.phaseDeg[i]! + codes.phaseCode[i]! * lsb) * Math.PI) / 180;
+    const [amp, ph] = realized(i);
     wr.push(amp * Math.cos(ph));
     wi.push(amp * Math.sin(ph));
   }
