@@ -93,6 +93,26 @@ describe("beams pulled by the element pattern", () => {
     expect(predictionStoppedNote(cut)).toMatch(new RegExp(`predicted for the first ${cut.examined} of 13 beam\\(s\\) only .*build judges every realized peak`));
   });
 
+  it("a line array's prediction uses the analysis's cut pattern: check predicts the beams and pulls that build finds (8×1 row, element rising 30 dB to the horizon, el 40°)", () => {
+    let el = "theta_deg,phi_deg,gain_db\n";
+    for (let t = 0; t <= 90; t += 3) for (const f of [0, 90, 180, 270]) el += `${t},${f},${(30 * (t / 90) ** 2).toFixed(6)}\n`;
+    const s = writeScenario(baseScenario({
+      array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" } },
+      beams: { kind: "azel", az: { from: 0, to: 60, step: 10 }, el: { from: 40, to: 40, step: 1 } },
+      phaseShifter: { bits: 6 },
+      element: { pattern: "table", file: "el.csv" },
+    }), { "el.csv": el });
+    const c = cli(["check", s]);
+    expect(c.code, c.stderr).toBe(0);
+    const b = cli(["build", s, "-o", join(tempDir(), "b")]);
+    expect(b.code, b.stderr).toBe(0);
+    const pc = pullOf(c.stdout), pb = pullOf(b.stdout);
+    expect(pc, c.stdout).not.toBeNull();
+    expect(pb, b.stdout).not.toBeNull();
+    expect(pc!.beams).toEqual(pb!.beams);
+    expect(pc!.worstDeg).toBeCloseTo(pb!.worstDeg, 1); // 6-bit phases: the realized peak is the ideal one to ~0.01°
+  });
+
   it("no warning with isotropic elements or a mild pattern (cos^1 θ) on the same grid", () => {
     for (const element of [null, { pattern: "cosine", exponent: 1 }]) {
       const s = writeScenario(doc(element));

@@ -14,7 +14,7 @@
  * quantisation.
  */
 import { angleBetweenDeg, uvToW } from "../geometry.js";
-import { makeElementPattern } from "../element.js";
+import { LineCutPattern, makeElementPattern } from "../element.js";
 import type { Plan } from "../plan.js";
 import { SPEED_OF_LIGHT } from "../units.js";
 import { AfEvaluator } from "./evaluator.js";
@@ -44,7 +44,9 @@ function idealEvaluator(plan: Plan, fi: number): AfEvaluator {
     ev.wr[i] = el.enabled[i] ? plan.amplitude[i]! : 0;
     ev.wi[i] = 0;
   }
-  ev.element = plan.element ? makeElementPattern(plan.element) : null;
+  const e = plan.element ? makeElementPattern(plan.element) : null;
+  // a line array: the pattern on the cut through the commanded direction, as its analysis uses it (LineCutPattern)
+  ev.element = e && ev.lockU !== ev.lockV ? new LineCutPattern(e, ev.lockV) : e;
   return ev;
 }
 
@@ -154,6 +156,7 @@ export function predictPulls(plan: Plan, skip: (fi: number) => boolean = () => f
       examined++;
       const u0 = plan.beams.u[b]!, v0 = plan.beams.v[b]!, w0 = plan.beams.w[b]!;
       ev.setBeam(u0, v0, w0);
+      if (element instanceof LineCutPattern) element.setBeam(u0, v0);
       if (!ev.planar) work += 9 * (n + CALL_OVERHEAD);
       if (staysAtHome(ev, home)) continue;
       work += CLIMB_EVALUATIONS * (n + CALL_OVERHEAD);
