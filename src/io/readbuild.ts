@@ -10,6 +10,7 @@ import { constants as bufferConstants } from "node:buffer";
 import { InputError, type Problem } from "../core/errors.js";
 import { INPUT_COPY, makeManifest, SCENARIO_COPY, type Manifest } from "./build.js";
 import { firstDifference } from "./json-diff.js";
+import { D } from "../core/exact.js";
 import { prepareFrequency } from "../core/quantize/index.js";
 import { MAX_MANIFEST_BYTES } from "./files.js";
 import { loadScenario, type InputRole, type LoadedScenario } from "./scenario.js";
@@ -160,6 +161,17 @@ export function readManifest(dir: string): Manifest {
     at("/layout", "expected the word layout (bits 1–32, bytes, off, fields with name, shift and width)");
   if (!isObj(m.phaseShifter) || !isCount(m.phaseShifter.bits) || m.phaseShifter.bits > 12) at("/phaseShifter/bits", "expected the phase shifter's bits (1–12)");
   if (!Array.isArray(m.perFrequency)) at("/perFrequency", "expected a list, one entry per frequency");
+  // the band analysis the report prints (a malformed one was an internal error there)
+  const ext = m.extra as unknown;
+  if (ext !== undefined && !isObj(ext)) at("/extra", "expected an object (the analysis summary)");
+  else if (ext !== undefined && (ext as Record<string, unknown>).band !== undefined) {
+    const b = (ext as Record<string, unknown>).band as Record<string, unknown>;
+    const num = (x: unknown) => x === null || (typeof x === "number" && Number.isFinite(x));
+    const hz = (x: unknown) => x === null || typeof x === "string" || (typeof x === "number" && Number.isFinite(x));
+    const dist = (d: unknown) => isObj(d) && ["median", "p95", "max"].every((k) => num((d as Record<string, unknown>)[k]));
+    if (!isObj(b) || !Array.isArray(b.frequenciesHz) || b.frequenciesHz.length === 0 || !b.frequenciesHz.every((f) => typeof f === "string") || !dist(b.worstPointingDeg) || !dist(b.worstGainLossDb) || !Array.isArray(b.perBeam) || !b.perBeam.every((r) => isObj(r) && isCount(r.beam) && num(r.worstPointingDeg) && num(r.worstGainLossDb) && hz(r.worstPointingAtHz) && hz(r.worstGainLossAtHz)))
+      at("/extra/band", "expected the band analysis (frequenciesHz, worstPointingDeg, worstGainLossDb, perBeam: one entry per table frequency and beam)");
+  }
   if (problems.length) throw new InputError(problems);
   return m;
 }
@@ -314,6 +326,14 @@ export function manifestInputsDisagreement(dir: string, m: Manifest, loaded: Loa
     d ??= firstDifference(expected[k], found[k], `/${pointerPart(k)}`);
   }
   for (const k of Object.keys(copies).sort()) d ??= firstDifference(copies[k], m.files[k], `/files/${pointerPart(k)}`);
+  // a band section is the scenario's band, one entry per (table frequency, beam); the report printed one for a build without a band
+  const band = (m.extra as { band?: { frequenciesHz: unknown[]; perBeam: { beam: number }[] } } | undefined)?.band;
+  if (band !== undefined) {
+    const expectedHz = m.analysis && plan.band ? plan.band.frequenciesExact.map((x) => new D(x).toFixed()) : undefined;
+    d ??= firstDifference(expectedHz, band.frequenciesHz, "/extra/band/frequenciesHz");
+    const B = plan.beams.count, n = plan.frequenciesHz.length * B;
+    for (let k = 0; k < Math.max(n, band.perBeam.length) && !d; k++) d = firstDifference(k < n ? k % B : undefined, band.perBeam[k]?.beam, `/extra/band/perBeam/${k}/beam`);
+  }
   if (!d) return null;
   return { file: join(dir, "manifest.json"), pointer: d.pointer, message: `says ${d.found}, the recorded inputs (${SCENARIO_COPY} and its input copies) give ${d.expected}: the folder was changed after the build; run steercode verify on it` };
 }

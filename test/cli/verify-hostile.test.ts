@@ -464,6 +464,32 @@ describe("report on a folder whose manifest disagrees with its recorded inputs",
       expect(existsSync(out)).toBe(false);
     });
 
+  // a band section (manifest extra.band) where the scenario has no band: the page printed
+  // "Across the band" with its forged squint figures, exit 0
+  it("a band section on a build without a band: verify exit 1, report exit 2 at /extra/band/frequenciesHz", () => {
+    const d = copy("disagree-band");
+    const dist = { median: 5, p95: 6, max: 7, worst: 0 };
+    rehash(d, (m) => (m.extra.band = { frequenciesHz: ["27000000000", "29000000000"], worstPointingDeg: dist, worstGainLossDb: dist, perBeam: [{ tableFrequencyHz: 1e10, beam: 0, worstPointingDeg: 7, worstPointingAtHz: 27e9, worstGainLossDb: 7, worstGainLossAtHz: 27e9 }] }));
+    expect(cli(["verify", d, "--jobs", "1", "--json"]).code).toBe(1);
+    const out = join(d, "r.html");
+    const r = cli(["report", d, "-o", out]);
+    expect(r.code, r.stderr).toBe(2);
+    expect(r.stderr).toMatch(/manifest\.json: \/extra\/band\/frequenciesHz: says \["27000000000","29000000000"\], the recorded inputs .* give \(absent\)/);
+    expect(existsSync(out)).toBe(false);
+  });
+
+  // a malformed band section was an internal error in the report (exit 3: "b.perBeam.map is not a function")
+  for (const [what, band] of [["{}", {}], ["a string", "x"], ["perBeam a number", { frequenciesHz: ["1"], worstPointingDeg: {}, worstGainLossDb: {}, perBeam: 5 }]] as [string, unknown][])
+    it(`a band section that is ${what}: exit 2 at /extra/band, nothing written`, () => {
+      const d = copy(`bad-band-${what.length}`);
+      rehash(d, (m) => (m.extra.band = band));
+      const out = join(d, "r.html");
+      const r = cli(["report", d, "-o", out]);
+      expect(r.code, r.stderr).toBe(2);
+      expect(r.stderr).toMatch(/manifest\.json: \/extra\/band: expected the band analysis/);
+      expect(existsSync(out)).toBe(false);
+    });
+
   it("the unchanged folder still reports (exit 0)", () => {
     const d = copy("disagree-none");
     const r = cli(["report", d, "-o", join(d, "r.html")]);
