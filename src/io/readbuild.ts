@@ -11,7 +11,8 @@ import { InputError, type Problem } from "../core/errors.js";
 import { INPUT_COPY, makeManifest, SCENARIO_COPY, type Manifest } from "./build.js";
 import { firstDifference } from "./json-diff.js";
 import { D } from "../core/exact.js";
-import { prepareFrequency } from "../core/quantize/index.js";
+import { makeQuantizer, prepareFrequency } from "../core/quantize/index.js";
+import { allocBeamCodes } from "../core/quantize/contract.js";
 import { MAX_MANIFEST_BYTES } from "./files.js";
 import { loadScenario, type InputRole, type LoadedScenario } from "./scenario.js";
 
@@ -304,15 +305,18 @@ export function loadBuildScenario(dir: string, m: Manifest): LoadedScenario {
  * draws its page from the recorded inputs and prints a few manifest values beside them; a
  * manifest edited after the build (7 beams where the inputs give 133, another layout, a
  * forged calibration hash) was reported as if it belonged there. Not checked here (verify's
- * job, which regenerates every file): the clip counts and everything about the output files.
+ * job, which regenerates every file): everything about the output files.
  */
 export function manifestInputsDisagreement(dir: string, m: Manifest, loaded: LoadedScenario): Problem | null {
   const plan = loaded.plan;
-  const recorded = m.perFrequency as unknown[];
+  // the clip count is the same for every beam of a frequency (the attenuation each element needs against the
+  // attenuator's range; the optimized quantizer keeps the nearest codes' clips): one beam's nearest codes give it
+  const nearest: typeof plan = { ...plan, quantizer: { ...plan.quantizer, method: "nearest" } };
+  const codes = allocBeamCodes(plan.elements.count);
   const perFrequency = Array.from(plan.frequenciesHz, (_, fi) => {
     const p = prepareFrequency(plan, fi);
-    const r = recorded[fi] as { clipped?: unknown } | undefined;
-    return { gRefDb: p.gRefDb, gRefElement: p.gRefElement, clipped: r?.clipped as number };
+    makeQuantizer(nearest, fi, p).beam(0, codes);
+    return { gRefDb: p.gRefDb, gRefElement: p.gRefElement, clipped: codes.clipped };
   });
   const copies: Manifest["files"] = {};
   for (const i of loaded.inputs) copies[INPUT_COPY[i.role]] = { bytes: i.file.bytes.length, sha256: i.file.sha256 };

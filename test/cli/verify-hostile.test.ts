@@ -437,6 +437,8 @@ describe("report on a folder whose manifest disagrees with its recorded inputs",
     ["an element id", (d) => rehash(d, (m) => (m.elementIds[0] = 999)), /\/elementIds\/0: says 999, .* give 0\b/],
     ["the frequencies", (d) => rehash(d, (m) => (m.frequenciesHz[1] = "11000000000")), /\/frequenciesHz\/1: says "11000000000"/],
     ["G_ref", (d) => rehash(d, (m) => (m.perFrequency[0].gRefDb = -99)), /\/perFrequency\/0\/gRefDb: says -99/],
+    // the clip count (the report printed "G_ref …, 999 clipped" with exit 0)
+    ["a clip count", (d) => rehash(d, (m) => (m.perFrequency[0].clipped = 999)), /\/perFrequency\/0\/clipped: says 999, .* give 0\b/],
     ["the calibration's hash", (d) => rehash(d, (m) => (m.calibration.sha256 = "0".repeat(64))), /\/calibration\/sha256: says "0{64}"/],
     ["the scenario's hash", (d) => rehash(d, (m) => (m.scenario.sha256 = "0".repeat(64))), /\/scenario\/sha256: says "0{64}"/],
     [
@@ -488,6 +490,27 @@ describe("report on a folder whose manifest disagrees with its recorded inputs",
       expect(r.code, r.stderr).toBe(2);
       expect(r.stderr).toMatch(/manifest\.json: \/extra\/band: expected the band analysis/);
       expect(existsSync(out)).toBe(false);
+    });
+
+  // the report recomputes each frequency's clip count from the recorded inputs; on builds that clip (the build's own
+  // count, the engine's maximum over every beam, is the reference) the genuine folder reports and an edited count is refused
+  for (const [what, over, files] of [
+    ["nominal attenuator", { attenuator: { bits: 1, step: "1 dB" } }, {}],
+    ["measured attenuator states", { attenuator: { bits: 1, step: "1 dB", states: "att.csv" } }, { "att.csv": "code,atten_db,phase_deg\n0,0,0\n1,1.2,3\n" }],
+  ] as [string, Record<string, unknown>, Record<string, string>][])
+    it(`clip counts on a build that clips (${what}): reported as built, an edited one refused`, () => {
+      const sc = writeScenario(baseScenario({ calibration: "cal.csv", frequency: ["10 GHz", "10.5 GHz"], taper: { kind: "taylor", sidelobe: "-30 dB", nbar: 4 }, ...over }), { "cal.csv": CAL, ...files }, join(root, `clip-${what.length}`));
+      const d = join(root, `clip-build-${what.length}`);
+      expect(cli(["build", sc, "-o", d, "--jobs", "1"]).code).toBe(0);
+      const clipped = (JSON.parse(readFileSync(join(d, "manifest.json"), "utf8")) as { perFrequency: { clipped: number }[] }).perFrequency.map((p) => p.clipped);
+      expect(Math.min(...clipped)).toBeGreaterThan(0);
+      const ok = cli(["report", d, "-o", join(d, "ok.html")]);
+      expect(ok.code, ok.stderr).toBe(0);
+      expect(readFileSync(join(d, "ok.html"), "utf8")).toContain(`${clipped[1]} clipped`);
+      rehash(d, (m) => (m.perFrequency[1].clipped = clipped[1]! + 1));
+      const r = cli(["report", d, "-o", join(d, "r.html")]);
+      expect(r.code, r.stderr).toBe(2);
+      expect(r.stderr).toMatch(new RegExp(`/perFrequency/1/clipped: says ${clipped[1]! + 1}, .* give ${clipped[1]}\\b`));
     });
 
   it("the unchanged folder still reports (exit 0)", () => {
