@@ -15,7 +15,7 @@ import { crc32 } from "node:zlib";
 import { parse } from "csv-parse/sync";
 import { InputError } from "../core/errors.js";
 import type { Plan } from "../core/plan.js";
-import type { BandReport, Manifest } from "../io/build.js";
+import { hex32, type BandReport, type Manifest } from "../io/build.js";
 import { checkFolder, folderEntry, loadBuildScenario, manifestInputsDisagreement, openFolderFile, readFolderFile, readManifest } from "../io/readbuild.js";
 import { enabledCount } from "../core/plan.js";
 
@@ -83,7 +83,7 @@ export const MAX_REPORT_BEAMS = 1_048_576;
  * the page said "no table.bin CRC in this folder to check them against" for a truncated
  * table.bin, as if the build had none.
  */
-function beamCrcs(dir: string, m: Manifest): { crc: Uint32Array | null; problem: string | null } {
+function beamCrcs(dir: string, m: Manifest): { crc: Uint32Array | null; problem: string | null; fileCrc?: number } {
   const f = m.files["table.bin"];
   if (!f) return { crc: null, problem: null };
   const entry = folderEntry(dir, "table.bin");
@@ -95,15 +95,17 @@ function beamCrcs(dir: string, m: Manifest): { crc: Uint32Array | null; problem:
   const out = new Uint32Array(n);
   const buf = Buffer.alloc(per);
   const fd = openFolderFile(entry.path);
+  let fileCrc = 0;
   try {
     for (let k = 0; k < n; k++) {
       if (readSync(fd, buf, 0, per, k * per) !== per) return { crc: null, problem: `table.bin ended early (beam ${k} of ${n}); ${verifyIt}` };
       out[k] = crc32(buf);
+      fileCrc = crc32(buf, fileCrc);
     }
   } finally {
     closeSync(fd);
   }
-  return { crc: out, problem: null };
+  return { crc: out, problem: null, fileCrc };
 }
 
 const b64 = (bytes: Uint8Array) => Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength).toString("base64");
@@ -112,6 +114,8 @@ interface BuildPart {
   html: string;
   data: PageData;
   beam: number;
+  /** said on stderr (and in --json) beside the page's ✗ */
+  warnings: string[];
 }
 
 function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
@@ -166,7 +170,7 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   }
   if (beam < 0 || beam >= B) throw new InputError({ file: dir, message: `--beam ${beam}: expected a beam from 0 to ${B - 1}` });
   if (fi < 0 || fi >= F) throw new InputError({ file: dir, message: `--frequency ${fi}: expected 0 to ${F - 1}` });
-  const { crc, problem: crcProblem } = beamCrcs(dir, m);
+  const { crc, problem: crcProblem, fileCrc } = beamCrcs(dir, m);
   const data: PageData = {
     title: plan.name || "build",
     plan: encodeTyped(plan, b64),
@@ -182,7 +186,10 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   const cal = calIn ? { ref: calIn.ref, sha256: calIn.file.sha256, comments: calIn.comments } : null;
   const fin = (x: unknown, d: number) => (typeof x === "number" && Number.isFinite(x) ? x.toFixed(d) : "n/a");
   const lsbDeg = 360 / 2 ** plan.phaseBits;
-  const binCrc = m.files["table.bin"]?.crc32;
+  // the CRC printed is table.bin's own; a manifest that records another was printed as if it were the table's
+  const listedCrc = m.files["table.bin"]?.crc32;
+  const binCrc = fileCrc !== undefined ? hex32(fileCrc) : listedCrc;
+  const fileCrcProblem = fileCrc !== undefined && listedCrc !== binCrc ? `manifest.json records table.bin's CRC-32 as ${typeof listedCrc === "string" ? listedCrc : "(none)"}, its bytes give ${binCrc}; run steercode verify on this folder` : null;
   const summary: [string, string][] = [
     ["scenario", `${m.scenario.source} (SHA-256 ${loaded.scenario.sha256})`],
     ["array", `${plan.elements.count} elements (${enabledCount(plan)} enabled)${plan.lattice ? `, ${plan.lattice.kind} lattice of ${plan.lattice.columns} columns × ${plan.lattice.rows} rows` : ", element list"}`],
@@ -193,7 +200,7 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
     ["quantizer", `${plan.quantizer.method}${plan.quantizer.method === "randomized" ? ` (seed ${plan.quantizer.seed})` : ""}`],
     ["calibration", cal ? `${cal.ref} (SHA-256 ${cal.sha256})${cal.comments.length ? ` — ${cal.comments.join(" | ")}` : ""}` : "none"],
     ["G_ref, clipped elements", m.perFrequency.map((p, i) => `${Number(((plan.frequenciesHz[i] ?? NaN) / 1e9).toPrecision(9))} GHz: ${fin(p?.gRefDb, 3)} dB, ${fin(p?.clipped, 0)} clipped`).join("; ")],
-    ["table.bin CRC-32", `${typeof binCrc === "string" ? binCrc : "no table.bin in this build"}${crcProblem ? ` — ✗ ${crcProblem}` : ""}`],
+    ["table.bin CRC-32", `${typeof binCrc === "string" ? binCrc : "no table.bin in this build"}${crcProblem ? ` — ✗ ${crcProblem}` : ""}${fileCrcProblem ? ` — ✗ ${fileCrcProblem}` : ""}`],
   ];
   // estimates that fit this quantizer and part, and why a gain loss is negative (issue 8 items 3, 4)
   const t = theoryFor(plan);
@@ -233,7 +240,7 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
 </section>
 <section id="grid"><h2>Over the whole beam grid</h2><p class="note">From beams.csv; the red box marks the beam shown. Click a cell to show that beam.</p><div id="grid-maps" class="maps"></div>
 <h3>Worst beams</h3><div id="worst"></div></section>`;
-  return { html, data, beam };
+  return { html, data, beam, warnings: fileCrcProblem ? [fileCrcProblem] : [] };
 }
 
 /** A comparison recorded in the folder (build --compare, diff -o): numbers from diff.json and changes.csv. */
@@ -428,6 +435,7 @@ export async function makeReport(dir: string, o: ReportOptions): Promise<{ html:
   let title = "steercode report";
   let beam: number | null = null;
   let data: PageData | null = null;
+  const warnings: string[] = [];
   const m = hasBuild ? readManifest(dir) : null;
   if (m) {
     title = `steercode report: ${m.name || "build"}`;
@@ -436,6 +444,7 @@ export async function makeReport(dir: string, o: ReportOptions): Promise<{ html:
     parts.push(bandPart(m));
     beam = r.beam;
     data = r.data;
+    warnings.push(...r.warnings);
   }
   if (hasDiff) parts.push(comparisonPart(dir, m));
   if (hasSweep) {
@@ -455,7 +464,7 @@ ${parts.join("\n")}
 ${script}
 </body></html>
 `;
-  return { html, beam, warnings: data?.crcProblem ? [data.crcProblem] : [] };
+  return { html, beam, warnings: [...(data?.crcProblem ? [data.crcProblem] : []), ...warnings] };
 }
 
 /**

@@ -513,6 +513,26 @@ describe("report on a folder whose manifest disagrees with its recorded inputs",
       expect(r.stderr).toMatch(new RegExp(`/perFrequency/1/clipped: says ${clipped[1]! + 1}, .* give ${clipped[1]}\\b`));
     });
 
+  // the page's "table.bin CRC-32" was the manifest's record, printed as the table's: an edited record (0xDEADBEEF) showed as is
+  it("a manifest whose table.bin CRC-32 is not the file's: the page prints the file's CRC (zlib's CRC-32 of its bytes) with a ✗, stderr warns", () => {
+    const d = copy("disagree-crc");
+    const mp = join(d, "manifest.json");
+    const m = JSON.parse(readFileSync(mp, "utf8"));
+    const real = hex8(crc32(readFileSync(join(d, "table.bin"))));
+    expect(m.files["table.bin"].crc32).toBe(real);
+    m.files["table.bin"].crc32 = "0xDEADBEEF";
+    writeFileSync(mp, JSON.stringify(m, null, 2));
+    const out = join(d, "r.html");
+    const r = cli(["report", d, "-o", out]);
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stderr).toMatch(/manifest\.json records table\.bin's CRC-32 as 0xDEADBEEF, its bytes give 0x[0-9A-F]{8}/);
+    const html = readFileSync(out, "utf8");
+    expect(html).toContain(`table.bin CRC-32</th><td>${real} — ✗ manifest.json records`);
+    expect(html).not.toMatch(/<td>0xDEADBEEF/);
+    const j = JSON.parse(cli(["report", d, "-o", out, "--json"]).stdout) as { warnings: string[] };
+    expect(j.warnings.join("\n")).toContain(`its bytes give ${real}`);
+  });
+
   it("the unchanged folder still reports (exit 0)", () => {
     const d = copy("disagree-none");
     const r = cli(["report", d, "-o", join(d, "r.html")]);
