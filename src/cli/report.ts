@@ -17,7 +17,8 @@ export function frequencyIndex(dir: string, raw: string | null): number | null {
   const text = raw.trim();
   if (/^\d+$/.test(text)) return Number(text);
   const q = /[a-zA-Z]/.test(text) ? parseQuantity(text, "frequency") : null;
-  if (!q?.ok) throw new UsageError(`--frequency ${raw}: expected a frequency index (0, 1 …) or a frequency with its unit, e.g. "28 GHz"`);
+  // a finite positive frequency: "1e999 GHz" is Infinity, within 1e-9·f of every table
+  if (!q?.ok || !Number.isFinite(q.q.value) || q.q.value <= 0) throw new UsageError(`--frequency ${raw}: expected a frequency index (0, 1 …) or a frequency with its unit, e.g. "28 GHz"`);
   const listed = readManifest(dir).frequenciesHz;
   const f = q.q.value;
   const i = listed.findIndex((x) => Math.abs(Number(x) - f) <= 1e-9 * f);

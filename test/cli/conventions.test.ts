@@ -119,6 +119,13 @@ describe("report --frequency and build --compare", () => {
     const miss = cli(["report", a, "--frequency", "28 GHz"]);
     expect(miss.code).toBe(2);
     expect(miss.stderr).toMatch(/--frequency 28 GHz: the build's tables are for 27\.5 GHz, 29 GHz/);
+    // a frequency that overflows the doubles (Infinity) matched every table, opening the first one with exit 0
+    for (const f of ["1e999 GHz", "1e400 Hz"]) {
+      const r = cli(["report", a, "--frequency", f, "-o", join(t, "inf.html")]);
+      expect(r.code, f).toBe(2);
+      expect(r.stderr).toContain(`--frequency ${f}: expected`);
+    }
+    expect(existsSync(join(t, "inf.html"))).toBe(false);
   });
 
   it("--compare with an incompatible build is refused before any work, naming no staging folder", () => {
