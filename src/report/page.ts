@@ -254,8 +254,14 @@ function comparisonPart(dir: string, m: Manifest | null): string {
   } catch {
     throw new InputError({ file: path, message: "is not valid JSON" });
   }
-  const s = (doc.summary ?? {}) as Record<string, unknown>;
-  const num = (x: unknown) => (typeof x === "number" && Number.isFinite(x) ? x : NaN);
+  // the summary's counts are printed: a document without them printed "NaN of NaN words changed" (null: an internal error)
+  const isObj = (x: unknown): x is Record<string, unknown> => typeof x === "object" && x !== null && !Array.isArray(x);
+  if (!isObj(doc)) throw new InputError({ file: path, pointer: "", message: "expected a JSON object (a steercode diff document); write it again (steercode diff, or build --compare)" });
+  const s = doc.summary;
+  if (!isObj(s)) throw new InputError({ file: path, pointer: "/summary", message: "expected the comparison's summary (an object); write it again (steercode diff, or build --compare)" });
+  for (const k of ["wordsCompared", "wordsChanged", "beamsTouched", "elementsTouched", "largestPhaseChangeLsb", "largestAttenChangeSteps"])
+    if (typeof s[k] !== "number" || !Number.isFinite(s[k]) || (s[k] as number) < 0) throw new InputError({ file: path, pointer: `/summary/${k}`, message: "expected a number ≥ 0; write it again (steercode diff, or build --compare)" });
+  const num = (x: unknown) => x as number;
   const str = (x: unknown) => (typeof x === "string" ? x : "");
   const lines: string[] = [];
   lines.push(doc.identical === true ? `identical: all ${num(s.wordsCompared)} words agree` : s.wordsChanged === 0 ? `all ${num(s.wordsCompared)} words agree, but the device images differ` : `${num(s.wordsChanged)} of ${num(s.wordsCompared)} words changed, in ${num(s.beamsTouched)} beam(s) and ${num(s.elementsTouched)} element(s); largest phase change ${num(s.largestPhaseChangeLsb)} LSB, largest attenuation change ${num(s.largestAttenChangeSteps)} step(s)`);

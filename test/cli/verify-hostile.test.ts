@@ -533,6 +533,22 @@ describe("report on a folder whose manifest disagrees with its recorded inputs",
     expect(j.warnings.join("\n")).toContain(`its bytes give ${real}`);
   });
 
+  // diff.json (build --compare, diff): null was an internal error (exit 3), {} printed "NaN of NaN words changed"
+  for (const [what, text, re] of [
+    ["null", "null", /diff\.json: \/: expected a JSON object/],
+    ["{}", "{}", /diff\.json: \/summary: expected the comparison's summary/],
+    ["a summary without counts", JSON.stringify({ identical: false, summary: { wordsChanged: "x" } }), /diff\.json: \/summary\/wordsCompared: expected a number ≥ 0/],
+  ] as [string, string, RegExp][])
+    it(`a diff.json that is ${what}: exit 2 naming it, nothing written`, () => {
+      const d = copy(`bad-diff-${what.length}`);
+      writeFileSync(join(d, "diff.json"), text);
+      const out = join(d, "r.html");
+      const r = cli(["report", d, "-o", out]);
+      expect(r.code, r.stderr).toBe(2);
+      expect(r.stderr).toMatch(re);
+      expect(existsSync(out)).toBe(false);
+    });
+
   it("the unchanged folder still reports (exit 0)", () => {
     const d = copy("disagree-none");
     const r = cli(["report", d, "-o", join(d, "r.html")]);
