@@ -113,6 +113,31 @@ describe("beams pulled by the element pattern", () => {
     expect(pc!.worstDeg).toBeCloseTo(pb!.worstDeg, 1); // 6-bit phases: the realized peak is the ideal one to ~0.01°
   });
 
+  // the worst pulled beam's psl_db can be empty (no sidelobe found): build and the report printed "PSL NaN dB"
+  it("a worst pulled beam without a PSL is said to have none, not NaN (3×4 triangular at 0.25 λ, cos^100 θ, randomized)", () => {
+    const s = writeScenario(
+      baseScenario({
+        array: { lattice: { kind: "triangular", columns: 3, rows: 4, dx: "0.25 lambda", dy: "0.5 lambda" } },
+        beams: { kind: "azel", az: { from: -60, to: 60, step: 30 }, el: { from: 0, to: 0, step: 1 } },
+        phaseShifter: { bits: 4 },
+        quantizer: { method: "randomized" },
+        element: { pattern: "cosine", exponent: 100 },
+      }),
+    );
+    const out = join(tempDir(), "b");
+    const r = cli(["build", s, "-o", out]);
+    expect(r.code, r.stderr).toBe(0);
+    const rows = parse(readFileSync(join(out, "beams.csv")), { columns: true }) as Record<string, string>[];
+    const worst = /worst beam (\d+) /.exec(r.stdout);
+    expect(worst, r.stdout).not.toBeNull();
+    expect(rows[Number(worst![1])]!.psl_db).toBe(""); // the case this test is about
+    expect(r.stdout).toMatch(/PSL n\/a: no sidelobe found\); beams/);
+    expect(r.stdout).not.toMatch(/NaN/);
+    const rep = cli(["report", out, "-o", join(out, "r.html")]);
+    expect(rep.code, rep.stderr).toBe(0);
+    expect(readFileSync(join(out, "r.html"), "utf8")).not.toMatch(/PSL NaN/);
+  });
+
   it("no warning with isotropic elements or a mild pattern (cos^1 θ) on the same grid", () => {
     for (const element of [null, { pattern: "cosine", exponent: 1 }]) {
       const s = writeScenario(doc(element));

@@ -197,7 +197,9 @@ export function pullWarning(plan: Plan, pulls: BeamPull[], psl?: (fi: number, be
   const ghz = plan.frequenciesHz.length > 1 ? ` at ${(plan.frequenciesHz[w.fi]! / 1e9).toPrecision(6)} GHz` : "";
   const el = plan.element!;
   const what = el.pattern === "cosine" ? `cos^${el.exponent} θ element pattern` : "element pattern table";
-  const pslText = psl ? `, PSL ${psl(w.fi, w.beam).toFixed(2)} dB` : "";
+  // a beam without a sidelobe in visible space has no PSL (beams.csv leaves it empty): it printed "PSL NaN dB"
+  const pslDb = psl ? psl(w.fi, w.beam) : NaN;
+  const pslText = psl ? (Number.isFinite(pslDb) ? `, PSL ${pslDb.toFixed(2)} dB` : ", PSL n/a: no sidelobe found") : "";
   const ids = pulls.slice(0, 8).map((p) => `${p.beam}${plan.frequenciesHz.length > 1 ? `@${(plan.frequenciesHz[p.fi]! / 1e9).toPrecision(6)}GHz` : ""}`).join(", ");
   return (
     `${pulls.length} of ${total} beam(s) ${predicted ? "will be" : "are"} pulled by the ${what} beyond the array's half-power main lobe ` +
