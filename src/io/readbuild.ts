@@ -162,6 +162,10 @@ export function readManifest(dir: string): Manifest {
     at("/layout", "expected the word layout (bits 1–32, bytes, off, fields with name, shift and width)");
   if (!isObj(m.phaseShifter) || !isCount(m.phaseShifter.bits) || m.phaseShifter.bits > 12) at("/phaseShifter/bits", "expected the phase shifter's bits (1–12)");
   if (!Array.isArray(m.perFrequency)) at("/perFrequency", "expected a list, one entry per frequency");
+  // diff and build --compare print the calibration record (a number or comments that were not a list: an internal error)
+  const cal = m.calibration as unknown as Record<string, unknown> | null | undefined;
+  if (cal != null && (!isObj(cal) || typeof cal.ref !== "string" || typeof cal.sha256 !== "string" || !Array.isArray(cal.comments) || !cal.comments.every((c: unknown) => typeof c === "string")))
+    at("/calibration", "expected null or the calibration record (ref, sha256, comments: a list of strings)");
   // the band analysis the report prints (a malformed one was an internal error there)
   const ext = m.extra as unknown;
   if (ext !== undefined && !isObj(ext)) at("/extra", "expected an object (the analysis summary)");

@@ -549,6 +549,26 @@ describe("report on a folder whose manifest disagrees with its recorded inputs",
       expect(existsSync(out)).toBe(false);
     });
 
+  // diff and build --compare print the calibration record: a number, or comments missing or not a list, were internal errors
+  // (exit 3: "Cannot read properties of undefined (reading 'map')", "c.comments.map is not a function")
+  for (const [what, edit] of [
+    ["a number", (m: any) => (m.calibration = 1e308)],
+    ["without comments", (m: any) => delete m.calibration.comments],
+    ["with comments that are a string", (m: any) => (m.calibration.comments = "0".repeat(64))],
+  ] as [string, (m: any) => void][])
+    it(`a calibration record that is ${what}: diff and build --compare exit 2 at /calibration`, () => {
+      const d = copy(`bad-cal-${what.length}`);
+      rehash(d, edit);
+      const r = cli(["diff", base, d, "-o", join(d, "..", `bad-cal-diff-${what.length}`)]);
+      expect(r.code, r.stderr).toBe(2);
+      expect(r.stderr).toMatch(/manifest\.json: \/calibration: expected null or the calibration record/);
+      const out = join(root, `bad-cal-cmp-${what.length}`);
+      const b = cli(["build", scenario, "-o", out, "--compare", d, "--no-analysis"]);
+      expect(b.code, b.stderr).toBe(2);
+      expect(b.stderr).toMatch(/manifest\.json: \/calibration: expected null or the calibration record/);
+      expect(existsSync(out)).toBe(false);
+    });
+
   it("the unchanged folder still reports (exit 0)", () => {
     const d = copy("disagree-none");
     const r = cli(["report", d, "-o", join(d, "r.html")]);
