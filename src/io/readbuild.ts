@@ -162,6 +162,12 @@ export function readManifest(dir: string): Manifest {
     at("/layout", "expected the word layout (bits 1–32, bytes, off, fields with name, shift and width)");
   if (!isObj(m.phaseShifter) || !isCount(m.phaseShifter.bits) || m.phaseShifter.bits > 12) at("/phaseShifter/bits", "expected the phase shifter's bits (1–12)");
   if (!Array.isArray(m.perFrequency)) at("/perFrequency", "expected a list, one entry per frequency");
+  else {
+    // diff writes each G_ref change to diff.json: a NaN there was an internal error
+    const k = m.perFrequency.findIndex((p) => !isObj(p) || typeof p.frequencyHz !== "string" || typeof p.gRefDb !== "number" || !Number.isFinite(p.gRefDb));
+    if (k >= 0) at(`/perFrequency/${k}`, "expected { frequencyHz: a decimal string, gRefDb: a number, gRefElement, clipped }");
+    else if (Array.isArray(m.frequenciesHz) && m.perFrequency.length !== m.frequenciesHz.length) at("/perFrequency", `expected one entry per frequency (${m.frequenciesHz.length}), found ${m.perFrequency.length}`);
+  }
   // diff and build --compare print the calibration record (a number or comments that were not a list: an internal error)
   const cal = m.calibration as unknown as Record<string, unknown> | null | undefined;
   if (cal != null && (!isObj(cal) || typeof cal.ref !== "string" || typeof cal.sha256 !== "string" || !Array.isArray(cal.comments) || !cal.comments.every((c: unknown) => typeof c === "string")))

@@ -569,6 +569,20 @@ describe("report on a folder whose manifest disagrees with its recorded inputs",
       expect(existsSync(out)).toBe(false);
     });
 
+  // diff writes each frequency's G_ref change to diff.json: an entry that is not an object, or one missing, gave a NaN
+  // there and an internal error (exit 3: "Object can not safely be stringified. Received type number (NaN)")
+  for (const [what, edit, re] of [
+    ["a number", (m: any) => (m.perFrequency[1] = 0.5), /\/perFrequency\/1: expected \{ frequencyHz/],
+    ["one entry short", (m: any) => m.perFrequency.pop(), /\/perFrequency: expected one entry per frequency \(2\), found 1/],
+  ] as [string, (m: any) => void, RegExp][])
+    it(`a perFrequency list with ${what}: diff exit 2 naming the pointer`, () => {
+      const d = copy(`bad-perf-${what.length}`);
+      rehash(d, edit);
+      const r = cli(["diff", d, base, "-o", join(root, `bad-perf-diff-${what.length}`)]);
+      expect(r.code, r.stderr).toBe(2);
+      expect(r.stderr).toMatch(re);
+    });
+
   it("the unchanged folder still reports (exit 0)", () => {
     const d = copy("disagree-none");
     const r = cli(["report", d, "-o", join(d, "r.html")]);
