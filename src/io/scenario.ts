@@ -302,7 +302,8 @@ class Loader {
       // the element pattern is zero on the horizon: a beam there has no gain to analyse
       const onHorizon: number[] = [];
       for (let b = 0; b < beams.count; b++) if (element.pattern === "cosine" && beams.u[b]! ** 2 + beams.v[b]! ** 2 >= 1 - 1e-12) onHorizon.push(b);
-      if (onHorizon.length) this.problem("/beams", `${onHorizon.length} beam(s) on the horizon (first: beam ${onHorizon[0]}), where the cosine element pattern is zero; expected every beam above the horizon (θ < 90°) with "element"`);
+      // the test is u² + v² ≥ 1 − 1e-12 (cos θ ≤ 1e-6), a margin for rounding: say so (θ = 89.99999° was refused as "on the horizon", "expected θ < 90°")
+      if (onHorizon.length) this.problem("/beams", `${onHorizon.length} beam(s) on the horizon or within 0.0000573° of it (cos θ ≤ 1e-6, θ > 89.9999427°; first: beam ${onHorizon[0]}), where the cosine element pattern is zero; expected every beam at θ ≤ 89.9999427° with "element"`);
     }
     if (band && beams && freqs.length) {
       const rows = freqs.length * beams.count * band.frequenciesHz.length;
