@@ -1,6 +1,7 @@
 /** The first difference between two JSON documents, by JSON pointer (verify's manifest check; report's consistency check). */
 
-function pointerPart(k: string): string {
+/** One key as a JSON pointer segment (RFC 6901: "~" → "~0", "/" → "~1"). */
+export function pointerPart(k: string): string {
   return k.replace(/~/g, "~0").replace(/\//g, "~1");
 }
 

@@ -6,6 +6,7 @@
  * later). Every error carries the line and column, and the JSON pointer where known.
  */
 import { D } from "../core/exact.js";
+import { pointerPart } from "./json-diff.js";
 
 export const MAX_JSON_DEPTH = 64;
 
@@ -25,10 +26,6 @@ export class JsonError extends Error {
   ) {
     super(message);
   }
-}
-
-function escapePointer(key: string): string {
-  return key.replace(/~/g, "~0").replace(/\//g, "~1");
 }
 
 const NUMBER_RE = /-?(?:0|[1-9]\d*)(?:\.\d+)?(?:[eE][+-]?\d+)?/y;
@@ -122,7 +119,7 @@ export function parseJsonStrict(text: string, rounded?: RoundedNumber[]): unknow
         if (text[i] !== '"') fail(`expected a key in quotes, found ${what()}`);
         const at = i;
         const key = str();
-        const p = `${pointer}/${escapePointer(key)}`;
+        const p = `${pointer}/${pointerPart(key)}`;
         if (seen.has(key)) fail(`key "${key}" is given twice in one object; expected each key once`, at, p);
         seen.add(key);
         ws();

@@ -9,7 +9,7 @@ import { join } from "node:path";
 import { constants as bufferConstants } from "node:buffer";
 import { InputError, type Problem } from "../core/errors.js";
 import { INPUT_COPY, makeManifest, SCENARIO_COPY, type Manifest } from "./build.js";
-import { firstDifference } from "./json-diff.js";
+import { firstDifference, pointerPart } from "./json-diff.js";
 import { D } from "../core/exact.js";
 import { makeQuantizer, prepareFrequency } from "../core/quantize/index.js";
 import { allocBeamCodes } from "../core/quantize/contract.js";
@@ -149,7 +149,7 @@ export function readManifest(dir: string): Manifest {
   else
     for (const [name, f] of Object.entries(m.files)) {
       const bad = checkName(name);
-      const ptr = `/files/${name.replace(/~/g, "~0").replace(/\//g, "~1")}`;
+      const ptr = `/files/${pointerPart(name)}`;
       if (bad) at(ptr, bad);
       else if (!isObj(f) || !isCount(f.bytes) || typeof f.sha256 !== "string" || !/^[0-9a-f]{64}$/.test(f.sha256)) at(ptr, "expected { bytes: a whole number, sha256: 64 hex digits }");
     }
@@ -333,7 +333,6 @@ export function manifestInputsDisagreement(dir: string, m: Manifest, loaded: Loa
   copies[SCENARIO_COPY] = { bytes: loaded.scenario.bytes.length, sha256: loaded.scenario.sha256 };
   const expected = makeManifest(loaded, m.scenario.source, perFrequency, copies, m.analysis) as unknown as Record<string, unknown>;
   const found = m as unknown as Record<string, unknown>;
-  const pointerPart = (k: string) => k.replace(/~/g, "~0").replace(/\//g, "~1");
   let d: ReturnType<typeof firstDifference> = null;
   for (const k of Object.keys(expected).sort()) {
     if (k === "tool" || k === "files") continue;
