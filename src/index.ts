@@ -24,6 +24,7 @@ import { planCalibrationAt, type CalibrationServed } from "./core/calibrate/per-
 import type { Probe } from "./core/calibrate/contract.js";
 import { runCalibrate, type CalibrateOptions, type CalibrateResult } from "./workflows/calibrate.js";
 import { availableParallelism } from "node:os";
+import { isJobsCount, MAX_JOBS } from "./io/jobs.js";
 
 export { InputError, formatProblem };
 export type { Problem, Manifest, DiffResult, VerifyResult, Theory };
@@ -210,9 +211,6 @@ export function theory(s: Scenario): Theory {
   return theoryFor(s.loaded.plan);
 }
 
-/** The most analysis threads asked for, as `--jobs` takes them (src/cli/commands.ts `jobsOption`). */
-const MAX_JOBS = 256;
-
 /**
  * `jobs` as the command line takes `--jobs`: a whole number from 1 to 256, more than the
  * cores only compete for them and are cut to the number of cores (silently: the library
@@ -221,7 +219,7 @@ const MAX_JOBS = 256;
 function jobsArg(jobs: unknown): number {
   // 0, −3, NaN and 1e9 were taken (one thread, or up to 1e9 − 1 workers allowed); 1.5 failed deep inside with a RangeError
   if (jobs === undefined) return 1;
-  if (typeof jobs !== "number" || !Number.isInteger(jobs) || jobs < 1 || jobs > MAX_JOBS) throw new InputError({ message: `jobs ${typeof jobs === "string" ? JSON.stringify(jobs) : String(jobs)}: expected a whole number from 1 to ${MAX_JOBS} (the most threads for the analysis, this one included)` });
+  if (!isJobsCount(jobs)) throw new InputError({ message: `jobs ${typeof jobs === "string" ? JSON.stringify(jobs) : String(jobs)}: expected a whole number from 1 to ${MAX_JOBS} (the most threads for the analysis, this one included)` });
   return Math.min(jobs, availableParallelism());
 }
 

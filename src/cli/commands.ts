@@ -9,6 +9,7 @@
 import { availableParallelism } from "node:os";
 import type { Io } from "./shared.js";
 import { UsageError } from "./usage.js";
+import { isJobsCount, MAX_JOBS } from "../io/jobs.js";
 
 export interface OptionSpec {
   type: "string" | "number" | "boolean";
@@ -52,7 +53,7 @@ const JOBS_OPTION: OptionSpec = { type: "number", default: availableParallelism(
 
 export function jobsOption(raw: unknown): number {
   const jobs = Number(raw);
-  if (!Number.isInteger(jobs) || jobs < 1 || jobs > 256) throw new UsageError(`--jobs: expected a whole number from 1 to 256, got ${String(raw)}`);
+  if (!isJobsCount(jobs)) throw new UsageError(`--jobs: expected a whole number from 1 to ${MAX_JOBS}, got ${String(raw)}`);
   // more threads than cores only compete for them (and each holds its own analysis buffers)
   const cores = availableParallelism();
   if (jobs > cores) {
