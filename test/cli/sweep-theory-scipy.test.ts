@@ -82,33 +82,25 @@ describe("sweep: theory beside measurement against scipy", () => {
     // 0.5 dB is not swept here): one dashed curve per (step, quantizer), its points on one affine scale
     // with scipy's values (y pixel = α + β·dB)
     const svg = readFileSync(join(out, "sweep.svg"), "utf8");
-    const curves = [...svg.matchAll(/<path d="([^"]+)"[^>]*stroke-dasharray="8 3 2 3"/g)].map((m) => [...m[1]!.matchAll(/[ML]([\d.]+) ([\d.]+)/g)].map((p) => Number(p[2])));
-    expect(curves.length).toBe(6);
     const groups = [...new Set(json.map((r) => `${r.atten_step_db}|${r.quantizer}`))];
-    const ys: number[] = [], vs: number[] = [];
-    groups.forEach((g, k) => {
-      const idx = json.map((r, i) => [r, i] as const).filter(([r]) => `${r.atten_step_db}|${r.quantizer}` === g).sort(([a], [b]) => (a.phase_bits as number) - (b.phase_bits as number));
-      expect(curves[k]!.length).toBe(idx.length);
-      idx.forEach(([, i], j) => {
-        ys.push(curves[k]![j]!);
-        vs.push(expected[i]!.theory_random_floor_db!);
+    /** the curves dashed `dash`, one per (step, quantizer) in row order, against numpy's `key` on one affine scale */
+    const curvesOnScale = (dash: string, key: (typeof KEYS)[number]) => {
+      const curves = [...svg.matchAll(new RegExp(`<path d="([^"]+)"[^>]*stroke-dasharray="${dash}"`, "g"))].map((m) => [...m[1]!.matchAll(/[ML]([\d.]+) ([\d.]+)/g)].map((p) => Number(p[2])));
+      expect(curves.length).toBe(6);
+      const ys: number[] = [], vs: number[] = [];
+      groups.forEach((g, k) => {
+        const idx = json.map((r, i) => [r, i] as const).filter(([r]) => `${r.atten_step_db}|${r.quantizer}` === g).sort(([a], [b]) => (a.phase_bits as number) - (b.phase_bits as number));
+        expect(curves[k]!.length).toBe(idx.length);
+        idx.forEach(([, i], j) => {
+          ys.push(curves[k]![j]!);
+          vs.push(expected[i]![key]!);
+        });
       });
-    });
-    onOneScale(ys, vs);
-
+      onOneScale(ys, vs);
+    };
+    curvesOnScale("8 3 2 3", "theory_random_floor_db");
     // the gain-loss panel draws the expected loss (phase + attenuator term) per swept step and quantizer the same way
-    const lossCurves = [...svg.matchAll(/<path d="([^"]+)"[^>]*stroke-dasharray="5 2 1 2"/g)].map((m) => [...m[1]!.matchAll(/[ML]([\d.]+) ([\d.]+)/g)].map((p) => Number(p[2])));
-    expect(lossCurves.length).toBe(6);
-    const ly: number[] = [], lv: number[] = [];
-    groups.forEach((g, k) => {
-      const idx = json.map((r, i) => [r, i] as const).filter(([r]) => `${r.atten_step_db}|${r.quantizer}` === g).sort(([a], [b]) => (a.phase_bits as number) - (b.phase_bits as number));
-      expect(lossCurves[k]!.length).toBe(idx.length);
-      idx.forEach(([, i], j) => {
-        ly.push(lossCurves[k]![j]!);
-        lv.push(expected[i]!.theory_expected_gain_loss_db!);
-      });
-    });
-    onOneScale(ly, lv);
+    curvesOnScale("5 2 1 2", "theory_expected_gain_loss_db");
   });
 });
 
