@@ -354,6 +354,9 @@ for (const [name, args] of [
   const option = name.split(" ")[0]!;
   cases.push({ name: `${option} given twice (${name})`, doc: B({ devices: { channels: 4 } }), files: { "rev.csv": REV(revRows()) }, ...(option === "--beam" ? { prepare: BUILD_DIR } : {}), args, expect: [re(`${option} was given 2 times`), /expected it once/] });
 }
+// string options given empty were taken as not given: no comparison (exit 0), no diff folder (exit 0)
+cases.push({ name: "build --compare with no value", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--compare"], expect: [/--compare: expected an earlier build folder, got an empty string/] });
+cases.push({ name: "diff -o an empty string", prepare: BUILD_DIR, args: (d) => ["diff", d, d, "-o", ""], expect: [/-o: expected a folder name, got an empty string/] });
 
 describe("bad input: exit 2, a message naming file and field or line, nothing written", () => {
   it("the corpus holds at least 40 cases", () => expect(cases.length).toBeGreaterThanOrEqual(40));
