@@ -1,6 +1,7 @@
 import { deriveFacts } from "../core/facts.js";
 import { makeManifest, refuseBuildAnalysis, runBuild, type Manifest } from "../io/build.js";
 import { InputError } from "../core/errors.js";
+import { UsageError } from "./usage.js";
 import { loadScenario } from "../io/scenario.js";
 import { checkTarget } from "../io/outdir.js";
 import { fmt, printJson, progress, SAFETY, warn, type Io } from "./shared.js";
@@ -21,6 +22,8 @@ export interface BuildArgs {
 }
 
 export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
+  // --compare "" (or with no value) built without the comparison asked for (exit 0)
+  if (args.compare === "") throw new UsageError("--compare: expected an earlier build folder, got an empty string");
   checkTarget(args.out, "build");
   // the comparison's modules only for --compare
   if (args.compare) (await compareModules()).readManifest(args.compare);

@@ -3,6 +3,8 @@ import { checkCalibrationTarget } from "../io/outdir.js";
 import type { MethodName, Probe } from "../core/calibrate/index.js";
 import { fmt, printJson, warn, type Io } from "./shared.js";
 import { UsageError } from "./usage.js";
+import { listOption } from "./option-values.js";
+import { DECIMAL_RE } from "../core/units.js";
 import { statSync } from "node:fs";
 import { InputError } from "../core/errors.js";
 import { MAX_LENGTH_M } from "../io/scenario.js";
@@ -16,10 +18,11 @@ export interface CalibrateArgs {
   out: string;
 }
 
+/** `n` decimal numbers (as a quantity's number is written: not 0x10, Infinity or NaN), comma-separated. */
 function numbers(raw: string, n: number, opt: string, what: string): number[] {
-  const parts = raw.split(",").map((s) => s.trim());
+  const parts = listOption(opt, raw, what);
   const v = parts.map(Number);
-  if (parts.length !== n || parts.some((p) => p === "") || v.some((x) => !Number.isFinite(x))) throw new UsageError(`${opt}: expected ${what}, got "${raw}"`);
+  if (parts.length !== n || parts.some((p) => !DECIMAL_RE.test(p)) || v.some((x) => !Number.isFinite(x))) throw new UsageError(`${opt}: expected ${what}, got "${raw}"`);
   return v;
 }
 

@@ -6,6 +6,7 @@ import { loadScenario, MAX_FREQUENCY_HZ, MIN_FREQUENCY_HZ } from "../io/scenario
 import { fmt, printable, printJson, SAFETY, type Io } from "./shared.js";
 import { parseQuantity } from "../core/units.js";
 import { UsageError } from "./usage.js";
+import { got, wholeOption } from "./option-values.js";
 import { deviceFacts, type BusModel, type DeviceFact } from "../workflows/devices.js";
 import type { Plan } from "../core/plan.js";
 
@@ -27,15 +28,10 @@ export function busOptions(clock: unknown, wordBits: unknown, overhead: unknown)
   if (clock !== undefined) {
     const q = parseQuantity(String(clock).replace(/^([0-9.eE+-]+)([a-zA-Z])/, "$1 $2"), "frequency");
     // bounded like every frequency: 1e400Hz was taken as an infinite clock ("full load 0.000 µs")
-    if (!q.ok || !(q.q.value >= MIN_FREQUENCY_HZ && q.q.value <= MAX_FREQUENCY_HZ)) throw new UsageError(`--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got ${String(clock)}`);
+    if (!q.ok || !(q.q.value >= MIN_FREQUENCY_HZ && q.q.value <= MAX_FREQUENCY_HZ)) throw new UsageError(`--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, ${got(clock)}`);
     clockHz = q.q.value;
   }
-  const whole = (name: string, v: unknown, min: number) => {
-    const n = Number(v);
-    if (!Number.isInteger(n) || n < min || n > 4096) throw new UsageError(`--${name}: expected a whole number from ${min} to 4096, got ${String(v)}`);
-    return n;
-  };
-  return { clockHz, wordBits: wordBits === undefined ? null : whole("bus-word-bits", wordBits, 1), overheadBits: whole("bus-overhead-bits", overhead ?? 0, 0) };
+  return { clockHz, wordBits: wordBits === undefined ? null : wholeOption("--bus-word-bits", wordBits, 1, 4096), overheadBits: wholeOption("--bus-overhead-bits", overhead ?? 0, 0, 4096) };
 }
 
 function busModel(plan: Plan, o: BusOptions): BusModel | null {

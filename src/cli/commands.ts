@@ -8,8 +8,8 @@
  */
 import { availableParallelism } from "node:os";
 import type { Io } from "./shared.js";
-import { UsageError } from "./usage.js";
-import { isJobsCount, MAX_JOBS } from "../io/jobs.js";
+import { MAX_JOBS } from "../io/jobs.js";
+import { wholeOption } from "./option-values.js";
 
 export interface OptionSpec {
   type: "string" | "number" | "boolean";
@@ -52,8 +52,8 @@ export const GLOBAL: Record<string, OptionSpec> = {
 const JOBS_OPTION: OptionSpec = { type: "number", default: availableParallelism(), describe: "most threads for the analysis, the main thread included (at most the number of cores); more start only when the work pays for them" };
 
 export function jobsOption(raw: unknown): number {
-  const jobs = Number(raw);
-  if (!isJobsCount(jobs)) throw new UsageError(`--jobs: expected a whole number from 1 to ${MAX_JOBS}, got ${String(raw)}`);
+  // the library's thread-count rule (isJobsCount: 1 to MAX_JOBS), read from the option's text
+  const jobs = wholeOption("--jobs", raw, 1, MAX_JOBS);
   // more threads than cores only compete for them (and each holds its own analysis buffers)
   const cores = availableParallelism();
   if (jobs > cores) {
@@ -209,8 +209,9 @@ export const COMMAND_SPECS: Record<string, CommandSpec> = {
       ['$0 report build-2 --beam 40 --frequency "28 GHz"', "open at beam 40 of the 28 GHz table"],
     ],
     run: async (a, io) => {
-      if (a.beam !== undefined && (!Number.isInteger(a.beam) || (a.beam as number) < 0)) throw new UsageError(`--beam: expected a whole number ≥ 0, got ${String(a.beam)}`);
-      return (await import("./report.js")).reportCommand(io, { dir: String(a.dir), out: opt(a.o), beam: a.beam === undefined ? null : Number(a.beam), frequency: opt(a.frequency) });
+      // ≥ 0 here; past the build's last beam is refused with its beam count (report/page.ts)
+      const beam = a.beam === undefined ? null : wholeOption("--beam", a.beam, 0);
+      return (await import("./report.js")).reportCommand(io, { dir: String(a.dir), out: opt(a.o), beam, frequency: opt(a.frequency) });
     },
   },
   help: {

@@ -86,9 +86,10 @@ export function* diffJsonChunks(r: DiffScan, perChunk = 4096): Generator<string>
 }
 
 export async function diffCommand(io: Io, a: string, b: string, out: string | undefined): Promise<number> {
-  if (out) checkTarget(out, "diff");
+  // -o "" (or -o with no value) is refused by checkTarget, not taken as no -o
+  if (out !== undefined) checkTarget(out, "diff");
   const r = scanDiff(a, b);
-  if (out) {
+  if (out !== undefined) {
     const stage = new StagedDir(out, "diff");
     try {
       writeDiffFiles(stage.tmp, r, a, b);

@@ -45,15 +45,17 @@ export function fastParse(argv: readonly string[]): FastParse {
     }
     if (a.length !== 2 || !spelt.has(a.slice(1))) return null;
   }
-  const string: string[] = [], number: string[] = [], boolean: string[] = [];
+  const string: string[] = [], boolean: string[] = [];
   const alias: Record<string, string[]> = {};
   const defaults: Record<string, unknown> = {};
   for (const [k, o] of Object.entries(options)) {
-    (o.type === "string" ? string : o.type === "number" ? number : boolean).push(k);
+    // a number option as its text, read by the command (option-values.ts): yargs-parser's number type is Number("") = 0, Number("0x10") = 16
+    (o.type === "boolean" ? boolean : string).push(k);
     if (o.alias) alias[k] = [o.alias];
-    if (o.default !== undefined) defaults[k] = o.default;
+    // a value option's default is filled in below, when it is not given: given with no value after it, it is "" (yargs-cli.ts alike)
+    if (o.type === "boolean" && o.default !== undefined) defaults[k] = o.default;
   }
-  const r = parse.detailed([...argv], { string, number, boolean, alias, default: defaults, configuration: { "parse-positional-numbers": false } });
+  const r = parse.detailed([...argv], { string, boolean, alias, default: defaults, configuration: { "parse-positional-numbers": false } });
   if (r.error) return null;
   const parsed = r.argv as Record<string, unknown> & { _: unknown[] };
   const words = parsed._;
@@ -66,13 +68,14 @@ export function fastParse(argv: readonly string[]): FastParse {
   for (const k of Object.keys(parsed)) if (!known.has(k)) return null;
   const args: Args = {};
   for (const [k, o] of Object.entries(options)) {
-    const v = parsed[k];
+    let v = parsed[k];
     if (v === undefined) {
       if (o.demandOption) return null;
-      continue;
+      if (o.default === undefined) continue;
+      v = o.default;
     }
-    // one plain value of the declared type; anything else (repeated, empty, NaN) is yargs' to judge
-    if (o.type === "string" ? typeof v !== "string" || v === "" : o.type === "number" ? typeof v !== "number" || !Number.isFinite(v) : typeof v !== "boolean") return null;
+    // one plain value (a number option's too is text); anything else (repeated, empty) is yargs' to judge
+    else if (o.type === "boolean" ? typeof v !== "boolean" : typeof v !== "string" || v === "") return null;
     args[k] = v;
     if (o.alias) args[o.alias] = v;
   }

@@ -5,13 +5,16 @@ import { checkTarget } from "../io/outdir.js";
 import { jsonRows, runSweep } from "../io/sweep.js";
 import { fmt, printJson, progress, SAFETY, type Io } from "./shared.js";
 import { UsageError } from "./usage.js";
+import { listOption } from "./option-values.js";
+
+const BITS_EXPECTED = "a range like 3..8 or a list like 3,4,6";
 
 /** "3..8" or "3,4,6" → [3, 4, …]; each 1 … 12. */
 export function parseBits(text: string): number[] {
   const out = new Set<number>();
-  for (const part of text.split(",").map((s) => s.trim()).filter(Boolean)) {
+  for (const part of listOption("--phase-bits", text, BITS_EXPECTED)) {
     const m = /^(\d+)(?:\.\.(\d+))?$/.exec(part);
-    if (!m) throw new UsageError(`--phase-bits: expected a range like 3..8 or a list like 3,4,6, got "${text}"`);
+    if (!m) throw new UsageError(`--phase-bits: expected ${BITS_EXPECTED}, got "${text}"`);
     const a = Number(m[1]);
     const b = m[2] === undefined ? a : Number(m[2]);
     if (b < a || a < 1 || b > 12) throw new UsageError(`--phase-bits: expected bit depths from 1 to 12 in increasing order, got "${part}"`);
@@ -21,44 +24,46 @@ export function parseBits(text: string): number[] {
       out.add(k);
     }
   }
-  if (!out.size) throw new UsageError("--phase-bits: expected at least one bit depth");
   return [...out].sort((x, y) => x - y);
 }
 
 export function parseSteps(text: string): { value: number; exact: string }[] {
   const out: { value: number; exact: string }[] = [];
-  for (const part of text.split(",").map((s) => s.trim()).filter(Boolean)) {
+  const expected = `steps in dB greater than 0 and at most ${MAX_ATTEN_STEP_DB} like 0.25,0.5,1`;
+  for (const part of listOption("--atten-step", text, expected)) {
     const r = parseQuantity(/^[\d.eE+-]+$/.test(part) ? `${part} dB` : part, "level");
-    if (!r.ok || !(r.q.value > 0) || !(r.q.value <= MAX_ATTEN_STEP_DB)) throw new UsageError(`--atten-step: expected steps in dB greater than 0 and at most ${MAX_ATTEN_STEP_DB} like 0.25,0.5,1, got "${part}"`);
+    if (!r.ok || !(r.q.value > 0) || !(r.q.value <= MAX_ATTEN_STEP_DB)) throw new UsageError(`--atten-step: expected ${expected}, got "${part}"`);
     const twin = out.find((s) => r.q.exact.eq(s.exact));
     if (twin) throw new UsageError(`--atten-step: ${r.q.exact.toString()} dB is listed twice in "${text}"; expected each step once`);
     out.push({ value: r.q.value, exact: r.q.exact.toString() });
   }
-  if (!out.length) throw new UsageError("--atten-step: expected at least one step");
   return out.sort((a, b) => a.value - b.value);
 }
 
 export function parseQuantizers(text: string): QuantizerMethod[] {
   const out: QuantizerMethod[] = [];
-  for (const part of text.split(",").map((s) => s.trim()).filter(Boolean)) {
-    if (part !== "nearest" && part !== "randomized" && part !== "optimized") throw new UsageError(`--quantizer: expected one or more of nearest, randomized, optimized (comma-separated), got "${part}"`);
+  const expected = "one or more of nearest, randomized, optimized (comma-separated)";
+  for (const part of listOption("--quantizer", text, expected)) {
+    if (part !== "nearest" && part !== "randomized" && part !== "optimized") throw new UsageError(`--quantizer: expected ${expected}, got "${part}"`);
     if (out.includes(part)) throw new UsageError(`--quantizer: ${part} is listed twice in "${text}"; expected each quantizer once`);
     out.push(part);
   }
-  if (!out.length) throw new UsageError("--quantizer: expected at least one of nearest, randomized, optimized");
   return out;
 }
 
 export async function sweepCommand(io: Io, a: { scenario: string; out: string; phaseBits: string; attenStep: string | null; quantizer: string | null; jobs: number }): Promise<number> {
+  // every option before any work; given empty ("--atten-step ''") is refused, not taken as absent
   const phaseBits = parseBits(a.phaseBits);
+  const steps = a.attenStep !== null ? parseSteps(a.attenStep) : null;
+  const quantizers = a.quantizer !== null ? parseQuantizers(a.quantizer) : null;
   checkTarget(a.out, "sweep");
-  return sweepWith(io, a, phaseBits);
+  return sweepWith(io, a, phaseBits, steps, quantizers);
 }
 
-async function sweepWith(io: Io, a: { scenario: string; out: string; attenStep: string | null; quantizer: string | null; jobs: number }, phaseBits: number[]): Promise<number> {
+async function sweepWith(io: Io, a: { scenario: string; out: string; jobs: number }, phaseBits: number[], givenSteps: ReturnType<typeof parseSteps> | null, givenQuantizers: QuantizerMethod[] | null): Promise<number> {
   const loaded = loadScenario(a.scenario);
-  const steps = a.attenStep ? parseSteps(a.attenStep) : [{ value: loaded.plan.attenStepDb, exact: loaded.plan.attenStepExact }];
-  const quantizers = a.quantizer ? parseQuantizers(a.quantizer) : [loaded.plan.quantizer.method];
+  const steps = givenSteps ?? [{ value: loaded.plan.attenStepDb, exact: loaded.plan.attenStepExact }];
+  const quantizers = givenQuantizers ?? [loaded.plan.quantizer.method];
   const bar = progress(io, "sweep");
   let r;
   try {

@@ -3,11 +3,11 @@
  * when the fast path (fast.ts) does not take a command line: help, completion, the
  * version, and every usage error (so their text is yargs' own, in our words).
  */
-import yargs, { type Argv } from "yargs";
+import yargs, { type Argv, type Options } from "yargs";
 import { UsageError } from "./usage.js";
 import { levenshtein } from "../core/spelling.js";
 import { toolVersion } from "../io/version.js";
-import { COMMAND_LINES, COMMAND_SPECS, COMMANDS, GLOBAL, type CommandSpec } from "./commands.js";
+import { COMMAND_LINES, COMMAND_SPECS, COMMANDS, GLOBAL, type CommandSpec, type OptionSpec } from "./commands.js";
 import type { Io } from "./shared.js";
 
 /** The closest of `known` to `word`, or null when none is close. */
@@ -55,10 +55,23 @@ function explainUsage(msg: string, argv: string[], usage: { getDescriptions?: ()
   return msg;
 }
 
+/**
+ * An option as yargs is given it. A number option is parsed as its text (`string`; the help
+ * still says [number]) and read by the command (option-values.ts). A value option's default is
+ * filled in by the handler, not by yargs (`defaultDescription` shows it as yargs would), so that
+ * the option given with no value after it (`--jobs` last, `--beam=`) is "" and refused, never
+ * its default; the fast path (fast.ts) does the same.
+ */
+function yargsOption(o: OptionSpec): Options {
+  if (o.type === "boolean") return o;
+  const { default: d, ...rest } = o;
+  return { ...rest, ...(o.type === "number" ? { string: true } : {}), ...(d !== undefined ? { defaultDescription: typeof d === "string" ? JSON.stringify(d) : String(d) } : {}) };
+}
+
 function builder(spec: CommandSpec) {
   return (y: Argv) => {
     for (const { name, ...p } of spec.positionals) y = y.positional(name, p);
-    for (const [name, o] of Object.entries(spec.options)) y = y.option(name, o);
+    for (const [name, o] of Object.entries(spec.options)) y = y.option(name, yargsOption(o));
     for (const [cmd, text] of spec.examples) y = y.example(cmd, text);
     return y;
   };
@@ -92,6 +105,11 @@ export async function runYargs(argv: string[], io: Io, main: (argv: string[]) =>
       builder: builder(spec),
       handler: async (a) => {
         if (run) {
+          for (const [name, o] of Object.entries(spec.options))
+            if (o.type !== "boolean" && o.default !== undefined && a[name] === undefined) {
+              a[name] = o.default;
+              if (o.alias) a[o.alias] = o.default;
+            }
           // an option given twice became an array that the command joined: `build -o x -o y` wrote a folder named "x,y"
           for (const [name, o] of Object.entries({ ...GLOBAL, ...spec.options })) {
             const v = a[name];

@@ -10,6 +10,8 @@ export const C_EXACT = new D(SPEED_OF_LIGHT);
 export type QuantityKind = "frequency" | "length" | "level";
 
 const NUMBER = String.raw`[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?`;
+/** A plain decimal number as a quantity's number is written ("0.5", ".5", "-2", "1e-3"): no hex, no Infinity or NaN. */
+export const DECIMAL_RE = new RegExp(`^${NUMBER}$`);
 // the unit: letters, the micro sign (U+00B5), Greek mu (U+03BC) and lambda (U+03BB)
 const QUANTITY_RE = new RegExp(String.raw`^\s*(${NUMBER})\s*([A-Za-z\u00b5\u03bc\u03bb]*)\s*$`);
 

@@ -158,7 +158,7 @@ const cases: Case[] = [
   // the two values were joined: `-o a -o b` wrote a build into a folder named "a,b" (exit 0)
   { name: "an option given twice (-o a -o b)", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "a"), "-o", join(d, "b"), "--no-analysis"], expect: [/-o was given 2 times \(.*a, .*b\); expected it once/] },
   { name: "--jobs given twice", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "1", "--jobs=2"], expect: [/--jobs was given 2 times \(1, 2\); expected it once/] },
-  { name: "--jobs 0", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "0"], expect: [/--jobs: expected a whole number from 1 to 256, got 0/] },
+  { name: "--jobs 0", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "0"], expect: [/--jobs: expected a whole number from 1 to 256 in decimal digits, got "0"/] },
   // ---- issue 9: hostile and huge inputs
   // element ids are whole numbers 0 … 2^31 − 1, refused as written (never wrapped to 32 bits nor rounded past 2^53)
   { name: "elements.csv: id 2^32 (would wrap to element 0)", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS([...line8, "4294967296,0.5,0"]) }, expect: [/el\.csv, line 10, column element: expected a whole number from 0 to 2147483647, got "4294967296"/] },
@@ -185,7 +185,7 @@ const cases: Case[] = [
   { name: "attenuator step 1e300 dB", doc: B({ attenuator: { bits: 6, step: "1e300 dB" } }), expect: [/\/attenuator\/step: expected an attenuator step of at most 100 dB/] },
   { name: "a measured state gain of 1e300 dB", doc: B({ phaseShifter: { bits: 2, states: "ps.csv" } }), files: { "ps.csv": "code,phase_deg,gain_db\n0,0,0\n1,90,1e300\n2,180,0\n3,270,0\n" }, expect: [/ps\.csv, line 3, column gain_db: expected a number from -200 to 200, got "1e300"/] },
   // a list with no quantizer in it wrote a sweep of 0 parts (exit 0)
-  { name: "sweep --quantizer ,", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--quantizer", ","], expect: [/--quantizer: expected at least one of nearest, randomized, optimized/] },
+  { name: "sweep --quantizer ,", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--quantizer", ","], expect: [/--quantizer: expected one or more of nearest, randomized, optimized \(comma-separated\), got "," \(an empty item\)/] },
   // an empty -o is the working folder to resolve(): the build was written into it
   { name: "build -o an empty string", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", ""], expect: [/-o: expected a folder name, got an empty string/] },
   // the same for the commands that write one file: the message named no file ("cannot write the report: ENOENT"; calibrate: "steercode: is a folder")
@@ -301,11 +301,62 @@ const cases: Case[] = [
   { name: "devices: elements.csv channel past the device", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device,channel\n0,0,0,0,0\n1,0.01,0,0,2\n" }, expect: [/el\.csv, line 3, column channel: channel 2 does not exist on a 2-channel device/] },
   { name: "devices: elements.csv two elements on one channel", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device,channel\n0,0,0,3,1\n1,0.01,0,3,1\n" }, expect: [/el\.csv, line 3, column channel: element 1 and element 0 \(line 2\) are both on device 3 channel 1/] },
   { name: "devices: elements.csv with a device column but no channel column", doc: B({ array: { elements: "el.csv" }, devices: { channels: 2 } }), files: { "el.csv": "element,x_m,y_m,device\n0,0,0,3\n1,0.01,0,3\n" }, expect: [/el\.csv: has a device column but no channel column; expected both/] },
-  { name: "check --bus-clock that is not a frequency", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10 parsec"], expect: [/--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got 10 parsec/] },
+  { name: "check --bus-clock that is not a frequency", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10 parsec"], expect: [/--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got "10 parsec"/] },
   // 1e400Hz was an infinite clock: "full load 0.000 µs each", exit 0
-  { name: "check --bus-clock 1e400Hz", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "1e400Hz"], expect: [/--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got 1e400Hz/] },
-  { name: "check --bus-overhead-bits negative", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10MHz", "--bus-overhead-bits", "-1"], expect: [/--bus-overhead-bits: expected a whole number from 0 to 4096, got -1/] },
+  { name: "check --bus-clock 1e400Hz", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "1e400Hz"], expect: [/--bus-clock: expected a clock frequency from 1 Hz to 1000 THz such as 10MHz, got "1e400Hz"/] },
+  { name: "check --bus-overhead-bits negative", doc: B({ devices: { channels: 4 } }), args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10MHz", "--bus-overhead-bits", "-1"], expect: [/--bus-overhead-bits: expected a whole number from 0 to 4096 in decimal digits, got "-1"/] },
 ];
+
+// ---- option values read as typed. yargs' number type is Number(): "" and " " were 0 (report --beam '' opened beam 0),
+// "0x10" 16 and "1e1" 10 (exit 0); a repeated 1 was added to the first (--jobs 2 --jobs 1 ran 3 threads). Lists dropped
+// empty items (--phase-bits 3,,4 swept 3 and 4) and an empty --atten-step or --quantizer was taken as absent.
+const re = (s: string) => new RegExp(s.replace(/[.*+?^${}()|[\]\\]/g, "\\$&"));
+const BUILD_DIR = (d: string) => writeFileSync(join(d, "manifest.json"), JSON.stringify(MANIFEST));
+const WHOLE_OPTIONS: { option: string; range: string; args: (d: string) => string[]; prepare?: (d: string) => void }[] = [
+  { option: "--beam", range: "≥ 0", prepare: BUILD_DIR, args: (d) => ["report", d, "-o", join(d, "r.html"), "--beam"] },
+  { option: "--jobs", range: "from 1 to 256", args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs"] },
+  { option: "--jobs", range: "from 1 to 256", args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--phase-bits", "3", "--jobs"] },
+  { option: "--jobs", range: "from 1 to 256", prepare: BUILD_DIR, args: (d) => ["verify", d, "--jobs"] },
+  { option: "--bus-word-bits", range: "from 1 to 4096", args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10MHz", "--bus-word-bits"] },
+  { option: "--bus-overhead-bits", range: "from 0 to 4096", args: (d) => ["check", join(d, "scenario.json"), "--bus-clock", "10MHz", "--bus-overhead-bits"] },
+];
+for (const w of WHOLE_OPTIONS)
+  for (const [value, said] of [["", "got an empty string"], [" ", 'got " " (only spaces)'], ["0x10", 'got "0x10"'], ["1e1", 'got "1e1"'], ["1.5", 'got "1.5"'], ["3,", 'got "3,"']] as const)
+    cases.push({ name: `${w.args("d")[0]} ${w.option} "${value}"`, doc: B({ devices: { channels: 4 } }), ...(w.prepare ? { prepare: w.prepare } : {}), args: (d) => [...w.args(d), value], expect: [re(`${w.option}: expected a whole number ${w.range} in decimal digits, ${said}`)] });
+// given with no value after it: "" as well, never the option's default (--jobs at the end of the line ran on every core)
+for (const w of WHOLE_OPTIONS) cases.push({ name: `${w.args("d")[0]} ${w.option} with no value`, doc: B({ devices: { channels: 4 } }), ...(w.prepare ? { prepare: w.prepare } : {}), args: w.args, expect: [re(`${w.option}: expected a whole number ${w.range} in decimal digits, got an empty string`)] });
+cases.push({ name: "report --beam= (no value)", prepare: BUILD_DIR, args: (d) => ["report", d, "-o", join(d, "r.html"), "--beam="], expect: [re("--beam: expected a whole number ≥ 0 in decimal digits, got an empty string")] });
+const SWEEP = (d: string) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out")];
+const LISTS: { option: string; expected: string; args: (d: string) => string[]; values: string[] }[] = [
+  { option: "--phase-bits", expected: "a range like 3..8 or a list like 3,4,6", args: SWEEP, values: ["3,,4", "3,", ",3", "3..4,"] },
+  { option: "--atten-step", expected: "steps in dB greater than 0 and at most 100 like 0.25,0.5,1", args: (d) => [...SWEEP(d), "--phase-bits", "3"], values: ["0.5,,1", "0.5,"] },
+  { option: "--quantizer", expected: "one or more of nearest, randomized, optimized (comma-separated)", args: (d) => [...SWEEP(d), "--phase-bits", "3"], values: ["nearest,,randomized", "nearest,"] },
+  { option: "--probe-direction", expected: "AZ,EL in degrees (two numbers)", args: CALIBRATE(), values: ["10,,0"] },
+  { option: "--probe-position", expected: "X,Y,Z in metres (three numbers)", args: CALIBRATE(), values: ["0,0,,1"] },
+];
+for (const l of LISTS) {
+  for (const v of l.values) cases.push({ name: `${l.option} ${v} (an empty item)`, doc: B(), files: { "rev.csv": REV(revRows()) }, args: (d) => [...l.args(d), l.option, v], expect: [re(`${l.option}: expected ${l.expected}, got "${v}" (an empty item)`)] });
+  cases.push({ name: `${l.option} "" (empty)`, doc: B(), files: { "rev.csv": REV(revRows()) }, args: (d) => [...l.args(d), l.option, ""], expect: [re(`${l.option}: expected ${l.expected}, got an empty string`)] });
+  cases.push({ name: `${l.option} with no value`, doc: B(), files: { "rev.csv": REV(revRows()) }, args: (d) => [...l.args(d), l.option], expect: [re(`${l.option}: expected ${l.expected}, got an empty string`)] });
+}
+// the probe's numbers are written as a quantity's number is: 0x10 was 16 degrees / metres (exit 0)
+cases.push({ name: "calibrate --probe-direction 0x10,0", doc: B(), files: { "rev.csv": REV(revRows()) }, args: CALIBRATE(["--probe-direction", "0x10,0"]), expect: [re('--probe-direction: expected AZ,EL in degrees (two numbers), got "0x10,0"')] });
+cases.push({ name: "calibrate --probe-position 0,0,0x1", doc: B(), files: { "rev.csv": REV(revRows()) }, args: CALIBRATE(["--probe-position", "0,0,0x1"]), expect: [re('--probe-position: expected X,Y,Z in metres (three numbers), got "0,0,0x1"')] });
+// an option given twice is exit 2 whatever its values: a repeated 1 was added to a number option's first value
+for (const [name, args] of [
+  ["--jobs 2 --jobs 1", (d: string) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "2", "--jobs", "1"]],
+  ["--jobs 1 --jobs 1", (d: string) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--jobs", "1", "--jobs", "1"]],
+  ["--beam 1 --beam=1", (d: string) => ["report", d, "-o", join(d, "r.html"), "--beam", "1", "--beam=1"]],
+  ["--bus-word-bits 8 --bus-word-bits 1", (d: string) => ["check", join(d, "scenario.json"), "--bus-clock", "10MHz", "--bus-word-bits", "8", "--bus-word-bits", "1"]],
+  ["--atten-step 0.5 --atten-step 1", (d: string) => [...SWEEP(d), "--phase-bits", "3", "--atten-step", "0.5", "--atten-step", "1"]],
+  ["--probe-direction 0,0 --probe-direction 10,0", CALIBRATE(["--probe-direction", "0,0", "--probe-direction", "10,0"])],
+] as const) {
+  const option = name.split(" ")[0]!;
+  cases.push({ name: `${option} given twice (${name})`, doc: B({ devices: { channels: 4 } }), files: { "rev.csv": REV(revRows()) }, ...(option === "--beam" ? { prepare: BUILD_DIR } : {}), args, expect: [re(`${option} was given 2 times`), /expected it once/] });
+}
+// string options given empty were taken as not given: no comparison (exit 0), no diff folder (exit 0)
+cases.push({ name: "build --compare with no value", doc: B(), args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out"), "--compare"], expect: [/--compare: expected an earlier build folder, got an empty string/] });
+cases.push({ name: "diff -o an empty string", prepare: BUILD_DIR, args: (d) => ["diff", d, d, "-o", ""], expect: [/-o: expected a folder name, got an empty string/] });
 
 describe("bad input: exit 2, a message naming file and field or line, nothing written", () => {
   it("the corpus holds at least 40 cases", () => expect(cases.length).toBeGreaterThanOrEqual(40));

@@ -67,7 +67,10 @@ describe("the CLI's fast path (yargs-parser over the command table)", () => {
       ["verify", "b", "--jobs", "1"],
       ["report", "b", "--beam", "3", "--frequency", "28 GHz"],
       ["build", "123"],
-      ["build", "s.json", "-o"], // yargs-parser gives the default, as in yargs
+      // a number option reaches the command as typed (option-values.ts reads it): yargs' Number() made "0x10" 16, "" 0
+      ["build", "s.json", "--jobs", "abc"],
+      ["report", "b", "--beam", "0x10"],
+      ["check", "s.json", "--bus-word-bits", "1e1", "--bus-overhead-bits", " 8"],
     ];
     for (const argv of taken) {
       expect(fastParse(argv), argv.join(" ")).not.toBeNull();
@@ -89,8 +92,13 @@ describe("the CLI's fast path (yargs-parser over the command table)", () => {
       ["buidl", "s.json"],
       ["build"],
       ["build", "a", "b"],
-      ["build", "s.json", "--jobs", "abc"],
       ["build", "s.json", "--jobs", "1", "--jobs", "2"],
+      ["build", "s.json", "--jobs", "1", "--jobs", "1"], // yargs-parser's number type added a repeated 1: jobs 2
+      // an option with no value after it is "" (the command refuses it), not its default
+      ["build", "s.json", "-o"],
+      ["build", "s.json", "--jobs"],
+      ["sweep", "s.json", "--phase-bits"],
+      ["report", "b", "--beam="],
       ["build", "s.json", "--job", "1"],
       ["build", "s.json", "--busClock", "1"],
       ["build", "s.json", "--noAnalysis"],
@@ -107,6 +115,16 @@ describe("the CLI's fast path (yargs-parser over the command table)", () => {
     for (const argv of left) expect(fastParse(argv), argv.join(" ")).toBeNull();
     // main answers `--version`/`-v` alone before the fast path is loaded
     expect(fastParse(["--version"])).toBeNull();
+  });
+
+  it("hands a number option over as typed, and an option with no value as \"\" (never its default), as yargs-cli does", async () => {
+    expect(fastParse(["report", "b", "--beam", "0x10"])!.args.beam).toBe("0x10");
+    expect(fastParse(["build", "s.json"])!.args.jobs).toBeTypeOf("number"); // the default, not given
+    expect((await yargsArgs(["build", "s.json", "--jobs"]))!.args.jobs).toBe("");
+    expect((await yargsArgs(["build", "s.json", "-o"]))!.args).toMatchObject({ o: "", out: "" });
+    expect((await yargsArgs(["sweep", "s.json", "--phase-bits="]))!.args["phase-bits"]).toBe("");
+    expect((await yargsArgs(["build", "s.json"]))!.args).toMatchObject({ o: "steercode-build", out: "steercode-build" });
+    expect((await yargsArgs(["check", "s.json", "--bus-word-bits", "1e1"]))!.args).toMatchObject({ "bus-word-bits": "1e1", "bus-overhead-bits": 0 });
   });
 
   it("agrees with yargs on random command lines built from the table's words", async () => {
