@@ -192,6 +192,13 @@ const cases: { name: string; over: Record<string, unknown>; files?: Record<strin
     files: { "beams.csv": "az_deg,el_deg\n80,0\n89.9,0\n0,85\n0,89.9\n45,44\n-60,29.5\n" },
   },
   {
+    // a horizon point on the main lobe's flank (u = 0.665) took the mask of the cell inward along its
+    // radius (u = 0.50, past the first null): PSL −7.64 dB printed (ideal −8.23), brute force −9.97 (ideal −9.64)
+    name: "8×1 row at λ/2, cos^1.5 element, beams off the row's plane: az 60° el 10°, az −60° el 29.5°",
+    over: { array: { lattice: { kind: "rectangular", columns: 8, rows: 1, dx: "0.5 lambda", dy: "0.5 lambda" } }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 }, element: { pattern: "cosine", exponent: 1.5 } },
+    files: { "beams.csv": "az_deg,el_deg\n60,10\n-60,29.5\n" },
+  },
+  {
     // az 85° (chord |v| ≤ 0.087): PSL −9.09 dB printed, brute force −48.38 dB; az 45° el 44°: −14.47 / −16.78 dB
     name: "1×8 column at λ/2, Taylor −25 dB, tabulated element (φ-dependent, −25 dB onto the horizon), beams at θ 80°–89.9°",
     over: { array: { lattice: { kind: "rectangular", columns: 1, rows: 8, dx: "0.5 lambda", dy: "0.5 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, element: { pattern: "table", file: "el.csv" } },

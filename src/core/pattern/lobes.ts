@@ -169,7 +169,7 @@ export class LobeFinder {
   quadMargin = QUAD_MARGIN;
   private readonly hz: HorizonMax = { p: NaN, du: NaN, dv: NaN };
   /** the main lobe for horizonMax: the window's mask; off the window is not main lobe */
-  private readonly lobe: MainLobeMap = { mask: new Uint8Array(0), m0: 0, n0: 0, w: 0, h: 0, du: 1, dv: 1, outside: false, visible: null, u0: 0, v0: 0, peakDu: NaN, peakDv: NaN };
+  private readonly lobe: MainLobeMap = { mask: new Uint8Array(0), m0: 0, n0: 0, w: 0, h: 0, du: 1, dv: 1, outside: false, visible: null, u0: 0, v0: 0, peakDu: NaN, peakDv: NaN, lockU: false, lockV: false };
   constructor(cap: number) {
     this.mask = new Uint8Array(cap);
     this.stack = new Int32Array(cap);
@@ -206,7 +206,7 @@ export class LobeFinder {
     // element-weighted window is 0 past the horizon, so there its rim's mask is not used
     const lobe = this.lobe;
     lobe.mask = mask; lobe.m0 = win.m0; lobe.n0 = win.n0; lobe.w = wm; lobe.h = wn; lobe.du = du; lobe.dv = dv;
-    lobe.visible = ev.element ? visible : null; lobe.u0 = u0; lobe.v0 = v0; lobe.peakDu = pk.du; lobe.peakDv = pk.dv;
+    lobe.visible = ev.element ? visible : null; lobe.u0 = u0; lobe.v0 = v0; lobe.peakDu = pk.du; lobe.peakDv = pk.dv; lobe.lockU = ev.lockU; lobe.lockV = ev.lockV;
     let sl = NaN, sdu = NaN, sdv = NaN;
     let bestGrid = 0;
     for (let k = 0; k < nc; k++) bestGrid = Math.max(bestGrid, candP[k]!);
