@@ -393,7 +393,7 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
  * for a line array (`ev.lockU` / `ev.lockV`) along its free coordinate only, its pattern
  * being constant across the line (the peak's ridge meets the horizon at the same u or v).
  */
-function notMainPeak(ev: AfEvaluator, lobe: MainLobeMap, du: number, dv: number): boolean {
+export function notMainPeak(ev: AfEvaluator, lobe: MainLobeMap, du: number, dv: number): boolean {
   const a = ev.lockU ? 0 : (du - lobe.peakDu) / lobe.du, b = ev.lockV ? 0 : (dv - lobe.peakDv) / lobe.dv;
   return Math.hypot(a, b) > 0.5;
 }
