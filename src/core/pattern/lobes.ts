@@ -13,7 +13,7 @@
  */
 import type { AfEvaluator, PowerDerivs } from "./evaluator.js";
 import type { PowerWindow } from "./grid.js";
-import { horizonMax, inMain, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
+import { horizonMax, inMain, notMainPeak, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
 
 export interface LobeResult {
   peakDu: number;
@@ -169,7 +169,7 @@ export class LobeFinder {
   quadMargin = QUAD_MARGIN;
   private readonly hz: HorizonMax = { p: NaN, du: NaN, dv: NaN };
   /** the main lobe for horizonMax: the window's mask; off the window is not main lobe */
-  private readonly lobe: MainLobeMap = { mask: new Uint8Array(0), m0: 0, n0: 0, w: 0, h: 0, du: 1, dv: 1, outside: false, visible: null, u0: 0, v0: 0 };
+  private readonly lobe: MainLobeMap = { mask: new Uint8Array(0), m0: 0, n0: 0, w: 0, h: 0, du: 1, dv: 1, outside: false, visible: null, u0: 0, v0: 0, peakDu: NaN, peakDv: NaN, lockU: false, lockV: false };
   constructor(cap: number) {
     this.mask = new Uint8Array(cap);
     this.stack = new Int32Array(cap);
@@ -206,7 +206,7 @@ export class LobeFinder {
     // element-weighted window is 0 past the horizon, so there its rim's mask is not used
     const lobe = this.lobe;
     lobe.mask = mask; lobe.m0 = win.m0; lobe.n0 = win.n0; lobe.w = wm; lobe.h = wn; lobe.du = du; lobe.dv = dv;
-    lobe.visible = ev.element ? visible : null; lobe.u0 = u0; lobe.v0 = v0;
+    lobe.visible = ev.element ? visible : null; lobe.u0 = u0; lobe.v0 = v0; lobe.peakDu = pk.du; lobe.peakDv = pk.dv; lobe.lockU = ev.lockU; lobe.lockV = ev.lockV;
     let sl = NaN, sdu = NaN, sdv = NaN;
     let bestGrid = 0;
     for (let k = 0; k < nc; k++) bestGrid = Math.max(bestGrid, candP[k]!);
@@ -247,7 +247,14 @@ export class LobeFinder {
       // + 0: no −0 from Math.round reaches an index (see inMain, horizon.ts)
       const ra = Math.round(r.du / du) + 0 - win.m0;
       const rb = Math.round(r.dv / dv) + 0 - win.n0;
-      const inside = ra >= 0 && rb >= 0 && ra < wm && rb < wn && (lobe.visible && !visible[rb * wm + ra] ? inMain(lobe, r.du, r.dv) : mask[rb * wm + ra] === 1);
+      let inside = ra >= 0 && rb >= 0 && ra < wm && rb < wn && (lobe.visible && !visible[rb * wm + ra] ? inMain(lobe, r.du, r.dv) : mask[rb * wm + ra] === 1);
+      // The flood can run one cell past a null (the cell beyond it still lower than the one
+      // before), so a sidelobe's peak can round to a main-lobe cell: a strict local maximum
+      // more than half a cell from the main peak is a sidelobe whatever its cell says (no
+      // local maximum but the peak lies in the monotone flood from it). 1 × 8 column at λ/2,
+      // cos^4 element, calibration errors, az 60° el 10°: the lobe at v = −0.231 rounded into
+      // the flood's overshoot and its grid cell's −27.67 dB was printed; brute force −26.22 dB.
+      if (inside && r.p > 0 && notMainPeak(ev, lobe, r.du, r.dv) && strictMax(ev, r.du, r.dv, du, dv)) inside = false;
       let val = r.p, vu = r.du, vv = r.dv;
       if (inside || !(r.p >= candP[k]!)) { val = candP[k]!; vu = (win.m0 + a) * du; vv = (win.n0 + b) * dv; }
       if (!(val <= sl)) { sl = val; sdu = vu; sdv = vv; }
@@ -260,6 +267,20 @@ export class LobeFinder {
 }
 
 interface Refined { du: number; dv: number; p: number }
+
+/**
+ * (Δu, Δv) is a strict local maximum of the exact pattern, as a converged `refine` leaves
+ * it: gradient below 1e-4 of the value per cell, curvature negative (a line array: along
+ * its line only). A point stopped on a flank or at the horizon is not.
+ */
+function strictMax(ev: AfEvaluator, du: number, dv: number, cu: number, cv: number): boolean {
+  const d = ev.derivs(du, dv);
+  if (!(d.p > 0)) return false;
+  if (ev.lockU && ev.lockV) return false;
+  if (ev.lockV) return Math.abs(d.pu) * cu < 1e-4 * d.p && d.puu < 0;
+  if (ev.lockU) return Math.abs(d.pv) * cv < 1e-4 * d.p && d.pvv < 0;
+  return Math.abs(d.pu) * cu + Math.abs(d.pv) * cv < 1e-4 * d.p && d.puu < 0 && d.puu * d.pvv - d.puv * d.puv > 0;
+}
 
 /**
  * The main-lobe peak as LobeFinder.peak finds it, without a sampled window: the same
