@@ -14,6 +14,7 @@ import { join } from "node:path";
 import { crc32 } from "node:zlib";
 import { parse } from "csv-parse/sync";
 import { InputError } from "../core/errors.js";
+import { sha256 } from "../io/files.js";
 import type { Plan } from "../core/plan.js";
 import { hex32, type BandReport, type Manifest } from "../io/build.js";
 import { checkFolder, folderEntry, loadBuildScenario, manifestInputsDisagreement, openFolderFile, readFolderFile, readManifest } from "../io/readbuild.js";
@@ -137,6 +138,11 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
   const beamsPath = join(dir, "beams.csv");
   const beamsBytes = m.files["beams.csv"] ? folderText(dir, "beams.csv", MAX_CSV) : null;
   if (beamsBytes) {
+    // the page's every metric comes from this file: one changed after the build (a PSL of
+    // −29.25 dB edited to −9.25) was drawn as the build's (verify caught it, report did not)
+    const listed = m.files["beams.csv"]!;
+    if (beamsBytes.length !== listed.bytes || sha256(beamsBytes) !== listed.sha256)
+      throw new InputError({ file: beamsPath, message: `differs from what manifest.json records for it (${listed.bytes} bytes, SHA-256 ${listed.sha256.slice(0, 16)}…; the file has ${beamsBytes.length} bytes, SHA-256 ${sha256(beamsBytes).slice(0, 16)}…): changed after the build; run steercode verify on this folder` });
     let rows: string[][];
     try {
       rows = parse(beamsBytes, { columns: false, skip_empty_lines: true }) as string[][];

@@ -374,6 +374,34 @@ describe("diff and report on a damaged table.bin say so (they trusted the rest o
   });
 });
 
+describe("report draws its metrics only from the beams.csv the build wrote", () => {
+  // a PSL edited in beams.csv after the build (verify: FAIL) was drawn on the page as the build's, exit 0
+  it("a beams.csv that differs from manifest.json's size or SHA-256 → exit 2 naming the file, no page", () => {
+    // psl_db (column 11) of the first row: a digit changed (the size still matches), and the cell emptied (shorter)
+    const editPsl = (t: string, f: (cell: string) => string) => {
+      const lines = t.split("\n");
+      const cells = lines[1]!.split(",");
+      cells[10] = f(cells[10]!);
+      lines[1] = cells.join(",");
+      return lines.join("\n");
+    };
+    for (const [name, edit] of [
+      ["same-size", (t: string) => editPsl(t, (c) => c.replace(/\d(?=\D*$)/, (d) => (d === "9" ? "8" : "9")))],
+      ["emptied", (t: string) => editPsl(t, () => "")],
+    ] as const) {
+      const dir = copy(name);
+      const before = readFileSync(join(dir, "beams.csv"), "utf8");
+      const after = edit(before);
+      expect(after, name).not.toBe(before);
+      writeFileSync(join(dir, "beams.csv"), after);
+      const r = cli(["report", dir, "-o", join(dir, "r.html")]);
+      expect(r.code, r.stderr).toBe(2);
+      expect(r.stderr).toMatch(/beams\.csv: differs from what manifest\.json records for it \(\d+ bytes, SHA-256 [0-9a-f]{16}…; the file has \d+ bytes, SHA-256 [0-9a-f]{16}…\): changed after the build; run steercode verify on this folder/);
+      expect(existsSync(join(dir, "r.html")), name).toBe(false);
+    }
+  });
+});
+
 describe("report: a page a browser can open", () => {
   // 64 frequencies × 1 M beams made a 396 MB page (151 s, 2 GB of memory), exit 0
   it("a build of more than 1 048 576 beams (frequencies × beams) → exit 2 before any work", () => {

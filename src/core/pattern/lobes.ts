@@ -364,35 +364,40 @@ function ontoDisc(ev: AfEvaluator, disc: { u0: number; v0: number }, du: number,
  */
 export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv: number, disc: { u0: number; v0: number } | null, start: PowerDerivs | null = null): Refined {
   let du = du0, dv = dv0;
-  const inDisc = (a: number, b: number) => !disc || (disc.u0 + a) ** 2 + (disc.v0 + b) ** 2 <= 1;
+  // the derivatives at (du, dv) in locals, and the disc test written out: no object, array
+  // or closure a call (refine runs several times a beam; ~2 KB of garbage a beam before)
+  const du0d = disc ? disc.u0 : 0, dv0d = disc ? disc.v0 : 0;
   let hitEdge = false;
-  if (disc && !inDisc(du, dv)) {
+  if (disc && !((du0d + du) ** 2 + (dv0d + dv) ** 2 <= 1)) {
     // start on the horizon (locked arrays: on the line through the commanded point)
     hitEdge = true;
-    [du, dv] = ontoDisc(ev, disc, du, dv);
+    const o = ontoDisc(ev, disc, du, dv);
+    du = o[0];
+    dv = o[1];
   }
   // `start`: the caller's ev.derivs(du0, dv0), used when the start was not moved
-  const d = { ...(start && !hitEdge ? start : ev.derivs(du, dv)) };
-  let p = d.p;
+  const d0 = start && !hitEdge ? start : ev.derivs(du, dv);
+  let p = d0.p, pu = d0.pu, pv = d0.pv, puu = d0.puu, pvv = d0.pvv, puv = d0.puv;
+  const lock = ev.lockU || ev.lockV;
   for (let it = 0; it < 40; it++) {
-    const det = d.puu * d.pvv - d.puv * d.puv;
+    const det = puu * pvv - puv * puv;
     let su: number, sv: number;
-    if (ev.lockU || ev.lockV) {
+    if (lock) {
       // a line array: its pattern is constant across the line's normal plane, so the
       // peak stays at the commanded value of that coordinate and Newton runs in 1-D
-      const [g, hh, c] = ev.lockV ? [d.pu, d.puu, cu] : [d.pv, d.pvv, cv];
+      const g = ev.lockV ? pu : pv, hh = ev.lockV ? puu : pvv, c = ev.lockV ? cu : cv;
       let s1 = hh < 0 ? -g / hh : Math.sign(g) * c * 0.25;
       if (!Number.isFinite(s1)) s1 = 0;
       su = ev.lockV ? s1 : 0;
       sv = ev.lockV ? 0 : s1;
       if (ev.lockU && ev.lockV) su = sv = 0;
-    } else if (d.puu < 0 && det > 0) {
-      su = -(d.pvv * d.pu - d.puv * d.pv) / det;
-      sv = -(-d.puv * d.pu + d.puu * d.pv) / det;
+    } else if (puu < 0 && det > 0) {
+      su = -(pvv * pu - puv * pv) / det;
+      sv = -(-puv * pu + puu * pv) / det;
     } else {
-      const g = Math.hypot(d.pu / cu, d.pv / cv) || 1;
-      su = ((d.pu / cu) / g) * cu * 0.25;
-      sv = ((d.pv / cv) / g) * cv * 0.25;
+      const g = Math.hypot(pu / cu, pv / cv) || 1;
+      su = ((pu / cu) / g) * cu * 0.25;
+      sv = ((pv / cv) / g) * cv * 0.25;
     }
     const len = Math.hypot(su / cu, sv / cv);
     if (len > 1) { su /= len; sv /= len; }
@@ -401,12 +406,12 @@ export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv
     let accepted = false;
     for (let h = 0; h < 12; h++) {
       const nu = du + su, nv = dv + sv;
-      if (!inDisc(nu, nv)) { hitEdge = true; su /= 2; sv /= 2; continue; }
+      if (disc && !((du0d + nu) ** 2 + (dv0d + nv) ** 2 <= 1)) { hitEdge = true; su /= 2; sv /= 2; continue; }
       if (Math.hypot(su / cu, sv / cv) < 1e-7) break;
       const nd = ev.derivs(nu, nv);
       if (nd.p >= p) {
-        du = nu; dv = nv; p = nd.p;
-        Object.assign(d, nd);
+        du = nu; dv = nv;
+        p = nd.p; pu = nd.pu; pv = nd.pv; puu = nd.puu; pvv = nd.pvv; puv = nd.puv;
         accepted = true;
         break;
       }
@@ -417,7 +422,7 @@ export function refine(ev: AfEvaluator, du0: number, dv0: number, cu: number, cv
   }
   if (disc && hitEdge && (ev.lockU || ev.lockV)) {
     // a line array keeps the commanded value across its normal plane: the end of the line
-    const [eu, ev2] = ontoDisc(ev, disc, du + (ev.lockU ? 0 : Math.sign(d.pu) * 4 * cu), dv + (ev.lockV ? 0 : Math.sign(d.pv) * 4 * cv));
+    const [eu, ev2] = ontoDisc(ev, disc, du + (ev.lockU ? 0 : Math.sign(pu) * 4 * cu), dv + (ev.lockV ? 0 : Math.sign(pv) * 4 * cv));
     const pe = ev.power(eu, ev2);
     if (pe > p) return { du: eu, dv: ev2, p: pe };
   } else if (disc && hitEdge) {
