@@ -320,8 +320,6 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     if (!inside && t.p[i]! > best) best = t.p[i]!;
   }
   const bar = HORIZON_REFINE_WITHIN * Math.max(best, Number.isFinite(floor) ? floor : 0);
-  const at = (a: number) => ev.power(Math.cos(a) - u0, Math.sin(a) - v0);
-  const g = (Math.sqrt(5) - 1) / 2;
   for (let i = 0; i < n; i++) {
     if (main[i]) continue;
     const pi = t.p[i]!;
@@ -329,22 +327,12 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     if (pi < bar) continue;
     const l = (i - 1 + n) % n, r = (i + 1) % n;
     if ((!main[l] && val(l) > pi) || (!main[r] && val(r) > pi)) continue;
-    // bracket [α_l, α_r] around α_i (unwrapped)
     const ai = alphaOf(t, i);
-    let lo = alphaOf(t, l), hi = alphaOf(t, r);
-    while (lo > ai) lo -= 2 * Math.PI;
-    while (lo < ai - Math.PI) lo += 2 * Math.PI;
-    while (hi < ai) hi += 2 * Math.PI;
-    while (hi > ai + Math.PI) hi -= 2 * Math.PI;
+    bracketAt(t, ai, l, r, gs);
     let bp = pi, ba = ai;
-    if (skipBelow > 0 && alongCirclePeak(ev, ai, u0, v0, lo, hi) < skipBelow) continue;
-    let x1 = hi - g * (hi - lo), x2 = lo + g * (hi - lo);
-    let f1 = at(x1), f2 = at(x2);
-    const tol = 1e-4 * (hi - lo); // the value is then within ~1e-8 (relative) of the maximum
-    for (let it = 0; it < 48 && hi - lo > tol; it++) {
-      if (f1 < f2) { lo = x1; x1 = x2; f1 = f2; x2 = lo + g * (hi - lo); f2 = at(x2); }
-      else { hi = x2; x2 = x1; f2 = f1; x1 = hi - g * (hi - lo); f1 = at(x1); }
-    }
+    if (skipBelow > 0 && alongCirclePeak(ev, ai, u0, v0, gs[0]!, gs[1]!) < skipBelow) continue;
+    goldenAlong(ev, u0, v0, gs);
+    const x1 = gs[0]!, f1 = gs[1]!, x2 = gs[2]!, f2 = gs[3]!;
     const a = f1 > f2 ? x1 : x2;
     const pa = Math.max(f1, f2);
     if (pa > bp) {
@@ -371,18 +359,9 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
       const l = (i - 1 + n) % n, r = (i + 1) % n;
       if (val(l) > pi || val(r) > pi) continue;
       const ai = alphaOf(t, i);
-      let lo = alphaOf(t, l), hi = alphaOf(t, r);
-      while (lo > ai) lo -= 2 * Math.PI;
-      while (lo < ai - Math.PI) lo += 2 * Math.PI;
-      while (hi < ai) hi += 2 * Math.PI;
-      while (hi > ai + Math.PI) hi -= 2 * Math.PI;
-      let x1 = hi - g * (hi - lo), x2 = lo + g * (hi - lo);
-      let f1 = at(x1), f2 = at(x2);
-      const tol = 1e-4 * (hi - lo);
-      for (let it = 0; it < 48 && hi - lo > tol; it++) {
-        if (f1 < f2) { lo = x1; x1 = x2; f1 = f2; x2 = lo + g * (hi - lo); f2 = at(x2); }
-        else { hi = x2; x2 = x1; f2 = f1; x1 = hi - g * (hi - lo); f1 = at(x1); }
-      }
+      bracketAt(t, ai, l, r, gs);
+      goldenAlong(ev, u0, v0, gs);
+      const x1 = gs[0]!, f1 = gs[1]!, x2 = gs[2]!, f2 = gs[3]!;
       const [a, pa] = f1 > f2 ? [x1, f1] : [x2, f2];
       const [ba, bp] = pa > pi ? [a, pa] : [ai, pi];
       const su = Math.cos(ba), sv = Math.sin(ba);
@@ -410,6 +389,39 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     if (!(out.p >= pe)) { out.p = pe; out.du = du; out.dv = dv; }
   }
   return out;
+}
+
+/** horizonMax's scratch: a bracket [lo, hi], then the golden-section search's last two points x1, f1, x2, f2. */
+const gs = new Float64Array(4);
+
+/** The bracket [α_l, α_r] around α_i (unwrapped) of trace samples l and r into g[0], g[1]. */
+function bracketAt(t: HorizonTrace, ai: number, l: number, r: number, g: Float64Array): void {
+  let lo = alphaOf(t, l), hi = alphaOf(t, r);
+  while (lo > ai) lo -= 2 * Math.PI;
+  while (lo < ai - Math.PI) lo += 2 * Math.PI;
+  while (hi < ai) hi += 2 * Math.PI;
+  while (hi > ai + Math.PI) hi -= 2 * Math.PI;
+  g[0] = lo;
+  g[1] = hi;
+}
+
+/**
+ * Golden-section search for the largest |F|²(cos α − u0, sin α − v0) in the bracket
+ * g[0], g[1] (to 1e-4 of its width: the value is then within ~1e-8, relative, of the
+ * maximum); leaves the last two points in g: x1, f1, x2, f2.
+ */
+function goldenAlong(ev: AfEvaluator, u0: number, v0: number, g: Float64Array): void {
+  const at = (a: number) => ev.power(Math.cos(a) - u0, Math.sin(a) - v0);
+  const r = (Math.sqrt(5) - 1) / 2;
+  let lo = g[0]!, hi = g[1]!;
+  let x1 = hi - r * (hi - lo), x2 = lo + r * (hi - lo);
+  let f1 = at(x1), f2 = at(x2);
+  const tol = 1e-4 * (hi - lo);
+  for (let it = 0; it < 48 && hi - lo > tol; it++) {
+    if (f1 < f2) { lo = x1; x1 = x2; f1 = f2; x2 = lo + r * (hi - lo); f2 = at(x2); }
+    else { hi = x2; x2 = x1; f2 = f1; x1 = hi - r * (hi - lo); f1 = at(x1); }
+  }
+  g[0] = x1; g[1] = f1; g[2] = x2; g[3] = f2;
 }
 
 /**
