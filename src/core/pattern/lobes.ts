@@ -177,7 +177,10 @@ export class LobeFinder {
 
   /**
    * The main-lobe peak alone (steps 1–2 of analyse): the grid peak nearest the
-   * commanded direction, refined on the exact pattern and kept in visible space. `top` is its grid cell.
+   * commanded direction, refined on the exact pattern and kept in visible space; with an
+   * element pattern, when the grid climb left d̂'s cell, the exact climb of nearestPeak
+   * (the grid's samples can rise across a dip). `top` is its grid cell (the cell of the
+   * peak, where the main lobe's flood starts).
    */
   peak(win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): Refined & { top: number } {
     const { wm, wn, p } = win;
@@ -295,6 +298,8 @@ function strictMax(ev: AfEvaluator, du: number, dv: number, cu: number, cv: numb
  * instead of a whole pattern. `gridPower(m, n)` is the total pattern at cell (m, n);
  * a caller that knows it more cheaply (check's pull prediction: a planar array's
  * ideal |AF|² does not depend on the beam) passes the same values its own way.
+ * With an element pattern and a climb that left d̂'s cell, the peak is nearestPeak's, as in
+ * LobeFinder.peak.
  */
 export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number, v0: number, gridPower: (m: number, n: number) => number = (m, n) => ev.power(m * du, n * dv)): Refined {
   const mLo = Math.floor((-1 - u0) / du) - 1, mHi = Math.floor((1 - u0) / du) + 1;
