@@ -299,9 +299,9 @@ function strictMax(ev: AfEvaluator, du: number, dv: number, cu: number, cv: numb
  * a caller that knows it more cheaply (check's pull prediction: a planar array's
  * ideal |AF|² does not depend on the beam) passes the same values its own way.
  * With an element pattern and a climb that left d̂'s cell, the peak is nearestPeak's, as in
- * LobeFinder.peak.
+ * LobeFinder.peak (`work.evaluations` counts its exact evaluations).
  */
-export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number, v0: number, gridPower: (m: number, n: number) => number = (m, n) => ev.power(m * du, n * dv)): Refined {
+export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number, v0: number, gridPower: (m: number, n: number) => number = (m, n) => ev.power(m * du, n * dv), work?: { evaluations: number }): Refined {
   const mLo = Math.floor((-1 - u0) / du) - 1, mHi = Math.floor((1 - u0) / du) + 1;
   const nLo = Math.floor((-1 - v0) / dv) - 1, nHi = Math.floor((1 - v0) / dv) + 1;
   const seen = new Map<number, number>();
@@ -330,7 +330,7 @@ export function peakOnDemand(ev: AfEvaluator, du: number, dv: number, u0: number
   const oi = parabolaOffset(lg(i - 1, j), c, lg(i + 1, j)), oj = parabolaOffset(lg(i, j - 1), c, lg(i, j + 1));
   const pk = refine(ev, ev.lockU ? 0 : (i + oi) * du, ev.lockV ? 0 : (j + oj) * dv, du, dv, { u0, v0 });
   // with an element pattern the climb may have stepped over a dip (see nearestPeak)
-  return ev.element && (i !== 0 || j !== 0) ? nearestPeak(ev, du, dv, u0, v0, pk) : pk;
+  return ev.element && (i !== 0 || j !== 0) ? nearestPeak(ev, du, dv, u0, v0, pk, work) : pk;
 }
 
 /**
@@ -393,7 +393,7 @@ const CLIMB_STEP = 0.25;
  * Used only with an element pattern, after a grid climb that left d̂'s cell: isotropic
  * elements and beams that stay home cost nothing more.
  */
-export function nearestPeak(ev: AfEvaluator, cu: number, cv: number, u0: number, v0: number, grid: Refined): Refined {
+export function nearestPeak(ev: AfEvaluator, cu: number, cv: number, u0: number, v0: number, grid: Refined, work?: { evaluations: number }): Refined {
   const disc = { u0, v0 };
   const inDisc = (a: number, b: number) => (u0 + a) ** 2 + (v0 + b) ** 2 <= 1;
   let du = 0, dv = 0;
@@ -410,12 +410,14 @@ export function nearestPeak(ev: AfEvaluator, cu: number, cv: number, u0: number,
     // the horizon ahead: refine (it keeps the point in visible space) from here
     if (!inDisc(nu, nv)) { r = refine(ev, du, dv, cu, cv, disc, d); break; }
     const nd = { ...ev.derivs(nu, nv) };
+    if (work) work.evaluations++;
     let stop = !(nd.p > d.p) || !(nd.pu * su + nd.pv * sv > 0);
     if (!stop && dipBetween(d, nd, su, sv)) {
       // the cubic through both ends' log-values and log-slopes dips: look inside the step
       for (let k = 1; k < SUBSTEPS && !stop; k++) {
         const t = k / SUBSTEPS;
         const md = ev.derivs(du + t * su, dv + t * sv);
+        if (work) work.evaluations++;
         if (!(md.p > d.p) || !(md.pu * su + md.pv * sv > 0)) {
           // a maximum lies before this point: refine from the last point still rising
           const t0 = (k - 1) / SUBSTEPS;
