@@ -94,7 +94,8 @@ export function pulledAtPeaks(plan: Plan, metrics: Float64Array, stride: number,
  */
 export const PREDICT_ELEMENT_EVALUATIONS = 1e9;
 /**
- * Evaluations counted for one climb and refinement, and what one evaluation costs beyond
+ * Evaluations counted for one climb and refinement (the exact climb of lobes.ts nearestPeak,
+ * one evaluation a quarter cell, is counted as it goes), and what one evaluation costs beyond
  * its elements, in element terms (a 4×4 array's climb took ~6 µs where its 16 elements
  * alone would be ~1 µs): the count bounds the time, it does not measure it.
  */
@@ -160,7 +161,10 @@ export function predictPulls(plan: Plan, skip: (fi: number) => boolean = () => f
       if (!ev.planar) work += 9 * (n + CALL_OVERHEAD);
       if (staysAtHome(ev, home)) continue;
       work += CLIMB_EVALUATIONS * (n + CALL_OVERHEAD);
-      const r = peakOnDemand(ev, du, dv, u0, v0, power);
+      const steps = { evaluations: 0 };
+      const r = peakOnDemand(ev, du, dv, u0, v0, power, steps);
+      // the exact climb past the grid's (nearestPeak): one evaluation a quarter cell
+      work += steps.evaluations * (n + CALL_OVERHEAD);
       const drop = afDrop(ev, r.du, r.dv);
       const pu = u0 + r.du, pv = v0 + r.dv;
       if (drop > PULL_DROP_DB) out.push({ fi, beam: b, peakU: pu, peakV: pv, pointingDeg: angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) }), afDropDb: drop });
