@@ -54,7 +54,7 @@ export function loadScenario(path: string): Scenario {
     frequenciesHz: Array.from(plan.frequenciesHz),
     elementIds: Array.from(plan.elements.ids),
     beamCount: plan.beams.count,
-    warnings: deriveFacts(plan).warnings,
+    warnings: deriveFacts(plan, { squint: false }).warnings,
     loaded,
   };
 }

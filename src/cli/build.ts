@@ -3,6 +3,8 @@ import { makeManifest, refuseBuildAnalysis, runBuild, type Manifest } from "../i
 import { InputError } from "../core/errors.js";
 import { UsageError } from "./usage.js";
 import { loadScenario } from "../io/scenario.js";
+import { EARLY_WORK_MS, roughWork } from "../io/analysis-pool.js";
+import { dropSpares, prestartWorkers } from "../io/spare-workers.js";
 import { checkTarget } from "../io/outdir.js";
 import { fmt, printJson, progress, SAFETY, warn, type Io } from "./shared.js";
 import type { Distribution } from "../core/pattern/summary.js";
@@ -28,11 +30,21 @@ export async function buildCommand(io: Io, args: BuildArgs): Promise<number> {
   // the comparison's modules only for --compare
   if (args.compare) (await compareModules()).readManifest(args.compare);
   // the analysis starts its workers itself (or takes those started with the command), when the work pays for them (analysis-pool.ts)
-  return buildWith(io, args);
+  try {
+    return await buildWith(io, args);
+  } finally {
+    // workers started for a build that stopped before its analysis took them
+    dropSpares();
+  }
 }
 
 async function buildWith(io: Io, args: BuildArgs): Promise<number> {
-  const loaded = loadScenario(args.scenario);
+  // the analysis workers start as soon as the size of the job is known, before the
+  // calibration file is read, when it is large enough to pay for them (EARLY_WORK_MS)
+  const onSized = args.jobs > 1 && args.analysis ? (elements: number, beams: number, frequencies: number) => {
+    if (roughWork(elements, beams * frequencies) >= EARLY_WORK_MS) prestartWorkers(args.jobs - 1);
+  } : undefined;
+  const loaded = loadScenario(args.scenario, onSized ? { onSized } : {});
   refuseBuildAnalysis(loaded, args.analysis);
   let diff: DiffScan | null = null;
   const { scanDiff, incompatibility, readManifest, writeDiffFiles, diffLines } = args.compare ? await compareModules() : ({} as Awaited<ReturnType<typeof compareModules>>);
@@ -41,7 +53,7 @@ async function buildWith(io: Io, args: BuildArgs): Promise<number> {
     const why = incompatibility(readManifest(args.compare), makeManifest(loaded, "", [], {}, false));
     if (why.length) throw new InputError({ file: `${args.compare} vs ${args.scenario}`, message: `--compare: these builds cannot be compared word by word: ${why.join("; ")}` });
   }
-  const facts = deriveFacts(loaded.plan);
+  const facts = deriveFacts(loaded.plan, { squint: false }); // the warnings only
   const bar = progress(io, "build");
   let result;
   try {

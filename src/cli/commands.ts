@@ -63,7 +63,7 @@ export function jobsOption(raw: unknown): number {
   return jobs;
 }
 
-/** The analysis workers start with the command, so that their start overlaps the loading of the scenario (io/spare-workers.ts). */
+/** sweep's analysis workers start with the command, so that their start overlaps the loading of the scenario (io/spare-workers.ts). */
 async function prestart(jobs: number): Promise<void> {
   (await import("../io/spare-workers.js")).prestartWorkers(jobs - 1);
 }
@@ -117,8 +117,8 @@ export const COMMAND_SPECS: Record<string, CommandSpec> = {
       ["$0 build scenario.json --no-analysis", "tables only (fastest)"],
     ],
     run: async (a, io) => {
+      // its workers start once the scenario's size is known, if the work pays for them (build.ts)
       const jobs = jobsOption(a.jobs);
-      if (jobs > 1 && a.analysis !== false) await prestart(jobs);
       return (await import("./build.js")).buildCommand(io, { scenario: String(a.scenario), out: String(a.o), jobs, analysis: a.analysis !== false, compare: opt(a.compare) });
     },
   },

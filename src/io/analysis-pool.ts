@@ -142,26 +142,36 @@ export function ringSource(ring: CodeRing, beams: number): CodeSource {
  */
 export const WORKER_START_MS = 400;
 /**
- * Workers started with the command (`build`, `sweep`: spare-workers.ts) are ready about
- * when the analysis begins. They take the job at once when its rough warm work
- * (roughWorkMs) is at least this, and are stopped otherwise, the measured decision then
- * starting new ones if the work turns out to pay. Measured on the idle 2-core CI machine
- * (2026-12-02, interleaved, medians of 3–7 whole builds, against deciding by measurement
- * alone): 32×32 × 441 beams 475 → 435 ms, 16×16 × 4096 1069 → 822, 64×64 × 441 1290 →
- * 944, 128×128 × 441 3324 → 2944, 64×64 × 4096 5883 → 5440; the demo (133 beams) and
- * 16×16 × 441 the same within the spread. Taking the job at once at 16×16 × 441 (rough
- * work 75 ms) was slower, 282 → 352 ms: two threads warming up at once, each with V8's
- * compiler behind it, on two cores.
+ * Workers started with the command are ready about when the analysis begins. `sweep`
+ * starts them as it begins; `build` once the scenario's element and beam counts are read
+ * (before its calibration file) and only when the job's rough warm work (roughWork) is at
+ * least this. A job at least this large takes waiting workers at once; for a smaller one
+ * they are stopped, the measured decision then starting new ones if the work turns out to
+ * pay. Earlier measurements (2026-12-02, against deciding by measurement alone): 16×16 ×
+ * 4096 beams 1069 → 822 ms, 64×64 × 441 1290 → 944, 128×128 × 441 3324 → 2944, 64×64 ×
+ * 4096 5883 → 5440. A waiting worker costs the main thread even when it is stopped (its
+ * start shares the cores with the main thread's cold start), and a job taken at once
+ * must be large enough to pay for two threads warming up at once. Measured on the idle
+ * 2-core machine (2026-12-03, interleaved, medians of 5–9 whole builds, workers started
+ * with the command / --jobs 1): rough work 75 ms (16×16 × 441) 365 / 331 ms, demo (23 ms)
+ * 306 / 276, 344 ms (32×32 × 441) 542 / 519, 442 ms (16×16 × 2601) 702 / 730, 488 ms
+ * (32×32 × 625) 590 / 611, 592 ms (16×16 × 3481) 827 / 946, 657 ms (32×32 × 841) 676 /
+ * 750. The crossover lies between 344 and 442 ms.
  */
-export const EARLY_WORK_MS = 300;
+export const EARLY_WORK_MS = 400;
 /**
- * A rough warm analysis time (ms) for `beams` beams: 0.17 ms a beam at 256 elements, ×
- * (N/256)^1.1 (warm costs on the ladder's 16² … 128² panels, DEVELOPERS.md "Analysis
- * speed"). It only decides whether started workers take a job at once; an optimized
- * quantizer or a band costs more, so their jobs are underestimated, never over.
+ * A rough warm analysis time (ms) for `beams` beams of `elements` elements: 0.17 ms a beam
+ * at 256 elements, × (N/256)^1.1 (warm costs on the ladder's 16² … 128² panels,
+ * DEVELOPERS.md "Analysis speed"). It only decides whether workers start with the command
+ * and take a job at once; an optimized quantizer or a band costs more, so their jobs are
+ * underestimated, never over.
  */
+export function roughWork(elements: number, beams: number): number {
+  return beams * 0.17 * Math.pow(elements / 256, 1.1);
+}
+/** roughWork for the plan's elements. */
 export function roughWorkMs(plan: Plan, beams: number): number {
-  return beams * 0.17 * Math.pow(plan.elements.count / 256, 1.1);
+  return roughWork(plan.elements.count, beams);
 }
 /** Workers start only when the work left is this many times what they cost to start. */
 export const SPAWN_MARGIN = 2;
@@ -494,7 +504,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
   // workers started with the command (spare-workers.ts) have already paid their start: a
   // large enough job is theirs at once, the tail rule deciding how much of it they do; for
   // a smaller one they are stopped, and the measured decision below may start new ones
-  const early = forced === undefined && sparesWaiting() > 0 ? (roughWorkMs(plan, total) >= EARLY_WORK_MS ? "taken at once" : "stopped") : null;
+  const early = forced !== undefined || cap === 0 ? null : sparesWaiting() > 0 ? (roughWorkMs(plan, total) >= EARLY_WORK_MS ? "taken at once" : "stopped") : "none";
   if (!spawned && (forced === 0 || early === "taken at once")) spawn();
   if (spawned || forced === undefined) dropSpares();
   const onChunk = (ms: number, n: number, setupMs: number) => {
@@ -547,7 +557,7 @@ export function startAnalysis(plan: Plan, jobs: number, onProgress?: (done: numb
         if (failure) throw failure;
         // the debug timeline waits (1 s at most) for the workers' reports, sent when each has stopped claiming
         if (process.env.STEERCODE_DEBUG && workers.length) await Promise.race([Promise.all(exits), new Promise((r) => setTimeout(r, 1000).unref())]);
-        if (process.env.STEERCODE_DEBUG) process.stderr.write(`steercode: debug: analysis: ${cap === 0 ? "one thread (--jobs 1 or one chunk)" : workers.length ? `${workers.length} worker(s) started after ${spawnedAfter} main-thread chunk(s), ${workerBeams} of ${total} beams analysed by them` : `no worker started (the work left never paid for one)`}${early ? `; the workers started with the command: ${early} (rough work ${roughWorkMs(plan, total).toFixed(0)} ms, at once from ${EARLY_WORK_MS} ms)` : ""}; main thread ${timing.chunks} chunk(s) in ${timing.busyMs.toFixed(0)} ms, lowest ${timing.minPerBeamMs.toFixed(3)} ms a beam${workerLog.map((l) => "; " + l).join("")}\n`);
+        if (process.env.STEERCODE_DEBUG) process.stderr.write(`steercode: debug: analysis: ${cap === 0 ? "one thread (--jobs 1 or one chunk)" : workers.length ? `${workers.length} worker(s) started after ${spawnedAfter} main-thread chunk(s), ${workerBeams} of ${total} beams analysed by them` : `no worker started (the work left never paid for one)`}${early === "none" ? `; no worker started with the command (rough work ${roughWorkMs(plan, total).toFixed(0)} ms, from ${EARLY_WORK_MS} ms)` : early ? `; the workers started with the command: ${early} (rough work ${roughWorkMs(plan, total).toFixed(0)} ms, at once from ${EARLY_WORK_MS} ms)` : ""}; main thread ${timing.chunks} chunk(s) in ${timing.busyMs.toFixed(0)} ms, lowest ${timing.minPerBeamMs.toFixed(3)} ms a beam${workerLog.map((l) => "; " + l).join("")}\n`);
         return shared.metrics;
       } finally {
         // progress messages still on their way are dropped: every beam is done

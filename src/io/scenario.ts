@@ -48,6 +48,11 @@ export interface LoadOptions {
   displayName?: string;
   /** Leave the scenario's calibration file unread (calibrate writes it; it may not exist yet). */
   ignoreCalibration?: boolean;
+  /**
+   * Called once the element and beam counts are known and valid, before the calibration and
+   * state files are read (build starts its analysis workers here when the work pays for them).
+   */
+  onSized?: (elements: number, beams: number, frequencies: number) => void;
 }
 
 /** Bounds on physical inputs (README "Limits"): beyond them a value is a typo, not a design. */
@@ -265,6 +270,7 @@ class Loader {
 
     // ---- beams
     const beams = this.beams();
+    if (elements && beams && freqs.length && this.problems.count === 0) this.opts.onSized?.(elements.count, beams.count, freqs.length);
 
     // ---- hardware
     const phaseBits: number = d.phaseShifter.bits;

@@ -183,41 +183,58 @@ describe("--jobs: how many threads analyse changes no byte", () => {
   });
 
   // a machine of one core clamps --jobs 2 to 1: nothing to start there
-  it.skipIf(availableParallelism() < 2)("workers started with the command (build, sweep) take a large job at once, are stopped for a small one, and change no byte", () => {
+  it.skipIf(availableParallelism() < 2)("workers started with the command (build, sweep) take a large job at once, are not started (build) or are stopped (sweep) for a small one, and change no byte", () => {
     const env = { STEERCODE_DEBUG: "1" };
     const same = (a: string, b: string) => {
       for (const f of readdirSync(a, { recursive: true }) as string[]) if (statSync(join(a, f)).isFile()) expect(readFileSync(join(b, f)).equals(readFileSync(join(a, f))), f).toBe(true);
     };
-    // 32 × 32 × 441 beams: rough work 441 · 0.17 ms · 4^1.1 = 344 ms, over EARLY_WORK_MS
-    const big = writeScenario(baseScenario({
-      array: { lattice: { kind: "rectangular", columns: 32, rows: 32, dx: "0.5 lambda", dy: "0.5 lambda" } },
-      beams: { kind: "azel", az: { from: -50, to: 50, step: 5 }, el: { from: -50, to: 50, step: 5 } },
-    }));
+    const grid = (lim: number, step: number) => ({ kind: "azel", az: { from: -lim, to: lim, step }, el: { from: -lim, to: lim, step } });
+    const panel32 = { lattice: { kind: "rectangular", columns: 32, rows: 32, dx: "0.5 lambda", dy: "0.5 lambda" } };
+    // 32 × 32 × 625 beams: rough work 625 · 0.17 ms · 4^1.1 = 488 ms, over EARLY_WORK_MS (400)
+    const big = writeScenario(baseScenario({ array: panel32, beams: grid(48, 4) }));
     const a = join(tempDir(), "a"), b = join(tempDir(), "b");
     expect(cli(["build", big, "-o", a, "--jobs", "1"]).code).toBe(0);
     const r = cli(["build", big, "-o", b, "--jobs", "2"], { env });
     expect(r.code, r.stderr).toBe(0);
-    expect(r.stderr).toMatch(/analysis: 1 worker\(s\) started after 0 main-thread chunk\(s\), \d+ of 441 beams analysed by them; the workers started with the command: taken at once \(rough work 344 ms/);
+    expect(r.stderr).toMatch(/analysis: 1 worker\(s\) started after 0 main-thread chunk\(s\), \d+ of 625 beams analysed by them; the workers started with the command: taken at once \(rough work 488 ms/);
     same(a, b);
-    // the demo, 133 beams of 16 × 16: 23 ms, so the started worker is stopped and the measured decision keeps to one thread
+    // 32 × 32 × 441 beams: 344 ms, under it: build starts no worker with the command (a
+    // waiting worker slows a small build's cold start; analysis-pool.ts, EARLY_WORK_MS)
+    const mid = writeScenario(baseScenario({ array: panel32, beams: grid(50, 5) }));
+    const e = join(tempDir(), "e"), f = join(tempDir(), "f");
+    expect(cli(["build", mid, "-o", e, "--jobs", "1"]).code).toBe(0);
+    const m = cli(["build", mid, "-o", f, "--jobs", "2"], { env });
+    expect(m.code, m.stderr).toBe(0);
+    expect(m.stderr).toMatch(/; no worker started with the command \(rough work 344 ms, from 400 ms\)/);
+    same(e, f);
+    // a large build whose calibration file is wrong: exit 2, nothing written, no wait on the workers started for it
+    const bad = writeScenario(baseScenario({ array: panel32, beams: grid(48, 4), calibration: "bad-cal.csv" }), { "bad-cal.csv": "element,phase_offset_deg,gain_offset_db\n0,abc,0\n" });
+    const g = join(tempDir(), "g");
+    const x = cli(["build", bad, "-o", g, "--jobs", "2"], { env });
+    expect(x.code, x.stderr).toBe(2);
+    expect(x.stderr).toMatch(/bad-cal\.csv, line 2, column phase_offset_deg: expected a number, got "abc"/);
+    expect(existsSync(g)).toBe(false);
+    // the demo, 133 beams of 16 × 16: 23 ms
     const demo = join(import.meta.dirname, "..", "..", "fixtures", "demo", "scenario.json");
     const c = join(tempDir(), "c"), d = join(tempDir(), "d");
     expect(cli(["build", demo, "-o", c, "--jobs", "1"]).code).toBe(0);
     const q = cli(["build", demo, "-o", d, "--jobs", "2"], { env });
     expect(q.code, q.stderr).toBe(0);
-    expect(q.stderr).toMatch(/analysis: no worker started .*; the workers started with the command: stopped \(rough work 23 ms/);
+    expect(q.stderr).toMatch(/analysis: no worker started .*; no worker started with the command \(rough work 23 ms/);
     same(c, d);
-    // a sweep counts every part: 4 phase depths × 121 beams of 32 × 32 = 378 ms
-    const sweepScenario = writeScenario(baseScenario({
-      array: { lattice: { kind: "rectangular", columns: 32, rows: 32, dx: "0.5 lambda", dy: "0.5 lambda" } },
-      beams: { kind: "azel", az: { from: -50, to: 50, step: 10 }, el: { from: -50, to: 50, step: 10 } },
-    }));
+    // a sweep starts its workers as it begins and counts every part: 5 phase depths × 121 beams of 32 × 32 = 473 ms
+    const sweepScenario = writeScenario(baseScenario({ array: panel32, beams: grid(50, 10) }));
     const sa = join(tempDir(), "sa"), sb = join(tempDir(), "sb");
-    expect(cli(["sweep", sweepScenario, "-o", sa, "--phase-bits", "3..6", "--jobs", "1"]).code).toBe(0);
-    const w = cli(["sweep", sweepScenario, "-o", sb, "--phase-bits", "3..6", "--jobs", "2"], { env });
+    expect(cli(["sweep", sweepScenario, "-o", sa, "--phase-bits", "3..7", "--jobs", "1"]).code).toBe(0);
+    const w = cli(["sweep", sweepScenario, "-o", sb, "--phase-bits", "3..7", "--jobs", "2"], { env });
     expect(w.code, w.stderr).toBe(0);
-    expect(w.stderr).toMatch(/analysis: 1 worker\(s\) started after 0 main-thread chunk\(s\).*taken at once \(rough work 378 ms/);
+    expect(w.stderr).toMatch(/analysis: 1 worker\(s\) started after 0 main-thread chunk\(s\).*taken at once \(rough work 473 ms/);
     for (const f of ["sweep.csv", "sweep.json"]) expect(readFileSync(join(sb, f)).equals(readFileSync(join(sa, f))), f).toBe(true);
+    // and a small sweep stops them: 1 phase depth × 121 beams = 95 ms
+    const sc = join(tempDir(), "sc");
+    const ws = cli(["sweep", sweepScenario, "-o", sc, "--phase-bits", "4", "--jobs", "2"], { env });
+    expect(ws.code, ws.stderr).toBe(0);
+    expect(ws.stderr).toMatch(/the workers started with the command: stopped \(rough work 95 ms/);
   });
 });
 
