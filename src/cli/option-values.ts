@@ -36,5 +36,7 @@ export function listOption(option: string, raw: string, expected: string): strin
 /** The value as typed, quoted, for a message. */
 export function got(raw: unknown): string {
   if (raw === "") return "got an empty string";
+  // yargs reads --no-jobs as jobs = false
+  if (typeof raw === "boolean") return raw ? "got no value" : "got its --no- form (a value is needed)";
   return `got "${String(raw)}"${typeof raw === "string" && raw.trim() === "" ? " (only spaces)" : ""}`;
 }

@@ -7,6 +7,7 @@ import { printJson, type Io } from "./shared.js";
 import { parseQuantity } from "../core/units.js";
 import { checkFolder, readManifest } from "../io/readbuild.js";
 import { UsageError } from "./usage.js";
+import { got } from "./option-values.js";
 
 /**
  * `--frequency`: a 0-based index ("1") or a frequency with its unit ("28 GHz"), which must
@@ -18,11 +19,11 @@ export function frequencyIndex(dir: string, raw: string | null): number | null {
   if (/^\d+$/.test(text)) return Number(text);
   const q = /[a-zA-Z]/.test(text) ? parseQuantity(text, "frequency") : null;
   // a finite positive frequency: "1e999 GHz" is Infinity, within 1e-9·f of every table
-  if (!q?.ok || !Number.isFinite(q.q.value) || q.q.value <= 0) throw new UsageError(`--frequency ${raw}: expected a frequency index (0, 1 …) or a frequency with its unit, e.g. "28 GHz"`);
+  if (!q?.ok || !Number.isFinite(q.q.value) || q.q.value <= 0) throw new UsageError(`--frequency: expected a frequency index (0, 1 …) or a frequency with its unit, e.g. "28 GHz", ${got(raw)}`);
   const listed = readManifest(dir).frequenciesHz;
   const f = q.q.value;
   const i = listed.findIndex((x) => Math.abs(Number(x) - f) <= 1e-9 * f);
-  if (i < 0) throw new UsageError(`--frequency ${raw}: the build's tables are for ${listed.map((x) => `${Number(x) / 1e9} GHz`).join(", ")}`);
+  if (i < 0) throw new UsageError(`--frequency "${raw}": the build's tables are for ${listed.map((x) => `${Number(x) / 1e9} GHz`).join(", ")}`);
   return i;
 }
 

@@ -110,6 +110,13 @@ export async function runYargs(argv: string[], io: Io, main: (argv: string[]) =>
               a[name] = o.default;
               if (o.alias) a[o.alias] = o.default;
             }
+          // yargs reads --no-<name> as false for every option: `build --no-o` wrote a folder named "false"
+          for (const [name, o] of Object.entries({ ...GLOBAL, ...spec.options })) {
+            const v = a[name];
+            if (o.type === "boolean" || !(Array.isArray(v) ? v : [v]).some((x) => typeof x === "boolean")) continue;
+            const typed = o.alias && argv.some((x) => x === `--no-${o.alias}`) ? o.alias : name;
+            throw new UsageError(`--no-${typed}: ${dash(typed)} takes a value; only switches (such as --no-analysis) have a --no- form`);
+          }
           // an option given twice became an array that the command joined: `build -o x -o y` wrote a folder named "x,y"
           for (const [name, o] of Object.entries({ ...GLOBAL, ...spec.options })) {
             const v = a[name];

@@ -175,7 +175,7 @@ function buildPart(dir: string, m: Manifest, o: ReportOptions): BuildPart {
     }
   }
   if (beam < 0 || beam >= B) throw new InputError({ file: dir, message: `--beam ${beam}: expected a beam from 0 to ${B - 1}` });
-  if (fi < 0 || fi >= F) throw new InputError({ file: dir, message: `--frequency ${fi}: expected 0 to ${F - 1}` });
+  if (fi < 0 || fi >= F) throw new InputError({ file: dir, message: `--frequency ${fi}: expected a frequency index from 0 to ${F - 1} (the build's tables are for ${m.frequenciesHz.map((x) => `${Number(x) / 1e9} GHz`).join(", ")})` });
   const { crc, problem: crcProblem, fileCrc } = beamCrcs(dir, m);
   const data: PageData = {
     title: plan.name || "build",

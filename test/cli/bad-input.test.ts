@@ -8,6 +8,7 @@ import { existsSync, lstatSync, mkdirSync, readdirSync, readFileSync, symlinkSyn
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, tempDir } from "../helpers.js";
+import { COMMAND_SPECS } from "../../src/cli/commands.js";
 
 const CAL8 = "element,phase_offset_deg,gain_offset_db\n" + Array.from({ length: 8 }, (_, i) => `${i},0,0`).join("\n") + "\n";
 const ELS = (rows: string[]) => "element,x_m,y_m\n" + rows.join("\n") + "\n";
@@ -326,6 +327,30 @@ for (const w of WHOLE_OPTIONS)
 // given with no value after it: "" as well, never the option's default (--jobs at the end of the line ran on every core)
 for (const w of WHOLE_OPTIONS) cases.push({ name: `${w.args("d")[0]} ${w.option} with no value`, doc: B({ devices: { channels: 4 } }), ...(w.prepare ? { prepare: w.prepare } : {}), args: w.args, expect: [re(`${w.option}: expected a whole number ${w.range} in decimal digits, got an empty string`)] });
 cases.push({ name: "report --beam= (no value)", prepare: BUILD_DIR, args: (d) => ["report", d, "-o", join(d, "r.html"), "--beam="], expect: [re("--beam: expected a whole number ≥ 0 in decimal digits, got an empty string")] });
+// yargs reads --no-<name> as false for every option: `build --no-o` wrote a build into a folder named "false" (exit 0),
+// `build --compare` compared with a folder "false", `--no-jobs` said got "false"; every option that takes a value, every command
+const NO_FORM_BASE: Record<string, { args: (d: string) => string[]; prepare?: (d: string) => void }> = {
+  init: { args: (d) => ["init", join(d, "demo")] },
+  check: { args: (d) => ["check", join(d, "scenario.json")] },
+  build: { args: (d) => ["build", join(d, "scenario.json"), "-o", join(d, "out")] },
+  sweep: { args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--phase-bits", "3"] },
+  calibrate: { args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", join(d, "cal.csv")] },
+  diff: { args: (d) => ["diff", d, d], prepare: BUILD_DIR },
+  verify: { args: (d) => ["verify", d], prepare: BUILD_DIR },
+  report: { args: (d) => ["report", d, "-o", join(d, "r.html")], prepare: BUILD_DIR },
+};
+for (const [command, spec] of Object.entries(COMMAND_SPECS)) {
+  const base = NO_FORM_BASE[command];
+  if (!base) continue;
+  for (const [name, o] of Object.entries(spec.options)) {
+    if (o.type === "boolean") continue;
+    cases.push({ name: `${command} --no-${name}`, doc: B(), files: { "rev.csv": REV(revRows()) }, ...(base.prepare ? { prepare: base.prepare } : {}), args: (d) => [...base.args(d), `--no-${name}`], expect: [re(`--no-${name}: ${name.length === 1 ? "-" : "--"}${name} takes a value; only switches (such as --no-analysis) have a --no- form`)] });
+  }
+}
+it("every command with a value option is covered by the --no- cases", () => {
+  for (const [command, spec] of Object.entries(COMMAND_SPECS)) if (Object.values(spec.options).some((o) => o.type !== "boolean")) expect(NO_FORM_BASE[command], command).toBeDefined();
+});
+cases.push({ name: "report --frequency \"\"", prepare: BUILD_DIR, args: (d) => ["report", d, "-o", join(d, "r.html"), "--frequency", ""], expect: [re('--frequency: expected a frequency index (0, 1 …) or a frequency with its unit, e.g. "28 GHz", got an empty string')] });
 const SWEEP = (d: string) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out")];
 const LISTS: { option: string; expected: string; args: (d: string) => string[]; values: string[] }[] = [
   { option: "--phase-bits", expected: "a range like 3..8 or a list like 3,4,6", args: SWEEP, values: ["3,,4", "3,", ",3", "3..4,"] },

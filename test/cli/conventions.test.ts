@@ -118,12 +118,16 @@ describe("report --frequency and build --compare", () => {
     expect(readFileSync(join(t, "r1.html"), "utf8")).toBe(readFileSync(join(t, "r2.html"), "utf8"));
     const miss = cli(["report", a, "--frequency", "28 GHz"]);
     expect(miss.code).toBe(2);
-    expect(miss.stderr).toMatch(/--frequency 28 GHz: the build's tables are for 27\.5 GHz, 29 GHz/);
+    expect(miss.stderr).toMatch(/--frequency "28 GHz": the build's tables are for 27\.5 GHz, 29 GHz/);
+    // an index past the last table names the range and the tables
+    const past = cli(["report", a, "--frequency", "2"]);
+    expect(past.code).toBe(2);
+    expect(past.stderr).toMatch(/--frequency 2: expected a frequency index from 0 to 1 \(the build's tables are for 27\.5 GHz, 29 GHz\)/);
     // a frequency that overflows the doubles (Infinity) matched every table, opening the first one with exit 0
     for (const f of ["1e999 GHz", "1e400 Hz"]) {
       const r = cli(["report", a, "--frequency", f, "-o", join(t, "inf.html")]);
       expect(r.code, f).toBe(2);
-      expect(r.stderr).toContain(`--frequency ${f}: expected`);
+      expect(r.stderr).toContain(`--frequency: expected a frequency index (0, 1 …) or a frequency with its unit, e.g. "28 GHz", got "${f}"`);
     }
     expect(existsSync(join(t, "inf.html"))).toBe(false);
   });
