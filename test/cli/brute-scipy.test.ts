@@ -212,6 +212,25 @@ const cases: { name: string; over: Record<string, unknown>; files?: Record<strin
     },
   },
   {
+    // a lobe between the last array-factor null and the end of the visible chord, within one grid cell (found by a
+    // random search against this brute force): az 84.279° el 4.3°: no PSL printed, brute force −42.15 dB (ideal −41.84)
+    name: "1×10 column at 0.6 λ, uniform, cos^8 element, calibration errors, beams at az 81.5°–84.3° (lobes at the chord's end)",
+    over: { array: { lattice: { kind: "rectangular", columns: 1, rows: 10, dx: "0.6 lambda", dy: "0.6 lambda" } }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, element: { pattern: "cosine", exponent: 8 }, calibration: "cal.csv" },
+    files: {
+      "beams.csv": "az_deg,el_deg\n84.279,4.3\n81.524,-9\n83.714,7.9\n",
+      "cal.csv": "element,phase_offset_deg,gain_offset_db\n0,34.652,-0.015\n1,-70.299,-0.513\n2,-160.569,1.156\n3,53.327,-0.389\n4,143.798,-0.331\n5,-46.509,0.298\n6,65.913,0.889\n7,-35.822,0.314\n8,-129.614,-0.312\n9,159.431,0.053\n",
+    },
+  },
+  {
+    // the same at −34.7 … −65.9 dB (ideal PSL printed empty at az 87.665°, 84.762°, 75.88°)
+    name: "1×6 column at 0.67 λ, uniform, cos^4 element, calibration errors, beams at az 75.9°–87.7°",
+    over: { array: { lattice: { kind: "rectangular", columns: 1, rows: 6, dx: "0.67 lambda", dy: "0.67 lambda" } }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 }, element: { pattern: "cosine", exponent: 4 }, calibration: "cal.csv" },
+    files: {
+      "beams.csv": "az_deg,el_deg\n87.665,7.1\n84.762,-7.3\n82.196,-3.1\n75.880,1.0\n",
+      "cal.csv": "element,phase_offset_deg,gain_offset_db\n0,-91.412,-0.368\n1,-148.614,-0.370\n2,-33.382,0.625\n3,141.299,-0.612\n4,19.046,-1.212\n5,-127.107,1.054\n",
+    },
+  },
+  {
     // az 85° (chord |v| ≤ 0.087): PSL −9.09 dB printed, brute force −48.38 dB; az 45° el 44°: −14.47 / −16.78 dB
     name: "1×8 column at λ/2, Taylor −25 dB, tabulated element (φ-dependent, −25 dB onto the horizon), beams at θ 80°–89.9°",
     over: { array: { lattice: { kind: "rectangular", columns: 1, rows: 8, dx: "0.5 lambda", dy: "0.5 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, element: { pattern: "table", file: "el.csv" } },
