@@ -212,6 +212,17 @@ const cases: { name: string; over: Record<string, unknown>; files?: Record<strin
     },
   },
   {
+    // a lobe just past the first null, lower than the last main-lobe sample and falling before the next sample, so the
+    // main lobe's flood took it whole (found by a random search against this brute force): az −73.13° el 7.6°: PSL
+    // −79.69 dB printed (a lobe at the chord's end), brute force −34.69 dB
+    name: "1×7 column at 0.67 λ, Taylor −25 dB, cos^8 element, calibration errors, beams at az −73.1° and −72.3° (a lobe inside the flood)",
+    over: { array: { lattice: { kind: "rectangular", columns: 1, rows: 7, dx: "0.67 lambda", dy: "0.67 lambda" } }, taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 6 }, element: { pattern: "cosine", exponent: 8 }, calibration: "cal.csv" },
+    files: {
+      "beams.csv": "az_deg,el_deg\n-73.13,7.6\n-72.25,1.0\n",
+      "cal.csv": "element,phase_offset_deg,gain_offset_db\n0,2.434,-0.608\n1,-174.868,-1.489\n2,97.167,0.295\n3,20.728,1.395\n4,49.119,1.334\n5,154.928,-0.067\n6,153.212,-0.453\n",
+    },
+  },
+  {
     // a lobe between the last array-factor null and the end of the visible chord, within one grid cell (found by a
     // random search against this brute force): az 84.279° el 4.3°: no PSL printed, brute force −42.15 dB (ideal −41.84)
     name: "1×10 column at 0.6 λ, uniform, cos^8 element, calibration errors, beams at az 81.5°–84.3° (lobes at the chord's end)",

@@ -287,9 +287,9 @@ export class LobeFinder {
       if (inside || !(r.p >= candP[k]!)) { val = candP[k]!; vu = (win.m0 + a) * du; vv = (win.n0 + b) * dv; }
       if (!(val <= sl)) { sl = val; sdu = vu; sdv = vv; }
     }
-    // 4c. a line array's cut near the ends of its visible chord (chordEndLobes)
-    if (ev.element && ev.lockU !== ev.lockV) {
-      const c = chordEndLobes(ev, lobe, u0, v0, du, dv);
+    // 4c. lobes a line array's flood took whole (lineFloodLobes)
+    if (ev.lockU !== ev.lockV) {
+      const c = lineFloodLobes(win, ev, lobe, top, u0, v0, du, dv);
       if (c.p > sl || (Number.isNaN(sl) && c.p >= 0)) { sl = c.p; sdu = c.du; sdv = c.dv; }
     }
     // 5. the horizon, searched along the circle
@@ -301,50 +301,64 @@ export class LobeFinder {
 
 interface Refined { du: number; dv: number; p: number }
 
-/** Exact samples over the last CHORD_END_CELLS grid cells inside each end of a line array's visible chord. */
-const CHORD_END_SAMPLES = 64;
-const CHORD_END_CELLS = 2;
+/** Exact samples a grid cell over a line array's main-lobe flood (lineFloodLobes), and at most this many in all. */
+const LINE_SAMPLES_PER_CELL = 32;
+const LINE_SAMPLES_MAX = 8192;
 /**
- * A line array with an element pattern, its cut through the commanded direction running
- * past the visible chord (|u0| > 0 for a column): where the pattern falls to 0 at the
- * horizon (a cosine element) a lobe can rise past the last array-factor null and fall again
- * before the chord's end, all within a grid cell, so that no sample shows it and the flood
- * takes its cells as main lobe. 1 × 10 column at 0.6 λ, cos⁸, az 84.3° el 4.3°: a −42.15 dB
- * lobe (numpy brute force) and no PSL printed. The last CHORD_END_CELLS cells inside each end
- * are sampled exactly (CHORD_END_SAMPLES points: 16 missed lobes of −62 and −66 dB that
- * close to the end), and every interior maximum that is not the main peak is climbed by
- * golden section. Returns the highest (p NaN: none).
+ * A line array's main-lobe flood can take a whole lobe: past a null the next sample is
+ * still lower than the last one before it, and the lobe peaks and falls before the sample
+ * after, so that no cell outside the flood shows it. It happens at the first nulls (1 × 7
+ * column at 0.67 λ, cos⁸, Taylor, calibration errors, az −73.13° el 7.6°: a −34.69 dB lobe,
+ * numpy brute force, absorbed; −79.69 dB printed) and where a cosine element falls to 0 at
+ * the end of the visible chord (1 × 10 column at 0.6 λ, cos⁸, az 84.3° el 4.3°: a −42.15 dB
+ * lobe and no PSL printed). The cut is one-dimensional, so the flood's run along the line
+ * (one cell more each side, within the line's [−1, 1]) is sampled exactly,
+ * LINE_SAMPLES_PER_CELL a cell (16 missed lobes of −62 and −66 dB close to a chord's end),
+ * and every sampled maximum other than the main peak is climbed by golden section.
+ * Returns the highest (p NaN: none).
  */
-function chordEndLobes(ev: AfEvaluator, lobe: MainLobeMap, u0: number, v0: number, du: number, dv: number): Refined {
-  const alongV = ev.lockU;
-  const t0 = alongV ? v0 : u0, c0 = alongV ? u0 : v0, cell = alongV ? dv : du;
+function lineFloodLobes(win: PowerWindow, ev: AfEvaluator, lobe: MainLobeMap, top: number, u0: number, v0: number, du: number, dv: number): Refined {
+  const { wm, wn, visible } = win;
+  const mask = lobe.mask;
+  const alongV = ev.lockU; // a column: the pattern varies along v (window rows)
   const best: Refined = { du: NaN, dv: NaN, p: NaN };
-  const half = Math.sqrt(Math.max(0, 1 - c0 * c0));
-  if (!(half < 1)) return best;
-  const at = (x: number) => ev.power(alongV ? 0 : x, alongV ? x : 0);
-  const step = (CHORD_END_CELLS * cell) / CHORD_END_SAMPLES;
-  for (const end of [-half, half]) {
-    const dir = Math.sign(end) || 1;
-    // from CHORD_END_CELLS inside the end out to it, in Δ along the line
-    const x = (s: number) => end - t0 - dir * (CHORD_END_SAMPLES - s) * step;
-    let prev = at(x(0)), cur = at(x(1));
-    for (let s = 1; s < CHORD_END_SAMPLES; s++) {
-      const next = at(x(s + 1));
-      if (cur > prev && cur >= next) {
-        let a = x(s - 1), b = x(s + 1);
-        const g = (Math.sqrt(5) - 1) / 2;
-        let c = b - g * (b - a), d = a + g * (b - a), fc = at(c), fd = at(d);
-        for (let k = 0; k < 40 && Math.abs(b - a) > 1e-9 * cell; k++) {
-          if (fc >= fd) { b = d; d = c; fd = fc; c = b - g * (b - a); fc = at(c); }
-          else { a = c; c = d; fc = fd; d = a + g * (b - a); fd = at(d); }
-        }
-        const m = fc >= fd ? c : d, pm = Math.max(fc, fd);
-        const mdu = alongV ? 0 : m, mdv = alongV ? m : 0;
-        if (pm > 0 && notMainPeak(ev, lobe, mdu, mdv) && !(pm <= best.p)) { best.p = pm; best.du = mdu; best.dv = mdv; }
-      }
-      prev = cur;
-      cur = next;
+  const ti = top % wm, tj = (top - ti) / wm;
+  const cells = alongV ? wn : wm, across = alongV ? wm : wn;
+  // a coordinate along the line is in the flood when a visible cell at it is (the same pattern at every one)
+  const flooded = (k: number): boolean => {
+    for (let a = 0; a < across; a++) {
+      const q = alongV ? k * wm + a : a * wm + k;
+      if (visible[q] && mask[q]) return true;
     }
+    return false;
+  };
+  let lo = alongV ? tj : ti, hi = lo;
+  while (lo > 0 && flooded(lo - 1)) lo--;
+  while (hi + 1 < cells && flooded(hi + 1)) hi++;
+  const cell = alongV ? dv : du, t0 = alongV ? v0 : u0, k0 = alongV ? win.n0 : win.m0;
+  // Δ along the line, one cell past the run each side, within t0 + Δ ∈ [−1, 1]
+  const a0 = Math.max((k0 + lo - 1) * cell, -1 - t0), a1 = Math.min((k0 + hi + 1) * cell, 1 - t0);
+  if (!(a1 > a0)) return best;
+  const n = Math.min(LINE_SAMPLES_MAX, Math.ceil(((a1 - a0) / cell) * LINE_SAMPLES_PER_CELL));
+  const step = (a1 - a0) / n;
+  const at = (x: number) => ev.power(alongV ? 0 : x, alongV ? x : 0);
+  const g = (Math.sqrt(5) - 1) / 2;
+  let prev = at(a0), cur = at(a0 + step);
+  for (let s = 1; s < n; s++) {
+    const next = at(a0 + (s + 1) * step);
+    if (cur > prev && cur >= next) {
+      let a = a0 + (s - 1) * step, b = a0 + (s + 1) * step;
+      let c = b - g * (b - a), d = a + g * (b - a), fc = at(c), fd = at(d);
+      for (let k = 0; k < 40 && b - a > 1e-9 * cell; k++) {
+        if (fc >= fd) { b = d; d = c; fd = fc; c = b - g * (b - a); fc = at(c); }
+        else { a = c; c = d; fc = fd; d = a + g * (b - a); fd = at(d); }
+      }
+      const m = fc >= fd ? c : d, pm = Math.max(fc, fd);
+      const mdu = alongV ? 0 : m, mdv = alongV ? m : 0;
+      if (pm > 0 && notMainPeak(ev, lobe, mdu, mdv) && !(pm <= best.p)) { best.p = pm; best.du = mdu; best.dv = mdv; }
+    }
+    prev = cur;
+    cur = next;
   }
   return best;
 }
