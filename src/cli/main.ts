@@ -11,11 +11,34 @@ import { UsageError } from "./usage.js";
 import { defaultIo, printable } from "./shared.js";
 import { cleanUpOnSignals, isSystemError, writeProblem } from "../io/outdir.js";
 import { toolVersion } from "../io/version.js";
-import { COMMANDS } from "./commands.js";
+import { COMMAND_SPECS, COMMANDS, GLOBAL } from "./commands.js";
+
+const VALUE_OPTIONS = new Set([GLOBAL, ...Object.values(COMMAND_SPECS).map((c) => c.options)].flatMap((o) => Object.entries(o).filter(([, x]) => x.type !== "boolean").map(([k]) => k)));
+
+/**
+ * A value option followed by a negative number or number list (`--probe-direction -10,5`,
+ * `--probe-position -0.2,0,1`) given as `--name=value`: the parser read "-10,5" as the short
+ * flags -1, -0, … and said "unknown argument 0 (did you mean -o?)", naming neither the option
+ * nor the value. Only long options, only before `--`.
+ */
+export function attachNumberValues(argv: readonly string[]): string[] {
+  const out: string[] = [];
+  for (let i = 0; i < argv.length; i++) {
+    const a = argv[i]!;
+    if (a === "--") return out.concat(argv.slice(i));
+    const next = argv[i + 1];
+    if (next !== undefined && a.startsWith("--") && VALUE_OPTIONS.has(a.slice(2)) && /^-\.?\d/.test(next)) {
+      out.push(`${a}=${next}`);
+      i++;
+    } else out.push(a);
+  }
+  return out;
+}
 
 /** Exit code a command reports through this, so that handlers can return 0/1. */
-export async function main(argv: string[]): Promise<number> {
+export async function main(given: string[]): Promise<number> {
   cleanUpOnSignals();
+  const argv = attachNumberValues(given);
   const json = argv.includes("--json");
   const io = defaultIo(json);
   try {

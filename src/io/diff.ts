@@ -3,11 +3,12 @@
  * Builds compare only when their layout, element set, frequencies and beam count
  * agree; otherwise the reason is said plainly (exit 2).
  */
+import { join, resolve } from "node:path";
 import { InputError } from "../core/errors.js";
 import { packPlan, unpackWord, type WordLayout } from "../core/words.js";
 import type { Manifest } from "./build.js";
 import type { CalibrationServed } from "../core/calibrate/per-frequency.js";
-import { buildWords, readManifest } from "./readbuild.js";
+import { buildWords, readManifest, tableShapeProblems } from "./readbuild.js";
 import { stableJson } from "./build.js";
 import { HashedFile, type FileDigest } from "./hashed.js";
 import { deviceDiff, type DeviceDiff } from "../workflows/devices.js";
@@ -105,15 +106,21 @@ export interface DiffScan {
 export function scanDiff(dirA: string, dirB: string, manifestB?: Manifest, nameB = dirB): DiffScan {
   const a = readManifest(dirA);
   const b = manifestB ?? readManifest(dirB);
+  const shape = [...tableShapeProblems(dirA, a), ...(manifestB || resolve(dirB) === resolve(dirA) ? [] : tableShapeProblems(dirB, b))];
+  if (shape.length) throw new InputError(shape.map((p) => ({ ...p, message: `${p.message}; run steercode verify on this folder` })));
   const why = incompatibility(a, b);
   if (why.length) throw new InputError({ file: `${dirA} vs ${nameB}`, message: `these builds cannot be compared word by word: ${why.join("; ")}` });
   const idsA = a.elementIds;
-  const wa = buildWords(dirA, a).words;
-  const wb = buildWords(dirB, b).words;
+  const da = buildWords(dirA, a);
+  const db = buildWords(dirB, b);
+  const wa = da.words;
+  const wb = db.words;
   const E = a.counts.elements;
   const B = a.counts.beams;
-  if (wa.length !== a.counts.words || wb.length !== b.counts.words)
-    throw new InputError({ file: wa.length !== a.counts.words ? dirA : nameB, message: "the table holds a different number of words than its manifest says; run steercode verify on it" });
+  if (wa.length !== a.counts.words || wb.length !== b.counts.words) {
+    const [dir, d, m] = wa.length !== a.counts.words ? [dirA, da, a] : [nameB, db, b];
+    throw new InputError({ file: join(dir, d.file), message: `holds ${d.words.length} words, manifest.json's counts give ${m.counts.words}; run steercode verify on this folder` });
+  }
   const pp = packPlan(a.layout);
   const states = 2 ** a.phaseShifter.bits;
   // beams (per frequency) and elements touched, as flags: bounded by the table's shape, not by the changes

@@ -14,7 +14,10 @@ import { D } from "../core/exact.js";
 import { makeQuantizer, prepareFrequency } from "../core/quantize/index.js";
 import { allocBeamCodes } from "../core/quantize/contract.js";
 import { MAX_MANIFEST_BYTES } from "./files.js";
-import { loadScenario, type InputRole, type LoadedScenario } from "./scenario.js";
+import { loadScenario, MAX_BEAMS, MAX_TABLE_BYTES, type InputRole, type LoadedScenario } from "./scenario.js";
+import { wordBytes } from "../core/words.js";
+import { DEVICE_FORMATS } from "../core/devices.js";
+import { DEVICE_MAP_FILE } from "../formats/device-images.js";
 
 /**
  * Reading a file a build folder names, safely: a crafted folder must not lead us out
@@ -183,8 +186,46 @@ export function readManifest(dir: string): Manifest {
     if (!isObj(b) || !Array.isArray(b.frequenciesHz) || b.frequenciesHz.length === 0 || !b.frequenciesHz.every((f) => typeof f === "string") || !dist(b.worstPointingDeg) || !dist(b.worstGainLossDb) || !Array.isArray(b.perBeam) || !b.perBeam.every((r) => isObj(r) && isCount(r.beam) && num(r.worstPointingDeg) && num(r.worstGainLossDb) && hz(r.worstPointingAtHz) && hz(r.worstGainLossAtHz)))
       at("/extra/band", "expected the band analysis (frequenciesHz, worstPointingDeg, worstGainLossDb, perBeam: one entry per table frequency and beam)");
   }
+  // the device section diff reads (map.csv's fixed name, the address layout): a manifest naming
+  // "../../../dev/zero" as the map was read, and diff grew without bound, deaf to SIGTERM
+  const dev = m.devices as unknown;
+  if (dev !== undefined) {
+    const d = dev as Record<string, unknown>;
+    const a = d.address as Record<string, unknown> | undefined;
+    if (!isObj(dev)) at("/devices", "expected an object (the device images' layout)");
+    else {
+      if (d.map !== DEVICE_MAP_FILE) at("/devices/map", `expected ${JSON.stringify(DEVICE_MAP_FILE)}, got ${JSON.stringify(d.map)}`);
+      if (!isCount(d.channels) || (d.channels as number) < 1) at("/devices/channels", "expected the channels of a device (a whole number ≥ 1)");
+      if (!isObj(a) || !["base", "beamStride", "channelStride"].every((k) => isCount(a![k]))) at("/devices/address", "expected { base, beamStride, channelStride }: whole numbers");
+      if (!isCount(d.fill)) at("/devices/fill", "expected the fill word (a whole number)");
+      if (!Array.isArray(d.formats) || !d.formats.every((f) => (DEVICE_FORMATS as readonly unknown[]).includes(f))) at("/devices/formats", `expected a list of image formats (${DEVICE_FORMATS.join(", ")})`);
+      if (!Array.isArray(d.list) || !d.list.every((x) => isObj(x) && isCount((x as Record<string, unknown>).id))) at("/devices/list", "expected a list of devices ({ id, channelsUsed, words, bytes })");
+    }
+  }
   if (problems.length) throw new InputError(problems);
   return m;
+}
+
+/**
+ * What diff relies on beyond readManifest's shape: the counts agree with the lists and
+ * give the table's word count, and the word size follows from the layout's bits. verify
+ * finds such a manifest wrong (exit 1, at the pointer) by regenerating it; diff reads the
+ * table by these numbers, and a layout of 0 or 7 bytes a word, or 2^40 elements, was an
+ * internal error (exit 3), a table.bin with a byte appended compared as if whole (exit 0).
+ */
+export function tableShapeProblems(dir: string, m: Manifest): Problem[] {
+  const file = join(dir, "manifest.json");
+  const problems: Problem[] = [];
+  const at = (pointer: string, message: string) => problems.push({ file, pointer, message });
+  const c = m.counts;
+  if (m.layout.bytes !== wordBytes(m.layout.bits)) at("/layout/bytes", `expected ${wordBytes(m.layout.bits)} (a ${m.layout.bits}-bit word), got ${m.layout.bytes}`);
+  if (m.phaseShifter.bits < 1) at("/phaseShifter/bits", `expected the phase shifter's bits (1–12), got ${m.phaseShifter.bits}`);
+  if (c.frequencies < 1 || c.frequencies !== m.frequenciesHz.length) at("/counts/frequencies", `expected the number of frequencies listed in /frequenciesHz (${m.frequenciesHz.length}, at least 1), got ${c.frequencies}`);
+  if (c.elements < 1 || c.elements !== m.elementIds.length) at("/counts/elements", `expected the number of ids listed in /elementIds (${m.elementIds.length}, at least 1), got ${c.elements}`);
+  if (c.beams < 1 || c.beams > MAX_BEAMS) at("/counts/beams", `expected 1 … ${MAX_BEAMS} beams, got ${c.beams}`);
+  if (!problems.length && c.words !== c.frequencies * c.beams * c.elements) at("/counts/words", `expected frequencies × beams × elements = ${c.frequencies * c.beams * c.elements}, got ${c.words}`);
+  else if (!problems.length && c.words * m.layout.bytes > MAX_TABLE_BYTES) at("/counts/words", `expected a table of at most ${MAX_TABLE_BYTES} bytes, got ${c.words} words of ${m.layout.bytes} bytes`);
+  return problems;
 }
 
 /**
@@ -207,7 +248,9 @@ export function wordsFromBin(dir: string, m: Manifest): Decoded | null {
   const b = tableFile(dir, "table.bin");
   if (!b) return null;
   const bytes = m.layout.bytes;
-  const n = Math.floor(b.length / bytes);
+  // a trailing part of a word was dropped without a word (diff compared the rest, exit 0)
+  if (b.length % bytes !== 0) throw new InputError({ file: join(dir, "table.bin"), message: `holds ${b.length} bytes, not a whole number of ${bytes}-byte words; run steercode verify on this folder` });
+  const n = b.length / bytes;
   const words = new Uint32Array(n);
   for (let i = 0; i < n; i++) words[i] = b.readUIntLE(i * bytes, bytes);
   return { words, file: "table.bin" };
@@ -218,11 +261,14 @@ export function wordsFromMem(dir: string): Decoded | null {
   const b = tableFile(dir, "table.mem");
   if (!b) return null;
   const out: number[] = [];
-  for (const line of b.toString("utf8").split("\n")) {
-    const t = line.replace(/\/\/.*$/, "").trim();
+  const lines = b.toString("utf8").split("\n");
+  for (let k = 0; k < lines.length; k++) {
+    const t = lines[k]!.replace(/\/\/.*$/, "").trim();
     if (!t) continue;
     for (const tok of t.split(/\s+/)) {
-      if (tok.startsWith("@")) throw new InputError({ file: p, message: "address jumps (@addr) are not written by steercode; the file was edited" });
+      if (tok.startsWith("@")) throw new InputError({ file: p, line: k + 1, message: "address jumps (@addr) are not written by steercode; the file was edited" });
+      // parseInt("zz", 16) is NaN, stored as word 0: diff said "identical" (exit 0)
+      if (!/^[0-9A-Fa-f]{1,8}$/.test(tok)) throw new InputError({ file: p, line: k + 1, message: `expected a word in hex digits, got ${JSON.stringify(tok.length > 40 ? tok.slice(0, 40) + "…" : tok)}; run steercode verify on this folder` });
       out.push(parseInt(tok, 16));
     }
   }
@@ -252,7 +298,11 @@ export function wordsFromHeader(dir: string): (Decoded & { crc32: number | null 
   const start = text.indexOf("= {");
   const end = text.indexOf("};", start);
   const body = start >= 0 && end > start ? text.slice(start + 3, end).replace(/\/\*[\s\S]*?\*\//g, "") : "";
-  const words = Uint32Array.from(body.match(/0x[0-9A-Fa-f]+/g) ?? [], (h) => parseInt(h, 16));
+  const hex = body.match(/0x[0-9A-Fa-f]+/g) ?? [];
+  const long = hex.find((h) => h.length > 10);
+  // Uint32Array keeps the low 32 bits of a longer number: 0x1000000AB would compare as 0xAB
+  if (long) throw new InputError({ file: join(dir, "table.h"), message: `expected 32-bit words in the table's initialiser, got ${long.length > 40 ? long.slice(0, 40) + "…" : long}; run steercode verify on this folder` });
+  const words = Uint32Array.from(hex, (h) => parseInt(h, 16));
   const crc = /#define STEERCODE_TABLE_CRC32 0x([0-9A-Fa-f]{8})u/.exec(text);
   return { words, file: "table.h", crc32: crc ? parseInt(crc[1]!, 16) : null };
 }
@@ -268,10 +318,22 @@ export function readCodesCsv(dir: string): CodesCsv | null {
   const b = tableFile(dir, "codes.csv");
   if (!b) return null;
   const { parse } = createRequire(import.meta.url)("csv-parse/sync") as typeof import("csv-parse/sync"); // loaded on first use
-  const rows = parse(b, { from_line: 2 }) as string[][];
+  const p = join(dir, "codes.csv");
+  let rows: string[][];
+  try {
+    rows = parse(b, { from_line: 2 }) as string[][];
+  } catch (e) {
+    // a ragged or badly quoted row was an internal error (exit 3)
+    const err = e as { lines?: number; message?: string };
+    throw new InputError({ file: p, ...(err.lines !== undefined ? { line: err.lines } : {}), message: `not valid CSV (${String(err.message ?? e)}); run steercode verify on this folder` });
+  }
   const n = rows.length;
   const c: CodesCsv = { words: new Uint32Array(n), phase: new Int32Array(n), atten: new Int32Array(n), element: new Int32Array(n) };
+  const COLUMNS = ["element", "phase_code", "atten_code", "word"] as const;
   rows.forEach((r, i) => {
+    // Number("x") is NaN, stored as 0: a garbled cell compared as word 0
+    for (let k = 2; k <= 5; k++)
+      if (!/^\d{1,10}$/.test(r[k] ?? "")) throw new InputError({ file: p, line: i + 2, column: COLUMNS[k - 2]!, message: `expected a whole number, got ${JSON.stringify(r[k] ?? "")}; run steercode verify on this folder` });
     c.element[i] = Number(r[2]);
     c.phase[i] = Number(r[3]);
     c.atten[i] = Number(r[4]);
@@ -285,11 +347,13 @@ export function buildWords(dir: string, m: Manifest): Decoded {
   // a table the manifest lists but the folder lacks: the folder is damaged (diff fell back to codes.csv and said "identical")
   for (const name of ["table.bin", "table.json", "table.mem", "table.h", "codes.csv"])
     if (m.files[name] && folderEntry(dir, name).kind === "missing") throw new InputError({ file: join(dir, name), message: "is listed in manifest.json but missing; run steercode verify on this folder" });
-  const d = wordsFromBin(dir, m) ?? wordsFromJson(dir) ?? wordsFromMem(dir) ?? wordsFromHeader(dir);
-  if (d) return d;
-  const c = readCodesCsv(dir);
-  if (c) return { words: c.words, file: "codes.csv" };
-  throw new InputError({ file: dir, message: "holds no table (table.bin, table.json, table.mem, table.h or codes.csv)" });
+  const d = wordsFromBin(dir, m) ?? wordsFromJson(dir) ?? wordsFromMem(dir) ?? wordsFromHeader(dir) ?? ((c) => (c ? { words: c.words, file: "codes.csv" } : null))(readCodesCsv(dir));
+  if (!d) throw new InputError({ file: dir, message: "holds no table (table.bin, table.json, table.mem, table.h or codes.csv)" });
+  // every word fits the layout's bits (a 0x1FFFF in a 16-bit table was compared and printed as found)
+  const max = m.layout.bits >= 32 ? 0xffffffff : 2 ** m.layout.bits - 1;
+  const k = d.words.findIndex((w) => w > max);
+  if (k >= 0) throw new InputError({ file: join(dir, d.file), message: `word ${k} (0-based) is 0x${d.words[k]!.toString(16).toUpperCase()}, wider than the manifest's ${m.layout.bits}-bit word; run steercode verify on this folder` });
+  return d;
 }
 
 /**

@@ -27,6 +27,9 @@ export interface SweepOptions {
   onProgress?: (done: number, total: number) => void;
 }
 
+/** Most attenuator bits of a swept part: the scenario's own limit (schema: attenuator/bits ≤ 10). */
+export const MAX_ATTEN_BITS = 10;
+
 export interface SweepResult {
   rows: SweepRow[];
   dir: string;
@@ -37,6 +40,14 @@ export function sweepVariants(loaded: LoadedScenario, o: SweepOptions): SweepVar
   const rangeDb = (2 ** plan.attenBits - 1) * plan.attenStepDb;
   if ((plan.phaseStates || plan.attenStates) && (o.phaseBits.some((b) => b !== plan.phaseBits) || o.quantizers.includes("randomized")))
     throw new InputError({ file: loaded.scenario.name, pointer: "/phaseShifter/states", message: `measured state tables fix the part: sweep only its own ${plan.phaseBits} phase bits with the nearest or optimized quantizer, or remove the state tables to compare ideal parts` });
+  // a step the attenuator's range cannot hold in 10 bits (a scenario's attenuator has at most 10): 1e-300 dB swept
+  // a "1002-bit" part whose step sweep.csv printed as 0.000000, and two such steps shared one curve in sweep.svg
+  if (plan.attenBits > 0)
+    for (const s of o.attenStepsDb) {
+      const bits = attenBitsFor(rangeDb, s.value);
+      if (bits > MAX_ATTEN_BITS)
+        throw new InputError({ message: `--atten-step: ${s.exact} dB over the attenuator's ${rangeDb} dB range needs a ${bits}-bit attenuator; expected a step that needs at most ${MAX_ATTEN_BITS} bits, as a scenario's attenuator (at least ${rangeDb} / ${2 ** MAX_ATTEN_BITS - 1} ≈ ${(rangeDb / (2 ** MAX_ATTEN_BITS - 1)).toPrecision(3)} dB here)` });
+    }
   const out: SweepVariantSpec[] = [];
   for (const q of o.quantizers)
     for (const s of o.attenStepsDb)

@@ -4,7 +4,8 @@
  * a diff (words changed, address ranges to reload) and the per-device facts of `check`.
  */
 import { createRequire } from "node:module";
-import { existsSync, readFileSync } from "node:fs";
+import { existsSync } from "node:fs";
+import { MAX_MANIFEST_BYTES, readFolderFile } from "../io/readbuild.js";
 import { join } from "node:path";
 import { address, addressRanges, buildDeviceMap, loadSeconds, locate, type DeviceFormat, type DeviceInfo, type DeviceMap, type DeviceSpec } from "../core/devices.js";
 import type { Plan } from "../core/plan.js";
@@ -48,10 +49,19 @@ export interface BuildInfo {
 /** The device map of a build folder: map.csv and the manifest's address layout. */
 export function readDeviceMap(dir: string, m: BuildInfo): DeviceMap {
   const dm = m.devices!;
-  const p = join(dir, dm.map);
-  if (!existsSync(p)) throw new ImageFormatError(`${dm.map} is missing`);
+  // the fixed name, read as every folder file is (no link followed, regular files only, bounded): the
+  // manifest's "map" was joined to the folder, and "../../../dev/zero" or a link to it was read for ever
+  const text = readFolderFile(dir, DEVICE_MAP_FILE, MAX_MANIFEST_BYTES);
+  if (!text) throw new ImageFormatError(`${DEVICE_MAP_FILE} is missing`);
   const { parse } = createRequire(import.meta.url)("csv-parse/sync") as typeof import("csv-parse/sync"); // loaded on first use
-  const rows = parse(readFileSync(p), { from_line: 1 }) as string[][];
+  let rows: string[][];
+  try {
+    rows = parse(text, { from_line: 1 }) as string[][];
+  } catch (e) {
+    // a ragged or badly quoted row was an internal error (exit 3)
+    const err = e as { lines?: number; message?: string };
+    throw new ImageFormatError(`${DEVICE_MAP_FILE}${err.lines !== undefined ? `, line ${err.lines}` : ""}: not valid CSV (${String(err.message ?? e)})`);
+  }
   if (rows[0]?.join(",") !== "device,channel,element") throw new ImageFormatError(`${dm.map}: expected the header "device,channel,element"`);
   const index = new Map<number, number>();
   m.elementIds.forEach((id, i) => index.set(id, i));

@@ -192,6 +192,10 @@ const cases: Case[] = [
   // the same for the commands that write one file: the message named no file ("cannot write the report: ENOENT"; calibrate: "steercode: is a folder")
   { name: "report -o an empty string", prepare: (d) => mkdirSync(join(d, "out")), args: (d) => ["report", join(d, "out"), "-o", ""], expect: [/-o: expected a file name for the report \(e\.g\. report\.html\), got an empty string/] },
   { name: "calibrate -o an empty string", doc: B(), files: { "rev.csv": REV(revRows()) }, args: (d) => ["calibrate", join(d, "scenario.json"), "--data", join(d, "rev.csv"), "--method", "rev", "-o", ""], expect: [/-o: expected a file name for the calibration \(e\.g\. cal\.csv\), got an empty string/] },
+  // a step the attenuator's 31.5 dB range (6 bits × 0.5 dB) cannot hold in 10 bits: 1e-300 swept a "1002-bit" part and
+  // sweep.csv printed its step as 0.000000 (exit 0); derived: 31.5 / 0.01 = 3150 levels → 12 bits
+  { name: "sweep --atten-step needing more than 10 attenuator bits", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--phase-bits", "3", "--atten-step", "0.5,0.01"], expect: [/--atten-step: 0\.01 dB over the attenuator's 31\.5 dB range needs a 12-bit attenuator; expected a step that needs at most 10 bits, as a scenario's attenuator \(at least 31\.5 \/ 1023 ≈ 0\.0308 dB here\)/] },
+  { name: "sweep --atten-step 1e-300", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--phase-bits", "3", "--atten-step", "1e-300"], expect: [/--atten-step: 1e-300 dB over the attenuator's 31\.5 dB range needs a 1002-bit attenuator/] },
   { name: "sweep --atten-step 1e300", doc: B(), args: (d) => ["sweep", join(d, "scenario.json"), "-o", join(d, "out"), "--atten-step", "1e300"], expect: [/--atten-step: expected steps in dB greater than 0 and at most 100/] },
   // only regular files are read, with limits that hold for streams too
   { name: "calibration is /dev/zero", doc: B({ calibration: "/dev/zero" }), expect: [/\/dev\/zero: \/calibration: expected a regular file, found a character device/] },

@@ -3,7 +3,7 @@
  * did-you-mean for mistyped commands and options (exit 2), `help <command>`, shell
  * completion, `report --frequency` by index or by value, `--compare` checked before work.
  */
-import { existsSync, readFileSync, readdirSync } from "node:fs";
+import { existsSync, readFileSync, readdirSync, writeFileSync } from "node:fs";
 import { dirname, join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
@@ -141,5 +141,38 @@ describe("report --frequency and build --compare", () => {
     expect(r.stderr).not.toMatch(/steercode-tmp/);
     expect(existsSync(out)).toBe(false);
     expect(readdirSync(dirname(out)).filter((n) => n.includes("steercode-tmp"))).toEqual([]);
+  });
+});
+
+describe("a value that starts with a minus sign", () => {
+  // `--probe-direction -10,5` (a probe 10° to the left) was read as the short flags -1, -0, -, -5: exit 2
+  // "unknown argument 0 (did you mean -o?)", naming neither the option nor the value; only `=-10,5` worked
+  it("a negative number list after a value option is its value, as with =", () => {
+    const t = tempDir();
+    const s = writeScenario(baseScenario(), {}, join(t, "s"));
+    // REV readings of the 8-element base scenario (3-bit shifter): x = 0.1·e^{j·e rad}, ideal states
+    const rows: string[] = [];
+    for (let e = 0; e < 8; e++)
+      for (let k = 0; k < 8; k++) {
+        const d = (k * Math.PI) / 4, xr = 0.1 * Math.cos(e), xi = 0.1 * Math.sin(e);
+        const zr = 1 + xr * (Math.cos(d) - 1) - xi * Math.sin(d), zi = xr * Math.sin(d) + xi * (Math.cos(d) - 1);
+        rows.push(`${e},${k},${(10 * Math.log10(zr * zr + zi * zi)).toFixed(6)}`);
+      }
+    writeFileSync(join(t, "rev.csv"), "element,phase_code,power_db\n" + rows.join("\n") + "\n");
+    const run = (probe: string[], out: string) => cli(["calibrate", s, "--data", join(t, "rev.csv"), "--method", "rev", ...probe, "-o", join(t, out)]);
+    for (const [option, value, said] of [["--probe-direction", "-10,5", /^# probe: far field, az -10 deg, el 5 deg/m], ["--probe-position", "-0.5,0,1", /^# probe: near field at x -0\.5 m, y 0 m, z 1 m/m]] as const) {
+      const spaced = run([option, value], "a.csv");
+      expect(spaced.code, spaced.stderr).toBe(0);
+      const joined = run([`${option}=${value}`], "b.csv");
+      expect(joined.code, joined.stderr).toBe(0);
+      const a = readFileSync(join(t, "a.csv"), "utf8");
+      expect(a).toMatch(said);
+      expect(a).toBe(readFileSync(join(t, "b.csv"), "utf8"));
+    }
+    // a whole-number option given a negative number names the option and the value
+    const jobs = cli(["build", s, "-o", join(t, "out"), "--jobs", "-2"]);
+    expect(jobs.code).toBe(2);
+    expect(jobs.stderr).toMatch(/--jobs: expected a whole number from 1 to 256 in decimal digits, got "-2"/);
+    expect(existsSync(join(t, "out"))).toBe(false);
   });
 });

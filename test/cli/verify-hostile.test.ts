@@ -8,11 +8,11 @@
  */
 import { createHash } from "node:crypto";
 import { cpSync, existsSync, mkdirSync, readFileSync, readdirSync, rmSync, symlinkSync, writeFileSync } from "node:fs";
-import { execFileSync } from "node:child_process";
+import { execFileSync, spawnSync } from "node:child_process";
 import { join } from "node:path";
 import { crc32 } from "node:zlib";
 import { describe, expect, it } from "vitest";
-import { baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
+import { BIN, baseScenario, cli, tempDir, writeScenario } from "../helpers.js";
 import { writeReport } from "../../src/report/page.js";
 
 const CAL = "# date: 2026-11-20 (invented)\n# source: test range\nelement,phase_offset_deg,gain_offset_db\n" + Array.from({ length: 8 }, (_, i) => `${i},${(i * 37.3) % 360},${((i % 3) * 0.4).toFixed(1)}`).join("\n") + "\n";
@@ -372,6 +372,99 @@ describe("diff and report on a damaged table.bin say so (they trusted the rest o
     expect(d.code).toBe(2);
     expect(d.stderr).toMatch(/no-bin\/table\.bin: is listed in manifest\.json but missing; run steercode verify on this folder/);
   });
+});
+
+describe("diff and build --compare on a damaged or crafted folder: exit 2 naming the file and pointer, never 3, never a silent result", () => {
+  // diff reads the table by manifest.json's counts and layout and trusted them: 0 or 7 bytes a word and 2^40 elements
+  // were internal errors (exit 3), a shortened elementIds list or a table.bin with a byte appended compared as if
+  // whole (exit 0); a garbled table.mem token or codes.csv cell was read as word 0 (exit 0), a ragged codes.csv row
+  // was exit 3, a table.h word past 32 bits kept its low 32 bits (0x100000000 compared as 0x0000, exit 0)
+  const onlyFormat = (d: string, keep: string) => {
+    const mp = join(d, "manifest.json");
+    const m = JSON.parse(readFileSync(mp, "utf8"));
+    for (const f of ["table.bin", "table.json", "table.mem", "table.h", "codes.csv"])
+      if (f !== keep) {
+        rmSync(join(d, f));
+        delete m.files[f];
+      }
+    writeFileSync(mp, JSON.stringify(m));
+  };
+  const editManifest = (d: string, edit: (m: any) => void) => {
+    const m = JSON.parse(readFileSync(join(d, "manifest.json"), "utf8"));
+    edit(m);
+    writeFileSync(join(d, "manifest.json"), JSON.stringify(m));
+  };
+  const cases: [string, (d: string) => void, RegExp][] = [
+    ["layout bytes 0", (d) => editManifest(d, (m) => (m.layout.bytes = 0)), /manifest\.json: \/layout\/bytes: expected 2 \(a 16-bit word\), got 0/],
+    ["layout bytes 7", (d) => editManifest(d, (m) => (m.layout.bytes = 7)), /manifest\.json: \/layout\/bytes: expected 2 \(a 16-bit word\), got 7/],
+    ["2^40 elements", (d) => editManifest(d, (m) => (m.counts.elements = 2 ** 40)), /manifest\.json: \/counts\/elements: expected the number of ids listed in \/elementIds \(8, at least 1\), got 1099511627776/],
+    ["elementIds shortened", (d) => editManifest(d, (m) => (m.elementIds = [0])), /manifest\.json: \/counts\/elements: expected the number of ids listed in \/elementIds \(1, at least 1\), got 8/],
+    ["a word count that is not frequencies × beams × elements", (d) => editManifest(d, (m) => (m.counts.words = 47)), /manifest\.json: \/counts\/words: expected frequencies × beams × elements = 48, got 47/],
+    ["table.bin with a byte appended", (d) => writeFileSync(join(d, "table.bin"), Buffer.concat([readFileSync(join(d, "table.bin")), Buffer.from([0])])), /table\.bin: holds 97 bytes, not a whole number of 2-byte words/],
+    ["table.mem with a token that is not hex", (d) => { onlyFormat(d, "table.mem"); const p = join(d, "table.mem"); const l = readFileSync(p, "utf8").split("\n"); const k = l.findIndex((x) => /^[0-9a-f]+$/i.test(x.trim())); l[k] = "zzzz"; writeFileSync(p, l.join("\n")); }, /table\.mem, line \d+: expected a word in hex digits, got "zzzz"/],
+    ["codes.csv with a ragged row", (d) => { onlyFormat(d, "codes.csv"); const p = join(d, "codes.csv"); const l = readFileSync(p, "utf8").split("\n"); l[4] = "10000000000,0,3,x,y,zz"; writeFileSync(p, l.join("\n")); }, /codes\.csv, line 5: not valid CSV/],
+    ["codes.csv with a word that is not a number", (d) => { onlyFormat(d, "codes.csv"); const p = join(d, "codes.csv"); const l = readFileSync(p, "utf8").split("\n"); const c = l[4]!.split(","); c[5] = "x"; l[4] = c.join(","); writeFileSync(p, l.join("\n")); }, /codes\.csv, line 5, column word: expected a whole number, got "x"/],
+    ["table.h with a word past 32 bits", (d) => { onlyFormat(d, "table.h"); const p = join(d, "table.h"); writeFileSync(p, readFileSync(p, "utf8").replace(/(\/\* beam 0 \*\/\s*)0x[0-9A-F]+/, "$10x100000000")); }, /table\.h: expected 32-bit words in the table's initialiser, got 0x100000000/],
+    ["table.h with a word wider than the layout", (d) => { onlyFormat(d, "table.h"); const p = join(d, "table.h"); writeFileSync(p, readFileSync(p, "utf8").replace(/(\/\* beam 0 \*\/\s*)0x[0-9A-F]+/, "$10x1FFFF")); }, /table\.h: word 0 \(0-based\) is 0x1FFFF, wider than the manifest's 16-bit word/],
+  ];
+  for (const [what, edit, re] of cases)
+    it(`${what}: diff exit 2, build --compare exit 2, nothing written`, () => {
+      const d = copy(`diff-bad-${what.replace(/\W/g, "")}`);
+      edit(d);
+      const out = join(root, `diff-bad-out-${what.replace(/\W/g, "")}`);
+      for (const args of [["diff", base, d, "-o", out], ["diff", d, base, "-o", out], ["build", scenario, "-o", out, "--compare", d, "--no-analysis"]]) {
+        const r = cli(args);
+        expect(r.code, `${args.join(" ")}: ${r.stderr}`).toBe(2);
+        // build --compare first checks that the scenario's table can be compared with the earlier one's
+        expect(r.stderr).toMatch(args[0] === "build" ? new RegExp(`${re.source}|--compare: these builds cannot be compared word by word`) : re);
+        expect(r.stderr).not.toMatch(/internal error|\n\s+at .+:\d+:\d+/);
+        expect(existsSync(out)).toBe(false);
+      }
+    });
+});
+
+describe("diff on a crafted devices section: only devices/map.csv is read, as every folder file is", () => {
+  // the manifest's devices.map was joined to the folder and read with readFileSync: "../../../../dev/zero" (or
+  // devices/map.csv a link to it) was read for ever, growing past 7 GB, deaf to SIGTERM; "../../etc/passwd" was
+  // parsed (exit 3: Invalid Record Length), and so was a map.csv with an unclosed quote; a devices section that was
+  // not an object, or without "map", was exit 3 too
+  const droot = tempDir("steercode-devhostile-");
+  const dscenario = writeScenario(baseScenario({ devices: { channels: 4 } }), {}, join(droot, "s"));
+  const dbase = join(droot, "base");
+  let dbuilt = false;
+  const dcopy = (name: string) => {
+    if (!dbuilt) {
+      const r = cli(["build", dscenario, "-o", dbase, "--no-analysis"]);
+      if (r.code !== 0) throw new Error(r.stderr);
+      dbuilt = true;
+    }
+    const d = join(droot, name);
+    cpSync(dbase, d, { recursive: true });
+    return d;
+  };
+  const man = (d: string, edit: (m: any) => void) => {
+    const m = JSON.parse(readFileSync(join(d, "manifest.json"), "utf8"));
+    edit(m);
+    writeFileSync(join(d, "manifest.json"), JSON.stringify(m));
+  };
+  const cases: [string, (d: string) => void, RegExp][] = [
+    ["map naming /dev/zero through ../", (d) => man(d, (m) => (m.devices.map = "../".repeat(12) + "dev/zero")), /manifest\.json: \/devices\/map: expected "devices\/map\.csv", got "(\.\.\/)+dev\/zero"/],
+    ["map.csv a link to /dev/zero", (d) => { rmSync(join(d, "devices", "map.csv")); symlinkSync("/dev/zero", join(d, "devices", "map.csv")); }, /devices\/map\.csv: is a symbolic link; a build folder holds regular files only/],
+    ["map.csv with an unclosed quote", (d) => writeFileSync(join(d, "devices", "map.csv"), readFileSync(join(d, "devices", "map.csv"), "utf8") + '"1,2\n'), /devices\/map\.csv, line 10: not valid CSV \(Quote Not Closed/],
+    ["a devices section that is a number", (d) => man(d, (m) => (m.devices = 5)), /manifest\.json: \/devices: expected an object/],
+    ["a devices section without map", (d) => man(d, (m) => delete m.devices.map), /manifest\.json: \/devices\/map: expected "devices\/map\.csv", got undefined/],
+    ["channels that are not a number", (d) => man(d, (m) => (m.devices.channels = "x")), /manifest\.json: \/devices\/channels: expected the channels of a device/],
+  ];
+  for (const [what, edit, re] of cases)
+    it(`${what}: exit 2 at once`, () => {
+      const d = dcopy(`dev-${what.replace(/\W/g, "")}`);
+      edit(d);
+      // SIGKILL: the old diff ignored SIGTERM while it read /dev/zero
+      const r = spawnSync(process.execPath, [BIN, "diff", dbase, d], { encoding: "utf8", timeout: 30_000, killSignal: "SIGKILL", env: { ...process.env, NO_COLOR: "1" } });
+      expect(r.status, r.stderr).toBe(2);
+      expect(r.stderr).toMatch(re);
+      expect(r.stderr).not.toMatch(/internal error|\n\s+at .+:\d+:\d+/);
+    });
 });
 
 describe("report draws its metrics only from the beams.csv the build wrote", () => {
