@@ -467,7 +467,7 @@ export async function makeReport(dir: string, o: ReportOptions): Promise<{ html:
   const html = `<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8">${REPORT_GENERATOR}<title>${esc(title)}</title>
 <meta name="viewport" content="width=device-width, initial-scale=1">
-<meta http-equiv="Content-Security-Policy" content="default-src 'none'; script-src 'unsafe-inline'; style-src 'unsafe-inline'; img-src data:">
+<meta http-equiv="Content-Security-Policy" content="default-src 'none'; script-src 'unsafe-inline' 'wasm-unsafe-eval'; style-src 'unsafe-inline'; img-src data:">
 <style>${CSS}</style></head><body>
 <h1>${esc(title)}</h1>
 <div class="safety" id="safety">${esc(SAFETY)}</div>

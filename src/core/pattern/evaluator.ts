@@ -3,9 +3,21 @@
  * direction d̂:  F(Δ) = Σ w̃_n · exp(jk(x_n·Δu + y_n·Δv + z_n·(w(d̂+Δ) − w0))),
  * with w̃_n = w_n·exp(jk r_n·d̂). |F(Δ)|² is |AF(d̂ + Δ)|². Phasors are built per
  * distinct coordinate (a lattice has only `columns` distinct x and `rows` distinct y),
- * so one evaluation costs a few dozen sin/cos and one pass over the elements.
+ * so one evaluation costs a few dozen sin/cos and one pass over the elements. For planar
+ * arrays that pass runs in WebAssembly (wasm/evaluator.ts, the same sums in the same
+ * order); the phasors stay JavaScript's Math.cos and Math.sin.
  */
 import { centralDerivs, weightDerivs, type ElementDerivs, type ElementPattern } from "../element.js";
+import { KERNEL_BASE, kernelInstance } from "./kernels.js";
+import { WASM_BASE64 } from "./wasm/evaluator.js";
+
+interface EvaluatorKernels {
+  memory: WebAssembly.Memory;
+  setup(n: number, nxd: number, ng: number, mode: number, k: number, base: number): number;
+  offset(i: number): number;
+  field(): void;
+  derivs(): void;
+}
 
 export interface Distinct {
   values: Float64Array;
@@ -42,10 +54,10 @@ export class AfEvaluator {
   /** The pattern does not vary along u (one distinct x) or along v (one distinct y): a line array. */
   readonly lockU: boolean;
   readonly lockV: boolean;
-  private readonly cx: Float64Array;
-  private readonly sx: Float64Array;
-  private readonly cy: Float64Array;
-  private readonly sy: Float64Array;
+  private cx: Float64Array;
+  private sx: Float64Array;
+  private cy: Float64Array;
+  private sy: Float64Array;
   /** de-steered weights */
   wr: Float64Array;
   wi: Float64Array;
@@ -67,14 +79,6 @@ export class AfEvaluator {
   private readonly kx2: Float64Array;
   /** elements already in group order (order[q] = q): the loops index them directly */
   private readonly inOrder: boolean;
-  /**
-   * Lattices: in order, and group g's elements take the distinct x values colBase[g],
-   * colBase[g] + 1, … in turn, so an element's column needs no lookup; kxd, kxd2: k·x
-   * and (k·x)² per distinct x. null otherwise.
-   */
-  private readonly colBase: Int32Array | null;
-  private readonly kxd: Float64Array;
-  private readonly kxd2: Float64Array;
 
   constructor(x: Float64Array, y: Float64Array, z: Float64Array, k: number) {
     this.n = x.length;
@@ -102,21 +106,41 @@ export class AfEvaluator {
     for (let i = 0; i < this.n; i++) this.order[fillAt[this.dy.index[i]!]!++] = i;
     this.kx2 = Float64Array.from(this.kx, (v) => v * v);
     this.inOrder = this.order.every((v, q) => v === q);
-    this.kxd = Float64Array.from(this.dx.values, (v) => k * v);
-    this.kxd2 = Float64Array.from(this.kxd, (v) => v * v);
-    let seq = this.inOrder;
-    const base = new Int32Array(ng);
-    for (let g = 0; g < ng && seq; g++) {
-      const q0 = this.groupStart[g]!;
-      base[g] = this.dx.index[q0]!;
-      for (let q = q0; q < this.groupStart[g + 1]! && seq; q++) {
-        // the same k·x either way (x equals its distinct value), so the sums are unchanged
-        if (this.dx.index[q] !== base[g]! + (q - q0) || this.kx[q] !== this.kxd[this.dx.index[q]!]) seq = false;
-      }
-    }
-    this.colBase = seq ? base : null;
+    if (this.planar) this.kernel = this.planarKernel(ng);
   }
   private readonly kScale: number;
+  /** Planar arrays: the element loops of field() and afDerivs() in WebAssembly (wasm/evaluator.ts); null otherwise. */
+  private readonly kernel: EvaluatorKernels | null = null;
+  private kOut: Float64Array = new Float64Array(0);
+
+  /**
+   * The kernel's instance, with this evaluator's arrays moved into its memory: cx, sx, cy,
+   * sy (written by phasors()) and wr, wi (written by callers) become views on it.
+   */
+  private planarKernel(ng: number): EvaluatorKernels {
+    const n = this.n, nxd = this.dx.values.length;
+    const bytes = KERNEL_BASE + 8 * (8 + 4 * n + 2 * nxd + 3 * ng) + 4 * (3 * n + ng + 1) + 8;
+    const K = kernelInstance<EvaluatorKernels>(WASM_BASE64, bytes);
+    const mode = this.inOrder ? 1 : 2;
+    if (K.setup(n, nxd, ng, mode, this.kScale, KERNEL_BASE) > bytes) throw new Error("AfEvaluator: kernel layout larger than reserved");
+    const mem = K.memory.buffer;
+    const f64 = (i: number, len: number, from?: ArrayLike<number>) => { const a = new Float64Array(mem, K.offset(i), len); if (from) a.set(from); return a; };
+    const i32 = (i: number, len: number, from: ArrayLike<number>) => new Int32Array(mem, K.offset(i), len).set(from);
+    this.kOut = f64(0, 8);
+    this.wr = f64(1, n, this.wr);
+    this.wi = f64(2, n, this.wi);
+    this.cx = f64(3, nxd);
+    this.sx = f64(4, nxd);
+    this.cy = f64(5, ng);
+    this.sy = f64(6, ng);
+    f64(7, n, this.kx);
+    f64(8, n, this.kx2);
+    f64(9, ng, this.dy.values);
+    i32(10, n, this.order);
+    i32(11, ng + 1, this.groupStart);
+    i32(12, n, this.dx.index);
+    return K;
+  }
 
   setBeam(u0: number, v0: number, w0: number): void {
     this.u0 = u0;
@@ -151,51 +175,22 @@ export class AfEvaluator {
   /** F(Δ) as [re, im]. */
   field(du: number, dv: number): [number, number] {
     this.phasors(du, dv);
+    if (this.kernel) {
+      this.kernel.field();
+      this.fOut[0] = this.kOut[0]!;
+      this.fOut[1] = this.kOut[1]!;
+      return this.fOut;
+    }
+    // not planar: the z term per element
     const { cx, sx, cy, sy, wr, wi } = this;
     const xi = this.dx.index;
     const yi = this.dy.index;
     let re = 0;
     let im = 0;
-    let dz = 0;
-    if (!this.planar) {
-      const u = this.u0 + du;
-      const v = this.v0 + dv;
-      const s = 1 - u * u - v * v;
-      dz = (s > 0 ? Math.sqrt(s) : 0) - this.w0;
-    }
-    if (this.planar) {
-      const { order, groupStart } = this;
-      for (let g = 0; g + 1 < groupStart.length; g++) {
-        let sr = 0, si = 0;
-        const q0 = groupStart[g]!, q1 = groupStart[g + 1]!;
-        const colBase = this.colBase;
-        if (colBase)
-          for (let i = q0, a = colBase[g]!; i < q1; i++, a++) {
-            const c = cx[a]!, s = sx[a]!, w_r = wr[i]!, w_i = wi[i]!;
-            sr += w_r * c - w_i * s;
-            si += w_r * s + w_i * c;
-          }
-        else if (this.inOrder)
-          for (let i = q0; i < q1; i++) {
-            const a = xi[i]!;
-            const c = cx[a]!, s = sx[a]!, w_r = wr[i]!, w_i = wi[i]!;
-            sr += w_r * c - w_i * s;
-            si += w_r * s + w_i * c;
-          }
-        else
-          for (let q = q0; q < q1; q++) {
-            const i = order[q]!;
-            const a = xi[i]!;
-            sr += wr[i]! * cx[a]! - wi[i]! * sx[a]!;
-            si += wr[i]! * sx[a]! + wi[i]! * cx[a]!;
-          }
-        re += cy[g]! * sr - sy[g]! * si;
-        im += cy[g]! * si + sy[g]! * sr;
-      }
-      this.fOut[0] = re;
-      this.fOut[1] = im;
-      return this.fOut;
-    }
+    const u = this.u0 + du;
+    const v = this.v0 + dv;
+    const s = 1 - u * u - v * v;
+    const dz = (s > 0 ? Math.sqrt(s) : 0) - this.w0;
     for (let i = 0; i < this.n; i++) {
       const a = xi[i]!;
       const b = yi[i]!;
@@ -231,82 +226,17 @@ export class AfEvaluator {
   private afDerivs(du: number, dv: number): PowerDerivs {
     const o = this.out;
     if (!this.planar) return centralDerivs(this.powerAt, du, dv, o);
-    // grouped by row: S0 = Σ w·ex, S1 = Σ X·w·ex, S2 = Σ X²·w·ex per distinct y, then
+    // grouped by row (wasm/evaluator.ts): S0 = Σ w·ex, S1 = Σ X·w·ex, S2 = Σ X²·w·ex per distinct y, then
     // F = Σ ey·S0, F_u = jΣ ey·S1, F_uu = −Σ ey·S2, F_v = jΣ Y·ey·S0, F_vv = −Σ Y²·ey·S0, F_uv = −Σ Y·ey·S1
     this.phasors(du, dv);
-    const { cx, sx, cy, sy, wr, wi, kx, kx2, order, groupStart, inOrder, colBase, kxd, kxd2 } = this;
-    const xi = this.dx.index;
-    const yv = this.dy.values;
-    const k = this.kScale;
-    let fr = 0, fi = 0, fur = 0, fui = 0, fvr = 0, fvi = 0;
-    let fuur = 0, fuui = 0, fvvr = 0, fvvi = 0, fuvr = 0, fuvi = 0;
-    for (let g = 0; g + 1 < groupStart.length; g++) {
-      let s0r = 0, s0i = 0, s1r = 0, s1i = 0, s2r = 0, s2i = 0;
-      const q0 = groupStart[g]!, q1 = groupStart[g + 1]!;
-      if (colBase) {
-        for (let i = q0, a = colBase[g]!; i < q1; i++, a++) {
-          const c = cx[a]!, s = sx[a]!, w_r = wr[i]!, w_i = wi[i]!;
-          const tr = w_r * c - w_i * s;
-          const ti = w_r * s + w_i * c;
-          const k1 = kxd[a]!, k2 = kxd2[a]!;
-          s0r += tr;
-          s0i += ti;
-          s1r += k1 * tr;
-          s1i += k1 * ti;
-          s2r += k2 * tr;
-          s2i += k2 * ti;
-        }
-      } else if (inOrder)
-        for (let i = q0; i < q1; i++) {
-          const a = xi[i]!;
-          const c = cx[a]!, s = sx[a]!, w_r = wr[i]!, w_i = wi[i]!;
-          const tr = w_r * c - w_i * s;
-          const ti = w_r * s + w_i * c;
-          const k1 = kx[i]!, k2 = kx2[i]!;
-          s0r += tr;
-          s0i += ti;
-          s1r += k1 * tr;
-          s1i += k1 * ti;
-          s2r += k2 * tr;
-          s2i += k2 * ti;
-        }
-      else
-        for (let q = q0; q < q1; q++) {
-          const i = order[q]!;
-          const a = xi[i]!;
-          const tr = wr[i]! * cx[a]! - wi[i]! * sx[a]!;
-          const ti = wr[i]! * sx[a]! + wi[i]! * cx[a]!;
-          s0r += tr;
-          s0i += ti;
-          s1r += kx[i]! * tr;
-          s1i += kx[i]! * ti;
-          s2r += kx2[i]! * tr;
-          s2i += kx2[i]! * ti;
-        }
-      const er = cy[g]!, ei = sy[g]!;
-      const Y = k * yv[g]!;
-      const a0r = er * s0r - ei * s0i, a0i = er * s0i + ei * s0r;
-      const a1r = er * s1r - ei * s1i, a1i = er * s1i + ei * s1r;
-      const a2r = er * s2r - ei * s2i, a2i = er * s2i + ei * s2r;
-      fr += a0r;
-      fi += a0i;
-      fur -= a1i;
-      fui += a1r;
-      fvr -= Y * a0i;
-      fvi += Y * a0r;
-      fuur -= a2r;
-      fuui -= a2i;
-      fvvr -= Y * Y * a0r;
-      fvvi -= Y * Y * a0i;
-      fuvr -= Y * a1r;
-      fuvi -= Y * a1i;
-    }
-    o.p = fr * fr + fi * fi;
-    o.pu = 2 * (fr * fur + fi * fui);
-    o.pv = 2 * (fr * fvr + fi * fvi);
-    o.puu = 2 * (fur * fur + fui * fui + fr * fuur + fi * fuui);
-    o.pvv = 2 * (fvr * fvr + fvi * fvi + fr * fvvr + fi * fvvi);
-    o.puv = 2 * (fur * fvr + fui * fvi + fr * fuvr + fi * fuvi);
+    const K = this.kOut;
+    this.kernel!.derivs();
+    o.p = K[0]!;
+    o.pu = K[1]!;
+    o.pv = K[2]!;
+    o.puu = K[3]!;
+    o.pvv = K[4]!;
+    o.puv = K[5]!;
     return o;
   }
 }

@@ -1,12 +1,15 @@
 /**
- * 2-D power spectrum of zero-padded weights, on fft.js (radix-4, interleaved
- * complex). Chosen by measurement over our own radix-2 (128 points: fft.js 1.35 µs,
- * own split-array radix-2 2.78 µs on the CI machine; DEVELOPERS.md).
+ * 2-D power spectrum of zero-padded weights. The transforms run in WebAssembly
+ * (wasm/fft.ts, compiled ahead of time): fft.js's radix-4 forward transform ported
+ * operation for operation, so the spectra are bit-identical to fft.js's (tested), in
+ * float64, with no JIT warm-up, and 1.2–2.5× faster than fft.js even when warm
+ * (DEVELOPERS.md, "Analysis speed"). Arrays are interleaved complex.
  *
- * The array factor needs exp(+2πi·n·k/N); fft.js computes exp(−2πi·n·k/N). Since
+ * The array factor needs exp(+2πi·n·k/N); the transform computes exp(−2πi·n·k/N). Since
  * Σ w·e^{+iθ} = conj(Σ conj(w)·e^{−iθ}), transforming conj(w) gives the same |·|².
  */
-import FFT from "fft.js";
+import { KERNEL_BASE, kernelInstance } from "./kernels.js";
+import { WASM_BASE64 } from "./wasm/fft.js";
 
 export function nextPow2(x: number): number {
   let n = 1;
@@ -14,90 +17,117 @@ export function nextPow2(x: number): number {
   return n;
 }
 
+interface FftKernels {
+  memory: WebAssembly.Memory;
+  setup(nx: number, ny: number, usedRows: number, usedCols: number, widthX: number, widthY: number, base: number): number;
+  offset(i: number): number;
+  inputs(at: number, n: number): void;
+  run(n: number): void;
+  runWindow(n: number, col: number, row: number, wm: number, wn: number, out: number): void;
+  rows(n: number): void;
+  byColumn(): void;
+  columnSpectra(n: number): void;
+  keep(): void;
+  trace(slot: number, u0: number, v0: number, du: number, dv: number, sa: number, ca: number, mLo: number, mHi: number, nLo: number, nHi: number, kdy: number, kpx: number, out: number, cap: number): number;
+}
+
+/** fft.js's twiddle table (cos, −sin of π·i/n), digit-reversal table and first pass width for n points (lib/fft.js, its constructor). */
+export function fftTables(n: number): { table: Float64Array; bitrev: Int32Array; width: number } {
+  const table = new Float64Array(2 * n);
+  for (let i = 0; i < table.length; i += 2) {
+    const angle = (Math.PI * i) / n;
+    table[i] = Math.cos(angle);
+    table[i + 1] = -Math.sin(angle);
+  }
+  let power = 0;
+  for (let t = 1; n > t; t <<= 1) power++;
+  const width = power % 2 === 0 ? power - 1 : power;
+  const bitrev = new Int32Array(1 << width);
+  for (let j = 0; j < bitrev.length; j++)
+    for (let shift = 0; shift < width; shift += 2) bitrev[j]! |= ((j >>> shift) & 3) << (width - shift - 2);
+  return { table, bitrev, width };
+}
+
+/** What a PowerFft2 sizes its memory for once (more is taken when asked, at a cost). */
+export interface FftScratch {
+  /** elements (weights per call) */
+  elements: number;
+  /** grid columns the column spectra are kept for (the lattice's) */
+  usedCols: number;
+  /** cells of the largest window runWindow() writes, and its longest side */
+  windowCells: number;
+  windowSide: number;
+}
+
+const align8 = (b: number) => (b + 7) & ~7;
+
 export class PowerFft2 {
-  private readonly fx: FFT;
-  private readonly fy: FFT;
-  /** interleaved grid, row-major (x fastest): only rows < usedRows are ever non-zero */
-  private readonly grid: Float64Array;
-  private readonly rowOut: Float64Array;
-  private readonly colIn: Float64Array;
-  private readonly colOut: Float64Array;
-  readonly power: Float64Array;
-  constructor(readonly nx: number, readonly ny: number, readonly usedRows: number) {
-    this.fx = new FFT(Math.max(2, nx));
-    this.fy = new FFT(Math.max(2, ny));
-    this.grid = new Float64Array(2 * nx * ny);
-    this.rowOut = new Float64Array(2 * nx);
-    this.colIn = new Float64Array(2 * ny);
-    this.colOut = new Float64Array(2 * ny);
-    this.power = new Float64Array(nx * ny);
-    this.byCol = new Float64Array(2 * usedRows * nx);
-    this.byColRun = new Int32Array(nx).fill(-1);
+  private readonly k: FftKernels;
+  private readonly free: number;
+  private n = 0;
+  private scratchAt = 0;
+  private scratchBytes = 0;
+  private buffer!: ArrayBuffer;
+  private cellsV!: Int32Array;
+  private wrV!: Float64Array;
+  private wiV!: Float64Array;
+  private powerV!: Float64Array;
+
+  constructor(readonly nx: number, readonly ny: number, readonly usedRows: number, scratch: FftScratch) {
+    if (nx < 2 || ny < 2 || (nx & (nx - 1)) !== 0 || (ny & (ny - 1)) !== 0) throw new Error(`FFT grid ${nx} × ${ny}: sides must be powers of two, at least 2`);
+    const tx = fftTables(nx), ty = fftTables(ny);
+    const uc = scratch.usedCols;
+    const fixed = 8 * (2 * nx + 2 * ny + 2 * nx * usedRows + 2 * nx + 4 * ny + 2 * usedRows * nx + nx * ny + 4 * ny * uc + 2 * usedRows * nx) + 4 * (3 * nx + ny);
+    this.free = align8(KERNEL_BASE + fixed);
+    // scratch: a window (its column and row indices, its cells) or a horizon trace (5 arrays of ≤ 4·side + 8 samples)
+    const need = Math.max(8 * (scratch.windowSide + 1) + 8 * scratch.windowCells, 5 * 8 * (4 * scratch.windowSide + 8));
+    this.k = kernelInstance<FftKernels>(WASM_BASE64, this.free + this.inputBytes(scratch.elements) + need, { env: { cos: Math.cos, sin: Math.sin } });
+    const end = this.k.setup(nx, ny, usedRows, uc, tx.width, ty.width, KERNEL_BASE);
+    if (end > this.free) throw new Error("PowerFft2: kernel layout larger than reserved");
+    const mem = this.k.memory.buffer;
+    new Float64Array(mem, this.k.offset(0), 2 * nx).set(tx.table);
+    new Float64Array(mem, this.k.offset(1), 2 * ny).set(ty.table);
+    new Int32Array(mem, this.k.offset(5), tx.bitrev.length).set(tx.bitrev);
+    new Int32Array(mem, this.k.offset(6), ty.bitrev.length).set(ty.bitrev);
+    this.layout(scratch.elements, need);
   }
 
-  /** Row transforms of the weights (conj) in place in `grid`; the column input's zero tail reset. */
-  private rows(cells: Int32Array, wr: Float64Array, wi: Float64Array): void {
-    const { nx, grid, rowOut } = this;
-    grid.fill(0, 0, 2 * nx * this.usedRows);
-    for (let i = 0; i < cells.length; i++) {
-      const c = cells[i]! * 2;
-      grid[c] = wr[i]!;
-      grid[c + 1] = -wi[i]!; // conj
-    }
-    for (let r = 0; r < this.usedRows; r++) {
-      const row = grid.subarray(2 * nx * r, 2 * nx * (r + 1));
-      this.fx.transform(rowOut, row);
-      row.set(rowOut);
-    }
-    // rows ≥ usedRows are zero: only the first usedRows entries of a column are ever copied
-    this.colIn.fill(0, 2 * this.usedRows);
-    this.runId = (this.runId + 1) | 0;
+  private inputBytes(n: number): number {
+    return align8(4 * n) + 16 * n;
   }
 
-  /** The column transform of grid column c into colOut (after rows()); keeps the column's row spectra in rowSpectraByColumn. */
-  private column(c: number): Float64Array {
-    const { nx, grid, colIn, colOut, byCol } = this;
-    const rows = this.usedRows;
-    for (let r = 0, a = 2 * c, b = 2 * rows * c; r < rows; r++, a += 2 * nx, b += 2) {
-      colIn[2 * r] = byCol[b] = grid[a]!;
-      colIn[2 * r + 1] = byCol[b + 1] = grid[a + 1]!;
-    }
-    this.byColRun[c] = this.runId;
-    this.fy.transform(colOut, colIn);
-    return colOut;
+  /** Inputs for n elements at `free`, then `scratch` bytes; views (re)made. */
+  private layout(n: number, scratch: number): void {
+    const end = this.free + this.inputBytes(n) + scratch;
+    const have = this.k.memory.buffer.byteLength;
+    if (end > have) this.k.memory.grow(Math.ceil((end - have) / 65536));
+    this.n = n;
+    this.k.inputs(this.free, n);
+    this.scratchAt = this.free + this.inputBytes(n);
+    this.scratchBytes = scratch;
+    const mem = (this.buffer = this.k.memory.buffer);
+    const { nx, ny } = this;
+    this.cellsV = new Int32Array(mem, this.free, n);
+    const wrAt = this.free + align8(4 * n);
+    this.wrV = new Float64Array(mem, wrAt, n);
+    this.wiV = new Float64Array(mem, wrAt + 8 * n, n);
+    this.powerV = new Float64Array(mem, this.k.offset(4), nx * ny);
   }
 
-  private readonly byCol: Float64Array;
-  private readonly byColRun: Int32Array;
-  private runId = 0;
-  /**
-   * After run() or runWindow(): the row transforms by grid column, R_r(m) at
-   * 2·(usedRows·m + r) (the horizon trace reads a column as one run). The column pass
-   * leaves them behind; columns it skipped are copied here.
-   */
-  rowSpectraByColumn(): Float64Array {
-    const { nx, grid, byCol } = this;
-    const rows = this.usedRows;
-    for (let c = 0; c < nx; c++) {
-      if (this.byColRun[c] === this.runId) continue;
-      for (let r = 0, a = 2 * c, b = 2 * rows * c; r < rows; r++, a += 2 * nx, b += 2) {
-        byCol[b] = grid[a]!;
-        byCol[b + 1] = grid[a + 1]!;
-      }
-      this.byColRun[c] = this.runId;
-    }
-    return byCol;
+  /** The weights into the kernel's memory, with `scratch` bytes of room after them. */
+  private load(cells: Int32Array, wr: Float64Array, wi: Float64Array, scratch: number): void {
+    const n = cells.length;
+    if (n !== this.n || scratch > this.scratchBytes) this.layout(n, Math.max(scratch, this.scratchBytes));
+    this.cellsV.set(cells);
+    this.wrV.set(wr.length === n ? wr : wr.subarray(0, n));
+    this.wiV.set(wi.length === n ? wi : wi.subarray(0, n));
   }
 
-  /** |Σ_cells w·exp(+2πi(mx/nx + ny'/ny))|² for every (m, n), weights given per cell index (row·nx + column). */
+  /** |Σ_cells w·exp(+2πi(mx/nx + ny'/ny))|² for every (m, n), weights given per cell index (row·nx + column); valid until the next call. */
   run(cells: Int32Array, wr: Float64Array, wi: Float64Array): Float64Array {
-    const { nx, ny, power } = this;
-    this.rows(cells, wr, wi);
-    for (let c = 0; c < nx; c++) {
-      const colOut = this.column(c);
-      for (let r = 0; r < ny; r++) power[r * nx + c] = colOut[2 * r]! * colOut[2 * r]! + colOut[2 * r + 1]! * colOut[2 * r + 1]!;
-    }
-    return power;
+    this.load(cells, wr, wi, 0);
+    this.k.run(cells.length);
+    return this.powerV;
   }
 
   /**
@@ -107,45 +137,47 @@ export class PowerFft2 {
    * is copied from its first copy.
    */
   runWindow(cells: Int32Array, wr: Float64Array, wi: Float64Array, col: Int32Array, row: Int32Array, wm: number, wn: number, out: Float64Array): void {
-    const { nx } = this;
-    this.rows(cells, wr, wi);
-    for (let i = 0; i < wm; i++) {
-      if (i >= nx && col[i - nx] === col[i]) {
-        for (let j = 0, o = i; j < wn; j++, o += wm) out[o] = out[o - nx]!;
-        continue;
-      }
-      const colOut = this.column(col[i]!);
-      for (let j = 0, o = i; j < wn; j++, o += wm) {
-        const r = 2 * row[j]!;
-        out[o] = colOut[r]! * colOut[r]! + colOut[r + 1]! * colOut[r + 1]!;
-      }
-    }
-  }
-
-  /** After run(): the row transforms, row r (< usedRows) interleaved at 2·nx·r. Overwritten by the next run(). */
-  get rowSpectra(): Float64Array {
-    return this.grid;
+    const cw = align8(4 * wm), rw = align8(4 * wn);
+    this.load(cells, wr, wi, cw + rw + 8 * wm * wn);
+    const mem = this.buffer;
+    const colAt = this.scratchAt, rowAt = colAt + cw, outAt = rowAt + rw;
+    new Int32Array(mem, colAt, wm).set(col.subarray(0, wm));
+    new Int32Array(mem, rowAt, wn).set(row.subarray(0, wn));
+    this.k.runWindow(cells.length, colAt, rowAt, wm, wn, outAt);
+    out.set(new Float64Array(mem, outAt, wm * wn));
   }
 
   /**
-   * The column transforms of the same weights (conj, as run()) for grid columns < usedCols,
-   * column c interleaved at 2·ny·c, into `out` (length ≥ 2·ny·usedCols).
+   * The 1-D transforms the horizon trace needs, of weights (wr, wi): slot 0 for the weights
+   * last given to runWindow() (valid until the next call), or `keep` (the weights
+   * transformed afresh) in slot 1, which stays until the next keep. Returns the slot.
    */
-  columnSpectra(cells: Int32Array, wr: Float64Array, wi: Float64Array, usedCols: number, out: Float64Array): Float64Array {
-    const { nx, ny, colIn, colOut } = this;
-    out.fill(0, 0, 2 * ny * usedCols);
-    for (let i = 0; i < cells.length; i++) {
-      const q = cells[i]!;
-      const c = q % nx, r = (q - c) / nx;
-      out[2 * (c * ny + r)] = wr[i]!;
-      out[2 * (c * ny + r) + 1] = -wi[i]!;
+  spectra(cells: Int32Array, wr: Float64Array, wi: Float64Array, keep: boolean): 0 | 1 {
+    const n = cells.length;
+    if (keep) {
+      this.load(cells, wr, wi, 0);
+      this.k.rows(n);
     }
-    for (let c = 0; c < usedCols; c++) {
-      const col = out.subarray(2 * ny * c, 2 * ny * (c + 1));
-      colIn.set(col);
-      this.fy.transform(colOut, colIn);
-      col.set(colOut);
-    }
-    return out;
+    this.k.columnSpectra(n);
+    this.k.byColumn();
+    if (!keep) return 0;
+    this.k.keep();
+    return 1;
+  }
+
+  /**
+   * The horizon trace (horizon.ts, traceLattice, which gives the arguments) from a slot's
+   * spectra into `out`'s du, dv, au, av and p (each ≥ cap long); returns the sample count.
+   */
+  trace(slot: 0 | 1, u0: number, v0: number, du: number, dv: number, sa: number, ca: number, mLo: number, mHi: number, nLo: number, nHi: number, kdy: number, kpx: number, cap: number, out: { du: Float64Array; dv: Float64Array; au: Float64Array; av: Float64Array; p: Float64Array }): number {
+    if (40 * cap > this.scratchBytes) this.layout(this.n, 40 * cap);
+    const at = this.scratchAt, mem = this.buffer;
+    const k = this.k.trace(slot, u0, v0, du, dv, sa, ca, mLo, mHi, nLo, nHi, kdy, kpx, at, cap);
+    out.du.set(new Float64Array(mem, at, k));
+    out.dv.set(new Float64Array(mem, at + 8 * cap, k));
+    out.au.set(new Float64Array(mem, at + 16 * cap, k));
+    out.av.set(new Float64Array(mem, at + 24 * cap, k));
+    out.p.set(new Float64Array(mem, at + 32 * cap, k));
+    return k;
   }
 }

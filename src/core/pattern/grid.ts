@@ -198,8 +198,14 @@ export class PatternGrid {
       this.ny = nextPow2(Math.max(OVERSAMPLE * l.rows, 1));
       this.du = lambda / (px * this.nx);
       this.dv = lambda / (l.dy * this.ny);
-      this.fft = new PowerFft2(this.nx, this.ny, l.rows);
       this.usedCols = gw;
+      const side = Math.max(Math.ceil(2 / this.du), Math.ceil(2 / this.dv)) + 4;
+      this.fft = new PowerFft2(this.nx, this.ny, l.rows, {
+        elements: el.count,
+        usedCols: gw,
+        windowCells: (Math.ceil(2 / this.du) + 4) * (Math.ceil(2 / this.dv) + 4),
+        windowSide: side,
+      });
       this.px = px;
       this.cell = new Int32Array(el.count);
       for (let i = 0; i < el.count; i++) {
@@ -269,31 +275,18 @@ export class PatternGrid {
     return this.fft!.run(this.cell!, wr, wi).slice();
   }
 
-  private colSpec: Float64Array | null = null;
   /**
-   * FFT mode: the 1-D transforms the horizon trace needs (horizon.ts). With `copy`
-   * false they are views valid until the next fill(), whose weights they must be;
-   * with `copy` true they are transformed afresh from (wr, wi) into new arrays.
+   * FFT mode: the 1-D transforms the horizon trace needs (horizon.ts), held by the FFT:
+   * with `keep` false those of the weights last given to fill(), whose weights (wr, wi)
+   * must be, valid until the next fill(); with `keep` true transformed afresh and kept
+   * until the next such call.
    */
-  spectra(wr: Float64Array, wi: Float64Array, copy: boolean): LatticeSpectra {
+  spectra(wr: Float64Array, wi: Float64Array, keep: boolean): LatticeSpectra {
     if (this.mode !== "fft") throw new Error("spectra need a lattice");
-    const fft = this.fft!;
+    const slot = this.fft!.spectra(this.cell!, wr, wi, keep);
     const rows = this.plan.lattice!.rows;
-    let R: Float64Array, C: Float64Array;
-    if (copy) {
-      fft.run(this.cell!, wr, wi);
-      R = fft.rowSpectra.slice(0, 2 * this.nx * rows);
-      C = fft.columnSpectra(this.cell!, wr, wi, this.usedCols, new Float64Array(2 * this.ny * this.usedCols));
-    } else {
-      R = fft.rowSpectra;
-      this.colSpec ??= new Float64Array(2 * this.ny * this.usedCols);
-      C = fft.columnSpectra(this.cell!, wr, wi, this.usedCols, this.colSpec);
-    }
-    // R by grid column (each horizon sample at a column then reads one contiguous run)
-    const RT = copy ? fft.rowSpectraByColumn().slice() : fft.rowSpectraByColumn();
-    const nx = this.nx;
     const dy = this.plan.lattice!.dy;
-    return { nx, ny: this.ny, rows, cols: this.usedCols, kpx: this.k * this.px, kdy: this.k * dy, du: this.du, dv: this.dv, R, RT, C };
+    return { nx: this.nx, ny: this.ny, rows, cols: this.usedCols, kpx: this.k * this.px, kdy: this.k * dy, du: this.du, dv: this.dv, fft: this.fft!, slot };
   }
 
   private colIndex = new Int32Array(0);

@@ -20,6 +20,7 @@
  * w = 0 for every point, so the z term is exact there).
  */
 import type { AfEvaluator } from "./evaluator.js";
+import type { PowerFft2 } from "./fft.js";
 
 export interface HorizonTrace {
   n: number;
@@ -74,9 +75,10 @@ function alphaOf(t: HorizonTrace, i: number): number {
 }
 
 /**
- * A lattice's one-dimensional transforms (FFT mode): R, row r at 2·nx·r, interleaved,
- * R_r(m) = Σ_x conj(w)·e^{−2πi·m·x/nx}; C, grid column c at 2·ny·c, the same along y.
- * Grid index x sits at x_0 + x·px and row r at y_0 + r·dy.
+ * A lattice's one-dimensional transforms (FFT mode), held in its PowerFft2's memory
+ * (slot 0: the weights last sampled, slot 1: kept): R_r(m) = Σ_x conj(w)·e^{−2πi·m·x/nx}
+ * per row r, C along y per grid column c. Grid index x sits at x_0 + x·px and row r at
+ * y_0 + r·dy.
  */
 export interface LatticeSpectra {
   nx: number;
@@ -87,84 +89,31 @@ export interface LatticeSpectra {
   kdy: number;
   du: number;
   dv: number;
-  R: Float64Array;
-  /** R by grid column: R_r(m) at 2·(rows·m + r) */
-  RT: Float64Array;
-  C: Float64Array;
+  fft: PowerFft2;
+  slot: 0 | 1;
 }
 
-/** |Σ_i s_i·e^{−jθi}|² for s interleaved at s[off + stride·i], i < n. */
-function phasedSum(s: Float64Array, off: number, stride: number, n: number, theta: number): number {
-  const cr = Math.cos(theta), ci = -Math.sin(theta);
-  let er = 1, ei = 0, re = 0, im = 0;
-  for (let i = 0, o = off; i < n; i++, o += stride) {
-    const a = s[o]!, b = s[o + 1]!;
-    re += a * er - b * ei;
-    im += a * ei + b * er;
-    const t = er * cr - ei * ci;
-    ei = er * ci + ei * cr;
-    er = t;
-  }
-  return re * re + im * im;
-}
-
-/** Trace the horizon of beam (u0, v0) from a lattice's transforms, in increasing α (one turn from −π). */
+/**
+ * Trace the horizon of beam (u0, v0) from a lattice's transforms, in increasing α (one
+ * turn from −π), in WebAssembly (wasm/fft.ts, trace): one turn starting at the bottom arc
+ * (α ≈ −3π/4; the left arc crosses α = ±π). A sample at grid column m has v on the circle
+ * (u = u0 + m·du), at grid row n u on the circle (v = v0 + n·dv); rows are used where the
+ * circle runs across the rows (|v| < sin atan(du/dv)), columns elsewhere. Each sample is
+ * |Σ_r R_r(m)·e^{−j·k·dy·r·(v − v0)}|² (or the same along a column of C).
+ */
 export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: HorizonTrace): void {
   out.n = 0;
   out.lazyAlpha = true;
-  const { nx, ny, du, dv, RT, C } = s;
-  // rows where the circle runs across the rows (|v| < sa), columns elsewhere
+  const { du, dv } = s;
   const sa = Math.sin(Math.atan(du / dv));
   const ca = Math.sqrt(1 - sa * sa);
   // | 0: small integers (within the grid), and never −0, which would send V8's optimized
-  // code for this loop and phasedSum back to the interpreter ("not a Smi")
+  // code back to the interpreter ("not a Smi")
   const mLo = Math.ceil((-ca - u0) / du) | 0, mHi = Math.floor((ca - u0) / du) | 0;
   const nLo = Math.ceil((-sa - v0) / dv) | 0, nHi = Math.floor((sa - v0) / dv) | 0;
-  reserve(out, 2 * Math.max(0, mHi - mLo + 1) + 2 * Math.max(0, nHi - nLo + 1));
-  const { du: tu, dv: tv, au, av, p } = out;
-  const rows = s.rows, cols = s.cols, kdy = s.kdy, kpx = s.kpx;
-  let k = 0;
-  // One turn in increasing α, starting at the bottom arc (α ≈ −3π/4); the left arc crosses
-  // α = ±π. A sample at grid column m has v on the circle (u = u0 + m·du), at grid row n
-  // u on the circle (v = v0 + n·dv). Written out in each loop, not as a helper: a call
-  // that V8 does not inline passes u and v boxed, ~6 KB of garbage a beam on 16×16.
-  for (let m = mLo; m <= mHi; m++) {
-    // bottom, α ∈ [−3π/4, −π/4]
-    const u = u0 + m * du;
-    if (!(Math.abs(u) <= ca)) continue;
-    const v = -Math.sqrt(Math.max(0, 1 - u * u));
-    const mm = ((m % nx) + nx) % nx;
-    tu[k] = m * du; tv[k] = v - v0; au[k] = u; av[k] = v;
-    p[k++] = phasedSum(RT, 2 * rows * mm, 2, rows, kdy * (v - v0));
-  }
-  for (let n = nLo; n <= nHi; n++) {
-    // right
-    const v = v0 + n * dv;
-    if (!(Math.abs(v) < sa)) continue;
-    const u = Math.sqrt(Math.max(0, 1 - v * v));
-    const nn = ((n % ny) + ny) % ny;
-    tu[k] = u - u0; tv[k] = n * dv; au[k] = u; av[k] = v;
-    p[k++] = phasedSum(C, 2 * nn, 2 * ny, cols, kpx * (u - u0));
-  }
-  for (let m = mHi; m >= mLo; m--) {
-    // top
-    const u = u0 + m * du;
-    if (!(Math.abs(u) <= ca)) continue;
-    const v = Math.sqrt(Math.max(0, 1 - u * u));
-    const mm = ((m % nx) + nx) % nx;
-    tu[k] = m * du; tv[k] = v - v0; au[k] = u; av[k] = v;
-    p[k++] = phasedSum(RT, 2 * rows * mm, 2, rows, kdy * (v - v0));
-  }
-  for (let n = nHi; n >= nLo; n--) {
-    // left
-    const v = v0 + n * dv;
-    if (!(Math.abs(v) < sa)) continue;
-    const u = -Math.sqrt(Math.max(0, 1 - v * v));
-    const nn = ((n % ny) + ny) % ny;
-    tu[k] = u - u0; tv[k] = n * dv; au[k] = u; av[k] = v;
-    p[k++] = phasedSum(C, 2 * nn, 2 * ny, cols, kpx * (u - u0));
-  }
-  out.n = k;
+  const cap = 2 * Math.max(0, mHi - mLo + 1) + 2 * Math.max(0, nHi - nLo + 1);
+  reserve(out, cap);
+  out.n = s.fft.trace(s.slot, u0, v0, du, dv, sa, ca, mLo, mHi, nLo, nHi, s.kdy, s.kpx, cap, out);
 }
 
 /** Trace the horizon with the exact evaluator at equal steps of α no larger than `step` (radians). */

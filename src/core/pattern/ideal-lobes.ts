@@ -48,7 +48,7 @@ export class IdealLobes {
     const top = hillClimb(p, W, H, this.M, this.N);
     const ci = top % W, cj = (top - ci) / W;
     const main = (this.main = new Uint8Array(W * H));
-    floodMainLobe(p, W, H, top, main, new Int32Array(W * H));
+    floodMainLobe(p, W, H, top, main);
     this.peakPower = refine(ev, (ci - this.M) * du, (cj - this.N) * dv, du, dv, null).p;
     const cells: number[] = [];
     for (let b = 1; b < H - 1; b++)

@@ -14,6 +14,7 @@
 import type { AfEvaluator, PowerDerivs } from "./evaluator.js";
 import type { PowerWindow } from "./grid.js";
 import { horizonMax, inMain, notMainPeak, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
+import { CANDIDATES, LobeGridKernel } from "./lobe-kernel.js";
 
 export interface LobeResult {
   peakDu: number;
@@ -44,31 +45,17 @@ export function hillClimb(p: Float64Array, w: number, h: number, i: number, j: n
 /**
  * The main lobe: every cell reachable from `start` through 8-neighbour steps on which
  * |AF|² does not rise (the monotone fall out to the ring of nulls or troughs).
- * Marks `mask` (cleared here); `stack` needs room for w·h cells.
+ * Marks `mask` (cleared here). In WebAssembly (wasm/lobes.ts, flood), on a copy of p.
  */
-export function floodMainLobe(p: Float64Array, w: number, h: number, start: number, mask: Uint8Array, stack: Int32Array): void {
-  mask.fill(0, 0, w * h);
-  let sp = 0;
-  stack[sp++] = start;
-  mask[start] = 1;
-  while (sp > 0) {
-    const c = stack[--sp]!;
-    const ci = c % w;
-    const cj = (c - ci) / w;
-    const pc = p[c]!;
-    for (let dj = -1; dj <= 1; dj++)
-      for (let di = -1; di <= 1; di++) {
-        const a = ci + di, b = cj + dj;
-        if (a < 0 || b < 0 || a >= w || b >= h) continue;
-        const q = b * w + a;
-        if (mask[q] || p[q]! > pc) continue;
-        mask[q] = 1;
-        stack[sp++] = q;
-      }
-  }
+export function floodMainLobe(p: Float64Array, w: number, h: number, start: number, mask: Uint8Array): void {
+  const k = (shared ??= new LobeGridKernel(w * h));
+  k.load(p, w * h);
+  k.flood(w, h, start);
+  mask.set(k.mask.subarray(0, w * h));
 }
+let shared: LobeGridKernel | null = null;
 
-const CANDIDATES = 6;
+
 /*
  * Every candidate gets an exact evaluation and the quadratic prediction below, whatever its
  * grid value. They were cut at 1 dB (×0.794) under the best grid candidate, on the belief
@@ -114,72 +101,13 @@ export function quadraticPeak(ev: AfEvaluator, d: PowerDerivs, du: number, dv: n
   return Number.isFinite(v) ? v : Infinity;
 }
 
-/**
- * Step 4 of LobeFinder.analyse: the CANDIDATES largest local maxima of the visible cells
- * outside the main lobe (8-neighbourhood) into cand/candP; returns how many. A function of
- * its own so that V8's on-stack replacement of this loop ends with the function (code
- * after a hot loop that had not run yet when the loop was compiled made the optimized
- * analyse bail out once a beam at 64×64: "insufficient type feedback").
- */
-function scanCandidates(p: Float64Array, visible: Uint8Array, mask: Uint8Array, wm: number, wn: number, cand: Int32Array, candP: Float64Array, line: LineAxis): number {
-  let nc = 0;
-  // once CANDIDATES are held, a cell not above the smallest of them cannot enter
-  let floorP = -Infinity;
-  for (let b = 0; b < wn; b++)
-    for (let a = 0; a < wm; a++) {
-      const q = b * wm + a;
-      if (!visible[q] || mask[q]) continue;
-      const pq = p[q]!;
-      if (nc === CANDIDATES && !(pq > floorP)) continue;
-      // cheap rejection by the horizontal neighbours first (most cells fail here)
-      if (a > 0 && p[q - 1]! > pq && visible[q - 1] && !mask[q - 1]) continue;
-      if (a + 1 < wm && p[q + 1]! > pq && visible[q + 1] && !mask[q + 1]) continue;
-      let isMax = true;
-      for (let dj = -1; dj <= 1 && isMax; dj += 2) {
-        const y = b + dj;
-        if (y < 0 || y >= wn) continue;
-        for (let di = -1; di <= 1; di++) {
-          const x = a + di;
-          if (x < 0 || x >= wm) continue;
-          const r = y * wm + x;
-          if (visible[r] && !mask[r] && p[r]! > pq) { isMax = false; break; }
-        }
-      }
-      if (!isMax) continue;
-      // a line array's pattern is the same in every window row (a row array) or column (a
-      // column array): one candidate per coordinate along the line, or the copies of its
-      // largest lobe fill every place
-      if (line !== LineAxis.None && sameLineCoordinate(cand, nc, q, wm, line)) continue;
-      // keep the CANDIDATES largest
-      if (nc < CANDIDATES) { cand[nc] = q; candP[nc] = pq; nc++; }
-      else {
-        let lo = 0;
-        for (let k = 1; k < nc; k++) if (candP[k]! < candP[lo]!) lo = k;
-        if (pq > candP[lo]!) { cand[lo] = q; candP[lo] = pq; }
-      }
-      if (nc === CANDIDATES) { floorP = candP[0]!; for (let k = 1; k < nc; k++) if (candP[k]! < floorP) floorP = candP[k]!; }
-    }
-  return nc;
-}
-
-/** Which window coordinate a line array's pattern varies along (None: a planar array's varies along both). */
+/** Which window coordinate a line array's pattern varies along (None: a planar array's varies along both); the scan's `line`. */
 const enum LineAxis { None, Columns, Rows }
 
-/** A candidate at the same coordinate along the line as cell q is already held. */
-function sameLineCoordinate(cand: Int32Array, nc: number, q: number, wm: number, line: LineAxis): boolean {
-  for (let k = 0; k < nc; k++) {
-    const c = cand[k]!;
-    if (line === LineAxis.Columns ? c % wm === q % wm : Math.floor(c / wm) === Math.floor(q / wm)) return true;
-  }
-  return false;
-}
-
 export class LobeFinder {
-  private mask: Uint8Array;
-  private stack: Int32Array;
+  /** the window's copy for the flood and the candidate scan, the main-lobe mask and the candidates (wasm/lobes.ts) */
+  private readonly grid: LobeGridKernel;
   /** per contender: start (Δu, Δv) and the exact p, pu, pv, puu, pvv, puv there */
-  private readonly cand = new Int32Array(CANDIDATES);
-  private readonly candP = new Float64Array(CANDIDATES);
   private readonly st = new Float64Array(8 * CANDIDATES);
   private readonly pred = new Float64Array(CANDIDATES);
   private readonly ord = new Int32Array(CANDIDATES);
@@ -191,8 +119,7 @@ export class LobeFinder {
   /** the main lobe for horizonMax: the window's mask; off the window is not main lobe */
   private readonly lobe: MainLobeMap = { mask: new Uint8Array(0), m0: 0, n0: 0, w: 0, h: 0, du: 1, dv: 1, outside: false, visible: null, u0: 0, v0: 0, peakDu: NaN, peakDv: NaN, lockU: false, lockV: false };
   constructor(cap: number) {
-    this.mask = new Uint8Array(cap);
-    this.stack = new Int32Array(cap);
+    this.grid = new LobeGridKernel(cap);
   }
 
   /**
@@ -223,14 +150,20 @@ export class LobeFinder {
     const { wm, wn, p, visible } = win;
     const pk = this.peak(win, ev, du, dv, u0, v0);
     const top = pk.top;
-    // 3. main lobe: monotone flood fill from the grid peak
-    const mask = this.mask;
-    floodMainLobe(p, wm, wn, top, mask, this.stack);
-    // 4. sidelobe candidates: local maxima of visible cells outside the main lobe
-    const { cand, candP } = this;
-    // a row array (one distinct y) varies along u, window columns; a column array along v, window rows
+    // 3. main lobe: monotone flood fill from the grid peak (floodMainLobe)
+    const g = this.grid;
+    g.load(p, wm * wn, visible);
+    g.flood(wm, wn, top);
+    const mask = g.mask;
+    // 4. sidelobe candidates: the CANDIDATES largest local maxima (8-neighbourhood) of the
+    // visible cells outside the main lobe. Once CANDIDATES are held, a cell not above the
+    // smallest of them cannot enter. A line array's pattern is the same in every window row
+    // (a row array, one distinct y: it varies along u, window columns) or column (a column
+    // array): one candidate per coordinate along the line, or the copies of its largest
+    // lobe fill every place.
     const line = ev.lockU === ev.lockV ? LineAxis.None : ev.lockV ? LineAxis.Columns : LineAxis.Rows;
-    const nc = scanCandidates(p, visible, mask, wm, wn, cand, candP, line);
+    const nc = g.scan(wm, wn, line);
+    const { cand, candP } = g;
     // the main lobe as the refined points and the horizon see it (horizon.ts inMain); an
     // element-weighted window is 0 past the horizon, so there its rim's mask is not used
     const lobe = this.lobe;

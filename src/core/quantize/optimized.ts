@@ -117,7 +117,6 @@ export class OptimizedQuantizer implements Quantizer {
   private readonly ai = new Float64Array(MAX_POINTS);
   private readonly win: PowerWindow;
   private readonly mask: Uint8Array;
-  private readonly stack: Int32Array;
   private readonly order: Int32Array;
   private readonly metrics = new Float64Array(METRICS);
   /** per element: ∂(phase)/∂u and ∂(phase)/∂v at the commanded direction (rad per unit u, v) */
@@ -166,7 +165,6 @@ export class OptimizedQuantizer implements Quantizer {
     const cap = this.analyzer.grid.cap;
     this.win = allocWindow(cap);
     this.mask = new Uint8Array(cap);
-    this.stack = new Int32Array(cap);
     this.order = new Int32Array(en.length);
     this.cu = new Float64Array(n);
     this.cv = new Float64Array(n);
@@ -303,7 +301,7 @@ export class OptimizedQuantizer implements Quantizer {
     g.fill(this.wr, this.wi, u0, v0, w0, win);
     const { wm, wn, p, visible } = win;
     const top = hillClimb(p, wm, wn, -win.m0, -win.n0);
-    floodMainLobe(p, wm, wn, top, this.mask, this.stack);
+    floodMainLobe(p, wm, wn, top, this.mask);
     const mask = this.mask;
     const cand: number[] = [];
     let mx = 0;

@@ -1,0 +1,77 @@
+/**
+ * The lobe search's grid-wide passes in WebAssembly (wasm/lobes.ts): the main lobe's flood
+ * and the scan for sidelobe candidates, over a window copied into the kernel's memory.
+ */
+import { KERNEL_BASE, kernelInstance } from "./kernels.js";
+import { WASM_BASE64 } from "./wasm/lobes.js";
+
+interface LobesKernels {
+  memory: WebAssembly.Memory;
+  flood(p: number, w: number, h: number, start: number, mask: number, stack: number): void;
+  scan(p: number, visible: number, mask: number, wm: number, wn: number, cand: number, candP: number, line: number): number;
+}
+
+/** How many sidelobe candidates the scan keeps (wasm/lobes.ts has the same). */
+export const CANDIDATES = 6;
+
+const align8 = (b: number) => (b + 7) & ~7;
+
+/** A window of up to `cells` cells in a kernel instance's memory: its power, visibility and the flood's mask. */
+export class LobeGridKernel {
+  private readonly k: LobesKernels;
+  private cells = 0;
+  private at = { p: 0, visible: 0, mask: 0, stack: 0, cand: 0, candP: 0 };
+  /** views on the kernel's memory, remade when it grows (mask: the last flood's) */
+  p!: Float64Array;
+  visible!: Uint8Array;
+  mask!: Uint8Array;
+  cand!: Int32Array;
+  candP!: Float64Array;
+
+  constructor(cells: number) {
+    this.k = kernelInstance<LobesKernels>(WASM_BASE64, LobeGridKernel.bytes(cells));
+    this.layout(cells);
+  }
+
+  private static bytes(cells: number): number {
+    return KERNEL_BASE + 8 * cells + 8 * CANDIDATES + align8(4 * CANDIDATES) + align8(4 * cells) + 2 * align8(cells);
+  }
+
+  /** Room for `cells` cells (the memory grows when needed; views are remade). */
+  ensure(cells: number): void {
+    if (cells > this.cells) this.layout(cells);
+  }
+
+  private layout(cells: number): void {
+    const need = LobeGridKernel.bytes(cells);
+    const have = this.k.memory.buffer.byteLength;
+    if (need > have) this.k.memory.grow(Math.ceil((need - have) / 65536));
+    let o = KERNEL_BASE;
+    const take = (bytes: number) => { const a = o; o += align8(bytes); return a; };
+    this.at = { p: take(8 * cells), candP: take(8 * CANDIDATES), cand: take(4 * CANDIDATES), stack: take(4 * cells), visible: take(cells), mask: take(cells) };
+    const mem = this.k.memory.buffer;
+    this.p = new Float64Array(mem, this.at.p, cells);
+    this.visible = new Uint8Array(mem, this.at.visible, cells);
+    this.mask = new Uint8Array(mem, this.at.mask, cells);
+    this.cand = new Int32Array(mem, this.at.cand, CANDIDATES);
+    this.candP = new Float64Array(mem, this.at.candP, CANDIDATES);
+    this.cells = cells;
+  }
+
+  /** Copy a w × h window's power (and visibility) in. */
+  load(p: Float64Array, n: number, visible?: Uint8Array): void {
+    this.ensure(n);
+    this.p.set(p.length === n ? p : p.subarray(0, n));
+    if (visible) this.visible.set(visible.length === n ? visible : visible.subarray(0, n));
+  }
+
+  /** The main lobe's monotone flood from `start` over the loaded w × h power, into `mask`. */
+  flood(w: number, h: number, start: number): void {
+    this.k.flood(this.at.p, w, h, start, this.at.mask, this.at.stack);
+  }
+
+  /** The sidelobe candidates (after flood()) into cand/candP; returns how many. line: 0 planar, 1 row array, 2 column array. */
+  scan(wm: number, wn: number, line: number): number {
+    return this.k.scan(this.at.p, this.at.visible, this.at.mask, wm, wn, this.at.cand, this.at.candP, line);
+  }
+}
