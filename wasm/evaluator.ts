@@ -2,22 +2,19 @@
 // (AfEvaluator.field and afDerivs in src/core/pattern/evaluator.ts), compiled by
 // scripts/build-wasm.mjs. The sums run in the same order, operation for operation, as the
 // TypeScript they replace, so the results are bit-identical. The phasors (cos, sin of each
-// distinct coordinate) are JavaScript's own Math.cos and Math.sin, imported.
+// distinct coordinate) are written by the JS side, with JavaScript's Math.cos and Math.sin.
 
 // @ts-nocheck: AssemblyScript types (f64, i32, usize, load, store), not TypeScript's
 
-@external("env", "cos") declare function jsCos(x: f64): f64;
-@external("env", "sin") declare function jsSin(x: f64): f64;
-
-let n = 0, ng = 0, nxd = 0, mode = 0;
+let n = 0, ng = 0, mode = 0;
 let k = 0.0;
 let wr: usize = 0, wi: usize = 0, cx: usize = 0, sx: usize = 0, cy: usize = 0, sy: usize = 0;
-let kx: usize = 0, kx2: usize = 0, xv: usize = 0, yv: usize = 0, out: usize = 0;
+let kx: usize = 0, kx2: usize = 0, yv: usize = 0, out: usize = 0;
 let order: usize = 0, groupStart: usize = 0, xi: usize = 0;
 
 /** Lays out the arrays from byte `base` (8-aligned): mode 1 elements in row-group order, 2 through `order`. Returns the end. */
-export function setup(n_: i32, nxd_: i32, ng_: i32, mode_: i32, k_: f64, base: usize): usize {
-  n = n_; nxd = nxd_; ng = ng_; mode = mode_; k = k_;
+export function setup(n_: i32, nxd: i32, ng_: i32, mode_: i32, k_: f64, base: usize): usize {
+  n = n_; ng = ng_; mode = mode_; k = k_;
   let p = base;
   out = p; p += 8 << 3;
   wr = p; p += <usize>n << 3;
@@ -29,7 +26,6 @@ export function setup(n_: i32, nxd_: i32, ng_: i32, mode_: i32, k_: f64, base: u
   kx = p; p += <usize>n << 3;
   kx2 = p; p += <usize>n << 3;
   yv = p; p += <usize>ng << 3;
-  xv = p; p += <usize>nxd << 3;
   order = p; p += <usize>n << 2;
   groupStart = p; p += <usize>(ng + 1) << 2;
   xi = p; p += <usize>n << 2;
@@ -51,7 +47,6 @@ export function offset(i: i32): usize {
     case 10: return order;
     case 11: return groupStart;
     case 12: return xi;
-    case 13: return xv;
   }
   return 0;
 }
@@ -59,23 +54,8 @@ export function offset(i: i32): usize {
 @inline function f(base: usize, i: i32): f64 { return load<f64>(base + (<usize>i << 3)); }
 @inline function j(base: usize, i: i32): i32 { return load<i32>(base + (<usize>i << 2)); }
 
-/** cos and sin of k·x·Δu for each distinct x (cx, sx) and of k·y·Δv for each distinct y (cy, sy). */
-export function phasors(du: f64, dv: f64): void {
-  for (let a = 0; a < nxd; a++) {
-    const t = k * f(xv, a) * du;
-    store<f64>(cx + (<usize>a << 3), jsCos(t));
-    store<f64>(sx + (<usize>a << 3), jsSin(t));
-  }
-  for (let g = 0; g < ng; g++) {
-    const t = k * f(yv, g) * dv;
-    store<f64>(cy + (<usize>g << 3), jsCos(t));
-    store<f64>(sy + (<usize>g << 3), jsSin(t));
-  }
-}
-
 /** F = Σ w·e^{j(kx·Δu + ky·Δv)} of a planar array into out[0], out[1]. */
-export function field(du: f64, dv: f64): void {
-  phasors(du, dv);
+export function field(): void {
   let re = 0.0, im = 0.0;
   for (let g = 0; g < ng; g++) {
     let sr = 0.0, si = 0.0;
@@ -103,8 +83,7 @@ export function field(du: f64, dv: f64): void {
 }
 
 /** |F|² and its first and second derivatives in (Δu, Δv), planar arrays: out[0..5] = p, pu, pv, puu, pvv, puv. */
-export function derivs(du: f64, dv: f64): void {
-  phasors(du, dv);
+export function derivs(): void {
   let fr = 0.0, fi = 0.0, fur = 0.0, fui = 0.0, fvr = 0.0, fvi = 0.0;
   let fuur = 0.0, fuui = 0.0, fvvr = 0.0, fvvi = 0.0, fuvr = 0.0, fuvi = 0.0;
   for (let g = 0; g < ng; g++) {
