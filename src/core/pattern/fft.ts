@@ -61,17 +61,29 @@ export interface FftScratch {
 
 const align8 = (b: number) => (b + 7) & ~7;
 
+/** Room a PowerFft2's memory has after its fixed arrays: elements, window side and cells, trace samples. */
+interface Room {
+  n: number;
+  side: number;
+  cells: number;
+  trace: number;
+}
+
 export class PowerFft2 {
   private readonly k: FftKernels;
   private readonly free: number;
-  private n = 0;
-  private scratchAt = 0;
-  private scratchBytes = 0;
-  private buffer!: ArrayBuffer;
+  private room: Room = { n: 0, side: 0, cells: 0, trace: 0 };
+  /** byte offsets of the window's column and row indices, its cells, and the trace's five arrays */
+  private at = { col: 0, row: 0, win: 0, trace: 0 };
+  // views on the kernel's memory, remade by layout() (a memory that grows detaches them)
   private cellsV!: Int32Array;
   private wrV!: Float64Array;
   private wiV!: Float64Array;
   private powerV!: Float64Array;
+  private colV!: Int32Array;
+  private rowV!: Int32Array;
+  private winV!: Float64Array;
+  private traceV!: Float64Array[];
 
   constructor(readonly nx: number, readonly ny: number, readonly usedRows: number, scratch: FftScratch) {
     if (nx < 2 || ny < 2 || (nx & (nx - 1)) !== 0 || (ny & (ny - 1)) !== 0) throw new Error(`FFT grid ${nx} × ${ny}: sides must be powers of two, at least 2`);
@@ -79,9 +91,9 @@ export class PowerFft2 {
     const uc = scratch.usedCols;
     const fixed = 8 * (2 * nx + 2 * ny + 2 * nx * usedRows + 2 * nx + 4 * ny + 2 * usedRows * nx + nx * ny + 4 * ny * uc + 2 * usedRows * nx) + 4 * (3 * nx + ny);
     this.free = align8(KERNEL_BASE + fixed);
-    // scratch: a window (its column and row indices, its cells) or a horizon trace (5 arrays of ≤ 4·side + 8 samples)
-    const need = Math.max(8 * (scratch.windowSide + 1) + 8 * scratch.windowCells, 5 * 8 * (4 * scratch.windowSide + 8));
-    this.k = kernelInstance<FftKernels>(WASM_BASE64, this.free + this.inputBytes(scratch.elements) + need, { env: { cos: Math.cos, sin: Math.sin } });
+    // a horizon trace has at most 2·(columns crossed) + 2·(rows crossed) samples: ≤ 4·side + 8
+    const room = { n: scratch.elements, side: scratch.windowSide + 1, cells: scratch.windowCells, trace: 4 * scratch.windowSide + 8 };
+    this.k = kernelInstance<FftKernels>(WASM_BASE64, this.free + PowerFft2.roomBytes(room), { env: { cos: Math.cos, sin: Math.sin } });
     const end = this.k.setup(nx, ny, usedRows, uc, tx.width, ty.width, KERNEL_BASE);
     if (end > this.free) throw new Error("PowerFft2: kernel layout larger than reserved");
     const mem = this.k.memory.buffer;
@@ -89,43 +101,60 @@ export class PowerFft2 {
     new Float64Array(mem, this.k.offset(1), 2 * ny).set(ty.table);
     new Int32Array(mem, this.k.offset(5), tx.bitrev.length).set(tx.bitrev);
     new Int32Array(mem, this.k.offset(6), ty.bitrev.length).set(ty.bitrev);
-    this.layout(scratch.elements, need);
+    this.layout(room);
   }
 
-  private inputBytes(n: number): number {
-    return align8(4 * n) + 16 * n;
+  private static roomBytes(r: Room): number {
+    return align8(4 * r.n) + 16 * r.n + 2 * align8(4 * r.side) + 8 * r.cells + 40 * r.trace;
   }
 
-  /** Inputs for n elements at `free`, then `scratch` bytes; views (re)made. */
-  private layout(n: number, scratch: number): void {
-    const end = this.free + this.inputBytes(n) + scratch;
+  /** Lay out the inputs, the window and the trace after the fixed arrays; views (re)made. */
+  private layout(room: Room): void {
+    const end = this.free + PowerFft2.roomBytes(room);
     const have = this.k.memory.buffer.byteLength;
     if (end > have) this.k.memory.grow(Math.ceil((end - have) / 65536));
-    this.n = n;
+    this.room = room;
+    const { n, side, cells, trace } = room;
     this.k.inputs(this.free, n);
-    this.scratchAt = this.free + this.inputBytes(n);
-    this.scratchBytes = scratch;
-    const mem = (this.buffer = this.k.memory.buffer);
-    const { nx, ny } = this;
-    this.cellsV = new Int32Array(mem, this.free, n);
-    const wrAt = this.free + align8(4 * n);
+    const mem = this.k.memory.buffer;
+    let o = this.free;
+    const take = (bytes: number) => { const a = o; o += align8(bytes); return a; };
+    const cellsAt = take(4 * n), wrAt = take(8 * n), wiAt = take(8 * n);
+    this.at = { col: take(4 * side), row: take(4 * side), win: take(8 * cells), trace: take(40 * trace) };
+    this.cellsV = new Int32Array(mem, cellsAt, n);
     this.wrV = new Float64Array(mem, wrAt, n);
-    this.wiV = new Float64Array(mem, wrAt + 8 * n, n);
-    this.powerV = new Float64Array(mem, this.k.offset(4), nx * ny);
+    this.wiV = new Float64Array(mem, wiAt, n);
+    this.powerV = new Float64Array(mem, this.k.offset(4), this.nx * this.ny);
+    this.colV = new Int32Array(mem, this.at.col, side);
+    this.rowV = new Int32Array(mem, this.at.row, side);
+    this.winV = new Float64Array(mem, this.at.win, cells);
+    this.traceV = [0, 1, 2, 3, 4].map((i) => new Float64Array(mem, this.at.trace + 8 * trace * i, trace));
   }
 
-  /** The weights into the kernel's memory, with `scratch` bytes of room after them. */
-  private load(cells: Int32Array, wr: Float64Array, wi: Float64Array, scratch: number): void {
+  /** More room when a call needs it (the memory grows; views remade). */
+  private ensure(n: number, side: number, cells: number, trace: number): void {
+    const r = this.room;
+    if (n !== r.n || side > r.side || cells > r.cells || trace > r.trace)
+      this.layout({ n, side: Math.max(side, r.side), cells: Math.max(cells, r.cells), trace: Math.max(trace, r.trace) });
+  }
+
+  /** The weights into the kernel's memory. */
+  private load(cells: Int32Array, wr: Float64Array, wi: Float64Array): void {
     const n = cells.length;
-    if (n !== this.n || scratch > this.scratchBytes) this.layout(n, Math.max(scratch, this.scratchBytes));
+    this.ensure(n, 0, 0, 0);
     this.cellsV.set(cells);
     this.wrV.set(wr.length === n ? wr : wr.subarray(0, n));
     this.wiV.set(wi.length === n ? wi : wi.subarray(0, n));
   }
 
+  /** Samples a horizon trace can hold without a new layout (callers size their arrays to it). */
+  get traceRoom(): number {
+    return this.room.trace;
+  }
+
   /** |Σ_cells w·exp(+2πi(mx/nx + ny'/ny))|² for every (m, n), weights given per cell index (row·nx + column); valid until the next call. */
   run(cells: Int32Array, wr: Float64Array, wi: Float64Array): Float64Array {
-    this.load(cells, wr, wi, 0);
+    this.load(cells, wr, wi);
     this.k.run(cells.length);
     return this.powerV;
   }
@@ -137,14 +166,14 @@ export class PowerFft2 {
    * is copied from its first copy.
    */
   runWindow(cells: Int32Array, wr: Float64Array, wi: Float64Array, col: Int32Array, row: Int32Array, wm: number, wn: number, out: Float64Array): void {
-    const cw = align8(4 * wm), rw = align8(4 * wn);
-    this.load(cells, wr, wi, cw + rw + 8 * wm * wn);
-    const mem = this.buffer;
-    const colAt = this.scratchAt, rowAt = colAt + cw, outAt = rowAt + rw;
-    new Int32Array(mem, colAt, wm).set(col.subarray(0, wm));
-    new Int32Array(mem, rowAt, wn).set(row.subarray(0, wn));
-    this.k.runWindow(cells.length, colAt, rowAt, wm, wn, outAt);
-    out.set(new Float64Array(mem, outAt, wm * wn));
+    this.ensure(cells.length, Math.max(wm, wn), wm * wn, 0);
+    this.load(cells, wr, wi);
+    // whole arrays where they fit (no subarray a call: a 1-element array's build is all such calls)
+    const { colV, rowV, winV } = this;
+    colV.set(col.length <= colV.length ? col : col.subarray(0, wm));
+    rowV.set(row.length <= rowV.length ? row : row.subarray(0, wn));
+    this.k.runWindow(cells.length, this.at.col, this.at.row, wm, wn, this.at.win);
+    out.set(winV.length <= out.length ? winV : winV.subarray(0, wm * wn));
   }
 
   /**
@@ -155,7 +184,7 @@ export class PowerFft2 {
   spectra(cells: Int32Array, wr: Float64Array, wi: Float64Array, keep: boolean): 0 | 1 {
     const n = cells.length;
     if (keep) {
-      this.load(cells, wr, wi, 0);
+      this.load(cells, wr, wi);
       this.k.rows(n);
     }
     this.k.columnSpectra(n);
@@ -170,14 +199,17 @@ export class PowerFft2 {
    * spectra into `out`'s du, dv, au, av and p (each ≥ cap long); returns the sample count.
    */
   trace(slot: 0 | 1, u0: number, v0: number, du: number, dv: number, sa: number, ca: number, mLo: number, mHi: number, nLo: number, nHi: number, kdy: number, kpx: number, cap: number, out: { du: Float64Array; dv: Float64Array; au: Float64Array; av: Float64Array; p: Float64Array }): number {
-    if (40 * cap > this.scratchBytes) this.layout(this.n, 40 * cap);
-    const at = this.scratchAt, mem = this.buffer;
-    const k = this.k.trace(slot, u0, v0, du, dv, sa, ca, mLo, mHi, nLo, nHi, kdy, kpx, at, cap);
-    out.du.set(new Float64Array(mem, at, k));
-    out.dv.set(new Float64Array(mem, at + 8 * cap, k));
-    out.au.set(new Float64Array(mem, at + 16 * cap, k));
-    out.av.set(new Float64Array(mem, at + 24 * cap, k));
-    out.p.set(new Float64Array(mem, at + 32 * cap, k));
+    this.ensure(this.room.n, 0, 0, cap);
+    const room = this.room.trace;
+    const k = this.k.trace(slot, u0, v0, du, dv, sa, ca, mLo, mHi, nLo, nHi, kdy, kpx, this.at.trace, room);
+    const [tu, tv, au, av, tp] = this.traceV;
+    // whole arrays where they fit (no subarray a call)
+    const whole = out.du.length >= room && out.dv.length >= room && out.au.length >= room && out.av.length >= room && out.p.length >= room;
+    out.du.set(whole ? tu! : tu!.subarray(0, k));
+    out.dv.set(whole ? tv! : tv!.subarray(0, k));
+    out.au.set(whole ? au! : au!.subarray(0, k));
+    out.av.set(whole ? av! : av!.subarray(0, k));
+    out.p.set(whole ? tp! : tp!.subarray(0, k));
     return k;
   }
 }

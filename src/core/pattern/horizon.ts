@@ -112,7 +112,7 @@ export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: Hor
   const mLo = Math.ceil((-ca - u0) / du) | 0, mHi = Math.floor((ca - u0) / du) | 0;
   const nLo = Math.ceil((-sa - v0) / dv) | 0, nHi = Math.floor((sa - v0) / dv) | 0;
   const cap = 2 * Math.max(0, mHi - mLo + 1) + 2 * Math.max(0, nHi - nLo + 1);
-  reserve(out, cap);
+  reserve(out, Math.max(cap, s.fft.traceRoom));
   out.n = s.fft.trace(s.slot, u0, v0, du, dv, sa, ca, mLo, mHi, nLo, nHi, s.kdy, s.kpx, cap, out);
 }
 

@@ -61,8 +61,9 @@ export class LobeGridKernel {
   /** Copy a w × h window's power (and visibility) in. */
   load(p: Float64Array, n: number, visible?: Uint8Array): void {
     this.ensure(n);
-    this.p.set(p.length === n ? p : p.subarray(0, n));
-    if (visible) this.visible.set(visible.length === n ? visible : visible.subarray(0, n));
+    // whole arrays where they fit (no subarray a call)
+    this.p.set(p.length <= this.p.length ? p : p.subarray(0, n));
+    if (visible) this.visible.set(visible.length <= this.visible.length ? visible : visible.subarray(0, n));
   }
 
   /** The main lobe's monotone flood from `start` over the loaded w × h power, into `mask`. */
