@@ -306,7 +306,10 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
       const pi = t.p[i]!;
       if (!(pi > 0) || pi < bar) continue;
       const l = (i - 1 + n) % n, r = (i + 1) % n;
-      if (val(l) > pi || val(r) > pi) continue;
+      // a sample equal to both neighbours lies on a flat run (a pattern that is constant
+      // along the circle, as one element's is): no maximum to climb there. Without this a
+      // 1-element array searched every sample (1 × 65 536 beams 1.8 → 2.8 s)
+      if (val(l) > pi || val(r) > pi || (val(l) === pi && val(r) === pi)) continue;
       const ai = alphaOf(t, i);
       bracketAt(t, ai, l, r, gs);
       goldenAlong(ev, u0, v0, gs);
