@@ -55,7 +55,6 @@ export function floodMainLobe(p: Float64Array, w: number, h: number, start: numb
 }
 let shared: LobeGridKernel | null = null;
 
-
 /*
  * Every candidate gets an exact evaluation and the quadratic prediction below, whatever its
  * grid value. They were cut at 1 dB (×0.794) under the best grid candidate, on the belief
