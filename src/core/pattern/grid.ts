@@ -128,6 +128,11 @@ export interface PowerWindow {
   visible: Uint8Array;
 }
 
+/** The largest window's columns and rows for cells du × dv (visible space and a margin; frame()). */
+function windowSides(du: number, dv: number): [number, number] {
+  return [Math.ceil(2 / du) + 4, Math.ceil(2 / dv) + 4];
+}
+
 export function allocWindow(cap: number): PowerWindow {
   return { m0: 0, n0: 0, wm: 0, wn: 0, p: new Float64Array(cap), visible: new Uint8Array(cap) };
 }
@@ -143,7 +148,6 @@ export class PatternGrid {
   private readonly nx: number = 0;
   private readonly ny: number = 0;
   private readonly cell: Int32Array | null = null; // element → grid index
-  private readonly usedCols: number = 0;
   private readonly px: number = 0;
   // direct mode
   private readonly mMax: number = 0;
@@ -198,14 +202,8 @@ export class PatternGrid {
       this.ny = nextPow2(Math.max(OVERSAMPLE * l.rows, 1));
       this.du = lambda / (px * this.nx);
       this.dv = lambda / (l.dy * this.ny);
-      this.usedCols = gw;
-      const side = Math.max(Math.ceil(2 / this.du), Math.ceil(2 / this.dv)) + 4;
-      this.fft = new PowerFft2(this.nx, this.ny, l.rows, {
-        elements: el.count,
-        usedCols: gw,
-        windowCells: (Math.ceil(2 / this.du) + 4) * (Math.ceil(2 / this.dv) + 4),
-        windowSide: side,
-      });
+      const [wm, wn] = windowSides(this.du, this.dv);
+      this.fft = new PowerFft2(this.nx, this.ny, l.rows, { elements: el.count, usedCols: gw, windowCells: wm * wn, windowSide: Math.max(wm, wn) });
       this.px = px;
       this.cell = new Int32Array(el.count);
       for (let i = 0; i < el.count; i++) {
@@ -222,7 +220,8 @@ export class PatternGrid {
       this.mMax = Math.ceil(2 / this.du) + 2;
       this.nMax = Math.ceil(2 / this.dv) + 2;
     }
-    this.cap = (Math.ceil(2 / this.du) + 4) * (Math.ceil(2 / this.dv) + 4);
+    const [wm, wn] = windowSides(this.du, this.dv);
+    this.cap = wm * wn;
   }
 
   /**
@@ -284,9 +283,7 @@ export class PatternGrid {
   spectra(wr: Float64Array, wi: Float64Array, keep: boolean): LatticeSpectra {
     if (this.mode !== "fft") throw new Error("spectra need a lattice");
     const slot = this.fft!.spectra(this.cell!, wr, wi, keep);
-    const rows = this.plan.lattice!.rows;
-    const dy = this.plan.lattice!.dy;
-    return { nx: this.nx, ny: this.ny, rows, cols: this.usedCols, kpx: this.k * this.px, kdy: this.k * dy, du: this.du, dv: this.dv, fft: this.fft!, slot };
+    return { kpx: this.k * this.px, kdy: this.k * this.plan.lattice!.dy, du: this.du, dv: this.dv, fft: this.fft!, slot };
   }
 
   private colIndex = new Int32Array(0);

@@ -81,10 +81,6 @@ function alphaOf(t: HorizonTrace, i: number): number {
  * y_0 + r·dy.
  */
 export interface LatticeSpectra {
-  nx: number;
-  ny: number;
-  rows: number;
-  cols: number;
   kpx: number;
   kdy: number;
   du: number;
