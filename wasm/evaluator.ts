@@ -1,8 +1,12 @@
 // AssemblyScript source of the exact array factor's element loops for planar arrays
 // (AfEvaluator.field and afDerivs in src/core/pattern/evaluator.ts), compiled by
 // scripts/build-wasm.mjs. The sums run in the same order, operation for operation, as the
-// TypeScript they replace, so the results are bit-identical. The phasors (cos, sin of each
-// distinct coordinate) are written by the JS side, with JavaScript's Math.cos and Math.sin.
+// TypeScript they replaced. The phasors (cos, sin of each distinct coordinate) are taken
+// here too, with AssemblyScript's NativeMath.sincos (musl's sincos, under 1 ulp); V8's
+// Math.cos and Math.sin may differ from it in the last bit. They were taken on the JS side
+// before: a fresh process ran that loop in V8's interpreter for its first beams (16×16 ×
+// 441 beams: analysis 179 → 164 ms, median of 11), and importing Math.cos boxed a number
+// a call.
 
 // @ts-nocheck: AssemblyScript types (f64, i32, usize, load, store), not TypeScript's
 
@@ -10,11 +14,12 @@ let n = 0, ng = 0, mode = 0;
 let k = 0.0;
 let wr: usize = 0, wi: usize = 0, cx: usize = 0, sx: usize = 0, cy: usize = 0, sy: usize = 0;
 let kx: usize = 0, kx2: usize = 0, yv: usize = 0, out: usize = 0;
-let order: usize = 0, groupStart: usize = 0, xi: usize = 0;
+let order: usize = 0, groupStart: usize = 0, xi: usize = 0, xv: usize = 0;
+let nx = 0;
 
 /** Lays out the arrays from byte `base` (8-aligned): mode 1 elements in row-group order, 2 through `order`. Returns the end. */
 export function setup(n_: i32, nxd: i32, ng_: i32, mode_: i32, k_: f64, base: usize): usize {
-  n = n_; ng = ng_; mode = mode_; k = k_;
+  n = n_; ng = ng_; mode = mode_; k = k_; nx = nxd;
   let p = base;
   out = p; p += 8 << 3;
   wr = p; p += <usize>n << 3;
@@ -29,6 +34,8 @@ export function setup(n_: i32, nxd: i32, ng_: i32, mode_: i32, k_: f64, base: us
   order = p; p += <usize>n << 2;
   groupStart = p; p += <usize>(ng + 1) << 2;
   xi = p; p += <usize>n << 2;
+  p = (p + 7) & ~7;
+  xv = p; p += <usize>nxd << 3;
   return p;
 }
 /** Byte offsets for the JS side's views, by index (the order of setup()). */
@@ -47,6 +54,7 @@ export function offset(i: i32): usize {
     case 10: return order;
     case 11: return groupStart;
     case 12: return xi;
+    case 13: return xv;
   }
   return 0;
 }
@@ -54,8 +62,23 @@ export function offset(i: i32): usize {
 @inline function f(base: usize, i: i32): f64 { return load<f64>(base + (<usize>i << 3)); }
 @inline function j(base: usize, i: i32): i32 { return load<i32>(base + (<usize>i << 2)); }
 
+/** cos, sin of k·x·Δu per distinct x and of k·y·Δv per distinct y (NativeMath.sincos: musl's). */
+function phasors(du: f64, dv: f64): void {
+  for (let q = 0; q < nx; q++) {
+    NativeMath.sincos(k * f(xv, q) * du);
+    store<f64>(cx + (<usize>q << 3), NativeMath.sincos_cos);
+    store<f64>(sx + (<usize>q << 3), NativeMath.sincos_sin);
+  }
+  for (let q = 0; q < ng; q++) {
+    NativeMath.sincos(k * f(yv, q) * dv);
+    store<f64>(cy + (<usize>q << 3), NativeMath.sincos_cos);
+    store<f64>(sy + (<usize>q << 3), NativeMath.sincos_sin);
+  }
+}
+
 /** F = Σ w·e^{j(kx·Δu + ky·Δv)} of a planar array into out[0], out[1]. */
-export function field(): void {
+export function field(du: f64, dv: f64): void {
+  phasors(du, dv);
   let re = 0.0, im = 0.0;
   for (let g = 0; g < ng; g++) {
     let sr = 0.0, si = 0.0;
@@ -83,7 +106,8 @@ export function field(): void {
 }
 
 /** |F|² and its first and second derivatives in (Δu, Δv), planar arrays: out[0..5] = p, pu, pv, puu, pvv, puv. */
-export function derivs(): void {
+export function derivs(du: f64, dv: f64): void {
+  phasors(du, dv);
   let fr = 0.0, fi = 0.0, fur = 0.0, fui = 0.0, fvr = 0.0, fvi = 0.0;
   let fuur = 0.0, fuui = 0.0, fvvr = 0.0, fvvi = 0.0, fuvr = 0.0, fuvi = 0.0;
   for (let g = 0; g < ng; g++) {

@@ -4,8 +4,8 @@
  * with w̃_n = w_n·exp(jk r_n·d̂). |F(Δ)|² is |AF(d̂ + Δ)|². Phasors are built per
  * distinct coordinate (a lattice has only `columns` distinct x and `rows` distinct y),
  * so one evaluation costs a few dozen sin/cos and one pass over the elements. For planar
- * arrays that pass runs in WebAssembly (wasm/evaluator.ts, the same sums in the same
- * order); the phasors stay JavaScript's Math.cos and Math.sin.
+ * arrays the phasors and that pass run in WebAssembly (wasm/evaluator.ts: musl's sincos,
+ * the same sums in the same order); other arrays' in JavaScript (Math.cos, Math.sin).
  */
 import { centralDerivs, weightDerivs, type ElementDerivs, type ElementPattern } from "../element.js";
 import { KERNEL_BASE, kernelInstance } from "./kernels.js";
@@ -15,8 +15,8 @@ interface EvaluatorKernels {
   memory: WebAssembly.Memory;
   setup(n: number, nxd: number, ng: number, mode: number, k: number, base: number): number;
   offset(i: number): number;
-  field(): void;
-  derivs(): void;
+  field(du: number, dv: number): void;
+  derivs(du: number, dv: number): void;
 }
 
 export interface Distinct {
@@ -114,31 +114,26 @@ export class AfEvaluator {
   private kOut: Float64Array = new Float64Array(0);
 
   /**
-   * The kernel's instance, with this evaluator's arrays moved into its memory: cx, sx, cy,
-   * sy (written by phasors()) and wr, wi (written by callers) become views on it.
+   * The kernel's instance, with this evaluator's arrays moved into its memory: wr, wi
+   * (written by callers) become views on it; the kernel takes its phasors itself.
    */
   private planarKernel(ng: number): EvaluatorKernels {
     const n = this.n, nxd = this.dx.values.length;
-    const bytes = KERNEL_BASE + 8 * (8 + 4 * n + 2 * nxd + 3 * ng) + 4 * (3 * n + ng + 1) + 8;
-    const K = kernelInstance<EvaluatorKernels>(WASM_BASE64, bytes);
     const mode = this.inOrder ? 1 : 2;
-    if (K.setup(n, nxd, ng, mode, this.kScale, KERNEL_BASE) > bytes) throw new Error("AfEvaluator: kernel layout larger than reserved");
+    const K = kernelInstance<EvaluatorKernels>(WASM_BASE64, (k) => k.setup(n, nxd, ng, mode, this.kScale, KERNEL_BASE));
     const mem = K.memory.buffer;
     const f64 = (i: number, len: number, from?: ArrayLike<number>) => { const a = new Float64Array(mem, K.offset(i), len); if (from) a.set(from); return a; };
     const i32 = (i: number, len: number, from: ArrayLike<number>) => new Int32Array(mem, K.offset(i), len).set(from);
     this.kOut = f64(0, 8);
     this.wr = f64(1, n, this.wr);
     this.wi = f64(2, n, this.wi);
-    this.cx = f64(3, nxd);
-    this.sx = f64(4, nxd);
-    this.cy = f64(5, ng);
-    this.sy = f64(6, ng);
     f64(7, n, this.kx);
     f64(8, n, this.kx2);
     f64(9, ng, this.dy.values);
     i32(10, n, this.order);
     i32(11, ng + 1, this.groupStart);
     i32(12, n, this.dx.index);
+    f64(13, nxd, this.dx.values);
     return K;
   }
 
@@ -148,6 +143,7 @@ export class AfEvaluator {
     this.w0 = w0;
   }
 
+  /** cx, sx, cy, sy at (Δu, Δv): non-planar arrays (planar ones' kernel takes its own). */
   private phasors(du: number, dv: number): void {
     const k = this.kScale;
     const xv = this.dx.values;
@@ -174,13 +170,13 @@ export class AfEvaluator {
   private readonly fOut: [number, number] = [0, 0];
   /** F(Δ) as [re, im]. */
   field(du: number, dv: number): [number, number] {
-    this.phasors(du, dv);
     if (this.kernel) {
-      this.kernel.field();
+      this.kernel.field(du, dv);
       this.fOut[0] = this.kOut[0]!;
       this.fOut[1] = this.kOut[1]!;
       return this.fOut;
     }
+    this.phasors(du, dv);
     // not planar: the z term per element
     const { cx, sx, cy, sy, wr, wi } = this;
     const xi = this.dx.index;
@@ -228,9 +224,8 @@ export class AfEvaluator {
     if (!this.planar) return centralDerivs(this.powerAt, du, dv, o);
     // grouped by row (wasm/evaluator.ts): S0 = Σ w·ex, S1 = Σ X·w·ex, S2 = Σ X²·w·ex per distinct y, then
     // F = Σ ey·S0, F_u = jΣ ey·S1, F_uu = −Σ ey·S2, F_v = jΣ Y·ey·S0, F_vv = −Σ Y²·ey·S0, F_uv = −Σ Y·ey·S1
-    this.phasors(du, dv);
     const K = this.kOut;
-    this.kernel!.derivs();
+    this.kernel!.derivs(du, dv);
     o.p = K[0]!;
     o.pu = K[1]!;
     o.pv = K[2]!;

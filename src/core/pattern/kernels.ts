@@ -14,14 +14,19 @@ function decode(base64: string): Uint8Array<ArrayBuffer> {
   return b;
 }
 
-/** A new instance of a kernel module whose memory holds at least `bytes` bytes. */
-export function kernelInstance<T>(base64: string, bytes: number, imports: WebAssembly.Imports = {}): T & { memory: WebAssembly.Memory } {
+/**
+ * A new instance of a kernel module whose memory holds at least `layout(instance)` bytes:
+ * a number, or the kernel's own set-up call, which lays its arrays out and returns their
+ * end (the memory is grown after it; set-up only places, it writes nothing).
+ */
+export function kernelInstance<T>(base64: string, layout: number | ((k: T) => number), imports: WebAssembly.Imports = {}): T & { memory: WebAssembly.Memory } {
   let m = compiled.get(base64);
   if (!m) {
     m = new WebAssembly.Module(decode(base64));
     compiled.set(base64, m);
   }
   const exports = new WebAssembly.Instance(m, imports).exports as unknown as T & { memory: WebAssembly.Memory };
+  const bytes = typeof layout === "number" ? layout : layout(exports);
   const have = exports.memory.buffer.byteLength;
   if (bytes > have) exports.memory.grow(Math.ceil((bytes - have) / 65536));
   return exports;
