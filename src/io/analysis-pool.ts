@@ -29,6 +29,12 @@ import { analysisSizeProblem, MAX_ANALYSED_BEAMS } from "../core/pattern/grid.js
 import { InputError } from "../core/errors.js";
 import { dropSpares, sparesWaiting, takeWorker } from "./spare-workers.js";
 
+/** A monotonic clock in ms (process.hrtime: `performance.now()` would load Node's perf_hooks, ~1.5 ms of every start). */
+const msNow = (): number => {
+  const [s, ns] = process.hrtime();
+  return s * 1e3 + ns / 1e6;
+};
+
 /** Refuse (exit 2, before any work) an analysis whose grid would pass its stated size (grid.ts MAX_ANALYSIS_CELLS). */
 export function refuseOversizedAnalysis(plan: Plan, file: string, opts: { band?: boolean } = {}): void {
   const p = analysisSizeProblem(plan, opts);
@@ -326,7 +332,7 @@ function locate(s: SharedAnalysis, id: number): { v: number; fi: number; from: n
 function prepare(plan: Plan, s: SharedAnalysis, id: number, cache: ChunkCache): number {
   const { v, fi } = locate(s, id);
   if (cache.v === v && cache.c?.fi === fi) return 0;
-  const t0 = performance.now();
+  const t0 = msNow();
   const plans = (cache.plans ??= new Map());
   if (!plans.has(v)) plans.set(v, variantPlan(plan, s.variants?.[v]));
   if (cache.v !== v) {
@@ -335,7 +341,7 @@ function prepare(plan: Plan, s: SharedAnalysis, id: number, cache: ChunkCache): 
   }
   // an empty range builds the analyser (and the band's, when there is a band) and analyses nothing
   analyseRange(plans.get(v)!, fi, 0, 0, new Float64Array(0), cache, s.ideal, undefined, s.squint ? new Float64Array(0) : null);
-  return performance.now() - t0;
+  return msNow() - t0;
 }
 
 /**
@@ -358,7 +364,7 @@ export function drainChunks(plan: Plan, s: SharedAnalysis, o: DrainOptions = {})
     const id = claim(s, total, o.wait ?? true, self);
     if (id < 0) return done;
     const setupMs = prepare(plan, s, id, cache);
-    const t0 = performance.now();
+    const t0 = msNow();
     const { v, fi, from, to } = locate(s, id);
     const base = (v * s.frequencies + fi) * s.beams;
     const ring = s.ring;
@@ -378,7 +384,7 @@ export function drainChunks(plan: Plan, s: SharedAnalysis, o: DrainOptions = {})
     }
     Atomics.add(s.completed, 0, 1);
     Atomics.notify(s.completed, 0);
-    const ms = performance.now() - t0;
+    const ms = msNow() - t0;
     if (self + TIME_THREAD < s.times.length) s.times[TIME_THREAD + self] = ms;
     done += to - from;
     o.onChunk?.(ms, to - from, setupMs);
