@@ -1,5 +1,5 @@
 /** Derived facts an engineer wants before a range session (`steercode check`). */
-import { gratingFreeScanDeg, gratingLobeVisible, pointSetDiameter, reciprocalVectors } from "./geometry.js";
+import { gratingFreeScanDeg, gratingLobeTest, pointSetDiameter, reciprocalVectors } from "./geometry.js";
 import { enabledCount, type Plan } from "./plan.js";
 import { prepareFrequency } from "./quantize/prepare.js";
 import { SPEED_OF_LIGHT } from "./units.js";
@@ -80,7 +80,8 @@ export function deriveFacts(plan: Plan, opts: { squint?: boolean } = {}): Facts 
       const g = reciprocalVectors(plan.lattice, lambda);
       sx = gratingFreeScanDeg(g, 0);
       sy = gratingFreeScanDeg(g, Math.PI / 2);
-      for (let b = 0; b < plan.beams.count; b++) if (gratingLobeVisible(plan.beams.u[b]!, plan.beams.v[b]!, g)) gratingBeams.push(b);
+      const visible = gratingLobeTest(g);
+      for (let b = 0; b < plan.beams.count; b++) if (visible(plan.beams.u[b]!, plan.beams.v[b]!)) gratingBeams.push(b);
     }
     return {
       frequencyHz: f,

@@ -183,6 +183,36 @@ export function gratingLobeVisible(u0: number, v0: number, g: [number, number, n
   return false;
 }
 
+/**
+ * gratingLobeVisible for the beams of one lattice, cheaper per beam: from a visible beam
+ * (|(u0, v0)| ≤ 1) a lobe at offset G = m·g1 + n·g2 reaches the unit disc only if |G| ≤ 2,
+ * so only those (m, n) are listed (a few: four at λ/2 spacing, against 48) and tried per
+ * beam, each sum formed in gratingLobeVisible's order (the same answers); a beam outside
+ * the disc takes the full search.
+ */
+export function gratingLobeTest(g: [number, number, number, number]): (u0: number, v0: number) => boolean {
+  const [g1x, g1y, g2x, g2y] = g;
+  const reach = 3;
+  const a: number[] = [], b: number[] = [], c: number[] = [], d: number[] = [];
+  for (let m = -reach; m <= reach; m++)
+    for (let n = -reach; n <= reach; n++) {
+      if (m === 0 && n === 0) continue;
+      const gx = m * g1x + n * g2x, gy = m * g1y + n * g2y;
+      if (!(gx * gx + gy * gy <= (2 + 1e-9) ** 2)) continue;
+      a.push(m * g1x); b.push(n * g2x); c.push(m * g1y); d.push(n * g2y);
+    }
+  const A = Float64Array.from(a), B = Float64Array.from(b), C = Float64Array.from(c), D = Float64Array.from(d);
+  return (u0, v0) => {
+    if (!(u0 * u0 + v0 * v0 <= 1)) return gratingLobeVisible(u0, v0, g);
+    for (let k = 0; k < A.length; k++) {
+      const u = u0 + A[k]! + B[k]!;
+      const v = v0 + C[k]! + D[k]!;
+      if (u * u + v * v <= 1 + 1e-12) return true;
+    }
+    return false;
+  };
+}
+
 /** Widest scan from broadside along a direction (angle psiRad in the u-v plane) that keeps every grating lobe out of visible space, in degrees of θ. */
 export function gratingFreeScanDeg(g: [number, number, number, number], psiRad: number): number {
   const cu = Math.cos(psiRad);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { gratingFreeScanDeg, reciprocalVectors, gratingLobeVisible, angleBetweenDeg, azElToUvw, pointSetDiameter } from "../../src/core/geometry.js";
+import { gratingFreeScanDeg, reciprocalVectors, gratingLobeTest, gratingLobeVisible, angleBetweenDeg, azElToUvw, pointSetDiameter } from "../../src/core/geometry.js";
 import { mulberry32 } from "../../src/core/quantize/randomized.js";
 import { deriveFacts } from "../../src/core/facts.js";
 import { crc32 } from "node:zlib";
@@ -21,6 +21,29 @@ describe("grating lobes", () => {
     const nearest = Math.min(Math.hypot(g[0], g[1]), Math.hypot(g[2], g[3]), Math.hypot(g[0] + g[2], g[1] + g[3]), Math.hypot(g[0] - g[2], g[1] - g[3]));
     expect(nearest).toBeCloseTo(Math.hypot(0.8, 0.5) / 0.8, 12);
     expect(gratingLobeVisible(0, 0, g)).toBe(false);
+  });
+
+  it("gratingLobeTest (the lobes within reach of the disc, listed once) answers as gratingLobeVisible, inside and outside the disc, on the boundary too", () => {
+    const r = mulberry32(5);
+    let visible = 0, total = 0;
+    for (let t = 0; t < 300; t++) {
+      const d = 0.3 + 0.9 * r(), dy = 0.3 + 0.9 * r();
+      const g = reciprocalVectors({ dx: d, dy, offset: [0, 0.5, r()][t % 3]! }, 1);
+      const test = gratingLobeTest(g);
+      const pts: [number, number][] = Array.from({ length: 40 }, () => { const a = 2 * Math.PI * r(), q = 1.2 * Math.sqrt(r()); return [q * Math.cos(a), q * Math.sin(a)]; });
+      // points that put a lobe exactly on the horizon (|d̂ + g1| = 1), and the beam on the circle itself
+      const a = 2 * Math.PI * r();
+      pts.push([Math.cos(a) - g[0], Math.sin(a) - g[1]], [Math.cos(a), Math.sin(a)]);
+      for (const [u, v] of pts) {
+        const want = gratingLobeVisible(u, v, g);
+        expect(test(u, v), `lattice ${d} × ${dy}, beam (${u}, ${v})`).toBe(want);
+        visible += want ? 1 : 0;
+        total++;
+      }
+    }
+    // both answers occur often
+    expect(visible / total).toBeGreaterThan(0.2);
+    expect(visible / total).toBeLessThan(0.8);
   });
 
   it("check warns for beams that put a grating lobe into visible space", () => {
