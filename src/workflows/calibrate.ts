@@ -14,7 +14,7 @@ import {
   elementCodeModel,
   fieldMethod,
   METHODS,
-  probeClearanceM,
+  probeNearest,
   referOffsets,
   revMethod,
   SUM_CHECK_MAX_UNDECIDED,
@@ -105,6 +105,12 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
   const loaded = loadScenario(o.scenario, { ignoreCalibration: true });
   const plan = loaded.plan;
   const el = plan.elements;
+  // the probe point is the caller's (--probe-position), not the data file's: checked first, named as given
+  const near = probeNearest(o.probe, el);
+  if (o.probe.kind === "near" && near.distanceM < 1e-6) {
+    const at = (i: number) => `(${el.x[i]}, ${el.y[i]}, ${el.z[i]}) m`;
+    throw new InputError({ message: `probe position (${o.probe.x}, ${o.probe.y}, ${o.probe.z}) m: ${near.distanceM === 0 ? "on" : `${near.distanceM.toPrecision(3)} m from`} element ${el.ids[near.index]} of ${basename(o.scenario)}, at ${at(near.index)}; expected a point away from the array (at least 1 µm from every element)` });
+  }
   const problems: Problem[] = [];
   const input = readInput(o.data, o.data, problems);
   if (!input) throw new InputError(problems);
@@ -157,8 +163,6 @@ export function runCalibrate(o: CalibrateOptions): CalibrateResult {
     list.push({ code: code.value, a: a.value, b: b.value, line: r.line });
   }
   if (problems.length) throw new InputError(problems);
-  if (o.probe.kind === "near" && probeClearanceM(o.probe, el) < 1e-6)
-    problems.push({ file, message: `the probe point (${o.probe.x}, ${o.probe.y}, ${o.probe.z}) m sits on an element; expected a point away from the array` });
   const sortedGroups = [...groups.values()].sort((x, y) => new D(x.exact).cmp(y.exact));
   for (const g of sortedGroups) {
     const at = perFrequency ? ` at ${new D(g.exact).toFixed()} Hz` : "";

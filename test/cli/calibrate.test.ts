@@ -116,6 +116,15 @@ describe("steercode calibrate → build → check → diff → verify", () => {
       expect(Math.abs(e.gainDb - els[0]!.gainDb - (truth.gainDb[e.element]! - truth.gainDb[0]!))).toBeLessThan(1e-7);
     }
     expect(readFileSync(join(dir, "field-cal.csv"), "utf8")).toMatch(/# rms fit residual: none/);
+    // a probe point on an element: exit 2 naming the probe position and the element, not the data file (which is fine)
+    const e0 = [onePlan.elements.x[4]!, onePlan.elements.y[4]!, onePlan.elements.z[4]!];
+    for (const [q, how] of [[e0, "on"], [[e0[0]!, e0[1]!, e0[2]! + 4e-7], "4.00e-7 m from"]] as const) {
+      const bad = cli(["calibrate", join(dir, "one.json"), "--data", join(dir, "field.csv"), "--method", "field", "--probe-position", q.join(","), "-o", join(dir, "bad-cal.csv")]);
+      expect(bad.code).toBe(2);
+      expect(bad.stderr).toContain(`probe position (${q.join(", ")}) m: ${how} element ${onePlan.elements.ids[4]} of one.json`);
+      expect(bad.stderr).not.toMatch(/field\.csv/);
+      expect(bad.stderr).not.toMatch(/\n\s+at /);
+    }
   });
 });
 

@@ -42,12 +42,15 @@ export function pathFactor(probe: Probe, x: number, y: number, z: number, k: num
   return { re: Math.cos(ph) / r, im: Math.sin(ph) / r };
 }
 
-/** Smallest distance from the probe point to any element (a near-field probe must not sit on one). */
-export function probeClearanceM(probe: Probe, el: Elements): number {
-  if (probe.kind === "far") return Infinity;
-  let best = Infinity;
-  for (let i = 0; i < el.count; i++) best = Math.min(best, Math.hypot(probe.x - el.x[i]!, probe.y - el.y[i]!, probe.z - el.z[i]!));
-  return best;
+/** The element nearest the probe point (its index, −1 for a far-field probe or no element) and its distance (m); a near-field probe must not sit on one. */
+export function probeNearest(probe: Probe, el: Elements): { index: number; distanceM: number } {
+  let index = -1, distanceM = Infinity;
+  if (probe.kind === "far") return { index, distanceM };
+  for (let i = 0; i < el.count; i++) {
+    const d = Math.hypot(probe.x - el.x[i]!, probe.y - el.y[i]!, probe.z - el.z[i]!);
+    if (d < distanceM) { distanceM = d; index = i; }
+  }
+  return { index, distanceM };
 }
 
 export type Flag = "dead" | "poor-fit" | "ambiguous-root";
