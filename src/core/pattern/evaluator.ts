@@ -73,12 +73,6 @@ export class AfEvaluator {
    */
   element: ElementPattern | null = null;
   private readonly eOut: ElementDerivs = { p: 0, pu: 0, pv: 0, puu: 0, pvv: 0, puv: 0 };
-  /** elements ordered by distinct-y group; group g spans order[groupStart[g] … groupStart[g+1]) */
-  private readonly order: Int32Array;
-  private readonly groupStart: Int32Array;
-  private readonly kx2: Float64Array;
-  /** elements already in group order (order[q] = q): the loops index them directly */
-  private readonly inOrder: boolean;
 
   constructor(x: Float64Array, y: Float64Array, z: Float64Array, k: number) {
     this.n = x.length;
@@ -96,17 +90,7 @@ export class AfEvaluator {
     this.wr = new Float64Array(this.n);
     this.wi = new Float64Array(this.n);
     this.kScale = k;
-    const ng = this.dy.values.length;
-    const counts = new Int32Array(ng + 1);
-    for (let i = 0; i < this.n; i++) counts[this.dy.index[i]! + 1]!++;
-    for (let g = 0; g < ng; g++) counts[g + 1]! += counts[g]!;
-    this.groupStart = counts.slice();
-    const fillAt = counts.slice();
-    this.order = new Int32Array(this.n);
-    for (let i = 0; i < this.n; i++) this.order[fillAt[this.dy.index[i]!]!++] = i;
-    this.kx2 = Float64Array.from(this.kx, (v) => v * v);
-    this.inOrder = this.order.every((v, q) => v === q);
-    if (this.planar) this.kernel = this.planarKernel(ng);
+    if (this.planar) this.kernel = this.planarKernel();
   }
   private readonly kScale: number;
   /** Planar arrays: the element loops of field() and afDerivs() in WebAssembly (wasm/evaluator.ts); null otherwise. */
@@ -117,9 +101,17 @@ export class AfEvaluator {
    * The kernel's instance, with this evaluator's arrays moved into its memory: wr, wi
    * (written by callers) become views on it; the kernel takes its phasors itself.
    */
-  private planarKernel(ng: number): EvaluatorKernels {
-    const n = this.n, nxd = this.dx.values.length;
-    const mode = this.inOrder ? 1 : 2;
+  private planarKernel(): EvaluatorKernels {
+    const n = this.n, nxd = this.dx.values.length, ng = this.dy.values.length;
+    // elements ordered by distinct-y group: group g spans order[groupStart[g] … groupStart[g+1])
+    const groupStart = new Int32Array(ng + 1);
+    for (let i = 0; i < n; i++) groupStart[this.dy.index[i]! + 1]!++;
+    for (let g = 0; g < ng; g++) groupStart[g + 1]! += groupStart[g]!;
+    const fillAt = groupStart.slice();
+    const order = new Int32Array(n);
+    for (let i = 0; i < n; i++) order[fillAt[this.dy.index[i]!]!++] = i;
+    // mode 1: elements already in group order (order[q] = q), indexed directly
+    const mode = order.every((v, q) => v === q) ? 1 : 2;
     const K = kernelInstance<EvaluatorKernels>(WASM_BASE64, (k) => k.setup(n, nxd, ng, mode, this.kScale, KERNEL_BASE));
     const mem = K.memory.buffer;
     const f64 = (i: number, len: number, from?: ArrayLike<number>) => { const a = new Float64Array(mem, K.offset(i), len); if (from) a.set(from); return a; };
@@ -128,10 +120,10 @@ export class AfEvaluator {
     this.wr = f64(1, n, this.wr);
     this.wi = f64(2, n, this.wi);
     f64(7, n, this.kx);
-    f64(8, n, this.kx2);
+    f64(8, n, Float64Array.from(this.kx, (v) => v * v));
     f64(9, ng, this.dy.values);
-    i32(10, n, this.order);
-    i32(11, ng + 1, this.groupStart);
+    i32(10, n, order);
+    i32(11, ng + 1, groupStart);
     i32(12, n, this.dx.index);
     f64(13, nxd, this.dx.values);
     return K;
