@@ -17,7 +17,8 @@ function decode(base64: string): Uint8Array<ArrayBuffer> {
 /**
  * A new instance of a kernel module whose memory holds at least `layout(instance)` bytes:
  * a number, or the kernel's own set-up call, which lays its arrays out and returns their
- * end (the memory is grown after it; set-up only places, it writes nothing).
+ * end. The memory is grown after that call, so it must only place arrays, not write them
+ * (wasm/evaluator.ts's setup; wasm/fft.ts's fills a table, so the FFT passes a byte count).
  */
 export function kernelInstance<T>(base64: string, layout: number | ((k: T) => number), imports: WebAssembly.Imports = {}): T & { memory: WebAssembly.Memory } {
   let m = compiled.get(base64);
