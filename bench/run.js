@@ -253,6 +253,37 @@ if (!ONLY || ONLY === "diff") {
   results.diff = { words: summary, wordsChanged: Number(changed), summary: text, changesCsv: csv, json, note: "run once each; --json written to a discarded stdout" };
 }
 
+// ---- 11. element lists (BENCH_ONLY=lists runs it alone): the analysis of a 64×64 lattice at 0.5 λ given
+// as elements.csv (direct sum by rows of shared y, grid.ts DirectSum) against the same lattice given as a
+// lattice (FFT), and of 1024 scattered elements over the same aperture (element by element); 25 beams
+// (az/el ±40° in 20° steps), in-process build with analysis, one thread; figures per beam
+if (!ONLY || ONLY === "lists") {
+  const beams = { kind: "azel", az: { from: -40, to: 40, step: 20 }, el: { from: -40, to: 40, step: 20 } };
+  const lattice = scenario("lists-lattice", 64, beams, ["bin"], false);
+  const doc = JSON.parse(readFileSync(lattice, "utf8"));
+  const lambda = 299792458 / 28e9, pitch = lambda / 2;
+  const at = (i) => ((i - 31.5) * pitch).toPrecision(17);
+  const gridCsv = ["element,x_m,y_m", ...Array.from({ length: 4096 }, (_, e) => `${e},${at(e % 64)},${at(Math.floor(e / 64))}`)].join("\n") + "\n";
+  let seed = 11;
+  const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+  const scatterCsv = ["element,x_m,y_m", ...Array.from({ length: 1024 }, (_, e) => `${e},${((rnd() - 0.5) * 63 * pitch).toPrecision(12)},${((rnd() - 0.5) * 63 * pitch).toPrecision(12)}`)].join("\n") + "\n";
+  const listScenario = (name, csv) => {
+    const d = join(tmp, name);
+    spawnSync("mkdir", ["-p", d]);
+    writeFileSync(join(d, "el.csv"), csv);
+    writeFileSync(join(d, "scenario.json"), JSON.stringify({ ...doc, array: { elements: "el.csv" } }));
+    return join(d, "scenario.json");
+  };
+  const cases = [["lattice", lattice], ["grid as elements.csv", listScenario("lists-grid", gridCsv)], ["1024 scattered", listScenario("lists-scatter", scatterCsv)]];
+  const out = join(tmp, "lists-out");
+  results.elementLists = cases.map(([name, s]) => {
+    const ms = [];
+    for (let i = 0; i < RUNS; i++) ms.push(childBuild(s, out, true, 1).buildMs / 25);
+    rmSync(out, { recursive: true, force: true });
+    return { case: name, msPerBeam: spread(ms) };
+  });
+}
+
 writeFileSync(join(ROOT, "bench", "results.json"), JSON.stringify(results, null, 2) + "\n");
 const f = (x, d = 0) => Number(x).toFixed(d);
 function printMemory() {
@@ -304,6 +335,10 @@ if (ONLY === "diff" || (!ONLY && results.diff)) {
   const d = results.diff;
   console.log(`\n| diff of two 64×64 × 2601-beam builds (${(d.words / 1e6).toFixed(1)} M words, ${(d.wordsChanged / 1e6).toFixed(1)} M changed) | wall (ms) | peak RSS (MB) |\n|---|---|---|`);
   for (const [k, label] of [["summary", "summary (prose)"], ["changesCsv", "-o: changes.csv + diff.json"], ["json", "--json (every change)"]]) console.log(`| ${label} | ${d[k].ms.toFixed(0)} | ${d[k].peakRssMB.toFixed(0)} |`);
+}
+if ((ONLY === "lists" || !ONLY) && results.elementLists) {
+  console.log(`\n| 64×64 at 0.5 λ, 25 beams, analysis (one thread, in process) | ms a beam, median (min–max) |\n|---|---|`);
+  for (const r of results.elementLists) console.log(`| ${r.case} | ${f(r.msPerBeam.median, 1)} (${f(r.msPerBeam.min, 1)}–${f(r.msPerBeam.max, 1)}) |`);
 }
 if (!ONLY) await import("./inputs.js");
 if (!ONLY || ONLY === "report") await import("./report.js");

@@ -60,6 +60,8 @@ export class BeamAnalyzer {
   /** The ideal de-steered weights do not depend on the beam: on lattices their FFT is taken once. */
   private readonly idealPeriodic: Float64Array | null = null;
   private idealLobes: IdealLobes | null = null;
+  /** planar element lists: the ideal |F|² on every window offset, taken at the first idealPsl (false: not planar) */
+  private idealTable: Float64Array | false | null = null;
   /** the ideal weights' 1-D transforms (lattices), for the horizon trace */
   private readonly idealSpectra: LatticeSpectra | null = null;
   private readonly traceR: HorizonTrace = allocTrace();
@@ -187,7 +189,11 @@ export class BeamAnalyzer {
       return 10 * Math.log10(this.idealLobes.sidelobePower(u0, v0) / this.idealLobes.peakPower);
     }
     if (this.idealPeriodic) g.fillFromPeriodic(this.idealPeriodic, u0, v0, this.winI);
-    else g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
+    else {
+      if (this.idealTable === null) this.idealTable = g.offsetTable(this.idealAmp, this.zero) ?? false;
+      if (this.idealTable) g.fillFromTable(this.idealTable, u0, v0, this.winI);
+      else g.fill(this.idealAmp, this.zero, u0, v0, w0, this.winI);
+    }
     this.weigh(this.winI, u0, v0);
     const id = this.finder.analyse(this.winI, this.evI, g.du, g.dv, u0, v0, this.traceHorizon(this.evI, this.idealSpectra, u0, v0, this.traceI));
     return 10 * Math.log10(id.sidelobePower / id.peakPower);
