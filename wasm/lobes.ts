@@ -35,7 +35,7 @@ export function flood(p: usize, w: i32, h: i32, start: i32, mask: usize, stack: 
   }
 }
 
-const CANDIDATES = 6;
+const CANDIDATES = 48;
 
 /** A candidate at the same coordinate along the line as cell q is already held (line 1: columns, 2: rows). */
 function sameLineCoordinate(cand: usize, nc: i32, q: i32, wm: i32, line: i32): bool {
@@ -48,19 +48,23 @@ function sameLineCoordinate(cand: usize, nc: i32, q: i32, wm: i32, line: i32): b
 
 /**
  * The CANDIDATES largest local maxima (8-neighbourhood) of the visible cells outside the
- * main lobe into cand (int32) and candP (float64); returns how many (scanCandidates in
- * lobes.ts, which explains the rules). line: 0 planar, 1 a row array (one candidate per
+ * main lobe that can be contenders (at least the `always` largest, and those within
+ * `within` of the largest) into cand (int32) and candP (float64), largest first; returns how many (LobeFinder.analyse
+ * in lobes.ts explains the rules and which of them it refines). line: 0 planar, 1 a row array (one candidate per
  * window column), 2 a column array (per window row).
  */
-export function scan(p: usize, visible: usize, mask: usize, wm: i32, wn: i32, cand: usize, candP: usize, line: i32): i32 {
+export function scan(p: usize, visible: usize, mask: usize, wm: i32, wn: i32, cand: usize, candP: usize, line: i32, always: i32, within: f64): i32 {
   let nc = 0;
-  let floorP = -Infinity;
+  // a cell not above floorP cannot enter (CANDIDATES are held, none smaller); a cell under
+  // barP cannot be a contender (`always` are held, and it is under the always-th largest
+  // and not within `within` of the largest: both only rise)
+  let floorP = -Infinity, barP = -Infinity;
   for (let b = 0; b < wn; b++)
     for (let a = 0; a < wm; a++) {
       const q = b * wm + a;
       if (!b8(visible, q) || b8(mask, q)) continue;
       const pq = pf(p, q);
-      if (nc == CANDIDATES && !(pq > floorP)) continue;
+      if ((nc == CANDIDATES && !(pq > floorP)) || pq < barP) continue;
       if (a > 0 && pf(p, q - 1) > pq && b8(visible, q - 1) && !b8(mask, q - 1)) continue;
       if (a + 1 < wm && pf(p, q + 1) > pq && b8(visible, q + 1) && !b8(mask, q + 1)) continue;
       let isMax = true;
@@ -76,22 +80,17 @@ export function scan(p: usize, visible: usize, mask: usize, wm: i32, wn: i32, ca
       }
       if (!isMax) continue;
       if (line != 0 && sameLineCoordinate(cand, nc, q, wm, line)) continue;
-      if (nc < CANDIDATES) {
-        store<i32>(cand + (<usize>nc << 2), q);
-        store<f64>(candP + (<usize>nc << 3), pq);
-        nc++;
-      } else {
-        let lo = 0;
-        for (let k = 1; k < nc; k++) if (pf(candP, k) < pf(candP, lo)) lo = k;
-        if (pq > pf(candP, lo)) {
-          store<i32>(cand + (<usize>lo << 2), q);
-          store<f64>(candP + (<usize>lo << 3), pq);
-        }
+      // insert in decreasing order (the smallest drops out when CANDIDATES are held)
+      let k = nc < CANDIDATES ? nc : CANDIDATES - 1;
+      if (nc < CANDIDATES) nc++;
+      for (; k > 0 && pf(candP, k - 1) < pq; k--) {
+        store<i32>(cand + (<usize>k << 2), load<i32>(cand + (<usize>(k - 1) << 2)));
+        store<f64>(candP + (<usize>k << 3), pf(candP, k - 1));
       }
-      if (nc == CANDIDATES) {
-        floorP = pf(candP, 0);
-        for (let k = 1; k < nc; k++) if (pf(candP, k) < floorP) floorP = pf(candP, k);
-      }
+      store<i32>(cand + (<usize>k << 2), q);
+      store<f64>(candP + (<usize>k << 3), pq);
+      if (nc == CANDIDATES) floorP = pf(candP, CANDIDATES - 1);
+      if (nc >= always) barP = min(pf(candP, always - 1), within * pf(candP, 0));
     }
   return nc;
 }

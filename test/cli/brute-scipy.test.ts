@@ -78,7 +78,7 @@ function calPerFrequency(n: number, freqs: number[]): string {
   return s;
 }
 
-const cases: { name: string; over: Record<string, unknown>; files?: Record<string, string> }[] = [
+const cases: { name: string; over: Record<string, unknown>; files?: Record<string, string>; pslTol?: number }[] = [
   {
     // a line along y, beams onto the horizon off its plane (the ideal PSL there was −24.37 dB, brute force −20.42 dB)
     name: "1×8 line at λ/2, Taylor −25 dB, θ = 90° at φ = 45° and 90°",
@@ -253,6 +253,15 @@ const cases: { name: string; over: Record<string, unknown>; files?: Record<strin
     over: { array: { lattice: { kind: "rectangular", columns: 6, rows: 1, dx: "0.7 lambda", dy: "0.5 lambda" } }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 }, element: { pattern: "table", file: "el.csv" } },
     files: { "beams.csv": "az_deg,el_deg\n60,0\n89.9,0\n30,60\n-75,10\n", "el.csv": RISING },
   },
+  {
+    // more lobes within a scallop of each other than the six largest grid maxima the search
+    // refined: the ideal PSL at az 6.01° el 3.37° was −26.9872 dB, brute force −26.9765 dB;
+    // held here to 0.002 dB (the brute force's own refinement is good to ~1e-5 dB)
+    name: "22×12 at 0.63 × 0.47 λ, Chebyshev −27 dB, cos element: the largest of many equal lobes",
+    over: { array: { lattice: { kind: "rectangular", columns: 22, rows: 12, dx: "0.63 lambda", dy: "0.47 lambda" } }, taper: { kind: "chebyshev", sidelobe: "-27 dB" }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 }, attenuator: { bits: 8, step: "0.1 dB" }, element: { pattern: "cosine", exponent: 1 } },
+    files: { "beams.csv": "az_deg,el_deg\n6.01,3.37\n-40,20\n0,0\n" },
+    pslTol: 0.002,
+  },
 ];
 
 /**
@@ -260,11 +269,11 @@ const cases: { name: string; over: Record<string, unknown>; files?: Record<strin
  * force's −Infinity, null here) must be an empty cell and an empty cell must be no PSL
  * (Number("") is 0, which would pass for a 0 dB grating lobe or for none).
  */
-function expectPsl(cell: string, ref: number | null, what: string): void {
+function expectPsl(cell: string, ref: number | null, what: string, tol = 0.05): void {
   if (ref === null) expect(cell, what).toBe("");
   else {
     expect(cell, `${what}: brute force ${ref.toFixed(4)} dB`).not.toBe("");
-    expect(Math.abs(Number(cell) - ref), what).toBeLessThan(0.05);
+    expect(Math.abs(Number(cell) - ref), what).toBeLessThan(tol);
   }
 }
 
@@ -282,8 +291,8 @@ describe("beams.csv against the numpy/scipy brute force", () => {
         const m = mine.find((x) => Number(x.beam) === r.beam && Number(x.frequency_hz) === r.frequency_hz)!;
         // reference: brute force, numpy/scipy via /usr/bin/python3 (brute_beams.py)
         expect(Math.abs(Number(m.pointing_error_deg) - r.pointing_error_deg!), `beam ${r.beam} pointing`).toBeLessThan(0.001);
-        expectPsl(m.psl_db!, r.psl_db!, `beam ${r.beam} psl`);
-        expectPsl(m.psl_ideal_db!, r.psl_ideal_db!, `beam ${r.beam} ideal psl`);
+        expectPsl(m.psl_db!, r.psl_db!, `beam ${r.beam} psl`, c.pslTol);
+        expectPsl(m.psl_ideal_db!, r.psl_ideal_db!, `beam ${r.beam} ideal psl`, c.pslTol);
         expect(Math.abs(Number(m.gain_loss_db) - r.gain_loss_db!), `beam ${r.beam} gain loss`).toBeLessThan(0.001);
         if (r.scan_loss_db !== undefined) expect(Math.abs(Number(m.scan_loss_db) - r.scan_loss_db), `beam ${r.beam} scan loss`).toBeLessThan(1e-4);
       }

@@ -273,6 +273,20 @@ describe("element lists' sampled window (grid.ts DirectSum)", () => {
         expect(copies, `${name} beam (${u0}, ${v0}): table copy`).toBe(0);
       }
     });
+
+  it("a 24 × 20 lattice given as elements.csv gives the lattice's metrics (its grid by rows, the lattice's by FFT)", () => {
+    const cols = 24, rowsN = 20;
+    const csv = "element,x_m,y_m\n" + Array.from({ length: cols * rowsN }, (_, e) => `${e},${((e % cols) - (cols - 1) / 2) * 0.005},${(Math.floor(e / cols) - (rowsN - 1) / 2) * 0.0055}`).join("\n") + "\n";
+    const beams = { kind: "azel", az: { from: -60, to: 60, step: 40 }, el: { from: -45, to: 45, step: 45 } };
+    const common = { beams, taper: { kind: "taylor", sidelobe: "-28 dB", nbar: 4 }, phaseShifter: { bits: 4 } };
+    const A = load(baseScenario({ ...common, array: { elements: "el.csv" } }), { "el.csv": csv });
+    const B = load(baseScenario({ ...common, array: { lattice: { kind: "rectangular", columns: cols, rows: rowsN, dx: "5 mm", dy: "5.5 mm" } } }));
+    expect(new PatternGrid(A.plan, 0).mode).toBe("direct");
+    const a = analyseAll(A.plan), b = analyseAll(B.plan);
+    for (let i = 0; i < A.plan.beams.count; i++)
+      for (const m of ["psl_db", "psl_ideal_db", "pointing_error_deg", "gain_loss_db"] as const)
+        expect(Math.abs(a[i * METRICS + M[m]]! - b[i * METRICS + M[m]]!), `beam ${i} ${m}`).toBeLessThan(1e-6);
+  });
 });
 
 describe("the analysis grid's size (issue 9: unbounded analysis)", () => {

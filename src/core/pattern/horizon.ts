@@ -21,6 +21,7 @@
  */
 import type { AfEvaluator } from "./evaluator.js";
 import type { PowerFft2 } from "./fft.js";
+import { LOBES_WITHIN } from "./lobe-kernel.js";
 
 export interface HorizonTrace {
   n: number;
@@ -226,10 +227,10 @@ export interface HorizonMax {
 /**
  * Only trace maxima within this factor of the best sample are refined. Consecutive
  * samples are at most one grid cell apart along each axis, so a maximum along the
- * circle lies within half a step of a sample, at most ~0.45 dB above it on a 4× grid
- * (as for the grid's own lobes, lobes.ts): 1 dB (×0.794) keeps every one that can win.
+ * circle lies within half a step of a sample, as a grid lobe's peak lies within half a
+ * cell of a grid sample: the same window as the grid's lobes (lobe-kernel.ts LOBES_WITHIN, 3 dB).
  */
-export const HORIZON_REFINE_WITHIN = 0.794;
+export const HORIZON_REFINE_WITHIN = LOBES_WITHIN;
 
 /**
  * The largest |AF|² along the horizon outside the main lobe: the trace's local maxima

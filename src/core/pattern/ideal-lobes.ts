@@ -6,14 +6,13 @@
  * Per beam only the visible disc changes:
  *   PSL_ideal = max( lobes whose exact peak lies in the disc,
  *                    the maximum along the horizon circle (horizon.ts) ).
- * Lobes are visited in decreasing grid value and the search stops 1 dB (factor 0.794)
- * below the best visible one found, as in LobeFinder (4× oversampling scallops < 0.45 dB).
+ * Lobes are visited in decreasing grid value and the search stops LOBES_WITHIN (3 dB)
+ * below the best visible one found, as in LobeFinder (lobes.ts).
  */
 import type { AfEvaluator } from "./evaluator.js";
 import { floodMainLobe, hillClimb, QUAD_MARGIN, refine } from "./lobes.js";
+import { LOBES_WITHIN } from "./lobe-kernel.js";
 import { allocTrace, horizonMax, traceLattice, type HorizonMax, type LatticeSpectra, type MainLobeMap } from "./horizon.js";
-
-const REFINE_WITHIN = 0.794;
 
 export class IdealLobes {
   private readonly W: number;
@@ -98,7 +97,7 @@ export class IdealLobes {
     let best = NaN;
     let bestGrid = 0;
     for (let k = 0; k < this.lobeCell.length; k++) {
-      if (bestGrid > 0 && this.lobeGrid[k]! < REFINE_WITHIN * bestGrid) break;
+      if (bestGrid > 0 && this.lobeGrid[k]! < LOBES_WITHIN * bestGrid) break;
       const q = this.lobeCell[k]!;
       const a = q % W, b = (q - a) / W;
       // a lobe whose grid cell is far outside the disc cannot be visible

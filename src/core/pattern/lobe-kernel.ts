@@ -8,11 +8,26 @@ import { WASM_BASE64 } from "./wasm/lobes.js";
 interface LobesKernels {
   memory: WebAssembly.Memory;
   flood(p: number, w: number, h: number, start: number, mask: number, stack: number): void;
-  scan(p: number, visible: number, mask: number, wm: number, wn: number, cand: number, candP: number, line: number): number;
+  scan(p: number, visible: number, mask: number, wm: number, wn: number, cand: number, candP: number, line: number, always: number, within: number): number;
 }
 
-/** How many sidelobe candidates the scan keeps (wasm/lobes.ts has the same). */
-export const CANDIDATES = 6;
+/**
+ * Which sampled maxima can hold the largest lobe: every one within this factor (3 dB) of
+ * the largest, and at least the LOBES_ALWAYS largest, whatever their level. A lobe's
+ * samples have been seen 1.2 dB under its peak (a narrow lobe, below); with only the six
+ * largest maxima refined, a pattern with more lobes than that within a scallop of each
+ * other lost its true largest one: a 24 × 20 lattice given as elements.csv, Taylor −28 dB,
+ * n̄ = 4, printed an ideal PSL of −28.228 dB where the brute force and the same lattice
+ * given as a lattice give −28.177 (the four first lobes sampled lower than eight others).
+ * Used alike by the grid's candidates (LobeFinder.analyse, up to CANDIDATES of them), the
+ * ideal pattern's lobes (ideal-lobes.ts) and the horizon trace's maxima (horizon.ts).
+ */
+export const LOBES_WITHIN = 0.5;
+/** Grid maxima always considered (LOBES_WITHIN). */
+export const LOBES_ALWAYS = 6;
+
+/** How many sidelobe candidates the scan keeps at most, the largest by grid value (wasm/lobes.ts has the same; LOBES_WITHIN picks the contenders among them). */
+export const CANDIDATES = 48;
 
 const align8 = (b: number) => (b + 7) & ~7;
 
@@ -71,8 +86,8 @@ export class LobeGridKernel {
     this.k.flood(this.at.p, w, h, start, this.at.mask, this.at.stack);
   }
 
-  /** The sidelobe candidates (after flood()) into cand/candP; returns how many. line: 0 planar, 1 row array, 2 column array. */
+  /** The sidelobe candidates that can be contenders (after flood()) into cand/candP, largest first; returns how many. line: 0 planar, 1 row array, 2 column array. */
   scan(wm: number, wn: number, line: number): number {
-    return this.k.scan(this.at.p, this.at.visible, this.at.mask, wm, wn, this.at.cand, this.at.candP, line);
+    return this.k.scan(this.at.p, this.at.visible, this.at.mask, wm, wn, this.at.cand, this.at.candP, line, LOBES_ALWAYS, LOBES_WITHIN);
   }
 }

@@ -14,7 +14,7 @@
 import type { AfEvaluator, PowerDerivs } from "./evaluator.js";
 import type { PowerWindow } from "./grid.js";
 import { horizonMax, inMain, notMainPeak, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
-import { CANDIDATES, LobeGridKernel } from "./lobe-kernel.js";
+import { CANDIDATES, LobeGridKernel, LOBES_ALWAYS, LOBES_WITHIN } from "./lobe-kernel.js";
 
 export interface LobeResult {
   peakDu: number;
@@ -54,6 +54,7 @@ export function floodMainLobe(p: Float64Array, w: number, h: number, start: numb
   mask.set(k.mask.subarray(0, w * h));
 }
 let shared: LobeGridKernel | null = null;
+
 
 /*
  * Every candidate gets an exact evaluation and the quadratic prediction below, whatever its
@@ -109,7 +110,7 @@ export class LobeFinder {
   /** per contender: start (Δu, Δv) and the exact p, pu, pv, puu, pvv, puv there */
   private readonly st = new Float64Array(8 * CANDIDATES);
   private readonly pred = new Float64Array(CANDIDATES);
-  private readonly ord = new Int32Array(CANDIDATES);
+  private readonly ord = new Int32Array(LOBES_ALWAYS);
   private readonly off = new Float64Array(2);
   private readonly d0: PowerDerivs = { p: 0, pu: 0, pv: 0, puu: 0, pvv: 0, puv: 0 };
   /** QUAD_MARGIN; Infinity refines every contender (the tests compare both) */
@@ -144,6 +145,22 @@ export class LobeFinder {
     return { ...near, top: cellOf(win, near.du / du, near.dv / dv) };
   }
 
+  /** Contender k's start (the parabolic fit on the grid, kept in the disc), its exact value, gradient and Hessian there (st) and its predicted peak (pred). */
+  private predict(k: number, win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number): void {
+    const { wm, wn, p } = win;
+    const q = this.grid.cand[k]!;
+    const a = q % wm;
+    const b = (q - a) / wm;
+    parabolic(p, wm, wn, a, b, this.off);
+    let su = (win.m0 + a + this.off[0]!) * du, sv = (win.n0 + b + this.off[1]!) * dv;
+    if ((u0 + su) ** 2 + (v0 + sv) ** 2 > 1) { su = (win.m0 + a) * du; sv = (win.n0 + b) * dv; }
+    const d = ev.derivs(su, sv);
+    const st = this.st, o = 8 * k;
+    st[o] = su; st[o + 1] = sv;
+    st[o + 2] = d.p; st[o + 3] = d.pu; st[o + 4] = d.pv; st[o + 5] = d.puu; st[o + 6] = d.pvv; st[o + 7] = d.puv;
+    this.pred[k] = Math.max(quadraticPeak(ev, d, du, dv), this.grid.candP[k]!);
+  }
+
   /** `trace`: the pattern along the horizon (horizon.ts), taken from the same weights as `win`. */
   analyse(win: PowerWindow, ev: AfEvaluator, du: number, dv: number, u0: number, v0: number, trace: HorizonTrace): LobeResult {
     const { wm, wn, p, visible } = win;
@@ -155,11 +172,11 @@ export class LobeFinder {
     g.flood(wm, wn, top);
     const mask = g.mask;
     // 4. sidelobe candidates: the CANDIDATES largest local maxima (8-neighbourhood) of the
-    // visible cells outside the main lobe. Once CANDIDATES are held, a cell not above the
-    // smallest of them cannot enter. A line array's pattern is the same in every window row
-    // (a row array, one distinct y: it varies along u, window columns) or column (a column
-    // array): one candidate per coordinate along the line, or the copies of its largest
-    // lobe fill every place.
+    // visible cells outside the main lobe (the contenders among them: LOBES_WITHIN, 4b).
+    // Once CANDIDATES are held, a cell not above the smallest of them cannot enter. A line
+    // array's pattern is the same in every window row (a row array, one distinct y: it
+    // varies along u, window columns) or column (a column array): one candidate per
+    // coordinate along the line, or the copies of its largest lobe fill every place.
     const line = ev.lockU === ev.lockV ? LineAxis.None : ev.lockV ? LineAxis.Columns : LineAxis.Rows;
     const nc = g.scan(wm, wn, line);
     const { cand, candP } = g;
@@ -169,32 +186,26 @@ export class LobeFinder {
     lobe.mask = mask; lobe.m0 = win.m0; lobe.n0 = win.n0; lobe.w = wm; lobe.h = wn; lobe.du = du; lobe.dv = dv;
     lobe.visible = ev.element ? visible : null; lobe.u0 = u0; lobe.v0 = v0; lobe.peakDu = pk.du; lobe.peakDv = pk.dv; lobe.lockU = ev.lockU; lobe.lockV = ev.lockV;
     let sl = NaN, sdu = NaN, sdv = NaN;
-    let bestGrid = 0;
-    for (let k = 0; k < nc; k++) bestGrid = Math.max(bestGrid, candP[k]!);
-    // 4b. one exact evaluation (value, gradient, Hessian) at each contender's start
-    // predicts its peak (the vertex of the quadratic model there); contenders are refined
-    // in decreasing prediction and one whose prediction (with QUAD_MARGIN) cannot reach
-    // the best refined value so far is not refined further
+    const bestGrid = nc > 0 ? candP[0]! : 0;
+    // 4b. the contenders: the LOBES_ALWAYS largest maxima, then the others in decreasing grid
+    // value while a lobe's peak, at most 1/LOBES_WITHIN above its largest sample, could
+    // still exceed both the largest sample and the best refined value so far. One exact
+    // evaluation (value, gradient, Hessian) at each contender's start predicts its peak
+    // (the vertex of the quadratic model there); the first LOBES_ALWAYS are refined in
+    // decreasing prediction, each later one as it comes, and a contender whose prediction
+    // (with QUAD_MARGIN) cannot reach the best refined value so far is not refined
+    // (the scan leaves the candidates in decreasing grid value)
     const { st, pred, ord } = this;
-    for (let k = 0; k < nc; k++) {
-      pred[k] = -1;
-      const q = cand[k]!;
-      const a = q % wm;
-      const b = (q - a) / wm;
-      parabolic(p, wm, wn, a, b, this.off);
-      let su = (win.m0 + a + this.off[0]!) * du, sv = (win.n0 + b + this.off[1]!) * dv;
-      if ((u0 + su) ** 2 + (v0 + sv) ** 2 > 1) { su = (win.m0 + a) * du; sv = (win.n0 + b) * dv; }
-      const d = ev.derivs(su, sv);
-      const o = 8 * k;
-      st[o] = su; st[o + 1] = sv;
-      st[o + 2] = d.p; st[o + 3] = d.pu; st[o + 4] = d.pv; st[o + 5] = d.puu; st[o + 6] = d.pvv; st[o + 7] = d.puv;
-      pred[k] = Math.max(quadraticPeak(ev, d, du, dv), candP[k]!);
-    }
-    for (let k = 0; k < nc; k++) ord[k] = k;
-    for (let x = 1; x < nc; x++) for (let y = x; y > 0 && pred[ord[y]!]! > pred[ord[y - 1]!]!; y--) { const t = ord[y]!; ord[y] = ord[y - 1]!; ord[y - 1] = t; }
+    const first = Math.min(nc, LOBES_ALWAYS);
+    for (let k = 0; k < first; k++) { this.predict(k, win, ev, du, dv, u0, v0); ord[k] = k; }
+    // the first ones in decreasing prediction
+    for (let x = 1; x < first; x++) for (let y = x; y > 0 && pred[ord[y]!]! > pred[ord[y - 1]!]!; y--) { const t = ord[y]!; ord[y] = ord[y - 1]!; ord[y - 1] = t; }
     for (let x = 0; x < nc; x++) {
-      const k = ord[x]!;
-      if (pred[k]! < 0) continue;
+      const k = x < first ? ord[x]! : x;
+      if (x >= first) {
+        if (!(candP[k]! >= LOBES_WITHIN * bestGrid) || candP[k]! < LOBES_WITHIN * sl) break;
+        this.predict(k, win, ev, du, dv, u0, v0);
+      }
       if (pred[k]! * this.quadMargin < sl) continue;
       const q = cand[k]!;
       const a = q % wm;
