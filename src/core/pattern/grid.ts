@@ -438,6 +438,31 @@ class DirectSum {
     const nxd = this.dx.values.length, nyd = this.dy.values.length;
     const xi = this.dx.index, yi = this.dy.index;
     const n = el.count;
+    if (this.planar) {
+      // per row, each element's weight times its y phasor; per cell then one complex
+      // product-sum with its x phasor
+      if (this.gr.length < n) { this.gr = new Float64Array(n); this.gi = new Float64Array(n); }
+      const { gr, gi } = this;
+      for (let j = 0; j < win.wn; j++) {
+        const qo = (Math.max(-nMax, Math.min(nMax, win.n0 + j)) + nMax) * nyd;
+        for (let e = 0; e < n; e++) {
+          const b = qo + yi[e]!;
+          gr[e] = wr[e]! * eyr[b]! - wi[e]! * eyi[b]!;
+          gi[e] = wr[e]! * eyi[b]! + wi[e]! * eyr[b]!;
+        }
+        for (let i = 0; i < win.wm; i++) {
+          const mo = (Math.max(-mMax, Math.min(mMax, win.m0 + i)) + mMax) * nxd;
+          let sr = 0, si = 0;
+          for (let e = 0; e < n; e++) {
+            const a = mo + xi[e]!;
+            sr += gr[e]! * exr[a]! - gi[e]! * exi[a]!;
+            si += gr[e]! * exi[a]! + gi[e]! * exr[a]!;
+          }
+          win.p[j * win.wm + i] = sr * sr + si * si;
+        }
+      }
+      return;
+    }
     for (let j = 0; j < win.wn; j++) {
       const q = win.n0 + j;
       const qo = (Math.max(-nMax, Math.min(nMax, q)) + nMax) * nyd;
