@@ -254,9 +254,10 @@ if (!ONLY || ONLY === "diff") {
 }
 
 // ---- 11. element lists (BENCH_ONLY=lists runs it alone): the analysis of a 64×64 lattice at 0.5 λ given
-// as elements.csv (direct sum by rows of shared y, grid.ts DirectSum) against the same lattice given as a
-// lattice (FFT), and of 1024 scattered elements over the same aperture (element by element); 25 beams
-// (az/el ±40° in 20° steps), in-process build with analysis, one thread; figures per beam
+// as a lattice and as elements.csv (both FFT: grid.ts gridEmbedding), the same list with every position
+// 1 nm off its place (no FFT grid holds it: direct sum by rows of shared y, grid.ts DirectSum), and 1024
+// scattered elements over the same aperture (element by element); 25 beams (az/el ±40° in 20° steps),
+// in-process build with analysis, one thread; figures per beam
 if (!ONLY || ONLY === "lists") {
   const beams = { kind: "azel", az: { from: -40, to: 40, step: 20 }, el: { from: -40, to: 40, step: 20 } };
   const lattice = scenario("lists-lattice", 64, beams, ["bin"], false);
@@ -264,6 +265,7 @@ if (!ONLY || ONLY === "lists") {
   const lambda = 299792458 / 28e9, pitch = lambda / 2;
   const at = (i) => ((i - 31.5) * pitch).toPrecision(17);
   const gridCsv = ["element,x_m,y_m", ...Array.from({ length: 4096 }, (_, e) => `${e},${at(e % 64)},${at(Math.floor(e / 64))}`)].join("\n") + "\n";
+  const offCsv = ["element,x_m,y_m", ...Array.from({ length: 4096 }, (_, e) => `${e},${(Number(at(e % 64)) + ((e % 64) % 3) * 1e-9).toPrecision(17)},${at(Math.floor(e / 64))}`)].join("\n") + "\n";
   let seed = 11;
   const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
   const scatterCsv = ["element,x_m,y_m", ...Array.from({ length: 1024 }, (_, e) => `${e},${((rnd() - 0.5) * 63 * pitch).toPrecision(12)},${((rnd() - 0.5) * 63 * pitch).toPrecision(12)}`)].join("\n") + "\n";
@@ -274,7 +276,7 @@ if (!ONLY || ONLY === "lists") {
     writeFileSync(join(d, "scenario.json"), JSON.stringify({ ...doc, array: { elements: "el.csv" } }));
     return join(d, "scenario.json");
   };
-  const cases = [["lattice", lattice], ["grid as elements.csv", listScenario("lists-grid", gridCsv)], ["1024 scattered", listScenario("lists-scatter", scatterCsv)]];
+  const cases = [["lattice", lattice], ["grid as elements.csv", listScenario("lists-grid", gridCsv)], ["grid 1 nm off its places", listScenario("lists-off", offCsv)], ["1024 scattered", listScenario("lists-scatter", scatterCsv)]];
   const out = join(tmp, "lists-out");
   results.elementLists = cases.map(([name, s]) => {
     const ms = [];

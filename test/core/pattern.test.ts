@@ -233,12 +233,13 @@ describe("element lists with more depth (z) than width", () => {
 describe("element lists' sampled window (grid.ts DirectSum)", () => {
   // derived: every window cell holds |Σ_e w_e·e^{jk(x_e·Δu + y_e·Δv + z_e·(w − w0))}|², summed
   // here element by element; the grid sums it by rows or columns of shared coordinates
-  // (lattices given as lists) or element by element (scattered or non-planar lists)
+  // (columns and rows at uneven pitches, which no FFT grid holds) or element by element
+  // (scattered or non-planar lists)
   const r = mulberry32(29);
   const mm = (x: number) => (x * 1e-3).toFixed(6);
   const lists: [string, string][] = [
-    ["12 × 9 lattice with a circular hole pattern (by rows)", Array.from({ length: 108 }, (_, i): [number, number] => [i % 12, Math.floor(i / 12)]).filter(([c, q]) => (c - 5.5) ** 2 + (q - 4) ** 2 < 30).map(([c, q], e) => `${e},${mm(5.1 * c)},${mm(5.6 * q)}`).join("\n")],
-    ["3 × 14 lattice (by columns)", Array.from({ length: 42 }, (_, e) => `${e},${mm(6 * (e % 3))},${mm(5 * Math.floor(e / 3))}`).join("\n")],
+    ["12 × 9 places at uneven column pitch, a circular hole pattern (by rows)", Array.from({ length: 108 }, (_, i): [number, number] => [i % 12, Math.floor(i / 12)]).filter(([c, q]) => (c - 5.5) ** 2 + (q - 4) ** 2 < 30).map(([c, q], e) => `${e},${mm(5.1 * c + 0.13 * c * c)},${mm(5.6 * q)}`).join("\n")],
+    ["3 × 14 places at uneven row pitch (by columns)", Array.from({ length: 42 }, (_, e) => `${e},${mm(6 * (e % 3))},${mm(5 * Math.floor(e / 3) + 0.07 * Math.floor(e / 3) ** 2)}`).join("\n")],
     ["30 scattered elements (element by element)", Array.from({ length: 30 }, (_, e) => `${e},${mm(40 * r())},${mm(30 * r())}`).join("\n")],
   ];
   for (const [name, rows] of lists)
@@ -274,9 +275,43 @@ describe("element lists' sampled window (grid.ts DirectSum)", () => {
       }
     });
 
-  it("a 24 × 20 lattice given as elements.csv gives the lattice's metrics (its grid by rows, the lattice's by FFT)", () => {
+  it("a lattice given as elements.csv is embedded in an FFT grid (rectangular, triangular, with holes) and agrees with the brute force", () => {
+    const beams = { kind: "azel", az: { from: -60, to: 60, step: 60 }, el: { from: 30, to: 30, step: 1 } };
+    const common = { beams, taper: { kind: "taylor", sidelobe: "-28 dB", nbar: 4 }, phaseShifter: { bits: 4 } };
+    for (const lattice of [
+      { kind: "rectangular", columns: 9, rows: 7, dx: "5 mm", dy: "5.5 mm" },
+      { kind: "triangular", columns: 9, rows: 7, dx: "6 mm", dy: "5 mm", offset: 0.5 },
+    ]) {
+      const { x, y, count } = load(baseScenario({ ...common, array: { lattice } })).plan.elements;
+      // the lattice's own positions, written as decimals
+      const csv = "element,x_m,y_m\n" + Array.from({ length: count }, (_, e) => `${e},${x[e]},${y[e]}`).join("\n") + "\n";
+      const A = load(baseScenario({ ...common, array: { elements: "el.csv" } }), { "el.csv": csv });
+      expect(new PatternGrid(A.plan, 0).mode).toBe("fft");
+      // the list's own codes can differ from the lattice's where a phase sits on a rounding
+      // boundary (the lattice's positions are exact decimals), so each is held to its own
+      // brute force (pattern-ref.ts)
+      const a = analyseAll(A.plan);
+      for (let i = 0; i < A.plan.beams.count; i++) {
+        const ref = bruteForce(A.plan, i), refI = bruteForce(A.plan, i, "ideal");
+        expect(Math.abs(a[i * METRICS + M.psl_db]! - ref.pslDb), `${lattice.kind} beam ${i} psl`).toBeLessThan(1e-6);
+        expect(Math.abs(a[i * METRICS + M.psl_ideal_db]! - refI.pslDb), `${lattice.kind} beam ${i} ideal psl`).toBeLessThan(1e-6);
+        expect(Math.abs(a[i * METRICS + M.pointing_error_deg]! - ref.pointingDeg), `${lattice.kind} beam ${i} pointing`).toBeLessThan(1e-5);
+      }
+    }
+    // holes, and an element 1e-10 of a pitch off its place: embedded; 1e-6 off: summed directly
+    const holes = "element,x_m,y_m\n0,0,0\n1,0.01,0\n2,0.025,0.004\n3,0,0.008\n";
+    expect(new PatternGrid(load(baseScenario({ array: { elements: "el.csv" } }), { "el.csv": holes }).plan, 0).mode).toBe("fft");
+    const off = (d: number) => `element,x_m,y_m\n0,0,0\n1,${0.005 + d},0\n2,0.01,0\n3,0,0.005\n`;
+    expect(new PatternGrid(load(baseScenario({ array: { elements: "el.csv" } }), { "el.csv": off(4e-13) }).plan, 0).mode).toBe("fft");
+    expect(new PatternGrid(load(baseScenario({ array: { elements: "el.csv" } }), { "el.csv": off(5e-9) }).plan, 0).mode).toBe("direct");
+  });
+
+  it("a 24 × 20 lattice written out 1 nm off its places (summed by rows) gives the lattice's metrics", () => {
+    // 1 nm is 3e-8 λ at the scenario's frequency: the same pattern to ~1e-7 dB, but no FFT grid
+    // holds it, so the direct sum and the lobe search on its samples run (the lattice's own
+    // lobes come from the FFT grid and the ideal pattern's lobe table)
     const cols = 24, rowsN = 20;
-    const csv = "element,x_m,y_m\n" + Array.from({ length: cols * rowsN }, (_, e) => `${e},${((e % cols) - (cols - 1) / 2) * 0.005},${(Math.floor(e / cols) - (rowsN - 1) / 2) * 0.0055}`).join("\n") + "\n";
+    const csv = "element,x_m,y_m\n" + Array.from({ length: cols * rowsN }, (_, e) => `${e},${((e % cols) - (cols - 1) / 2) * 0.005 + ((e % cols) % 3) * 1e-9},${(Math.floor(e / cols) - (rowsN - 1) / 2) * 0.0055}`).join("\n") + "\n";
     const beams = { kind: "azel", az: { from: -60, to: 60, step: 40 }, el: { from: -45, to: 45, step: 45 } };
     const common = { beams, taper: { kind: "taylor", sidelobe: "-28 dB", nbar: 4 }, phaseShifter: { bits: 4 } };
     const A = load(baseScenario({ ...common, array: { elements: "el.csv" } }), { "el.csv": csv });
@@ -285,7 +320,7 @@ describe("element lists' sampled window (grid.ts DirectSum)", () => {
     const a = analyseAll(A.plan), b = analyseAll(B.plan);
     for (let i = 0; i < A.plan.beams.count; i++)
       for (const m of ["psl_db", "psl_ideal_db", "pointing_error_deg", "gain_loss_db"] as const)
-        expect(Math.abs(a[i * METRICS + M[m]]! - b[i * METRICS + M[m]]!), `beam ${i} ${m}`).toBeLessThan(1e-6);
+        expect(Math.abs(a[i * METRICS + M[m]]! - b[i * METRICS + M[m]]!), `beam ${i} ${m}`).toBeLessThan(1e-5);
   });
 });
 

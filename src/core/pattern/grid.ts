@@ -1,9 +1,10 @@
 /**
  * Sampled |AF|² on a u-v grid around the beam direction, covering visible space.
- * Lattices: a 2-D FFT of the de-steered weights embedded in a zero-padded grid
+ * Lattices, and element lists whose positions lie on one pitch along x and one along y
+ * (gridEmbedding): a 2-D FFT of the de-steered weights embedded in a zero-padded grid
  * (a triangular lattice with offset ½ embeds in a grid of half the column pitch);
  * the grid is oversampled 4× against the aperture. Other geometries: a direct sum on
- * a grid sized from the aperture, with per-element phasor tables built once.
+ * a grid sized from the aperture, with phasor tables per distinct coordinate (DirectSum).
  */
 import type { Plan } from "../plan.js";
 import { SPEED_OF_LIGHT } from "../units.js";
@@ -51,6 +52,86 @@ function directExtent(el: { x: Float64Array; y: Float64Array; z: Float64Array },
 /** Element lists also keep phasor tables, (2⌈2/du⌉ + 5)·(distinct x) + (2⌈2/dv⌉ + 5)·(distinct y) entries of 16 bytes (DirectSum). */
 export const MAX_DIRECT_TABLE_ENTRIES = 2 ** 25;
 
+/**
+ * Where a planar array's elements sit on a regular grid of places, px × py apart (FFT
+ * mode): element i at place (col[i], row[i]), cols × rows places. A lattice with offset 0
+ * or ½ (a triangular one on a grid of half its column pitch); any other planar array
+ * whose x and y values each lie on one pitch, each element on its own place, as a lattice
+ * written out as elements.csv does: the positions must sit within 1e-10 of the pitch of
+ * their place (the grid's samples then differ from the exact sum by < 1e-8 of the peak,
+ * and every printed peak and lobe is refined on the exact positions anyway). null: the
+ * direct sum (DirectSum).
+ */
+export interface GridEmbedding {
+  px: number;
+  py: number;
+  cols: number;
+  rows: number;
+  col: Int32Array;
+  row: Int32Array;
+}
+
+/** Most places along an axis an element list is embedded with (more: the direct sum). */
+const MAX_LIST_PLACES = 1024;
+
+const embeddings = new WeakMap<Plan["elements"], GridEmbedding | null>();
+
+export function gridEmbedding(plan: Plan): GridEmbedding | null {
+  const el = plan.elements;
+  let e = embeddings.get(el);
+  if (e === undefined) embeddings.set(el, (e = findEmbedding(plan)));
+  return e;
+}
+
+function findEmbedding(plan: Plan): GridEmbedding | null {
+  const el = plan.elements, l = plan.lattice, n = el.count;
+  if (l && (l.offset === 0 || l.offset === 0.5)) {
+    const tri = l.offset === 0.5 && l.rows > 1;
+    const col = new Int32Array(n), row = new Int32Array(n);
+    for (let i = 0; i < n; i++) {
+      row[i] = el.row[i]!;
+      col[i] = tri ? 2 * el.column[i]! + (el.row[i]! % 2) : el.column[i]!;
+    }
+    return { px: tri ? l.dx / 2 : l.dx, py: l.dy, cols: tri ? 2 * l.columns + 1 : l.columns, rows: l.rows, col, row };
+  }
+  if (n < 2 || !el.z.every((z) => z === 0)) return null;
+  const gx = onePitch(el.x), gy = onePitch(el.y);
+  if (!gx || !gy) return null;
+  // a line: the pitch across it is the pitch along it (a lattice of one column or row has its own)
+  const px = gx.pitch || gy.pitch, py = gy.pitch || gx.pitch;
+  const seen = new Set<number>();
+  for (let i = 0; i < n; i++) {
+    const q = gy.place[i]! * gx.places + gx.place[i]!;
+    if (seen.has(q)) return null; // two elements on one place: the FFT grid holds one weight a place
+    seen.add(q);
+  }
+  return { px, py, cols: gx.places, rows: gy.places, col: gx.place, row: gy.place };
+}
+
+/** The one pitch the values lie on (0: a single value) and each value's place; null if none fits. */
+function onePitch(v: Float64Array): { pitch: number; places: number; place: Int32Array } | null {
+  const d = Array.from(new Set(v)).sort((a, b) => a - b);
+  const place = new Int32Array(v.length);
+  if (d.length === 1) return { pitch: 0, places: 1, place };
+  let gap = Infinity;
+  for (let k = 1; k < d.length; k++) gap = Math.min(gap, d[k]! - d[k - 1]!);
+  const span = d[d.length - 1]! - d[0]!;
+  // the pitch: the smallest gap, or a whole fraction of it (places left empty: 0, 2, 5 → pitch 1)
+  for (let j = 1; j <= 8; j++) {
+    const steps = Math.round((span * j) / gap);
+    if (!(steps + 1 <= MAX_LIST_PLACES)) return null;
+    const pitch = span / steps;
+    let fits = true;
+    for (let i = 0; i < v.length && fits; i++) {
+      const c = Math.round((v[i]! - d[0]!) / pitch);
+      fits = Math.abs(v[i]! - (d[0]! + c * pitch)) <= 1e-10 * pitch;
+      place[i] = c;
+    }
+    if (fits) return { pitch, places: steps + 1, place };
+  }
+  return null;
+}
+
 export interface GridShape {
   mode: "fft" | "direct";
   du: number;
@@ -67,18 +148,15 @@ export interface GridShape {
 /** The grid's cell and size for frequency fi (or any frequency fHz, e.g. a band point), without allocating it. */
 export function gridShape(plan: Plan, fi: number, fHz: number = plan.frequenciesHz[fi]!): GridShape {
   const lambda = SPEED_OF_LIGHT / fHz;
-  const l = plan.lattice;
+  const g = gridEmbedding(plan);
   let du: number, dv: number, ax: number, ay: number, mode: "fft" | "direct";
-  if (l && (l.offset === 0 || l.offset === 0.5)) {
+  if (g) {
     mode = "fft";
-    const tri = l.offset === 0.5 && l.rows > 1;
-    const px = tri ? l.dx / 2 : l.dx;
-    const gw = tri ? 2 * l.columns + 1 : l.columns;
-    // resolution λ/(OVERSAMPLE·aperture) in both embeddings (aperture = gw·px)
-    du = lambda / (px * nextPow2(OVERSAMPLE * gw));
-    dv = lambda / (l.dy * nextPow2(Math.max(OVERSAMPLE * l.rows, 1)));
-    ax = (gw * px) / lambda;
-    ay = (l.rows * l.dy) / lambda;
+    // resolution λ/(OVERSAMPLE·aperture) (aperture = places·pitch)
+    du = lambda / (g.px * nextPow2(OVERSAMPLE * g.cols));
+    dv = lambda / (g.py * nextPow2(Math.max(OVERSAMPLE * g.rows, 1)));
+    ax = (g.cols * g.px) / lambda;
+    ay = (g.rows * g.py) / lambda;
   } else {
     mode = "direct";
     const el = plan.elements;
@@ -151,6 +229,7 @@ export class PatternGrid {
   private readonly ny: number = 0;
   private readonly cell: Int32Array | null = null; // element → grid index
   private readonly px: number = 0;
+  private readonly py: number = 0;
   // direct mode
   private readonly mMax: number = 0;
   private readonly nMax: number = 0;
@@ -167,28 +246,20 @@ export class PatternGrid {
     this.k = (2 * Math.PI) / lambda;
     const el = plan.elements;
     this.planar = el.z.every((z) => z === 0);
-    const l = plan.lattice;
-    const embeddable = l && (l.offset === 0 || l.offset === 0.5);
-    if (l && embeddable) {
+    const g = gridEmbedding(plan);
+    if (g) {
       this.mode = "fft";
-      const tri = l.offset === 0.5 && l.rows > 1;
-      const px = tri ? l.dx / 2 : l.dx;
-      const gw = tri ? 2 * l.columns + 1 : l.columns;
-      // resolution λ/(OVERSAMPLE·aperture) in both embeddings (aperture = gw·px); gridShape() has the same
-      this.nx = nextPow2(OVERSAMPLE * gw);
-      this.ny = nextPow2(Math.max(OVERSAMPLE * l.rows, 1));
-      this.du = lambda / (px * this.nx);
-      this.dv = lambda / (l.dy * this.ny);
+      // resolution λ/(OVERSAMPLE·aperture) (aperture = places·pitch); gridShape() has the same
+      this.nx = nextPow2(OVERSAMPLE * g.cols);
+      this.ny = nextPow2(Math.max(OVERSAMPLE * g.rows, 1));
+      this.du = lambda / (g.px * this.nx);
+      this.dv = lambda / (g.py * this.ny);
       const [wm, wn] = windowSides(this.du, this.dv);
-      this.fft = new PowerFft2(this.nx, this.ny, l.rows, { elements: el.count, usedCols: gw, windowCells: wm * wn, windowSide: Math.max(wm, wn) });
-      this.px = px;
+      this.fft = new PowerFft2(this.nx, this.ny, g.rows, { elements: el.count, usedCols: g.cols, windowCells: wm * wn, windowSide: Math.max(wm, wn) });
+      this.px = g.px;
+      this.py = g.py;
       this.cell = new Int32Array(el.count);
-      for (let i = 0; i < el.count; i++) {
-        const r = el.row[i]!;
-        const c = el.column[i]!;
-        const gx = tri ? 2 * c + (r % 2) : c;
-        this.cell[i] = r * this.nx + gx;
-      }
+      for (let i = 0; i < el.count; i++) this.cell[i] = g.row[i]! * this.nx + g.col[i]!;
     } else {
       this.mode = "direct";
       const [lx, ly] = directExtent(el, lambda);
@@ -260,7 +331,7 @@ export class PatternGrid {
   spectra(wr: Float64Array, wi: Float64Array, keep: boolean): LatticeSpectra {
     if (this.mode !== "fft") throw new Error("spectra need a lattice");
     const slot = this.fft!.spectra(this.cell!, wr, wi, keep);
-    return { kpx: this.k * this.px, kdy: this.k * this.plan.lattice!.dy, du: this.du, dv: this.dv, fft: this.fft!, slot };
+    return { kpx: this.k * this.px, kdy: this.k * this.py, du: this.du, dv: this.dv, fft: this.fft!, slot };
   }
 
   private colIndex = new Int32Array(0);
