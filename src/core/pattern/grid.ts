@@ -49,6 +49,9 @@ function directExtent(el: { x: Float64Array; y: Float64Array; z: Float64Array },
   return [span(el.x) + lz + lambda / 2, span(el.y) + lz + lambda / 2];
 }
 
+/** Most cells of a planar element list's ideal-pattern table (PatternGrid.offsetTable), 32 MB. */
+const MAX_OFFSET_TABLE = 4_194_304;
+
 /** Element lists also keep phasor tables, (2⌈2/du⌉ + 5)·(distinct x) + (2⌈2/dv⌉ + 5)·(distinct y) entries of 16 bytes (DirectSum). */
 export const MAX_DIRECT_TABLE_ENTRIES = 2 ** 25;
 
@@ -379,11 +382,13 @@ export class PatternGrid {
    * Direct mode, planar arrays: |F|² of weights that do not change from beam to beam on
    * every cell a window can take (offsets ±mMax, ±nMax), once; windows then copy from it
    * (fillFromTable), as FFT mode's periodicPower / fillFromPeriodic. null: not planar
-   * (the z term depends on the beam).
+   * (the z term depends on the beam), or a table past MAX_OFFSET_TABLE cells.
    */
   offsetTable(wr: Float64Array, wi: Float64Array): Float64Array | null {
     if (this.mode !== "direct" || !this.planar) return null;
     const W = 2 * this.mMax + 1, H = 2 * this.nMax + 1;
+    // about four windows' cells: past MAX_OFFSET_TABLE (32 MB) the ideal is summed per beam
+    if (W * H > MAX_OFFSET_TABLE) return null;
     const all: PowerWindow = { m0: -this.mMax, n0: -this.nMax, wm: W, wn: H, p: new Float64Array(W * H), visible: new Uint8Array(0) };
     (this.direct ??= new DirectSum(this.plan.elements, this.k, this.du, this.dv, this.mMax, this.nMax, this.planar, this.cap)).sum(wr, wi, 0, 0, 1, all);
     return all.p;
