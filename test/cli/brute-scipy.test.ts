@@ -286,6 +286,15 @@ const cases: { name: string; over: Record<string, unknown>; files?: Record<strin
     files: unevenList(),
     pslTol: 0.002,
   },
+  {
+    // |AF|²·E dips and rises again within a grid cell, so the main lobe's flood took a lobe
+    // whole: no PSL printed at boresight (brute force −19.09 dB), −19.71 dB for −17.55 at
+    // az −11°; a brute-force campaign's scenario (254 random ones, 2026-12-03)
+    name: "jittered 2×2 list, cos^3.12 element: a lobe behind a trough narrower than a cell",
+    over: { frequency: "9.841 GHz", array: { elements: "el.csv" }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 4 }, attenuator: { bits: 8, step: "0.1 dB" }, element: { pattern: "cosine", exponent: 3.12 } },
+    files: { "el.csv": "element,x_m,y_m\n0,-0.0136583,-0.0094826\n1,0.0043845,-0.0095344\n2,-0.0038633,0.0095381\n3,0.0130138,0.0117400\n", "beams.csv": "az_deg,el_deg\n0,0\n-10.951984,6.509046\n-9.548414,13.373791\n" },
+    pslTol: 0.002,
+  },
 ];
 
 /**
