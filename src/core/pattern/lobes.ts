@@ -234,11 +234,15 @@ export class LobeFinder {
     // and rise again within a cell, so that no sample shows the trough (an 11 × 3 lattice,
     // cos^0.52, boresight: a −26.04 dB lobe behind a 0.3 dB trough, −30.44 dB printed). Where
     // the exact pattern at a flooded cell rises away from the main peak, the climb from there
-    // is a sidelobe if it ends on a strict local maximum away from the main peak.
+    // is a sidelobe if it ends on a strict local maximum away from the main peak. One exact
+    // evaluation per flooded cell inside the rim (a 32 × 32 cos^1.2 analysis ~12 % longer).
     if (ev.element && ev.lockU === ev.lockV) {
       for (let q = 0; q < wm * wn; q++) {
         if (mask[q] !== 1 || !visible[q] || q === top) continue;
         const a = q % wm, b = (q - a) / wm;
+        // inside the flood, not on its rim: a rim cell past the trough (the flood can run a
+        // cell past it) rises toward a lobe outside the flood, which the candidates hold
+        if (!floodInterior(mask, visible, wm, wn, a, b)) continue;
         const cu = (win.m0 + a) * du, cv = (win.n0 + b) * dv;
         const ru = cu - pk.du, rv = cv - pk.dv;
         if (Math.hypot(ru / du, rv / dv) < 1) continue;
@@ -324,6 +328,14 @@ function lineFloodLobes(win: PowerWindow, ev: AfEvaluator, lobe: MainLobeMap, to
     cur = next;
   }
   return best;
+}
+
+/** Every visible 8-neighbour of cell (a, b) is in the flood (`mask`); the window's edge counts as inside. */
+function floodInterior(mask: Uint8Array, visible: Uint8Array, wm: number, wn: number, a: number, b: number): boolean {
+  for (let y = Math.max(0, b - 1); y <= Math.min(wn - 1, b + 1); y++)
+    for (let x = Math.max(0, a - 1); x <= Math.min(wm - 1, a + 1); x++)
+      if (visible[y * wm + x] && mask[y * wm + x] !== 1) return false;
+  return true;
 }
 
 /**
