@@ -236,8 +236,7 @@ export class PatternGrid {
   // direct mode
   private readonly mMax: number = 0;
   private readonly nMax: number = 0;
-  // direct mode: phasors per distinct coordinate (DirectSum), built on the first fill (an
-  // analyzer that only refines peaks never needs them)
+  // direct mode: phasors per distinct coordinate (directSum())
   private direct: DirectSum | null = null;
   private readonly planar: boolean;
 
@@ -368,14 +367,18 @@ export class PatternGrid {
 
   fill(wr: Float64Array, wi: Float64Array, u0: number, v0: number, w0: number, win: PowerWindow): void {
     this.frame(u0, v0, win);
-    const el = this.plan.elements;
     if (this.mode === "fft") {
       // the column pass writes |·|² straight into the window (no whole-grid power array)
       this.wrapIndex(win);
       this.fft!.runWindow(this.cell!, wr, wi, this.colIndex, this.rowIndex, win.wm, win.wn, win.p);
       return;
     }
-    (this.direct ??= new DirectSum(el, this.k, this.du, this.dv, this.mMax, this.nMax, this.planar, this.cap)).fill(wr, wi, u0, v0, w0, win);
+    this.directSum().sum(wr, wi, u0, v0, w0, win);
+  }
+
+  /** Direct mode's sum, made on first use (an analyzer that only refines peaks never needs its tables). */
+  private directSum(): DirectSum {
+    return (this.direct ??= new DirectSum(this.plan.elements, this.k, this.du, this.dv, this.mMax, this.nMax, this.planar, this.cap));
   }
 
   /**
@@ -390,7 +393,7 @@ export class PatternGrid {
     // about four windows' cells: past MAX_OFFSET_TABLE (32 MB) the ideal is summed per beam
     if (W * H > MAX_OFFSET_TABLE) return null;
     const all: PowerWindow = { m0: -this.mMax, n0: -this.nMax, wm: W, wn: H, p: new Float64Array(W * H), visible: new Uint8Array(0) };
-    (this.direct ??= new DirectSum(this.plan.elements, this.k, this.du, this.dv, this.mMax, this.nMax, this.planar, this.cap)).sum(wr, wi, 0, 0, 1, all);
+    this.directSum().sum(wr, wi, 0, 0, 1, all);
     return all.p;
   }
 
@@ -457,10 +460,6 @@ class DirectSum {
     const n = el.count, side = Math.sqrt(cap);
     const byRows = n * side + cap * nyd, byCols = n * side + cap * nxd, direct = cap * n;
     this.pass = !planar || Math.min(byRows, byCols) >= direct ? "none" : byRows <= byCols ? "rows" : "columns";
-  }
-
-  fill(wr: Float64Array, wi: Float64Array, u0: number, v0: number, w0: number, win: PowerWindow): void {
-    this.sum(wr, wi, u0, v0, w0, win);
   }
 
   /** |F|² on the window's cells (win.m0, n0, wm, wn; `visible` is not read). */
@@ -546,12 +545,10 @@ class DirectSum {
       for (let i = 0; i < win.wm; i++) {
         const m = win.m0 + i;
         const mo = (Math.max(-mMax, Math.min(mMax, m)) + mMax) * nxd;
-        let dz = 0;
-        if (!this.planar) {
-          const u = u0 + m * du;
-          const s = 1 - u * u - v * v;
-          dz = (s > 0 ? Math.sqrt(s) : 0) - w0;
-        }
+        // z ≠ 0 (planar lists returned above): the z term at this cell
+        const u = u0 + m * du;
+        const s = 1 - u * u - v * v;
+        const dz = (s > 0 ? Math.sqrt(s) : 0) - w0;
         let sr = 0, si = 0;
         for (let e = 0; e < n; e++) {
           const a = mo + xi[e]!, b = qo + yi[e]!;

@@ -55,7 +55,6 @@ export function floodMainLobe(p: Float64Array, w: number, h: number, start: numb
 }
 let shared: LobeGridKernel | null = null;
 
-
 /*
  * Every candidate gets an exact evaluation and the quadratic prediction below, whatever its
  * grid value. They were cut at 1 dB (×0.794) under the best grid candidate, on the belief
@@ -250,9 +249,8 @@ export class LobeFinder {
         if (Math.hypot(ru / du, rv / dv) < 1) continue;
         const d = ev.derivs(cu, cv);
         if (!(d.pu * ru + d.pv * rv > 0)) continue;
-        const d0 = this.d0;
-        d0.p = d.p; d0.pu = d.pu; d0.pv = d.pv; d0.puu = d.puu; d0.pvv = d.pvv; d0.puv = d.puv;
-        const r = refine(ev, cu, cv, du, dv, { u0, v0 }, d0);
+        // refine reads its start before it evaluates again
+        const r = refine(ev, cu, cv, du, dv, { u0, v0 }, d);
         if (r.p > 0 && !(r.p <= sl) && notMainPeak(ev, lobe, r.du, r.dv) && strictMax(ev, r.du, r.dv, du, dv)) { sl = r.p; sdu = r.du; sdv = r.dv; }
       }
     }
