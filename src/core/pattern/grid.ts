@@ -66,6 +66,7 @@ export const MAX_DIRECT_TABLE_ENTRIES = 2 ** 25;
  * direct sum (DirectSum).
  */
 export interface GridEmbedding {
+  /** 0 across an element list that is a line (one x or one y value): see acrossPitch */
   px: number;
   py: number;
   cols: number;
@@ -100,8 +101,9 @@ function findEmbedding(plan: Plan): GridEmbedding | null {
   if (n < 2 || !el.z.every((z) => z === 0)) return null;
   const gx = onePitch(el.x), gy = onePitch(el.y);
   if (!gx || !gy) return null;
-  // a line: the pitch across it is the pitch along it (a lattice of one column or row has its own)
-  const px = gx.pitch || gy.pitch, py = gy.pitch || gx.pitch;
+  // a line: no pitch across it (0); the grid takes λ/2 there (acrossPitch), as for a
+  // lattice of one row or column at λ/2: its pattern is constant across the line
+  const px = gx.pitch, py = gy.pitch;
   const seen = new Set<number>();
   for (let i = 0; i < n; i++) {
     const q = gy.place[i]! * gx.places + gx.place[i]!;
@@ -135,6 +137,18 @@ function onePitch(v: Float64Array): { pitch: number; places: number; place: Int3
   return null;
 }
 
+/**
+ * The pitch the grid uses along an axis of an embedding: its own, or λ/2 across an element
+ * list that is a line (pitch 0). A line's pattern is constant across it, so the grid there
+ * needs no more than a lattice of one row at λ/2 has (dv = 0.5); borrowing the pitch along
+ * the line made the grid as fine across as along it, and the refusal of a line too long
+ * for the grid stated the pitch along it as its width (two elements 1 km apart at 28 GHz:
+ * "186800 λ × 93400 λ").
+ */
+function acrossPitch(pitch: number, lambda: number): number {
+  return pitch || lambda / 2;
+}
+
 export interface GridShape {
   mode: "fft" | "direct";
   du: number;
@@ -156,10 +170,11 @@ export function gridShape(plan: Plan, fi: number, fHz: number = plan.frequencies
   if (g) {
     mode = "fft";
     // resolution λ/(OVERSAMPLE·aperture) (aperture = places·pitch)
-    du = lambda / (g.px * nextPow2(OVERSAMPLE * g.cols));
-    dv = lambda / (g.py * nextPow2(Math.max(OVERSAMPLE * g.rows, 1)));
-    ax = (g.cols * g.px) / lambda;
-    ay = (g.rows * g.py) / lambda;
+    const px = acrossPitch(g.px, lambda), py = acrossPitch(g.py, lambda);
+    du = lambda / (px * nextPow2(OVERSAMPLE * g.cols));
+    dv = lambda / (py * nextPow2(Math.max(OVERSAMPLE * g.rows, 1)));
+    ax = (g.cols * px) / lambda;
+    ay = (g.rows * py) / lambda;
   } else {
     mode = "direct";
     const el = plan.elements;
@@ -254,12 +269,12 @@ export class PatternGrid {
       // resolution λ/(OVERSAMPLE·aperture) (aperture = places·pitch); gridShape() has the same
       this.nx = nextPow2(OVERSAMPLE * g.cols);
       this.ny = nextPow2(Math.max(OVERSAMPLE * g.rows, 1));
-      this.du = lambda / (g.px * this.nx);
-      this.dv = lambda / (g.py * this.ny);
+      this.px = acrossPitch(g.px, lambda);
+      this.py = acrossPitch(g.py, lambda);
+      this.du = lambda / (this.px * this.nx);
+      this.dv = lambda / (this.py * this.ny);
       const [wm, wn] = windowSides(this.du, this.dv);
       this.fft = new PowerFft2(this.nx, this.ny, g.rows, { elements: el.count, usedCols: g.cols, windowCells: wm * wn, windowSide: Math.max(wm, wn) });
-      this.px = g.px;
-      this.py = g.py;
       this.cell = new Int32Array(el.count);
       for (let i = 0; i < el.count; i++) this.cell[i] = g.row[i]! * this.nx + g.col[i]!;
     } else {
