@@ -96,7 +96,30 @@ function unevenList(): { "el.csv": string; "cal.csv": string; "beams.csv": strin
   return { "el.csv": el, "cal.csv": cal, "beams.csv": "az_deg,el_deg\n-0.03,-25.83\n51.76,-9.75\n" };
 }
 
+/**
+ * 64 elements scattered (seeded) over 7 λ × 6 λ at 10 GHz, with calibration: enough
+ * elements that the grid is sampled by the non-uniform FFT (nufft.ts) instead of the
+ * direct sum, so its grid values seed the search here.
+ */
+function scatteredList(): { "el.csv": string; "cal.csv": string; "beams.csv": string } {
+  const lam = 299792458 / 10e9;
+  let seed = 20261203;
+  const rnd = () => (seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648;
+  let el = "element,x_m,y_m\n", cal = "element,phase_offset_deg,gain_offset_db\n";
+  for (let e = 0; e < 64; e++) {
+    el += `${e},${((rnd() - 0.5) * 7 * lam).toPrecision(10)},${((rnd() - 0.5) * 6 * lam).toPrecision(10)}\n`;
+    cal += `${e},${(rnd() * 360 - 180).toFixed(3)},${(rnd() - 0.5).toFixed(3)}\n`;
+  }
+  return { "el.csv": el, "cal.csv": cal, "beams.csv": "az_deg,el_deg\n0,0\n-35,20\n70,-10\n" };
+}
+
 const cases: { name: string; over: Record<string, unknown>; files?: Record<string, string>; pslTol?: number }[] = [
+  {
+    name: "64 scattered elements over 7 λ × 6 λ, calibration, Taylor −25 dB: the grid by the non-uniform FFT",
+    over: { array: { elements: "el.csv" }, calibration: "cal.csv", taper: { kind: "taylor", sidelobe: "-25 dB", nbar: 3 }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, attenuator: { bits: 8, step: "0.1 dB" } },
+    files: scatteredList(),
+    pslTol: 0.002,
+  },
   {
     // a line along y, beams onto the horizon off its plane (the ideal PSL there was −24.37 dB, brute force −20.42 dB)
     name: "1×8 line at λ/2, Taylor −25 dB, θ = 90° at φ = 45° and 90°",

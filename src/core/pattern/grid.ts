@@ -12,6 +12,7 @@ import { PowerFft2, nextPow2 } from "./fft.js";
 import type { ElementPattern } from "../element.js";
 import type { LatticeSpectra } from "./horizon.js";
 import { distinct, type Distinct } from "./evaluator.js";
+import { nufftCost, ScatteredSum } from "./nufft.js";
 
 export const OVERSAMPLE = 4;
 
@@ -186,7 +187,12 @@ export function gridShape(plan: Plan, fi: number, fHz: number = plan.frequencies
   }
   const cells = (Math.ceil(2 / du) + 4) * (Math.ceil(2 / dv) + 4);
   // DirectSum's phasor tables: 2⌈2/du⌉ + 5 offsets per distinct x, 2⌈2/dv⌉ + 5 per distinct y
-  const tableEntries = mode === "direct" ? (2 * (Math.ceil(2 / du) + 2) + 1) * new Set(plan.elements.x).size + (2 * (Math.ceil(2 / dv) + 2) + 1) * new Set(plan.elements.y).size : 0;
+  // (none for the gridding, whose fine grid is a few windows' size)
+  let tableEntries = 0;
+  if (mode === "direct" && directMethod(plan.elements, (2 * Math.PI) / lambda, du, dv) !== "nufft") {
+    const c = listCounts(plan.elements);
+    tableEntries = (2 * (Math.ceil(2 / du) + 2) + 1) * c.x + (2 * (Math.ceil(2 / dv) + 2) + 1) * c.y;
+  }
   return { mode, du, dv, cells, tableEntries, apertureX: ax, apertureY: ay };
 }
 
@@ -391,9 +397,14 @@ export class PatternGrid {
     this.directSum().sum(wr, wi, u0, v0, w0, win);
   }
 
+  /** How direct mode sums a window (DirectSum: by rows, by columns, gridding, element by element); null in FFT mode. */
+  get directMethod(): "rows" | "columns" | "nufft" | "none" | null {
+    return this.mode === "direct" ? this.directSum().method : null;
+  }
+
   /** Direct mode's sum, made on first use (an analyzer that only refines peaks never needs its tables). */
   private directSum(): DirectSum {
-    return (this.direct ??= new DirectSum(this.plan.elements, this.k, this.du, this.dv, this.mMax, this.nMax, this.planar, this.cap));
+    return (this.direct ??= new DirectSum(this.plan.elements, this.k, this.du, this.dv, this.mMax, this.nMax, this.planar));
   }
 
   /**
@@ -425,6 +436,30 @@ export class PatternGrid {
   }
 }
 
+/** Distinct x and y values of an element list (DirectSum's phasor tables, the size limit), counted once. */
+const distinctCounts = new WeakMap<Plan["elements"], { x: number; y: number; spanX: number; spanY: number; planar: boolean }>();
+function listCounts(el: Plan["elements"]): { x: number; y: number; spanX: number; spanY: number; planar: boolean } {
+  let c = distinctCounts.get(el);
+  if (!c) distinctCounts.set(el, (c = { x: new Set(el.x).size, y: new Set(el.y).size, spanX: span(el.x), spanY: span(el.y), planar: el.z.every((z) => z === 0) }));
+  return c;
+}
+
+/**
+ * How DirectSum sums a window of a list with cells du × dv at wavenumber k: whichever of
+ * the two passes by rows or by columns, the gridding (planar lists, nufft.ts) and element
+ * by element costs fewest complex products a window (cells ~ the largest window's).
+ */
+function directMethod(el: Plan["elements"], k: number, du: number, dv: number): "rows" | "columns" | "nufft" | "none" {
+  const { x: nxd, y: nyd, spanX, spanY, planar } = listCounts(el);
+  const [wm, wn] = windowSides(du, dv);
+  const n = el.count, cap = wm * wn, side = Math.sqrt(cap);
+  const byRows = n * side + cap * nyd, byCols = n * side + cap * nxd, direct = cap * n;
+  // the gridding's sources lie within ±k·span/2 radians a cell (nufft.ts)
+  const gridding = planar ? nufftCost(n, (k * spanX * du) / (2 * Math.PI), (k * spanY * dv) / (2 * Math.PI), wm, wn) : Infinity;
+  const best = Math.min(byRows, byCols, direct, gridding);
+  return !planar || best === direct ? "none" : best === gridding ? "nufft" : byRows <= byCols ? "rows" : "columns";
+}
+
 /**
  * Direct mode's sum F(m·du, n·dv) = Σ_e w_e·e^{jk(x_e·m·du + y_e·n·dv)} (times the z term
  * of non-planar arrays) over a window's cells, with phasors per distinct x and per distinct
@@ -445,42 +480,47 @@ class DirectSum {
   private readonly exi: Float64Array;
   private readonly eyr: Float64Array;
   private readonly eyi: Float64Array;
-  /** the two-pass order: by rows (distinct y) or by columns (distinct x); none: element by element */
-  private readonly pass: "rows" | "columns" | "none";
+  /** the two-pass order: by rows (distinct y) or by columns (distinct x); gridding (ScatteredSum); none: element by element */
+  private readonly pass: "rows" | "columns" | "nufft" | "none";
+  get method(): "rows" | "columns" | "nufft" | "none" {
+    return this.pass;
+  }
+  private scattered: ScatteredSum | null = null;
   private gr = new Float64Array(0);
   private gi = new Float64Array(0);
 
-  constructor(private readonly el: Plan["elements"], private readonly k: number, private readonly du: number, private readonly dv: number, private readonly mMax: number, private readonly nMax: number, private readonly planar: boolean, cap: number) {
+  constructor(private readonly el: Plan["elements"], private readonly k: number, private readonly du: number, private readonly dv: number, private readonly mMax: number, private readonly nMax: number, private readonly planar: boolean) {
     this.dx = distinct(el.x);
     this.dy = distinct(el.y);
     const nxd = this.dx.values.length, nyd = this.dy.values.length;
-    const W = 2 * mMax + 1, H = 2 * nMax + 1;
+    this.pass = directMethod(el, k, du, dv);
+    // the gridding needs no phasor tables
+    const W = this.pass === "nufft" ? 0 : 2 * mMax + 1, H = this.pass === "nufft" ? 0 : 2 * nMax + 1;
     this.exr = new Float64Array(W * nxd);
     this.exi = new Float64Array(W * nxd);
     this.eyr = new Float64Array(H * nyd);
     this.eyi = new Float64Array(H * nyd);
-    for (let m = -mMax; m <= mMax; m++)
+    for (let m = -mMax; m <= mMax && W > 0; m++)
       for (let a = 0; a < nxd; a++) {
         const t = k * this.dx.values[a]! * m * du;
         this.exr[(m + mMax) * nxd + a] = Math.cos(t);
         this.exi[(m + mMax) * nxd + a] = Math.sin(t);
       }
-    for (let q = -nMax; q <= nMax; q++)
+    for (let q = -nMax; q <= nMax && H > 0; q++)
       for (let b = 0; b < nyd; b++) {
         const t = k * this.dy.values[b]! * q * dv;
         this.eyr[(q + nMax) * nyd + b] = Math.cos(t);
         this.eyi[(q + nMax) * nyd + b] = Math.sin(t);
       }
-    // products per window (cap cells, side ~√cap) of each order
-    const n = el.count, side = Math.sqrt(cap);
-    const byRows = n * side + cap * nyd, byCols = n * side + cap * nxd, direct = cap * n;
-    this.pass = !planar || Math.min(byRows, byCols) >= direct ? "none" : byRows <= byCols ? "rows" : "columns";
   }
 
   /** |F|² on the window's cells (win.m0, n0, wm, wn; `visible` is not read). */
   sum(wr: Float64Array, wi: Float64Array, u0: number, v0: number, w0: number, win: PowerWindow): void {
     if (this.pass === "none") this.elementByElement(wr, wi, u0, v0, w0, win);
-    else this.twoPass(wr, wi, win, this.pass === "rows");
+    else if (this.pass === "nufft") {
+      const [wm, wn] = windowSides(this.du, this.dv);
+      (this.scattered ??= new ScatteredSum(this.el.x, this.el.y, this.k, this.du, this.dv, wm, wn)).sum(wr, wi, win);
+    } else this.twoPass(wr, wi, win, this.pass === "rows");
   }
 
   private twoPass(wr: Float64Array, wi: Float64Array, win: PowerWindow, byRows: boolean): void {
