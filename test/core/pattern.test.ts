@@ -9,6 +9,9 @@ import { baseScenario, load } from "../helpers.js";
 import { analyseAll } from "./engine-run.js";
 import { mulberry32 } from "../../src/core/quantize/randomized.js";
 import { bruteForce, denseReference } from "./pattern-ref.js";
+import { allocTrace, besselJ, CircleSeries, traceExact } from "../../src/core/pattern/horizon.js";
+import { itWith, TOOLS } from "../tools.js";
+import { spawnSync } from "node:child_process";
 
 
 describe("pattern engine against a brute-force direct sum", () => {
@@ -500,6 +503,51 @@ describe("non-planar element lists (z ≠ 0)", () => {
       const ref = denseReference((u, v) => (u * u + v * v <= 1 ? P(u, v) : 0), plan.beams.u[b]!, plan.beams.v[b]!, 321);
       expect(Math.abs(out[b * METRICS + M.psl_db]! - ref.pslDb), `beam ${b} psl`).toBeLessThan(0.05);
       expect(Math.abs(out[b * METRICS + M.pointing_error_deg]! - ref.pointingDeg), `beam ${b} pointing`).toBeLessThan(0.001);
+    }
+  });
+});
+
+describe("the horizon trace of a planar list from its series in α (horizon.ts CircleSeries)", () => {
+  itWith([TOOLS.scipy], "besselJ (Miller's backward recurrence) against scipy.special.jv: orders 0–L at z from 1e-9 to 800", () => {
+    const zs = [1e-9, 0.3, 1, 10, 57.3, 200, 800];
+    const L = 900;
+    // reference: scipy.special.jv (Debian python3-scipy)
+    const py = spawnSync("/usr/bin/python3", ["-c", `import json; from scipy.special import jv; print(json.dumps([[float(jv(n, z)) for n in range(${L + 1})] for z in ${JSON.stringify(zs)}]))`], { encoding: "utf8", timeout: 60_000 });
+    expect(py.status, py.stderr).toBe(0);
+    const ref = JSON.parse(py.stdout) as number[][];
+    const out = new Float64Array(L + 1);
+    zs.forEach((z, i) => {
+      besselJ(z, L, out);
+      // absolute, as the series uses them (|J_n| ≤ 1): the terms' error, not the far tail's relative one
+      let worst = 0;
+      for (let n = 0; n <= L; n++) worst = Math.max(worst, Math.abs(out[n]! - ref[i]![n]!));
+      expect(worst, `z = ${z}`).toBeLessThan(1e-13);
+    });
+  });
+
+  it("gives |F|² at its samples within 1e-12 of the peak of the exact evaluator's (derived: the Jacobi–Anger expansion, A&S 9.1.41)", () => {
+    // isotropic elements: a cosine element is 0 on the horizon, which would hide any error
+    const r = mulberry32(41);
+    const k = (2 * Math.PI) / 0.03;
+    for (const [n, span] of [[3, 0.4], [40, 6], [300, 40]] as const) {
+      const x = Float64Array.from({ length: n }, () => (r() - 0.3) * span * 0.03), y = Float64Array.from({ length: n }, () => (r() - 0.6) * span * 0.03);
+      const ev = new AfEvaluator(x, y, new Float64Array(n), k);
+      for (let e = 0; e < n; e++) { ev.wr[e] = r(); ev.wi[e] = r() - 0.5; }
+      ev.wr[0] = 0; ev.wi[0] = 0; // an element off
+      const u0 = 0.41, v0 = -0.33;
+      ev.setBeam(u0, v0, Math.sqrt(1 - u0 * u0 - v0 * v0));
+      const tr = allocTrace();
+      traceExact(ev, u0, v0, 0.02, tr, new CircleSeries(x, y, k));
+      expect(tr.n).toBe(512); // ⌈2π/0.02⌉ = 315 samples, to the next power of two
+      let peak = 0;
+      for (let e = 0; e < n; e++) peak += Math.hypot(ev.wr[e]!, ev.wi[e]!);
+      peak *= peak;
+      let worst = 0;
+      for (let i = 0; i < tr.n; i++) {
+        expect(tr.alpha[i]).toBeCloseTo(-Math.PI + (2 * Math.PI * i) / 512, 14);
+        worst = Math.max(worst, Math.abs(tr.p[i]! - ev.power(tr.du[i]!, tr.dv[i]!)) / peak);
+      }
+      expect(worst, `${n} elements over ${span} λ`).toBeLessThan(1e-12);
     }
   });
 });

@@ -13,7 +13,7 @@ import { AfEvaluator } from "./evaluator.js";
 import { allocWindow, applyWeight, elementWindow, PatternGrid, type PowerWindow } from "./grid.js";
 import { LineCutPattern, makeElementPattern, scanLossDb, type ElementPattern } from "../element.js";
 import { LobeFinder, peakOnDemand } from "./lobes.js";
-import { allocTrace, traceExact, traceLattice, type HorizonTrace, type LatticeSpectra } from "./horizon.js";
+import { allocTrace, CircleSeries, traceExact, traceLattice, type HorizonTrace, type LatticeSpectra } from "./horizon.js";
 import { IdealLobes } from "./ideal-lobes.js";
 
 export const METRIC_COLUMNS = [
@@ -64,6 +64,8 @@ export class BeamAnalyzer {
   private idealTable: Float64Array | false | null = null;
   /** the ideal weights' 1-D transforms (lattices), for the horizon trace */
   private readonly idealSpectra: LatticeSpectra | null = null;
+  /** planar element lists (direct mode) where it is cheaper: the horizon trace from the array factor's series in α */
+  private readonly series: CircleSeries | null = null;
   private readonly traceR: HorizonTrace = allocTrace();
   private readonly traceI: HorizonTrace = allocTrace();
   readonly phaseErr: Float64Array;
@@ -106,6 +108,11 @@ export class BeamAnalyzer {
     this.ampErr = new Float64Array(n);
     this.lastQ = new Int32Array(n).fill(-1);
     this.qAmp = new Float64Array(n);
+    if (this.grid.mode === "direct" && this.evR.planar && !this.evR.lockU && !this.evR.lockV) {
+      const orders = CircleSeries.orderCount(el.x, el.y, k);
+      const samples = Math.max(16, Math.ceil((2 * Math.PI) / Math.min(this.grid.du, this.grid.dv)));
+      if (CircleSeries.worthIt(n, new Set(el.x).size, new Set(el.y).size, orders, samples)) this.series = new CircleSeries(el.x, el.y, k);
+    }
     if (this.grid.mode === "fft") {
       this.idealPeriodic = this.grid.periodicPower(this.idealAmp, this.zero);
       this.idealSpectra = this.grid.spectra(this.idealAmp, this.zero, true);
@@ -120,7 +127,7 @@ export class BeamAnalyzer {
       // (traceExact evaluates ev.power, which already includes it)
       const el = this.lineCut ?? this.element;
       if (el) for (let k = 0; k < out.n; k++) out.p[k] = out.p[k]! * el.power(u0 + out.du[k]!, v0 + out.dv[k]!);
-    } else traceExact(ev, u0, v0, Math.min(this.grid.du, this.grid.dv), out);
+    } else traceExact(ev, u0, v0, Math.min(this.grid.du, this.grid.dv), out, this.series);
     return out;
   }
 

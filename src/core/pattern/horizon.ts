@@ -17,10 +17,11 @@
  * column transforms of the weights; columns are used where the circle runs across the
  * columns (|tan α| ≥ du/dv), rows elsewhere. Other geometries (direct mode) are
  * sampled at equal steps of α with the exact evaluator (z ≠ 0 included: on the horizon
- * w = 0 for every point, so the z term is exact there).
+ * w = 0 for every point, so the z term is exact there), or, for planar lists where it is
+ * cheaper, from the array factor's Fourier series in α (CircleSeries).
  */
 import type { AfEvaluator } from "./evaluator.js";
-import type { PowerFft2 } from "./fft.js";
+import { nextPow2, PowerFft2 } from "./fft.js";
 import { LOBES_WITHIN } from "./lobe-kernel.js";
 
 export interface HorizonTrace {
@@ -113,11 +114,19 @@ export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: Hor
   out.n = s.fft.trace(s.slot, u0, v0, du, dv, sa, ca, mLo, mHi, nLo, nHi, s.kdy, s.kpx, cap, out);
 }
 
-/** Trace the horizon with the exact evaluator at equal steps of α no larger than `step` (radians). */
-export function traceExact(ev: AfEvaluator, u0: number, v0: number, step: number, out: HorizonTrace): void {
+/**
+ * Trace the horizon with the exact evaluator at equal steps of α no larger than `step`
+ * (radians); with `series` (a planar list where it is cheaper: CircleSeries.worthIt), from
+ * its Fourier series in α instead.
+ */
+export function traceExact(ev: AfEvaluator, u0: number, v0: number, step: number, out: HorizonTrace, series: CircleSeries | null = null): void {
   out.n = 0;
   out.lazyAlpha = false;
   const n = Math.max(16, Math.ceil((2 * Math.PI) / step));
+  if (series) {
+    series.trace(ev, u0, v0, n, out);
+    return;
+  }
   for (let i = 0; i < n; i++) {
     const a = -Math.PI + (2 * Math.PI * i) / n;
     const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
@@ -396,4 +405,187 @@ export function notMainPeak(ev: AfEvaluator, lobe: MainLobeMap, du: number, dv: 
 function risesOutward(ev: AfEvaluator, du: number, dv: number, su: number, sv: number, p: number, cu: number, cv: number): boolean {
   const d = ev.derivs(du, dv);
   return d.pu * su + d.pv * sv >= -1e-9 * p / Math.min(cu, cv);
+}
+
+/** Relative size below which a Bessel term J_n(z) is dropped: orders past z + 12·z^⅓ + 10 (Airy tail e^{−(2/3)(1.26·12)^{3/2}} < 1e−17). */
+function besselOrders(z: number): number {
+  return Math.ceil(z + 12 * Math.cbrt(z) + 10);
+}
+
+/**
+ * J_0(z) … J_L(z) into out[0 … L] (z ≥ 0), by Miller's backward recurrence
+ * J_{n−1} = (2n/z)·J_n − J_{n+1} from well above both L and z, normalised by
+ * J_0 + 2·Σ J_{2k} = 1 (Abramowitz & Stegun 9.1.27 and 9.1.46; the start as Numerical
+ * Recipes' bessj, from memory). Rescaled as it goes, so that no value overflows.
+ */
+export function besselJ(z: number, L: number, out: Float64Array): void {
+  out.fill(0, 0, L + 1);
+  // an element at the centre, or within 1e-30 of a wavelength of it: J_0 = 1, J_1 = z/2, the rest below
+  if (z < 1e-30) { out[0] = 1; if (L >= 1) out[1] = z / 2; return; }
+  const top = Math.max(L, Math.ceil(z));
+  let start = top + 30 + Math.ceil(Math.sqrt(160 * top));
+  start += start & 1;
+  let jp = 0, j = 1e-300, sum = 0;
+  for (let n = start; n > 0; n--) {
+    const jm = ((2 * n) / z) * j - jp;
+    jp = j;
+    j = jm;
+    // j is now J_{n−1} (unnormalised)
+    if (n - 1 <= L) out[n - 1] = j;
+    if ((n - 1) % 2 === 0) sum += n - 1 === 0 ? j : 2 * j;
+    if (Math.abs(j) > 1e250) {
+      j *= 1e-250; jp *= 1e-250; sum *= 1e-250;
+      for (let m = n - 1; m <= L; m++) out[m] = out[m]! * 1e-250;
+    }
+  }
+  for (let m = 0; m <= L; m++) out[m] = out[m]! / sum;
+}
+
+/**
+ * The array factor of a planar element list along the horizon as a Fourier series in α
+ * (u = cos α, v = sin α), by the Jacobi–Anger expansion e^{jz·cos θ} = Σ_n j^n·J_n(z)·e^{jnθ}
+ * (Abramowitz & Stegun 9.1.41; common practice in circular-array analysis). With the
+ * positions taken from their centre, x = r·cos φ, y = r·sin φ:
+ *
+ *   F(α) = Σ_e c_e·e^{jk·r_e·cos(α − φ_e)} = Σ_n a_n·e^{jnα},
+ *   a_n = j^n·Σ_e c_e·J_n(k·r_e)·e^{−jnφ_e},  c_e = w_e·e^{−jk(x_e·u0 + y_e·v0)},
+ *
+ * |n| ≤ L = k·r_max + 12·(k·r_max)^⅓ + 10 (the terms past it are below 1e−17 of the
+ * largest). N equal steps of α are then one N-point transform of the coefficients folded
+ * modulo N (exact for those samples, whatever L), so a trace costs elements × (L + 1)
+ * products and an FFT instead of N exact evaluations, each a sine and cosine per distinct
+ * coordinate. The common phase of the centring drops out of |F|². N is the exact trace's
+ * count rounded up to a power of two (denser, never coarser).
+ */
+export class CircleSeries {
+  readonly orders: number;
+  private readonly n: number;
+  private readonly kx: Float64Array;
+  private readonly ky: Float64Array;
+  /** per element e^{−jφ_e} */
+  private readonly rc: Float64Array;
+  private readonly rs: Float64Array;
+  /** J_n(k·r_e), element-major, L + 1 each */
+  private readonly J: Float64Array;
+  private readonly ar: Float64Array;
+  private readonly ai: Float64Array;
+  private readonly br: Float64Array;
+  private readonly bi: Float64Array;
+  private fft: PowerFft2 | null = null;
+  private cells = new Int32Array(0);
+  private fr = new Float64Array(0);
+  private fi = new Float64Array(0);
+
+  /** Products a trace costs, against the exact trace's (CircleSeries.worthIt). */
+  static orderCount(x: Float64Array, y: Float64Array, k: number): number {
+    const [cx, cy] = centre(x, y);
+    let r = 0;
+    for (let e = 0; e < x.length; e++) r = Math.max(r, Math.hypot(x[e]! - cx, y[e]! - cy));
+    return besselOrders(k * r);
+  }
+
+  /**
+   * Cheaper than the exact trace of `samples` points for a planar list (n elements, nxd and
+   * nyd distinct coordinates; a sine and a cosine counted as 10 products), with a Bessel
+   * table of at most 2^22 values (32 MB).
+   */
+  static worthIt(n: number, nxd: number, nyd: number, orders: number, samples: number): boolean {
+    const N = nextPow2(samples);
+    return n * (orders + 1) <= 2 ** 22 && 2 * n * (orders + 1) + N * Math.log2(N) < samples * (10 * (nxd + nyd) + n);
+  }
+
+  constructor(x: Float64Array, y: Float64Array, k: number) {
+    const n = (this.n = x.length);
+    const [cx, cy] = centre(x, y);
+    this.kx = Float64Array.from(x, (v) => k * (v - cx));
+    this.ky = Float64Array.from(y, (v) => k * (v - cy));
+    this.rc = new Float64Array(n);
+    this.rs = new Float64Array(n);
+    const L = (this.orders = CircleSeries.orderCount(x, y, k));
+    this.J = new Float64Array(n * (L + 1));
+    const col = new Float64Array(L + 1);
+    for (let e = 0; e < n; e++) {
+      const z = Math.hypot(this.kx[e]!, this.ky[e]!);
+      const phi = Math.atan2(this.ky[e]!, this.kx[e]!);
+      this.rc[e] = Math.cos(phi);
+      this.rs[e] = -Math.sin(phi);
+      besselJ(z, L, col);
+      this.J.set(col, e * (L + 1));
+    }
+    this.ar = new Float64Array(L + 1);
+    this.ai = new Float64Array(L + 1);
+    this.br = new Float64Array(L + 1);
+    this.bi = new Float64Array(L + 1);
+  }
+
+  /** The trace of ev's weights for beam (u0, v0) at nextPow2(samples) equal steps of α from −π, into out (as traceExact). */
+  trace(ev: AfEvaluator, u0: number, v0: number, samples: number, out: HorizonTrace): void {
+    const N = nextPow2(samples);
+    const L = this.orders, n = this.n;
+    const { kx, ky, rc, rs, J, ar, ai, br, bi } = this;
+    ar.fill(0); ai.fill(0); br.fill(0); bi.fill(0);
+    const wr = ev.wr, wi = ev.wi;
+    for (let e = 0; e < n; e++) {
+      const a = wr[e]!, b = wi[e]!;
+      if (a === 0 && b === 0) continue;
+      const t = -(kx[e]! * u0 + ky[e]! * v0);
+      const c = Math.cos(t), s = Math.sin(t);
+      const cr = a * c - b * s, ci = a * s + b * c;
+      // A_m += c·J_m·e^{−jmφ}, B_m += c·J_m·e^{+jmφ}, the rotor advanced by e^{−jφ}
+      const qc = rc[e]!, qs = rs[e]!, o = e * (L + 1);
+      let pr = 1, pi = 0;
+      for (let m = 0; m <= L; m++) {
+        const jm = J[o + m]!;
+        const xr = cr * jm, xi = ci * jm;
+        ar[m] = ar[m]! + (xr * pr - xi * pi);
+        ai[m] = ai[m]! + (xr * pi + xi * pr);
+        br[m] = br[m]! + (xr * pr + xi * pi);
+        bi[m] = bi[m]! + (xi * pr - xr * pi);
+        const t2 = pr * qc - pi * qs;
+        pi = pr * qs + pi * qc;
+        pr = t2;
+      }
+    }
+    // a_m = j^m·A_m, a_{−m} = j^m·B_m; sample i at α_i = −π + 2πi/N: F_i = Σ_m (−1)^m·a_m·e^{2πi·m·i/N},
+    // the coefficients folded modulo N
+    if (!this.fft || this.fft.nx !== N) {
+      this.fft = new PowerFft2(N, 2, 1, { elements: N, usedCols: 1, windowCells: 0, windowSide: 0 });
+      this.cells = Int32Array.from({ length: N }, (_, i) => i);
+      this.fr = new Float64Array(N);
+      this.fi = new Float64Array(N);
+    }
+    const { fr, fi } = this;
+    fr.fill(0); fi.fill(0);
+    for (let m = 0; m <= L; m++) {
+      // (−1)^m·j^m = (−j)^m: 1, −j, −1, j
+      const q = m & 3;
+      const add = (idx: number, xr: number, xi: number) => {
+        const k2 = ((idx % N) + N) % N;
+        // multiply (xr + j·xi) by (−j)^m
+        if (q === 0) { fr[k2] = fr[k2]! + xr; fi[k2] = fi[k2]! + xi; }
+        else if (q === 1) { fr[k2] = fr[k2]! + xi; fi[k2] = fi[k2]! - xr; }
+        else if (q === 2) { fr[k2] = fr[k2]! - xr; fi[k2] = fi[k2]! - xi; }
+        else { fr[k2] = fr[k2]! - xi; fi[k2] = fi[k2]! + xr; }
+      };
+      add(m, ar[m]!, ai[m]!);
+      if (m > 0) add(-m, br[m]!, bi[m]!);
+    }
+    const p = this.fft.run(this.cells, fr, fi);
+    reserve(out, N);
+    const el = ev.element;
+    for (let i = 0; i < N; i++) {
+      const a = -Math.PI + (2 * Math.PI * i) / N;
+      const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
+      push(out, du, dv, a, el ? p[i]! * el.power(u0 + du, v0 + dv) : p[i]!);
+    }
+  }
+}
+
+function centre(x: Float64Array, y: Float64Array): [number, number] {
+  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
+  for (let e = 0; e < x.length; e++) {
+    x0 = Math.min(x0, x[e]!); x1 = Math.max(x1, x[e]!);
+    y0 = Math.min(y0, y[e]!); y1 = Math.max(y1, y[e]!);
+  }
+  return [0.5 * (x0 + x1), 0.5 * (y0 + y1)];
 }
