@@ -537,7 +537,11 @@ describe("the horizon trace of a planar list from its series in α (horizon.ts C
       const u0 = 0.41, v0 = -0.33;
       ev.setBeam(u0, v0, Math.sqrt(1 - u0 * u0 - v0 * v0));
       const tr = allocTrace();
-      traceExact(ev, u0, v0, 0.02, tr, new CircleSeries(x, y, k));
+      // the Bessel values tabled, or recomputed at every trace (a list past MAX_BESSEL_TABLE): the same samples
+      const untabled = allocTrace();
+      traceExact(ev, u0, v0, 0.02, tr, new CircleSeries(x, y, k, true));
+      traceExact(ev, u0, v0, 0.02, untabled, new CircleSeries(x, y, k, false));
+      expect(Array.from(untabled.p.subarray(0, untabled.n))).toEqual(Array.from(tr.p.subarray(0, tr.n)));
       expect(tr.n).toBe(512); // ⌈2π/0.02⌉ = 315 samples, to the next power of two
       let peak = 0;
       for (let e = 0; e < n; e++) peak += Math.hypot(ev.wr[e]!, ev.wi[e]!);

@@ -407,6 +407,14 @@ function risesOutward(ev: AfEvaluator, du: number, dv: number, su: number, sv: n
   return d.pu * su + d.pv * sv >= -1e-9 * p / Math.min(cu, cv);
 }
 
+/** Most Bessel values CircleSeries keeps (32 MB); past it they are recomputed at every trace. */
+const MAX_BESSEL_TABLE = 2 ** 22;
+
+/** Steps of besselJ's recurrence for orders 0 … L (at z ≤ L, as the series' are). */
+function besselSteps(L: number): number {
+  return 2 * L + 30 + Math.ceil(Math.sqrt(160 * L));
+}
+
 /** Relative size below which a Bessel term J_n(z) is dropped: orders past z + 12·z^⅓ + 10 (Airy tail e^{−(2/3)(1.26·12)^{3/2}} < 1e−17). */
 function besselOrders(z: number): number {
   return Math.ceil(z + 12 * Math.cbrt(z) + 10);
@@ -465,8 +473,11 @@ export class CircleSeries {
   /** per element e^{−jφ_e} */
   private readonly rc: Float64Array;
   private readonly rs: Float64Array;
-  /** J_n(k·r_e), element-major, L + 1 each */
-  private readonly J: Float64Array;
+  /** J_n(k·r_e), element-major, L + 1 each; null: recomputed per element at every trace into col */
+  private readonly J: Float64Array | null;
+  private readonly col: Float64Array;
+  /** k·r_e */
+  private readonly z: Float64Array;
   private readonly ar: Float64Array;
   private readonly ai: Float64Array;
   private readonly br: Float64Array;
@@ -486,15 +497,17 @@ export class CircleSeries {
 
   /**
    * Cheaper than the exact trace of `samples` points for a planar list (n elements, nxd and
-   * nyd distinct coordinates; a sine and a cosine counted as 10 products), with a Bessel
-   * table of at most 2^22 values (32 MB).
+   * nyd distinct coordinates; a sine and a cosine counted as 10 products). The Bessel values
+   * are tabled once (at most MAX_BESSEL_TABLE of them), or recomputed at every trace.
    */
   static worthIt(n: number, nxd: number, nyd: number, orders: number, samples: number): boolean {
     const N = nextPow2(samples);
-    return n * (orders + 1) <= 2 ** 22 && 2 * n * (orders + 1) + N * Math.log2(N) < samples * (10 * (nxd + nyd) + n);
+    const bessel = n * (orders + 1) <= MAX_BESSEL_TABLE ? 0 : n * besselSteps(orders);
+    return 2 * n * (orders + 1) + bessel + N * Math.log2(N) < samples * (10 * (nxd + nyd) + n);
   }
 
-  constructor(x: Float64Array, y: Float64Array, k: number) {
+  /** `table` false: the Bessel values recomputed at every trace (the default past MAX_BESSEL_TABLE values). */
+  constructor(x: Float64Array, y: Float64Array, k: number, table?: boolean) {
     const n = (this.n = x.length);
     const [cx, cy] = centre(x, y);
     this.kx = Float64Array.from(x, (v) => k * (v - cx));
@@ -502,15 +515,18 @@ export class CircleSeries {
     this.rc = new Float64Array(n);
     this.rs = new Float64Array(n);
     const L = (this.orders = CircleSeries.orderCount(x, y, k));
-    this.J = new Float64Array(n * (L + 1));
-    const col = new Float64Array(L + 1);
+    this.z = new Float64Array(n);
+    this.J = (table ?? n * (L + 1) <= MAX_BESSEL_TABLE) ? new Float64Array(n * (L + 1)) : null;
+    this.col = new Float64Array(L + 1);
     for (let e = 0; e < n; e++) {
-      const z = Math.hypot(this.kx[e]!, this.ky[e]!);
+      const z = (this.z[e] = Math.hypot(this.kx[e]!, this.ky[e]!));
       const phi = Math.atan2(this.ky[e]!, this.kx[e]!);
       this.rc[e] = Math.cos(phi);
       this.rs[e] = -Math.sin(phi);
-      besselJ(z, L, col);
-      this.J.set(col, e * (L + 1));
+      if (this.J) {
+        besselJ(z, L, this.col);
+        this.J.set(this.col, e * (L + 1));
+      }
     }
     this.ar = new Float64Array(L + 1);
     this.ai = new Float64Array(L + 1);
@@ -522,7 +538,7 @@ export class CircleSeries {
   trace(ev: AfEvaluator, u0: number, v0: number, samples: number, out: HorizonTrace): void {
     const N = nextPow2(samples);
     const L = this.orders, n = this.n;
-    const { kx, ky, rc, rs, J, ar, ai, br, bi } = this;
+    const { kx, ky, rc, rs, ar, ai, br, bi } = this;
     ar.fill(0); ai.fill(0); br.fill(0); bi.fill(0);
     const wr = ev.wr, wi = ev.wi;
     for (let e = 0; e < n; e++) {
@@ -532,7 +548,10 @@ export class CircleSeries {
       const c = Math.cos(t), s = Math.sin(t);
       const cr = a * c - b * s, ci = a * s + b * c;
       // A_m += c·J_m·e^{−jmφ}, B_m += c·J_m·e^{+jmφ}, the rotor advanced by e^{−jφ}
-      const qc = rc[e]!, qs = rs[e]!, o = e * (L + 1);
+      let J: Float64Array, o: number;
+      if (this.J) { J = this.J; o = e * (L + 1); }
+      else { besselJ(this.z[e]!, L, this.col); J = this.col; o = 0; }
+      const qc = rc[e]!, qs = rs[e]!;
       let pr = 1, pi = 0;
       for (let m = 0; m <= L; m++) {
         const jm = J[o + m]!;
