@@ -10,10 +10,10 @@ import { prepareFrequency, type FrequencyPrep } from "../quantize/prepare.js";
 import { elementStates, type ElementStates } from "../quantize/states.js";
 import { SPEED_OF_LIGHT } from "../units.js";
 import { AfEvaluator } from "./evaluator.js";
-import { allocWindow, applyWeight, elementWindow, PatternGrid, type PowerWindow } from "./grid.js";
+import { allocWindow, applyWeight, elementWindow, listCounts, PatternGrid, type PowerWindow } from "./grid.js";
 import { LineCutPattern, makeElementPattern, scanLossDb, type ElementPattern } from "../element.js";
 import { LobeFinder, peakOnDemand } from "./lobes.js";
-import { allocTrace, CircleSeries, traceExact, traceLattice, type HorizonTrace, type LatticeSpectra } from "./horizon.js";
+import { allocTrace, CircleSeries, exactSamples, traceExact, traceLattice, type HorizonTrace, type LatticeSpectra } from "./horizon.js";
 import { IdealLobes } from "./ideal-lobes.js";
 
 export const METRIC_COLUMNS = [
@@ -110,8 +110,8 @@ export class BeamAnalyzer {
     this.qAmp = new Float64Array(n);
     if (this.grid.mode === "direct" && this.evR.planar && !this.evR.lockU && !this.evR.lockV) {
       const orders = CircleSeries.orderCount(el.x, el.y, k);
-      const samples = Math.max(16, Math.ceil((2 * Math.PI) / Math.min(this.grid.du, this.grid.dv)));
-      if (CircleSeries.worthIt(n, new Set(el.x).size, new Set(el.y).size, orders, samples)) this.series = new CircleSeries(el.x, el.y, k);
+      const c = listCounts(el);
+      if (CircleSeries.worthIt(n, c.x, c.y, orders, exactSamples(Math.min(this.grid.du, this.grid.dv)))) this.series = new CircleSeries(el.x, el.y, k);
     }
     if (this.grid.mode === "fft") {
       this.idealPeriodic = this.grid.periodicPower(this.idealAmp, this.zero);

@@ -436,9 +436,9 @@ export class PatternGrid {
   }
 }
 
-/** Distinct x and y values of an element list (DirectSum's phasor tables, the size limit), counted once. */
+/** Distinct x and y values of an element list (DirectSum's phasor tables, the size limit, the horizon's series), counted once. */
 const distinctCounts = new WeakMap<Plan["elements"], { x: number; y: number; spanX: number; spanY: number; planar: boolean }>();
-function listCounts(el: Plan["elements"]): { x: number; y: number; spanX: number; spanY: number; planar: boolean } {
+export function listCounts(el: Plan["elements"]): { x: number; y: number; spanX: number; spanY: number; planar: boolean } {
   let c = distinctCounts.get(el);
   if (!c) distinctCounts.set(el, (c = { x: new Set(el.x).size, y: new Set(el.y).size, spanX: span(el.x), spanY: span(el.y), planar: el.z.every((z) => z === 0) }));
   return c;
@@ -481,10 +481,7 @@ class DirectSum {
   private readonly eyr: Float64Array;
   private readonly eyi: Float64Array;
   /** the two-pass order: by rows (distinct y) or by columns (distinct x); gridding (ScatteredSum); none: element by element */
-  private readonly pass: "rows" | "columns" | "nufft" | "none";
-  get method(): "rows" | "columns" | "nufft" | "none" {
-    return this.pass;
-  }
+  readonly method: "rows" | "columns" | "nufft" | "none";
   private scattered: ScatteredSum | null = null;
   private gr = new Float64Array(0);
   private gi = new Float64Array(0);
@@ -493,20 +490,22 @@ class DirectSum {
     this.dx = distinct(el.x);
     this.dy = distinct(el.y);
     const nxd = this.dx.values.length, nyd = this.dy.values.length;
-    this.pass = directMethod(el, k, du, dv);
+    this.method = directMethod(el, k, du, dv);
     // the gridding needs no phasor tables
-    const W = this.pass === "nufft" ? 0 : 2 * mMax + 1, H = this.pass === "nufft" ? 0 : 2 * nMax + 1;
+    const tables = this.method !== "nufft";
+    const W = tables ? 2 * mMax + 1 : 0, H = tables ? 2 * nMax + 1 : 0;
     this.exr = new Float64Array(W * nxd);
     this.exi = new Float64Array(W * nxd);
     this.eyr = new Float64Array(H * nyd);
     this.eyi = new Float64Array(H * nyd);
-    for (let m = -mMax; m <= mMax && W > 0; m++)
+    if (!tables) return;
+    for (let m = -mMax; m <= mMax; m++)
       for (let a = 0; a < nxd; a++) {
         const t = k * this.dx.values[a]! * m * du;
         this.exr[(m + mMax) * nxd + a] = Math.cos(t);
         this.exi[(m + mMax) * nxd + a] = Math.sin(t);
       }
-    for (let q = -nMax; q <= nMax && H > 0; q++)
+    for (let q = -nMax; q <= nMax; q++)
       for (let b = 0; b < nyd; b++) {
         const t = k * this.dy.values[b]! * q * dv;
         this.eyr[(q + nMax) * nyd + b] = Math.cos(t);
@@ -516,11 +515,15 @@ class DirectSum {
 
   /** |F|² on the window's cells (win.m0, n0, wm, wn; `visible` is not read). */
   sum(wr: Float64Array, wi: Float64Array, u0: number, v0: number, w0: number, win: PowerWindow): void {
-    if (this.pass === "none") this.elementByElement(wr, wi, u0, v0, w0, win);
-    else if (this.pass === "nufft") {
-      const [wm, wn] = windowSides(this.du, this.dv);
-      (this.scattered ??= new ScatteredSum(this.el.x, this.el.y, this.k, this.du, this.dv, wm, wn)).sum(wr, wi, win);
-    } else this.twoPass(wr, wi, win, this.pass === "rows");
+    if (this.method === "none") this.elementByElement(wr, wi, u0, v0, w0, win);
+    else if (this.method === "nufft") (this.scattered ??= this.gridding()).sum(wr, wi, win);
+    else this.twoPass(wr, wi, win, this.method === "rows");
+  }
+
+  /** The gridding for windows of up to the largest window's cells. */
+  private gridding(): ScatteredSum {
+    const [wm, wn] = windowSides(this.du, this.dv);
+    return new ScatteredSum(this.el.x, this.el.y, this.k, this.du, this.dv, wm, wn);
   }
 
   private twoPass(wr: Float64Array, wi: Float64Array, win: PowerWindow, byRows: boolean): void {

@@ -114,6 +114,11 @@ export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: Hor
   out.n = s.fft.trace(s.slot, u0, v0, du, dv, sa, ca, mLo, mHi, nLo, nHi, s.kdy, s.kpx, cap, out);
 }
 
+/** traceExact's sample count for steps of α no larger than `step` (radians). */
+export function exactSamples(step: number): number {
+  return Math.max(16, Math.ceil((2 * Math.PI) / step));
+}
+
 /**
  * Trace the horizon with the exact evaluator at equal steps of α no larger than `step`
  * (radians); with `series` (a planar list where it is cheaper: CircleSeries.worthIt), from
@@ -122,7 +127,7 @@ export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: Hor
 export function traceExact(ev: AfEvaluator, u0: number, v0: number, step: number, out: HorizonTrace, series: CircleSeries | null = null): void {
   out.n = 0;
   out.lazyAlpha = false;
-  const n = Math.max(16, Math.ceil((2 * Math.PI) / step));
+  const n = exactSamples(step);
   if (series) {
     series.trace(ev, u0, v0, n, out);
     return;
@@ -576,18 +581,8 @@ export class CircleSeries {
     const { fr, fi } = this;
     fr.fill(0); fi.fill(0);
     for (let m = 0; m <= L; m++) {
-      // (−1)^m·j^m = (−j)^m: 1, −j, −1, j
-      const q = m & 3;
-      const add = (idx: number, xr: number, xi: number) => {
-        const k2 = ((idx % N) + N) % N;
-        // multiply (xr + j·xi) by (−j)^m
-        if (q === 0) { fr[k2] = fr[k2]! + xr; fi[k2] = fi[k2]! + xi; }
-        else if (q === 1) { fr[k2] = fr[k2]! + xi; fi[k2] = fi[k2]! - xr; }
-        else if (q === 2) { fr[k2] = fr[k2]! - xr; fi[k2] = fi[k2]! - xi; }
-        else { fr[k2] = fr[k2]! - xi; fi[k2] = fi[k2]! + xr; }
-      };
-      add(m, ar[m]!, ai[m]!);
-      if (m > 0) add(-m, br[m]!, bi[m]!);
+      fold(fr, fi, m % N, m & 3, ar[m]!, ai[m]!);
+      if (m > 0) fold(fr, fi, (N - (m % N)) % N, m & 3, br[m]!, bi[m]!);
     }
     const p = this.fft.run(this.cells, fr, fi);
     reserve(out, N);
@@ -598,6 +593,14 @@ export class CircleSeries {
       push(out, du, dv, a, el ? p[i]! * el.power(u0 + du, v0 + dv) : p[i]!);
     }
   }
+}
+
+/** Adds (xr + j·xi)·(−j)^q into bin k of (fr, fi): (−1)^m·j^m = (−j)^m, q = m mod 4 (CircleSeries.trace). */
+function fold(fr: Float64Array, fi: Float64Array, k: number, q: number, xr: number, xi: number): void {
+  if (q === 0) { fr[k] = fr[k]! + xr; fi[k] = fi[k]! + xi; }
+  else if (q === 1) { fr[k] = fr[k]! + xi; fi[k] = fi[k]! - xr; }
+  else if (q === 2) { fr[k] = fr[k]! - xr; fi[k] = fi[k]! - xi; }
+  else { fr[k] = fr[k]! - xi; fi[k] = fi[k]! + xr; }
 }
 
 function centre(x: Float64Array, y: Float64Array): [number, number] {

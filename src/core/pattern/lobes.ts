@@ -245,13 +245,13 @@ export class LobeFinder {
     // analysis there) ~2 % more. Not looked for: a flooded lobe whose cells within a cell
     // are all on the flood's rim (climbing from the rim tripled that analysis; the
     // candidates hold the lobes just outside it), or where the model at each has no maximum
-    // within a cell (brute-force campaigns, 254 + 50 random scenarios: none found). Still
-    // missed: a lobe between the last visible row of cells and the horizon when that row
-    // lies on a null: the pattern there is rounding (−330 dB) and every climb from it ends
-    // on the main peak (6 × 2 at 0.754 × 0.531 λ, cos^0.98, Taylor −35 dB, boresight: the
-    // two rows' null is the row of cells at v = 0.9416; −34.60 dB printed, brute force
-    // −30.18 dB for the lobes at v = ±0.9885).
+    // within a cell (brute-force campaigns, 254 + 50 random scenarios: none found). From a
+    // flooded cell on the edge of visible space the strip out to the horizon is sampled
+    // too (stripClimb, below).
     if (ev.element && ev.lockU === ev.lockV) {
+      const take = (r: Refined | null) => {
+        if (r && r.p > 0 && !(r.p <= sl) && notMainPeak(ev, lobe, r.du, r.dv) && strictMax(ev, r.du, r.dv, du, dv)) { sl = r.p; sdu = r.du; sdv = r.dv; }
+      };
       for (let q = 0; q < wm * wn; q++) {
         if (mask[q] !== 1 || !visible[q] || q === top) continue;
         const a = q % wm, b = (q - a) / wm;
@@ -266,15 +266,11 @@ export class LobeFinder {
         // the flood ran through it: 6 × 2 lattice at 0.754 × 0.531 λ, cos^0.98, Taylor −35 dB,
         // boresight: −34.60 dB printed, brute force −30.18 dB at v = ±0.9885, the rows' null
         // being the cells' row v = 0.9416)
-        if (touchesHorizon(visible, wm, wn, a, b)) {
-          const r = stripClimb(ev, u0, v0, cu, cv, du, dv);
-          if (r && !(r.p <= sl) && notMainPeak(ev, lobe, r.du, r.dv) && strictMax(ev, r.du, r.dv, du, dv)) { sl = r.p; sdu = r.du; sdv = r.dv; }
-        }
+        if (touchesHorizon(visible, wm, wn, a, b)) take(stripClimb(ev, u0, v0, cu, cv, du, dv));
         const d = ev.derivs(cu, cv);
         if (!(d.pu * ru + d.pv * rv > 0) && !nearOtherMax(d, ru, rv, du, dv)) continue;
         // refine reads its start before it evaluates again
-        const r = refine(ev, cu, cv, du, dv, { u0, v0 }, d);
-        if (r.p > 0 && !(r.p <= sl) && notMainPeak(ev, lobe, r.du, r.dv) && strictMax(ev, r.du, r.dv, du, dv)) { sl = r.p; sdu = r.du; sdv = r.dv; }
+        take(refine(ev, cu, cv, du, dv, { u0, v0 }, d));
       }
     }
     // 4c. lobes a line array's flood took whole (lineFloodLobes)
