@@ -139,6 +139,28 @@ describe("measured element table", () => {
     }
     expect(c0.power(1.001, 0)).toBe(0);
   });
+  it("cos^q θ, q > 0, is 0 on the horizon computed in doubles, not the rounding's power (1e-16^3.4 = 1e-54), and not 0 just inside", () => {
+    // derived: cos θ = w = 0 on the horizon, so cos^q θ = 0 for q > 0; a point computed on the
+    // circle has 1 − u² − v² within a few roundings of 0 either side
+    const e = makeElementPattern({ pattern: "cosine", exponent: 6.71 });
+    const o = { p: 1, pu: 1, pv: 1, puu: 1, pvv: 1, puv: 1 };
+    const u0 = 0.33629964564365206, v0 = -0.03988547960205662;
+    let inside = 0;
+    for (let i = 0; i < 4096; i++) {
+      const a = (2 * Math.PI * i) / 4096;
+      const u = u0 + (Math.cos(a) - u0), v = v0 + (Math.sin(a) - v0);
+      if (1 - u * u - v * v > 0) inside++;
+      expect(e.power(u, v)).toBe(0);
+      expect(e.power(Math.cos(a), Math.sin(a))).toBe(0);
+      e.derivs(u, v, o);
+      expect([o.p, o.pu, o.pv, o.puu, o.pvv, o.puv]).toEqual([0, 0, 0, 0, 0, 0]);
+    }
+    // the rounding lands inside the circle for some of them (each had been given t^3.355)
+    expect(inside).toBeGreaterThan(100);
+    // θ = 89.99° (w = 1.745e-4): cos^6.71 θ = 10^(6.71·log10(1.745e-4)) = −252.6 dB, still there
+    const w = Math.cos(89.99 * DEG);
+    expect(10 * Math.log10(e.power(Math.sqrt(1 - w * w), 0))).toBeCloseTo(67.1 * Math.log10(w), 6);
+  });
 });
 
 describe("PSL with the element pattern against a brute-force direct sum", () => {

@@ -250,7 +250,8 @@ export const HORIZON_REFINE_WITHIN = LOBES_WITHIN;
  * The largest |AF|² along the horizon outside the main lobe: the trace's local maxima
  * (main-lobe samples excluded) within HORIZON_REFINE_WITHIN of max(best sample, `floor`)
  * are refined by golden-section search in α between their neighbours. Returns p = NaN
- * when every sample is in the main lobe.
+ * when every sample is in the main lobe, and p = 0 when the pattern is 0 on the horizon
+ * outside it (a cosine element's): the callers count neither as a lobe.
  *
  * `skipBelow` (the caller's best interior value over its QUAD_MARGIN, lobes.ts): a
  * maximum whose peak along the circle, as the quadratic model at its sample predicts
@@ -284,7 +285,8 @@ export function horizonMax(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: num
     if (main[i]) continue;
     const pi = t.p[i]!;
     if (!(out.p >= pi)) { out.p = pi; out.du = t.du[i]!; out.dv = t.dv[i]!; }
-    if (pi < bar) continue;
+    // a sample of 0 (a cosine element's horizon) is no lobe to climb
+    if (pi < bar || !(pi > 0)) continue;
     const l = (i - 1 + n) % n, r = (i + 1) % n;
     if ((!main[l] && val(l) > pi) || (!main[r] && val(r) > pi)) continue;
     const ai = alphaOf(t, i);

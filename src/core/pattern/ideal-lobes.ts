@@ -115,7 +115,7 @@ export class IdealLobes {
     // (the ideal pattern peaks at Δ = 0: |Σ a_n e^{jk r_n·Δ}| ≤ Σ a_n)
     this.lobe ??= { mask: main, m0: -M, n0: -N, w: W, h: this.H, du, dv, outside: true, visible: null, u0: 0, v0: 0, peakDu: 0, peakDv: 0, lockU: false, lockV: false };
     const h = horizonMax(this.trace, this.ev, u0, v0, this.lobe, Number.isNaN(best) ? 0 : best, this.hz, best / this.quadMargin);
-    if (h.p > best || (Number.isNaN(best) && h.p >= 0)) best = h.p;
+    if (h.p > best || (Number.isNaN(best) && h.p > 0)) best = h.p;
     return best;
   }
 }

@@ -276,11 +276,11 @@ export class LobeFinder {
     // 4c. lobes a line array's flood took whole (lineFloodLobes)
     if (ev.lockU !== ev.lockV) {
       const c = lineFloodLobes(win, ev, lobe, top, u0, v0, du, dv);
-      if (c.p > sl || (Number.isNaN(sl) && c.p >= 0)) { sl = c.p; sdu = c.du; sdv = c.dv; }
+      if (c.p > sl || (Number.isNaN(sl) && c.p > 0)) { sl = c.p; sdu = c.du; sdv = c.dv; }
     }
     // 5. the horizon, searched along the circle
     const h = horizonMax(trace, ev, u0, v0, lobe, bestGrid, this.hz, sl / this.quadMargin);
-    if (h.p > sl || (Number.isNaN(sl) && h.p >= 0)) { sl = h.p; sdu = h.du; sdv = h.dv; }
+    if (h.p > sl || (Number.isNaN(sl) && h.p > 0)) { sl = h.p; sdu = h.du; sdv = h.dv; }
     return { peakDu: pk.du, peakDv: pk.dv, peakPower: pk.p, sidelobePower: sl, sidelobeDu: sdu, sidelobeDv: sdv };
   }
 }
