@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { BeamAnalyzer, METRICS, M } from "../../src/core/pattern/analyze.js";
+import { BeamAnalyzer, METRICS, M, mirrorSymmetric } from "../../src/core/pattern/analyze.js";
 import { AfEvaluator } from "../../src/core/pattern/evaluator.js";
 import { allocWindow, analysisSizeProblem, gridShape, MAX_ANALYSIS_CELLS, PatternGrid } from "../../src/core/pattern/grid.js";
 import { refine } from "../../src/core/pattern/lobes.js";
@@ -104,6 +104,60 @@ describe("refining only the sidelobe contenders and horizon maxima that can win 
         AfEvaluator.prototype.field = origField;
       }
     }
+  });
+});
+
+describe("beams that share their ideal PSL (analyze.ts idealPsl: I(−Δ) = I(Δ) for real weights)", () => {
+  // derived: the ideal de-steered pattern I(Δ) = |Σ a_n e^{jk r_n·Δ}|² with real a_n is even,
+  // and even in Δu alone when the amplitudes are symmetric in x; each beam's value is
+  // checked against the lobe search run at that beam itself
+  const cases = [
+    { name: "10 × 8 rectangular, Taylor (symmetric in x: beams (±u0, ±v0))", array: { lattice: { kind: "rectangular", columns: 10, rows: 8, dx: "0.5 lambda", dy: "0.55 lambda" } }, mirror: true, reps: 8 },
+    { name: "7 × 6 triangular (odd rows shifted: ±(u0, v0) only)", array: { lattice: { kind: "triangular", columns: 7, rows: 6, dx: "0.6 lambda", dy: "0.5 lambda", offset: 0.5 } }, mirror: false, reps: 11 },
+    { name: "10 × 8 with a dead corner channel (±(u0, v0) only)", array: { lattice: { kind: "rectangular", columns: 10, rows: 8, dx: "0.5 lambda", dy: "0.55 lambda" }, disabled: [0] }, mirror: false, reps: 11 },
+  ];
+  for (const c of cases)
+    it(`${c.name}: every beam's ideal PSL within 1e-9 dB of its own search, one search per representative`, () => {
+      const L = load(baseScenario({ array: c.array, taper: { kind: "taylor", sidelobe: "-30 dB", nbar: 4 }, beams: { kind: "azel", az: { from: -60, to: 60, step: 20 }, el: { from: -40, to: 40, step: 40 } } }));
+      const an = new BeamAnalyzer(L.plan, 0);
+      const inner = an as unknown as { idealMirror: boolean; idealLobes: { sidelobePower(u: number, v: number): number; peakPower: number } | null };
+      let searches = 0;
+      const psl: number[] = [];
+      for (let b = 0; b < L.plan.beams.count; b++) {
+        if (b === 0) an.idealPsl(0);
+        const lobes = inner.idealLobes!;
+        const orig = lobes.sidelobePower.bind(lobes);
+        lobes.sidelobePower = (u, v) => { searches++; return orig(u, v); };
+        psl.push(an.idealPsl(b));
+        lobes.sidelobePower = orig;
+      }
+      const lobes = inner.idealLobes!;
+      let spread = 0;
+      for (let b = 0; b < L.plan.beams.count; b++) {
+        const own = 10 * Math.log10(lobes.sidelobePower(L.plan.beams.u[b]!, L.plan.beams.v[b]!) / lobes.peakPower);
+        expect(Math.abs(psl[b]! - own), `beam ${b}`).toBeLessThan(1e-9);
+        spread = Math.max(spread, Math.abs(psl[b]! - psl[0]!));
+      }
+      // the beams differ: the test compares values that could be told apart
+      expect(spread).toBeGreaterThan(0.1);
+      expect(inner.idealMirror).toBe(c.mirror);
+      // 7 × 3 beams: 4 × 2 representatives with the mirror, (21 + 1) / 2 = 11 without; beam 0's search came before the count
+      expect(searches).toBe(c.reps - 1);
+    });
+  it("mirrorSymmetric: a partner at 2c − x, the same y and amplitude, for every lit element", () => {
+    const lam = 0.01;
+    const x = Float64Array.from([0, 0.005, 0.01, 0, 0.005, 0.01]), y = Float64Array.from([0, 0, 0, 0.006, 0.006, 0.006]);
+    const a = Float64Array.from([0.5, 1, 0.5, 0.7, 1, 0.7]);
+    expect(mirrorSymmetric(x, y, a, lam)).toBe(true);
+    // a dead end element moves the centre and breaks the pairs
+    expect(mirrorSymmetric(x, y, Float64Array.from([0, 1, 0.5, 0.7, 1, 0.7]), lam)).toBe(false);
+    // both ends of a row dead: still symmetric about the same centre
+    expect(mirrorSymmetric(x, y, Float64Array.from([0, 1, 0, 0.7, 1, 0.7]), lam)).toBe(true);
+    // amplitudes 1e-9 apart: not symmetric; positions 1e-12 λ apart: symmetric
+    expect(mirrorSymmetric(x, y, Float64Array.from([0.5, 1, 0.5 + 1e-9, 0.7, 1, 0.7]), lam)).toBe(false);
+    expect(mirrorSymmetric(Float64Array.from(x, (v, i) => v + (i === 2 ? 1e-14 : 0)), y, a, lam)).toBe(true);
+    // a position 1e-6 λ off: not
+    expect(mirrorSymmetric(Float64Array.from(x, (v, i) => v + (i === 5 ? 1e-8 : 0)), y, a, lam)).toBe(false);
   });
 });
 

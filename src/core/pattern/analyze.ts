@@ -46,6 +46,43 @@ export interface PatternDetail {
   ampErrorDb: Float64Array;
 }
 
+/** Representatives whose ideal PSL a BeamAnalyzer keeps (a 4096-beam grid has ~1000; memory stays bounded for any count). */
+const IDEAL_MEMO_MAX = 1 << 16;
+
+/**
+ * The amplitudes a_n are symmetric in x: every element has a partner at x' = 2c − x, the
+ * same y, with the same amplitude (positions within 1e-9 λ, amplitudes within 1e-12 of
+ * the largest: the PSL's change is then below 1e-10 dB). c is the x-midpoint of the
+ * elements with a > 0. Then |Σ a_n e^{jk(x_n Δu + y_n Δv)}| is even in Δu.
+ */
+export function mirrorSymmetric(x: Float64Array, y: Float64Array, a: Float64Array, lambda: number): boolean {
+  let lo = Infinity, hi = -Infinity, amax = 0;
+  for (let i = 0; i < x.length; i++) {
+    if (!(a[i]! > 0)) continue;
+    lo = Math.min(lo, x[i]!);
+    hi = Math.max(hi, x[i]!);
+    amax = Math.max(amax, a[i]!);
+  }
+  if (!(amax > 0)) return false;
+  const tol = 1e-9 * lambda, c2 = lo + hi;
+  // snap coordinates to the tolerance's grid; a partner is looked up at its snapped place and the two neighbouring ones
+  const at = new Map<string, number>();
+  const cell = (v: number) => Math.round(v / tol);
+  for (let i = 0; i < x.length; i++) if (a[i]! > 0) at.set(`${cell(x[i]!)} ${cell(y[i]!)}`, i);
+  for (let i = 0; i < x.length; i++) {
+    if (!(a[i]! > 0)) continue;
+    const mx = cell(c2 - x[i]!), my = cell(y[i]!);
+    let found = -1;
+    for (let dx = -1; dx <= 1 && found < 0; dx++)
+      for (let dy = -1; dy <= 1 && found < 0; dy++) {
+        const j = at.get(`${mx + dx} ${my + dy}`);
+        if (j !== undefined && Math.abs(c2 - x[i]! - x[j]!) <= tol && Math.abs(y[i]! - y[j]!) <= tol) found = j;
+      }
+    if (found < 0 || Math.abs(a[found]! - a[i]!) > 1e-12 * amax) return false;
+  }
+  return true;
+}
+
 export class BeamAnalyzer {
   readonly prep: FrequencyPrep;
   readonly grid: PatternGrid;
@@ -60,6 +97,10 @@ export class BeamAnalyzer {
   /** The ideal de-steered weights do not depend on the beam: on lattices their FFT is taken once. */
   private readonly idealPeriodic: Float64Array | null = null;
   private idealLobes: IdealLobes | null = null;
+  /** the ideal amplitudes are symmetric in x (mirrorSymmetric): beams (±u0, ±v0) share their ideal PSL */
+  private idealMirror = false;
+  /** ideal PSL (dB) by representative beam (idealPsl) */
+  private readonly idealMemo = new Map<string, number>();
   /** planar element lists: the ideal |F|² on every window offset, taken at the first idealPsl (false: not planar) */
   private idealTable: Float64Array | false | null = null;
   /** the ideal weights' 1-D transforms (lattices), for the horizon trace */
@@ -192,8 +233,27 @@ export class BeamAnalyzer {
     this.lineCut?.setBeam(u0, v0);
     // the cached lobe structure assumes a beam-independent pattern: not so with an element pattern
     if (this.idealPeriodic && !this.evI.lockU && !this.evI.lockV && !this.element) {
-      if (!this.idealLobes) this.idealLobes = new IdealLobes(this.idealPeriodic, g.fftSize[0], g.fftSize[1], g.du, g.dv, this.evI, this.idealSpectra!);
-      return 10 * Math.log10(this.idealLobes.sidelobePower(u0, v0) / this.idealLobes.peakPower);
+      if (!this.idealLobes) {
+        this.idealLobes = new IdealLobes(this.idealPeriodic, g.fftSize[0], g.fftSize[1], g.du, g.dv, this.evI, this.idealSpectra!);
+        this.idealMirror = mirrorSymmetric(plan.elements.x, plan.elements.y, this.idealAmp, SPEED_OF_LIGHT / plan.frequenciesHz[this.fi]!);
+      }
+      // I(Δ) = |Σ a_n e^{jk r_n·Δ}|² with real a_n is even, I(−Δ) = I(Δ), and beam −d̂'s
+      // visible disc is beam d̂'s mirrored through Δ = 0: the two share their ideal PSL (and
+      // with a taper symmetric in x, I(−Δu, Δv) = I(Δu, Δv): the four beams (±u0, ±v0)).
+      // Each is taken at one representative, so the value is one function of the beam
+      // whichever thread meets it first, and kept for the others.
+      let cu = u0 + 0, cv = v0 + 0;
+      if (this.idealMirror) { cu = Math.abs(cu); cv = Math.abs(cv); }
+      else if (cu < 0 || (cu === 0 && cv < 0)) { cu = -cu; cv = -cv; }
+      const key = `${cu} ${cv}`;
+      let p = this.idealMemo.get(key);
+      if (p === undefined) {
+        this.evI.setBeam(cu, cv, uvToW(cu, cv));
+        p = 10 * Math.log10(this.idealLobes.sidelobePower(cu, cv) / this.idealLobes.peakPower);
+        this.evI.setBeam(u0, v0, w0);
+        if (this.idealMemo.size < IDEAL_MEMO_MAX) this.idealMemo.set(key, p);
+      }
+      return p;
     }
     if (this.idealPeriodic) g.fillFromPeriodic(this.idealPeriodic, u0, v0, this.winI);
     else {
