@@ -77,28 +77,6 @@ const DEFAULT_SEED = 1;
 
 /** A numeric cell's exact decimal text (as `new D(text).toString()`; decimal.js only when the text is not already canonical). */
 const exactText = (text: string): string => canonicalDecimal(text, (t) => new D(t).toString());
-
-/**
- * |a| > limit for a cell's decimal text, decided on the text where its double cannot tell:
- * rounding to a double is monotone and the limit is a double, so only a double equal to
- * ±limit is ambiguous (90.000000000000001 is the double 90).
- */
-function pastDegrees(c: { text: string; value: number }, limit: number): boolean {
-  const a = Math.abs(c.value);
-  return a === limit ? new D(c.text).abs().gt(limit) : a > limit;
-}
-
-/**
- * u² + v² > 1 for two cells' decimal texts: in doubles, and where that sum lies within
- * 1e-12 of 1 in exact decimals (u = 1.0000000000000001 is the double 1, and the beam
- * would have been taken onto the horizon).
- */
-function outsideDisc(u: { text: string; value: number }, v: { text: string; value: number }): boolean {
-  const s = u.value * u.value + v.value * v.value;
-  if (Math.abs(s - 1) > 1e-12) return s > 1;
-  const U = new D(u.text), V = new D(v.text);
-  return U.times(U).plus(V.times(V)).gt(1);
-}
 const ID = { integer: true, min: 0, max: MAX_ELEMENT_ID };
 const POSITION = { min: -MAX_LENGTH_M, max: MAX_LENGTH_M };
 const PHASE = { min: -MAX_PHASE_DEG, max: MAX_PHASE_DEG };
@@ -553,7 +531,7 @@ class Loader {
         const x = numberCell(t, r, ca!, this.problems);
         const y = numberCell(t, r, cb!, this.problems);
         if (!x || !y) continue;
-        const outside = azel ? pastDegrees(x, 90) || pastDegrees(y, 90) : outsideDisc(x, y);
+        const outside = azel ? Math.abs(x.value) > 90 || Math.abs(y.value) > 90 : x.value * x.value + y.value * y.value > 1;
         if (outside) this.problems.push({ file: t.file, line: r.line, message: `beam (${ca}=${x.text}, ${cb}=${y.text}) is outside visible space; expected ${azel ? "|az|, |el| ≤ 90" : "u² + v² ≤ 1"}` });
         a.push(exactText(x.text));
         bb.push(exactText(y.text));
