@@ -113,7 +113,34 @@ function scatteredList(): { "el.csv": string; "cal.csv": string; "beams.csv": st
   return { "el.csv": el, "cal.csv": cal, "beams.csv": "az_deg,el_deg\n0,0\n-35,20\n70,-10\n" };
 }
 
+/** elements.csv of a cols × rows rectangular lattice at dx × dy λ (fHz), centred, 7 digits: a lattice the analysis sees as a list (direct sums). */
+function latticeAsList(cols: number, rows: number, dx: number, dy: number, fHz: number): string {
+  const lam = 299792458 / fHz;
+  let s = "element,x_m,y_m\n";
+  for (let e = 0; e < cols * rows; e++) s += `${e},${(((e % cols) - (cols - 1) / 2) * dx * lam).toPrecision(7)},${((Math.floor(e / cols) - (rows - 1) / 2) * dy * lam).toPrecision(7)}\n`;
+  return s;
+}
+
 const cases: { name: string; over: Record<string, unknown>; files?: Record<string, string>; pslTol?: number }[] = [
+  // a lobe in the rim between the outermost visible cells and the horizon: a grating lobe's
+  // flank rising toward the horizon met by the cosine element's fall to 0 on it, so that the
+  // product peaks 0.005 inside the horizon while the last cell (0.022 inward) shows −46.98 dB
+  // and the horizon trace 0 (lobes.ts rimClimbs). Found by a random search against this
+  // brute force (2026-12-03): the ideal PSL printed −37.10 dB, brute force −35.17 dB
+  {
+    name: "9×8 lattice at 0.796 × 0.602 λ as elements.csv, Dolph–Chebyshev −37 dB, cos^0.89: a lobe between the last cell and the horizon",
+    over: { frequency: "16.764 GHz", array: { elements: "el.csv" }, taper: { kind: "chebyshev", sidelobe: "-37 dB" }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 5 }, element: { pattern: "cosine", exponent: 0.89 } },
+    files: { "el.csv": latticeAsList(9, 8, 0.796, 0.602, 16.764e9), "beams.csv": "az_deg,el_deg\n2.64,0.29\n" },
+    pslTol: 0.002,
+  },
+  {
+    // the same at a wide scan: az −40° el −5° on a 12 × 12 list at 0.55 × 0.5 λ, the grating
+    // lobe's flank at u ≈ +1: ideal PSL −28.86 dB printed, brute force −26.82 dB
+    name: "12×12 lattice at 0.55 × 0.5 λ as elements.csv, Dolph–Chebyshev −30 dB, cos element, az −40° el −5°: a lobe in the rim at the far horizon",
+    over: { frequency: "28 GHz", array: { elements: "el.csv" }, taper: { kind: "chebyshev", sidelobe: "-30 dB" }, beams: { kind: "list", file: "beams.csv" }, phaseShifter: { bits: 6 }, element: { pattern: "cosine", exponent: 1 } },
+    files: { "el.csv": latticeAsList(12, 12, 0.55, 0.5, 28e9), "beams.csv": "az_deg,el_deg\n-40,-5\n" },
+    pslTol: 0.002,
+  },
   {
     // the realized pattern of the last beam has no sidelobe in visible space (the brute force:
     // none); psl_db −543.38 dB was printed, cos^6.71 of the rounding of a horizon point

@@ -167,7 +167,14 @@ export class BeamAnalyzer {
       // the spectra hold |AF|² alone: weigh the horizon samples by the element pattern
       // (traceExact evaluates ev.power, which already includes it)
       const el = this.lineCut ?? this.element;
-      if (el) for (let k = 0; k < out.n; k++) out.p[k] = out.p[k]! * el.power(u0 + out.du[k]!, v0 + out.dv[k]!);
+      out.hasAf = el !== null;
+      if (el) {
+        if (out.af.length < out.p.length) out.af = new Float64Array(out.p.length);
+        for (let k = 0; k < out.n; k++) {
+          out.af[k] = out.p[k]!;
+          out.p[k] = out.p[k]! * el.power(u0 + out.du[k]!, v0 + out.dv[k]!);
+        }
+      }
     } else traceExact(ev, u0, v0, Math.min(this.grid.du, this.grid.dv), out, this.series);
     return out;
   }

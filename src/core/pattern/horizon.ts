@@ -39,11 +39,17 @@ export interface HorizonTrace {
   au: Float64Array;
   av: Float64Array;
   p: Float64Array;
+  /**
+   * With an element pattern: |AF|² alone at each sample (`p` is |AF|²·E), for the rim's
+   * lobes (lobes.ts rimClimb); `hasAf` says whether this trace filled it.
+   */
+  af: Float64Array;
+  hasAf: boolean;
 }
 
 export function allocTrace(cap = 256): HorizonTrace {
   const f = () => new Float64Array(cap);
-  return { n: 0, main: new Uint8Array(cap), du: f(), dv: f(), alpha: f(), lazyAlpha: false, au: f(), av: f(), p: f() };
+  return { n: 0, main: new Uint8Array(cap), du: f(), dv: f(), alpha: f(), lazyAlpha: false, au: f(), av: f(), p: f(), af: f(), hasAf: false };
 }
 
 /** Room for `cap` samples (contents not kept). */
@@ -51,10 +57,10 @@ function reserve(t: HorizonTrace, cap: number): void {
   if (t.p.length >= cap) return;
   const f = () => new Float64Array(cap);
   t.main = new Uint8Array(cap);
-  t.du = f(); t.dv = f(); t.alpha = f(); t.au = f(); t.av = f(); t.p = f();
+  t.du = f(); t.dv = f(); t.alpha = f(); t.au = f(); t.av = f(); t.p = f(); t.af = f();
 }
 
-function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number): void {
+function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number, af = p): void {
   if (t.n === t.p.length) {
     const grow = (a: Float64Array) => { const b = new Float64Array(a.length * 2); b.set(a); return b; };
     t.du = grow(t.du);
@@ -63,7 +69,9 @@ function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number)
     t.au = grow(t.au);
     t.av = grow(t.av);
     t.p = grow(t.p);
+    t.af = grow(t.af);
   }
+  t.af[t.n] = af;
   t.du[t.n] = du;
   t.dv[t.n] = dv;
   t.alpha[t.n] = alpha;
@@ -72,7 +80,7 @@ function push(t: HorizonTrace, du: number, dv: number, alpha: number, p: number)
 }
 
 /** α of sample i. */
-function alphaOf(t: HorizonTrace, i: number): number {
+export function alphaOf(t: HorizonTrace, i: number): number {
   return t.lazyAlpha ? Math.atan2(t.av[i]!, t.au[i]!) : t.alpha[i]!;
 }
 
@@ -102,6 +110,7 @@ export interface LatticeSpectra {
 export function traceLattice(s: LatticeSpectra, u0: number, v0: number, out: HorizonTrace): void {
   out.n = 0;
   out.lazyAlpha = true;
+  out.hasAf = false;
   const { du, dv } = s;
   const sa = Math.sin(Math.atan(du / dv));
   const ca = Math.sqrt(1 - sa * sa);
@@ -127,15 +136,21 @@ export function exactSamples(step: number): number {
 export function traceExact(ev: AfEvaluator, u0: number, v0: number, step: number, out: HorizonTrace, series: CircleSeries | null = null): void {
   out.n = 0;
   out.lazyAlpha = false;
+  out.hasAf = ev.element !== null;
   const n = exactSamples(step);
   if (series) {
     series.trace(ev, u0, v0, n, out);
     return;
   }
+  const el = ev.element;
   for (let i = 0; i < n; i++) {
     const a = -Math.PI + (2 * Math.PI * i) / n;
     const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
-    push(out, du, dv, a, ev.power(du, dv));
+    if (!el) push(out, du, dv, a, ev.power(du, dv));
+    else {
+      const f = ev.field(du, dv), af = f[0] * f[0] + f[1] * f[1];
+      push(out, du, dv, a, af * el.power(u0 + du, v0 + dv), af);
+    }
   }
 }
 
@@ -592,7 +607,7 @@ export class CircleSeries {
     for (let i = 0; i < N; i++) {
       const a = -Math.PI + (2 * Math.PI * i) / N;
       const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
-      push(out, du, dv, a, el ? p[i]! * el.power(u0 + du, v0 + dv) : p[i]!);
+      push(out, du, dv, a, el ? p[i]! * el.power(u0 + du, v0 + dv) : p[i]!, p[i]!);
     }
   }
 }

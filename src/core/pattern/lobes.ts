@@ -13,7 +13,7 @@
  */
 import type { AfEvaluator, PowerDerivs } from "./evaluator.js";
 import type { PowerWindow } from "./grid.js";
-import { horizonMax, inMain, notMainPeak, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
+import { alphaOf, horizonMax, inMain, notMainPeak, type HorizonMax, type HorizonTrace, type MainLobeMap } from "./horizon.js";
 import { CANDIDATES, LobeGridKernel, LOBES_ALWAYS, LOBES_WITHIN } from "./lobe-kernel.js";
 
 export interface LobeResult {
@@ -248,10 +248,11 @@ export class LobeFinder {
     // within a cell (brute-force campaigns, 254 + 50 random scenarios: none found). From a
     // flooded cell on the edge of visible space the strip out to the horizon is sampled
     // too (stripClimb, below).
+    // a strict local maximum of the exact pattern away from the main peak (whatever the mask says) is a sidelobe
+    const take = (r: Refined | null) => {
+      if (r && r.p > 0 && !(r.p <= sl) && notMainPeak(ev, lobe, r.du, r.dv) && strictMax(ev, r.du, r.dv, du, dv)) { sl = r.p; sdu = r.du; sdv = r.dv; }
+    };
     if (ev.element && ev.lockU === ev.lockV) {
-      const take = (r: Refined | null) => {
-        if (r && r.p > 0 && !(r.p <= sl) && notMainPeak(ev, lobe, r.du, r.dv) && strictMax(ev, r.du, r.dv, du, dv)) { sl = r.p; sdu = r.du; sdv = r.dv; }
-      };
       for (let q = 0; q < wm * wn; q++) {
         if (mask[q] !== 1 || !visible[q] || q === top) continue;
         const a = q % wm, b = (q - a) / wm;
@@ -281,6 +282,8 @@ export class LobeFinder {
     // 5. the horizon, searched along the circle
     const h = horizonMax(trace, ev, u0, v0, lobe, bestGrid, this.hz, sl / this.quadMargin);
     if (h.p > sl || (Number.isNaN(sl) && h.p > 0)) { sl = h.p; sdu = h.du; sdv = h.dv; }
+    // 6. with an element pattern: lobes in the rim between the outermost cells and the horizon (rimClimbs)
+    if (ev.element && ev.lockU === ev.lockV && trace.hasAf) rimClimbs(trace, ev, u0, v0, du, dv, LOBES_WITHIN * Math.max(sl > 0 ? sl : 0, bestGrid), take);
     return { peakDu: pk.du, peakDv: pk.dv, peakPower: pk.p, sidelobePower: sl, sidelobeDu: sdu, sidelobeDv: sdv };
   }
 }
@@ -402,6 +405,53 @@ function stripClimb(ev: AfEvaluator, u0: number, v0: number, cu: number, cv: num
   const r = refine(ev, bu, bv, du, dv, { u0, v0 }, null, true);
   return r.p > 0 ? r : null;
 }
+
+/**
+ * Lobes of an element-weighted pattern in the rim between the outermost visible cells and
+ * the horizon, which neither the grid nor the horizon trace shows. Where the element falls
+ * steeply onto the horizon (a cosine's is 0 there) the product |AF|²·E can peak in that
+ * rim while both its last cell and its horizon sample lie far below the peak: a grating
+ * lobe's flank rising toward the horizon met by the element's fall (9 × 8 lattice at
+ * 0.796 × 0.602 λ as elements.csv, cos^0.89, Dolph–Chebyshev −37 dB, az 2.64° el 0.29°:
+ * the ideal PSL printed −37.10 dB, brute force −35.17 dB at u = −0.995; the last cell
+ * 0.022 inward showed −46.98 dB and the horizon 0).
+ *
+ * Every cell box holds a visible grid point, so the rim is at most a cell diagonal deep:
+ * r ∈ [r_in, 1], r_in = 1 − hypot(du, dv). Along each local maximum of the trace's |AF|²
+ * alone (trace.af; main-lobe samples excluded) the rim's product is at most
+ * |AF|²(horizon) × the largest E in the rim where |AF|² rises outward through the rim; a
+ * lobe of |AF|² peaking inside the rim is at least ~4 cells wide and stands less than
+ * 3 dB above the horizon (as a grid lobe above its nearest sample). Where that bound
+ * reaches `bar` (LOBES_WITHIN of the best so far) the pattern is sampled at RIM_SAMPLES
+ * points along the radius through the rim and the best is climbed (refine); `take` keeps
+ * the climb if it ends on a strict local maximum away from the main peak.
+ */
+function rimClimbs(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: number, du: number, dv: number, bar: number, take: (r: Refined | null) => void): void {
+  const n = t.n, af = t.af, main = t.main, el = ev.element!;
+  if (n < 3) return;
+  const rIn = Math.max(0, 1 - Math.hypot(du, dv));
+  for (let i = 0; i < n; i++) {
+    if (main[i]) continue;
+    const a = af[i]!, al = af[(i - 1 + n) % n]!, ar = af[(i + 1) % n]!;
+    if (!(a > 0) || al > a || ar > a || (al === a && ar === a)) continue;
+    const ai = alphaOf(t, i), c = Math.cos(ai), s = Math.sin(ai);
+    const eMax = Math.max(el.power(rIn * c, rIn * s), el.power(c, s));
+    if (!(a * eMax >= bar)) continue;
+    let bp = -1, bu = NaN, bv = NaN;
+    for (let k = 0; k <= RIM_SAMPLES; k++) {
+      const r = 1 - 1e-9 - ((1 - 1e-9 - rIn) * k) / RIM_SAMPLES;
+      const su = r * c - u0, sv = r * s - v0;
+      const p = ev.power(su, sv);
+      if (p > bp) { bp = p; bu = su; bv = sv; }
+    }
+    if (!(bp > 0)) continue;
+    const r = refine(ev, bu, bv, du, dv, { u0, v0 }, null, true);
+    take(r.p > 0 ? r : null);
+  }
+}
+
+/** Exact samples rimClimbs takes along a radius through the rim (the horizon and its inner edge included). */
+const RIM_SAMPLES = 4;
 
 /** Every visible 8-neighbour of cell (a, b) is in the flood (`mask`); the window's edge counts as inside. */
 function floodInterior(mask: Uint8Array, visible: Uint8Array, wm: number, wn: number, a: number, b: number): boolean {
