@@ -531,7 +531,9 @@ class Loader {
         const x = numberCell(t, r, ca!, this.problems);
         const y = numberCell(t, r, cb!, this.problems);
         if (!x || !y) continue;
-        const outside = azel ? Math.abs(x.value) > 90 || Math.abs(y.value) > 90 : x.value * x.value + y.value * y.value > 1;
+        // u² + v² within 1e-12 of 1 is the horizon, as for a u-v grid (makeBeamSet): a direction
+        // on it written to 16 digits (u = v = 0.7071067811865476) sums to 1 + 2e-16 in doubles
+        const outside = azel ? Math.abs(x.value) > 90 || Math.abs(y.value) > 90 : 1 - x.value * x.value - y.value * y.value < -1e-12;
         if (outside) this.problems.push({ file: t.file, line: r.line, message: `beam (${ca}=${x.text}, ${cb}=${y.text}) is outside visible space; expected ${azel ? "|az|, |el| ≤ 90" : "u² + v² ≤ 1"}` });
         a.push(exactText(x.text));
         bb.push(exactText(y.text));

@@ -104,6 +104,8 @@ const cases: Case[] = [
   { name: "elements.csv: two elements at one place", doc: B({ array: { elements: "el.csv" } }), files: { "el.csv": ELS(["0,0,0", "1,0,0"]) }, expect: [/el\.csv, line 3: element 1 sits at the same position as element 0/] },
   { name: "beam list missing", doc: B({ beams: { kind: "list", file: "beams.csv" } }), expect: [/beams\.csv: \/beams\/file: file not found/] },
   { name: "beam list outside visible space", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "u,v\n0,0\n0.9,0.9\n" }, expect: [/beams\.csv, line 3: beam \(u=0\.9, v=0\.9\) is outside visible space/] },
+  // past the horizon by 4e-8 (more than the 1e-12 a rounding of the horizon is given)
+  { name: "beam list just outside visible space", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "u,v\n0.7071068,0.7071068\n" }, expect: [/beams\.csv, line 2: beam \(u=0\.7071068, v=0\.7071068\) is outside visible space; expected u² \+ v² ≤ 1/] },
   // both column pairs: u,v were dropped without a word and the beam built at az 0, el 0
   { name: "beam list with both az_deg,el_deg and u,v", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "# two pairs\naz_deg,el_deg,u,v\n0,0,0.5,0\n" }, expect: [/beams\.csv, line 2: header az_deg,el_deg,u,v names both az_deg,el_deg and u,v columns; expected one pair/] },
   { name: "beam list with only a header", doc: B({ beams: { kind: "list", file: "beams.csv" } }), files: { "beams.csv": "az_deg,el_deg\n" }, expect: [/beams\.csv, line 1: expected data rows after the header/] },

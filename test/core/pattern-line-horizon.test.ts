@@ -36,4 +36,12 @@ describe("line arrays: the ideal PSL of a beam commanded onto the horizon", () =
     expect(Math.abs(onHorizon - -20.41866)).toBeLessThan(0.05);
     expect(Math.abs(atV0 - -20.41866)).toBeLessThan(0.05);
   });
+  // u = v = 0.7071067811865476 (cos 45° to 16 digits) sums to 1 + 2e-16 in doubles: the
+  // horizon, as a u-v grid's beams within 1e-12 of it are (it was refused as outside
+  // visible space while 0.7071067811865476, 0.7071067811865475 was taken)
+  it("a listed u, v a rounding past the horizon is the horizon", () => {
+    const [a, b] = lineIdealPsl(8, 1, "u,v\n0.7071067811865476,0.7071067811865476\n0.7071067811865476,0.7071067811865475\n");
+    expect(Math.abs(a - -20.41866)).toBeLessThan(0.05);
+    expect(Math.abs(a - b)).toBeLessThan(1e-6);
+  });
 });
