@@ -229,6 +229,36 @@ describe("periodic errors: the issue's trial (16×16 Taylor −30 dB, 3 bits, no
   });
 });
 
+describe("with an element pattern: the total pattern's PSL (the analysis's), not the array factor's", () => {
+  // 12 × 12 at λ/2, Dolph–Chebyshev −30 dB, 4 bits, invented calibration (seeded), cos² θ
+  // elements; scanned beams. The sampled objective had been |AF|² alone, so the descent
+  // pushed down lobes the element already suppresses and the exact analysis (|AF|²·E)
+  // rarely improved: on these beams the PSL was lowered on one beam only (1.26 dB), now on
+  // six of eight (2.6–5.3 dB; median 3.6 dB)
+  it("lowers PSL on scanned beams with cos² elements (median over 8 beams > 2 dB)", () => {
+    let seed = 20261203;
+    const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+    let cal = "element,phase_offset_deg,gain_offset_db\n";
+    for (let e = 0; e < 144; e++) cal += `${e},${(360 * rnd() - 180).toFixed(2)},${(2 * rnd() - 1).toFixed(3)}\n`;
+    const L = load(
+      baseScenario({
+        array: { lattice: { kind: "rectangular", columns: 12, rows: 12, dx: "0.5 lambda", dy: "0.5 lambda" } },
+        beams: { kind: "list", file: "beams.csv" },
+        phaseShifter: { bits: 4 },
+        taper: { kind: "chebyshev", sidelobe: "-30 dB" },
+        calibration: "cal.csv",
+        element: { pattern: "cosine", exponent: 2 },
+        quantizer: { method: "optimized", seed: 1 },
+      }),
+      { "beams.csv": "az_deg,el_deg\n-30,-45\n-15,-45\n-60,-30\n-30,-30\n-60,-15\n-15,-15\n0,-15\n30,-15\n", "cal.csv": cal },
+    );
+    const r = checkPlan(L.plan);
+    const gains = r.map((x) => x.before - x.after).sort((a, b) => a - b);
+    console.log(`cos² element: PSL lowered by ${gains.map((g) => g.toFixed(2)).join(", ")} dB`);
+    expect((gains[3]! + gains[4]!) / 2).toBeGreaterThan(2);
+  });
+});
+
 describe("determinism", () => {
   it("the same codes from a fresh quantizer, in any beam order; another seed may differ but holds the same guarantees", () => {
     const L = load(

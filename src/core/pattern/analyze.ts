@@ -220,8 +220,19 @@ export class BeamAnalyzer {
     }
   }
 
+  /** Where the last analyse() found the realized pattern's highest sidelobe: (Δu, Δv) from the commanded direction (NaN: none). */
+  readonly lastSidelobe = new Float64Array([NaN, NaN]);
+
+  /**
+   * The element pattern the analysis weighs the last analysed beam's pattern by (a line
+   * array's: on the cut through that beam, LineCutPattern); null: isotropic elements.
+   */
+  get analysisElement(): ElementPattern | null {
+    return this.lineCut ?? this.element;
+  }
+
   /** With an element pattern: weight a sampled window by it (the total pattern |AF|²·E). */
-  private weigh(win: PowerWindow, u0: number, v0: number): void {
+  weigh(win: PowerWindow, u0: number, v0: number): void {
     if (!this.element) return;
     const key = `${u0},${v0},${win.m0},${win.n0},${win.wm},${win.wn}`;
     if (key !== this.winEKey) {
@@ -290,6 +301,8 @@ export class BeamAnalyzer {
     this.weigh(this.winR, u0, v0);
     const spR = g.mode === "fft" ? g.spectra(this.evR.wr, this.evR.wi, false) : null;
     const r = this.finder.analyse(this.winR, this.evR, g.du, g.dv, u0, v0, this.traceHorizon(this.evR, spR, u0, v0, this.traceR));
+    this.lastSidelobe[0] = r.sidelobeDu;
+    this.lastSidelobe[1] = r.sidelobeDv;
     const pslI = opts.ideal === false ? NaN : this.idealPsl(b);
     const pu = u0 + r.peakDu, pv = v0 + r.peakDv;
     const pointing = angleBetweenDeg({ u: u0, v: v0, w: w0 }, { u: pu, v: pv, w: uvToW(pu, pv) });

@@ -16,6 +16,9 @@
  *     at the commanded direction stays within the limit. The array factor at every
  *     sample point is updated incrementally: one element's change touches each sample
  *     point once (a complex multiply-add with a phasor table built per beam);
+ *     With an element pattern the sample points are the maxima of |AF|²·E and each is
+ *     weighed by E(s)/E(d̂) (its phasor column scaled by the square root), so the
+ *     objective is the total pattern's, as the analysis judges PSL;
  *  3. every round ends with the exact analysis; the beam returns the codes with the
  *     lowest exactly analysed PSL that hold both limits — the nearest codes when no
  *     round beat them, so a beam is never worse than nearest.
@@ -239,8 +242,11 @@ export class OptimizedQuantizer implements Quantizer {
     let allowance = POINTING_ALLOWANCE_DEG * 0.8;
     let stale = 0;
     for (let round = 0; round < MAX_ROUNDS && stale < 2; round++) {
-      // new sidelobe maxima of the current pattern; none new (after the first round): done
-      if (this.samplePoints() === 0) break;
+      // the exact analysis's highest sidelobe (it can lie where no grid maximum is: between
+      // cells and the horizon, or along it), then new sidelobe maxima of the current
+      // pattern; none new (after the first round): done
+      const lobeAdded = this.addExactLobe();
+      if (this.samplePoints() === 0 && !lobeAdded) break;
       this.descend(minGain, Math.max(pred0, pt0) + allowance);
       const [psl, gl, pt] = this.exact(b, cur);
       if (gl <= limitDb && pt <= limitPt) {
@@ -267,6 +273,20 @@ export class OptimizedQuantizer implements Quantizer {
     Object.assign(rep, { pslAfterDb: bestPsl, gainLossAfterDb: bestGl, pointingAfterDeg: bestPt, changed });
   }
 
+  /**
+   * The sidelobe the last exact analysis found (BeamAnalyzer.lastSidelobe) as a sample
+   * point, unless a point already lies within a quarter cell of it. Returns whether one was added.
+   */
+  private addExactLobe(): boolean {
+    const [du, dv] = this.analyzer.lastSidelobe;
+    if (!Number.isFinite(du) || !Number.isFinite(dv) || this.npts >= MAX_POINTS) return false;
+    const g = this.analyzer.grid;
+    for (let s = 1; s < this.npts; s++) if (Math.hypot((this.su[s]! - du!) / g.du, (this.sv[s]! - dv!) / g.dv) < 0.25) return false;
+    // keys of grid points are cell indices (m·1e6 + n); an exact point's is negative, never a cell's
+    this.addPoint(du!, dv!, -1 - this.npts);
+    return true;
+  }
+
   /** Add sample point (Δu, Δv) and its phasor column. */
   private addPoint(du: number, dv: number, key: number): void {
     const s = this.npts++;
@@ -279,10 +299,17 @@ export class OptimizedQuantizer implements Quantizer {
       dz = Math.sqrt(Math.max(0, 1 - u * u - v * v)) - this.w0;
     }
     const { kx, ky, kz, er, ei } = this;
+    // the total pattern: |√(E(s)/E(d̂))·AF(s)|² (point 0, d̂ itself, keeps 1)
+    let w = 1;
+    const e = this.analyzer.analysisElement;
+    if (e && s > 0) {
+      const e0 = e.power(this.u0, this.v0);
+      if (e0 > 1e-200) w = Math.sqrt(e.power(this.u0 + du, this.v0 + dv) / e0);
+    }
     for (const i of this.enabledList) {
       const a = kx[i]! * du + ky[i]! * dv + kz[i]! * dz;
-      er[i * MAX_POINTS + s] = Math.cos(a);
-      ei[i * MAX_POINTS + s] = Math.sin(a);
+      er[i * MAX_POINTS + s] = w * Math.cos(a);
+      ei[i * MAX_POINTS + s] = w * Math.sin(a);
     }
   }
   private u0 = 0;
@@ -299,6 +326,8 @@ export class OptimizedQuantizer implements Quantizer {
     const g = this.analyzer.grid;
     const win = this.win;
     g.fill(this.wr, this.wi, u0, v0, w0, win);
+    // with an element pattern: the maxima of the total pattern, as the analysis sees it
+    this.analyzer.weigh(win, u0, v0);
     const { wm, wn, p, visible } = win;
     const top = hillClimb(p, wm, wn, -win.m0, -win.n0);
     floodMainLobe(p, wm, wn, top, this.mask);
