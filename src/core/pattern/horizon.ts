@@ -41,7 +41,7 @@ export interface HorizonTrace {
   p: Float64Array;
   /**
    * With an element pattern: |AF|² alone at each sample (`p` is |AF|²·E), for the rim's
-   * lobes (lobes.ts rimClimb); `hasAf` says whether this trace filled it.
+   * lobes (lobes.ts rimClimbs); `hasAf` says whether this trace filled it.
    */
   af: Float64Array;
   hasAf: boolean;

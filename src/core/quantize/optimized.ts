@@ -282,8 +282,8 @@ export class OptimizedQuantizer implements Quantizer {
     if (!Number.isFinite(du) || !Number.isFinite(dv) || this.npts >= MAX_POINTS) return false;
     const g = this.analyzer.grid;
     for (let s = 1; s < this.npts; s++) if (Math.hypot((this.su[s]! - du!) / g.du, (this.sv[s]! - dv!) / g.dv) < 0.25) return false;
-    // keys of grid points are cell indices (m·1e6 + n); an exact point's is negative, never a cell's
-    this.addPoint(du!, dv!, -1 - this.npts);
+    // grid points are keyed by their cell (m·1e6 + n); an exact point by NaN, equal to no key
+    this.addPoint(du!, dv!, Number.NaN);
     return true;
   }
 
