@@ -156,6 +156,23 @@ const cases: { name: string; over: Record<string, unknown>; files?: Record<strin
     pslTol: 0.002,
   },
   {
+    // a table falling 25 dB from θ = 88° to 90°: the product peaks 0.0007 inside the chord's
+    // end, between the last grid cell and it: beam 0's ideal PSL printed −21.47 dB (the next
+    // lobe), brute force −20.94 dB at u = −0.9528 (found by the same random search)
+    name: "6×1 row at 0.835 λ, tabulated element falling 25 dB onto the horizon, Chebyshev −22 dB: a lobe just inside the chord's end",
+    over: {
+      frequency: "9.609 GHz", array: { lattice: { kind: "rectangular", columns: 6, rows: 1, dx: "0.835 lambda", dy: "0.588 lambda" } },
+      taper: { kind: "chebyshev", sidelobe: "-22 dB" }, beams: { kind: "list", file: "beams.csv" },
+      phaseShifter: { bits: 5 }, attenuator: { bits: 4, step: "0.5 dB" }, calibration: "cal.csv", element: { pattern: "table", file: "el.csv" },
+    },
+    files: {
+      "beams.csv": "az_deg,el_deg\n0.9048,17.5582\n-27.8191,77.8234\n",
+      "cal.csv": "element,phase_offset_deg,gain_offset_db\n0,154.465,0.901\n1,106.139,1.020\n2,-8.748,-0.323\n3,-58.196,-0.895\n4,-146.173,0.350\n5,-83.798,-0.690\n",
+      "el.csv": elementTable(2, [0, 90, 180, 270], (t, f) => 0.9089354339819824 * (t / 90) ** 2 * (1 + 0.013388834749225986 * Math.cos((f * Math.PI) / 180)) - (t === 90 ? 25 : 0), 4),
+    },
+    pslTol: 0.002,
+  },
+  {
     // the same at a wide scan: az −40° el −5° on a 12 × 12 list at 0.55 × 0.5 λ, the grating
     // lobe's flank at u ≈ +1: ideal PSL −28.86 dB printed, brute force −26.82 dB
     name: "12×12 lattice at 0.55 × 0.5 λ as elements.csv, Dolph–Chebyshev −30 dB, cos element, az −40° el −5°: a lobe in the rim at the far horizon",

@@ -295,6 +295,8 @@ export class LobeFinder {
 
 interface Refined { du: number; dv: number; p: number }
 
+/** Cells before each end of a line array's chord sampled as its flood is (chordEnds). */
+const CHORD_END_CELLS = 1.5;
 /** Exact samples a grid cell over a line array's main-lobe flood (lineFloodLobes), and at most this many in all. */
 const LINE_SAMPLES_PER_CELL = 32;
 const LINE_SAMPLES_MAX = 8192;
@@ -334,6 +336,17 @@ function lineFloodLobes(win: PowerWindow, ev: AfEvaluator, lobe: MainLobeMap, to
   const a0 = Math.max((k0 + lo - 1) * cell, -1 - t0), a1 = Math.min((k0 + hi + 1) * cell, 1 - t0);
   if (!(a1 > a0)) return best;
   const n = Math.min(LINE_SAMPLES_MAX, Math.ceil(((a1 - a0) / cell) * LINE_SAMPLES_PER_CELL));
+  lineStretchMax(ev, lobe, a0, a1, n, cell, best);
+  return best;
+}
+
+/**
+ * A line array's pattern sampled exactly at n equal steps over Δ ∈ [a0, a1] along its
+ * line; every sampled interior maximum is climbed by golden section (to 1e-9 cell), and
+ * the highest more than half a cell from the main peak is kept in `best` if higher.
+ */
+function lineStretchMax(ev: AfEvaluator, lobe: MainLobeMap, a0: number, a1: number, n: number, cell: number, best: Refined): void {
+  const alongV = ev.lockU;
   const step = (a1 - a0) / n;
   const at = (x: number) => ev.power(alongV ? 0 : x, alongV ? x : 0);
   const g = (Math.sqrt(5) - 1) / 2;
@@ -354,7 +367,6 @@ function lineFloodLobes(win: PowerWindow, ev: AfEvaluator, lobe: MainLobeMap, to
     prev = cur;
     cur = next;
   }
-  return best;
 }
 
 /**
@@ -368,15 +380,24 @@ function lineFloodLobes(win: PowerWindow, ev: AfEvaluator, lobe: MainLobeMap, to
  * (u = 0.870) to −4.840 dB at u = 0.98449 and rises to −4.786 dB at the chord's end
  * u = 0.98490; PSL −16.11 dB was printed, brute force −4.78 dB (found by a random search
  * against it). Each end is evaluated with a point 1e-7 either side; it counts if it is
- * at least as high as both and lies more than half a cell from the main peak. Returns
- * the higher (p NaN: none).
+ * at least as high as both and lies more than half a cell from the main peak. And where a
+ * table falls steeply onto the horizon the product can peak just inside the end, between
+ * the last grid cell and it, far above both: 6 × 1 row at 0.835 λ, table falling 25 dB
+ * from θ = 88° to 90°, Chebyshev −22 dB, az 0.9° el 17.6°: the ideal PSL printed −21.47 dB,
+ * brute force −20.94 dB at u = −0.9528, 0.0007 inside the end. So the last
+ * CHORD_END_CELLS cells before each end are sampled as the flood's run is
+ * (lineStretchMax, LINE_SAMPLES_PER_CELL a cell). Returns the highest (p NaN: none).
  */
 function chordEnds(ev: AfEvaluator, lobe: MainLobeMap, u0: number, v0: number, du: number, dv: number): Refined {
   const best: Refined = { du: NaN, dv: NaN, p: NaN };
-  const row = ev.lockV, t0 = row ? u0 : v0, c0 = row ? v0 : u0;
+  const row = ev.lockV, t0 = row ? u0 : v0, c0 = row ? v0 : u0, cell = row ? du : dv;
   const h = Math.sqrt(Math.max(0, 1 - c0 * c0));
   if (!(h > 1e-6)) return best;
   const at = (t: number) => ev.power(row ? t - t0 : 0, row ? 0 : t - t0);
+  const span = Math.min(CHORD_END_CELLS * cell, h);
+  const n = Math.ceil((span / cell) * LINE_SAMPLES_PER_CELL);
+  lineStretchMax(ev, lobe, -h - t0, -h + span - t0, n, cell, best);
+  lineStretchMax(ev, lobe, h - span - t0, h - t0, n, cell, best);
   for (const end of [-h, h]) {
     const pe = at(end), s = Math.sign(end);
     if (!(pe > 0) || at(end - s * 1e-7) > pe || at(end + s * 1e-7) > pe) continue;
