@@ -398,6 +398,13 @@ function chordEnds(ev: AfEvaluator, lobe: MainLobeMap, u0: number, v0: number, d
   const n = Math.ceil((span / cell) * LINE_SAMPLES_PER_CELL);
   lineStretchMax(ev, lobe, -h - t0, -h + span - t0, n, cell, best);
   lineStretchMax(ev, lobe, h - span - t0, h - t0, n, cell, best);
+  // and the last of those steps again, LINE_SAMPLES_PER_CELL times finer: a table's
+  // interpolant next to a fall onto the horizon can bump within it (2 × 1 row at 0.508 λ,
+  // a table +8.7 dB at 87° and −15.7 dB at 90°: a maximum 0.05 dB over its trough 0.002
+  // inside the end, −11.48 dB, and −25.72 dB printed)
+  const last = span / n;
+  lineStretchMax(ev, lobe, -h - t0, -h + last - t0, LINE_SAMPLES_PER_CELL, cell, best);
+  lineStretchMax(ev, lobe, h - last - t0, h - t0, LINE_SAMPLES_PER_CELL, cell, best);
   for (const end of [-h, h]) {
     const pe = at(end), s = Math.sign(end);
     if (!(pe > 0) || at(end - s * 1e-7) > pe || at(end + s * 1e-7) > pe) continue;
