@@ -46,16 +46,17 @@ describe("line arrays: the ideal PSL of a beam commanded onto the horizon", () =
   });
 });
 
-describe("line arrays with an element: a maximum within the last sampling step before the chord's end", () => {
+describe("line arrays with an element: a maximum within the last sampling step before the chord's end, and at the line's end", () => {
   // 2 × 1 row at 0.508 λ, 29.695 GHz, Chebyshev −39 dB, a table rising to +8.7 dB at θ = 87°
   // and falling to −15.7 dB at 90°: its interpolant bumps 0.05 dB over a trough 0.002 inside
   // the chord's end (u = 0.9579), between two of chordEnds' samples; the ideal PSL printed
   // was −25.72 dB (the lobe at the other end). Found by a random search against the brute
   // force (2026-12-03). source: brute force, numpy/scipy via /usr/bin/python3
   // (test/fixtures/scipy/brute_beams.py, BRUTE_NGRID=601, on this scenario built by
-  // steercode): psl_ideal_db −11.484828709193602 (its realized PSL, −47.99 dB, is not
-  // found yet: README "Element pattern")
-  it("matches the brute force's ideal PSL", () => {
+  // steercode): psl_ideal_db −11.484828709193602, psl_db −47.98525843456572 (the realized
+  // pattern's lobe at u = 1, just past the null, where the element's differences straddled
+  // the line's end: none had been printed)
+  it("matches the brute force's ideal and realized PSL", () => {
     let table = "theta_deg,phi_deg,gain_db\n";
     for (let t = 0; t <= 90; t += 3) table += `${t},0,${(7.415366481053695 * (t / 90) ** 2 * (1 + 0.25598479055230083) - (t === 90 ? 25 : 0)).toFixed(4)}\n`;
     const L = load(baseScenario({
@@ -68,5 +69,6 @@ describe("line arrays with an element: a maximum within the last sampling step b
     }), { "beams.csv": "az_deg,el_deg\n2.2579,-16.2271\n", "el.csv": table });
     const out = analyseAll(L.plan);
     expect(Math.abs(out[M.psl_ideal_db]! - -11.484828709193602)).toBeLessThan(0.002);
+    expect(Math.abs(out[M.psl_db]! - -47.98525843456572)).toBeLessThan(0.002);
   });
 });
