@@ -65,6 +65,14 @@ export function exactBeamDirection(spec: BeamSpec, i: number): ExactDirection {
   }
 }
 
+/**
+ * u² + v² is past the horizon by more than a rounding: within 1e-12 of 1 is the horizon
+ * (cos 45° written to 16 digits for both u and v sums to 1 + 2e-16 in doubles).
+ */
+export function pastHorizon(u: number, v: number): boolean {
+  return 1 - u * u - v * v < -1e-12;
+}
+
 /** Float64 directions of every beam. Returns the index of the first beam outside visible space, or -1. */
 export function makeBeamSet(spec: BeamSpec): { set: BeamSet; invisible: number[] } {
   const count = beamCount(spec);
@@ -112,7 +120,7 @@ export function makeBeamSet(spec: BeamSpec): { set: BeamSet; invisible: number[]
         if (a < 0 || a > 90) invisible.push(i);
       }
       const s = 1 - u * u - v * v;
-      if (s < -1e-12) invisible.push(i);
+      if (pastHorizon(u, v)) invisible.push(i);
       w = s > 0 ? Math.sqrt(s) : 0;
       const ae = uvToAzElDeg(u, v);
       set.azDeg[i] = ae.azDeg;

@@ -5,7 +5,7 @@
  */
 import { lstatSync } from "node:fs";
 import { basename, dirname, isAbsolute, join, resolve } from "node:path";
-import { axisCount, makeBeamSet, type AxisSpec, type BeamSpec } from "../core/beams.js";
+import { axisCount, makeBeamSet, pastHorizon, type AxisSpec, type BeamSpec } from "../core/beams.js";
 import { InputError, type Problem } from "../core/errors.js";
 import { D, type Dec } from "../core/exact.js";
 import { canonicalDecimal } from "../core/decimal-text.js";
@@ -531,9 +531,8 @@ class Loader {
         const x = numberCell(t, r, ca!, this.problems);
         const y = numberCell(t, r, cb!, this.problems);
         if (!x || !y) continue;
-        // u² + v² within 1e-12 of 1 is the horizon, as for a u-v grid (makeBeamSet): a direction
-        // on it written to 16 digits (u = v = 0.7071067811865476) sums to 1 + 2e-16 in doubles
-        const outside = azel ? Math.abs(x.value) > 90 || Math.abs(y.value) > 90 : 1 - x.value * x.value - y.value * y.value < -1e-12;
+        // u² + v² within a rounding of 1 is the horizon, as for a u-v grid (makeBeamSet)
+        const outside = azel ? Math.abs(x.value) > 90 || Math.abs(y.value) > 90 : pastHorizon(x.value, y.value);
         if (outside) this.problems.push({ file: t.file, line: r.line, message: `beam (${ca}=${x.text}, ${cb}=${y.text}) is outside visible space; expected ${azel ? "|az|, |el| ≤ 90" : "u² + v² ≤ 1"}` });
         a.push(exactText(x.text));
         bb.push(exactText(y.text));

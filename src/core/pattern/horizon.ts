@@ -142,15 +142,13 @@ export function traceExact(ev: AfEvaluator, u0: number, v0: number, step: number
     series.trace(ev, u0, v0, n, out);
     return;
   }
+  // ev.power written out, keeping |AF|² alone beside it
   const el = ev.element;
   for (let i = 0; i < n; i++) {
     const a = -Math.PI + (2 * Math.PI * i) / n;
     const du = Math.cos(a) - u0, dv = Math.sin(a) - v0;
-    if (!el) push(out, du, dv, a, ev.power(du, dv));
-    else {
-      const f = ev.field(du, dv), af = f[0] * f[0] + f[1] * f[1];
-      push(out, du, dv, a, af * el.power(u0 + du, v0 + dv), af);
-    }
+    const f = ev.field(du, dv), af = f[0] * f[0] + f[1] * f[1];
+    push(out, du, dv, a, el ? af * el.power(u0 + du, v0 + dv) : af, af);
   }
 }
 

@@ -456,9 +456,19 @@ const STRIP_SAMPLES = 4;
 function stripClimb(ev: AfEvaluator, u0: number, v0: number, cu: number, cv: number, du: number, dv: number): Refined | null {
   const U = u0 + cu, V = v0 + cv, R = Math.hypot(U, V);
   if (!(R > 0 && R < 1)) return null;
-  let best = ev.power(cu, cv), bu = NaN, bv = NaN;
-  for (let k = 1; k <= STRIP_SAMPLES; k++) {
-    const rr = R + ((1 - 1e-9 - R) * k) / STRIP_SAMPLES;
+  return radialClimb(ev, u0, v0, U, V, R, R, 1 - 1e-9, 1, STRIP_SAMPLES, ev.power(cu, cv), du, dv);
+}
+
+/**
+ * The exact pattern along the radius through (U, V) (at radius R from the origin) at
+ * r = from + (to − from)·k/steps, k = k0 … steps; where one sample is higher than `above`,
+ * the climb from the highest (the first of equals; refine), null when none is or the
+ * climb ends at 0 (stripClimb, rimClimbs).
+ */
+function radialClimb(ev: AfEvaluator, u0: number, v0: number, U: number, V: number, R: number, from: number, to: number, k0: number, steps: number, above: number, du: number, dv: number): Refined | null {
+  let best = above, bu = NaN, bv = NaN;
+  for (let k = k0; k <= steps; k++) {
+    const rr = from + ((to - from) * k) / steps;
     const su = (U * rr) / R - u0, sv = (V * rr) / R - v0;
     const p = ev.power(su, sv);
     if (p > best) { best = p; bu = su; bv = sv; }
@@ -499,16 +509,7 @@ function rimClimbs(t: HorizonTrace, ev: AfEvaluator, u0: number, v0: number, du:
     const ai = alphaOf(t, i), c = Math.cos(ai), s = Math.sin(ai);
     const eMax = Math.max(el.power(rIn * c, rIn * s), el.power(c, s));
     if (!(a * eMax >= bar)) continue;
-    let bp = -1, bu = NaN, bv = NaN;
-    for (let k = 0; k <= RIM_SAMPLES; k++) {
-      const r = 1 - 1e-9 - ((1 - 1e-9 - rIn) * k) / RIM_SAMPLES;
-      const su = r * c - u0, sv = r * s - v0;
-      const p = ev.power(su, sv);
-      if (p > bp) { bp = p; bu = su; bv = sv; }
-    }
-    if (!(bp > 0)) continue;
-    const r = refine(ev, bu, bv, du, dv, { u0, v0 }, null, true);
-    take(r.p > 0 ? r : null);
+    take(radialClimb(ev, u0, v0, c, s, 1, 1 - 1e-9, rIn, 0, RIM_SAMPLES, 0, du, dv));
   }
 }
 
